@@ -1,0 +1,96 @@
+"""The `grower` command: parse, call a plan, hand the result to a renderer.
+
+Each subcommand lives in ``grower/commands/<name>.py`` with two functions:
+``register(subparsers, common)`` adds its parser (``common`` is the parent parser that
+gives every command ``--json`` and ``--units``), and ``run(args) -> int`` does the work.
+Errors in the user's input are `grower.errors.InputError`; they are printed here, as one
+line on stderr, and the exit status is 2. Exit status 3 is reserved for
+``--alert-status`` (damage expected); 0 is success.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+from collections.abc import Sequence
+
+from grower import __version__
+from grower.errors import InputError
+
+#: subcommands, in the order `grower --help` lists them
+COMMANDS = ("tonight", "size", "stock", "house", "crops", "fit")
+
+EXIT_OK = 0
+EXIT_INPUT = 2
+EXIT_ALERT = 3
+
+
+def common_parser() -> argparse.ArgumentParser:
+    """The options every subcommand takes."""
+    common = argparse.ArgumentParser(add_help=False)
+    out = common.add_argument_group("output")
+    out.add_argument(
+        "--json",
+        action="store_true",
+        help="print one JSON document (SI units, ISO 8601 times) instead of the report",
+    )
+    out.add_argument(
+        "--units",
+        choices=("metric", "us"),
+        default=None,
+        help="units for the report (default: the house file's [site] units, else metric)",
+    )
+    return common
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="grower",
+        description=(
+            "Frost-protection planner for greenhouses and high tunnels: tonight's frost "
+            "risk, backup heater sizing and fuel stock for a cold snap."
+        ),
+    )
+    parser.add_argument("--version", action="version", version=f"grower {__version__}")
+    subparsers = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
+    common = common_parser()
+    for name in COMMANDS:
+        try:
+            module = importlib.import_module(f"grower.commands.{name}")
+        except ModuleNotFoundError as exc:
+            if exc.name == f"grower.commands.{name}":
+                continue  # command not built yet
+            raise
+        module.register(subparsers, common)
+    return parser
+
+
+def _error(message: str) -> int:
+    print(f"Error: {message}", file=sys.stderr)
+    return EXIT_INPUT
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the `grower` console script; returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.run(args) or 0)
+    except InputError as exc:
+        return _error(str(exc))
+    except FileNotFoundError as exc:
+        return _error(f"{exc.filename}: no such file")
+    except IsADirectoryError as exc:
+        return _error(f"{exc.filename}: is a directory, not a file")
+    except PermissionError as exc:
+        return _error(f"{exc.filename}: permission denied")
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return EXIT_OK
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,28 @@
+"""The one error type a user sees.
+
+Every mistake in what the user gave us (a house file, a forecast, a crop name, a
+command-line value, an unreachable forecast service) is raised as `InputError` with a
+one-line message that says *what* is wrong and *where*. The command line prints it as
+``Error: <message>`` on stderr and exits with status 2; nothing else is printed.
+"""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Iterable
+
+
+class InputError(ValueError):
+    """A problem with the user's input, reported in one line (exit status 2)."""
+
+    def __init__(self, message: str, *, where: str | None = None) -> None:
+        text = " ".join(str(message).split())  # always one line
+        if where:
+            text = f"{where}: {text}"
+        super().__init__(text)
+
+
+def did_you_mean(word: str, choices: Iterable[str]) -> str:
+    """Return ``' (did you mean "x"?)'`` for the closest choice, or ``''``."""
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+    return f' (did you mean "{close[0]}"?)' if close else ""

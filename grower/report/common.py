@@ -1,0 +1,57 @@
+"""Helpers every report uses: the console, JSON output, unit-system choice."""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+import json
+import math
+import sys
+from typing import Any
+
+import numpy as np
+
+from grower.units import UnitSystem
+
+
+def console(stderr: bool = False):
+    """A rich Console writing to stdout (or stderr for progress and warnings)."""
+    from rich.console import Console
+
+    return Console(stderr=stderr, highlight=False, soft_wrap=False)
+
+
+def jsonable(value: Any) -> Any:
+    """Turn results (dataclasses, numpy, datetimes, NaN) into plain JSON values.
+
+    NaN and infinities become null; datetimes become ISO 8601 strings with offset.
+    """
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {f.name: jsonable(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    if isinstance(value, dict):
+        return {str(k): jsonable(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [jsonable(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [jsonable(v) for v in value.tolist()]
+    if isinstance(value, np.generic):
+        return jsonable(value.item())
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, dt.datetime):
+        return value.isoformat()
+    if hasattr(value, "isoformat") and hasattr(value, "to_pydatetime"):  # pandas Timestamp
+        return value.to_pydatetime().isoformat()
+    return value
+
+
+def emit_json(document: dict[str, Any]) -> None:
+    """Write one JSON document to stdout."""
+    json.dump(jsonable(document), sys.stdout, indent=2, ensure_ascii=False, allow_nan=False)
+    sys.stdout.write("\n")
+
+
+def unit_system(requested: str | None, default: str | None = None) -> UnitSystem:
+    """The display system: the option, else the house file's choice, else metric."""
+    choice = requested or default or "metric"
+    return "us" if choice == "us" else "metric"
