@@ -170,12 +170,37 @@ def c_to_f(temp_c: float) -> float:
     return temp_c * 1.8 + 32.0
 
 
+def _normalise_unit(unit: str) -> str:
+    """Fold spellings of one unit together: case, spaces, ·, *, ^, ², ³, brackets."""
+    unit = unit.lower().replace(" ", "").replace("º", "°")
+    for old, new in (("·", ""), ("*", ""), ("^", ""), ("²", "2"), ("³", "3"), ("(", ""), (")", "")):
+        unit = unit.replace(old, new)
+    return unit
+
+
+for _table in _FACTORS.values():
+    for _unit in list(_table):
+        _table.setdefault(_normalise_unit(_unit), _table[_unit])
+
+_THOUSANDS = re.compile(r"^[-+]?\d{1,3}(,\d{3})+(\.\d*)?$")
+
+
 def _split(text: str, kind: str, where: str) -> tuple[float, str]:
+    text = text.replace("\u2212", "-")  # a typographic minus sign
     match = _NUMBER.match(text)
     if not match:
         raise InputError(f'"{text}" is not a number with a unit ({kind} expected)', where=where)
-    number = float(match.group(1).replace(",", "."))
-    unit = match.group(2).lower().replace(" ", "")
+    digits = match.group(1)
+    rest = text[match.end(1) :]
+    # "150,000" is a thousands separator; "2,5" a decimal comma
+    whole = re.match(r"^[-+]?\d{1,3}(?:,\d{3})+(?:\.\d*)?", text.strip())
+    if whole and _THOUSANDS.match(whole.group(0)):
+        digits = whole.group(0).replace(",", "")
+        rest = text.strip()[whole.end() :]
+    else:
+        digits = digits.replace(",", ".")
+    number = float(digits)
+    unit = _normalise_unit(rest)
     return number, unit
 
 
@@ -194,6 +219,8 @@ def parse_temperature(value: object, *, where: str = "temperature") -> float:
     if isinstance(value, bool):
         raise InputError(f"{value!r} is not a temperature", where=where)
     if isinstance(value, int | float):
+        if value < -273.15:
+            raise InputError(f'"{value}" is below absolute zero', where=where)
         return _check_finite(float(value), value, where)
     if not isinstance(value, str):
         raise InputError(f"{value!r} is not a temperature", where=where)
@@ -266,6 +293,10 @@ def parse_quantity(value: object, kind: str, *, where: str = "value") -> float:
         return parse_temperature(value, where=where)
     if kind == "temperature_difference":
         return parse_temperature_difference(value, where=where)
+    if kind not in _FACTORS:
+        raise ValueError(
+            f"kind must be one of {', '.join(_FACTORS)}, temperature, temperature_difference; got {kind!r}"
+        )
     table = _FACTORS[kind]
     if isinstance(value, bool):
         raise InputError(f"{value!r} is not a {kind.replace('_', ' ')}", where=where)
