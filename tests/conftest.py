@@ -1,0 +1,41 @@
+"""Shared fixtures: paths to the invented example farm."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parent.parent
+EXAMPLES = ROOT / "examples"
+
+
+@pytest.fixture
+def examples() -> Path:
+    return EXAMPLES
+
+
+def write_house(tmp_path: Path, text: str, name: str = "house.toml") -> Path:
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+MINIMAL = """
+[house]
+name = "test"
+shape = "gable"
+width = "9 m"
+length = "30 m"
+sidewall_height = "1.8 m"
+ridge_height = "4.2 m"
+bays = 1
+
+[cover]
+roof = "double-poly"
+sides = "double-poly"
+ends = "twin-wall-polycarbonate-8mm"
+
+[air]
+changes_per_hour = 1.0
+"""
