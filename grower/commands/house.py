@@ -1,0 +1,49 @@
+"""`grower house FILE`: the envelope, conductances and heat capacity of a house."""
+
+from __future__ import annotations
+
+import argparse
+
+
+def register(subparsers, common: argparse.ArgumentParser) -> None:
+    p = subparsers.add_parser(
+        "house",
+        parents=[common],
+        help="heat-loss breakdown of a house: areas, U-values, K, C and time constant",
+        description=(
+            "Show what a house file describes: each surface's area, cover and UA, air "
+            "exchange, perimeter and sky radiation, the overall conductance K, the heat "
+            "capacity C and the time constant C/K."
+        ),
+    )
+    p.add_argument("files", nargs="+", metavar="FILE", help="house file(s) (TOML)")
+    p.add_argument(
+        "--wind",
+        default="0 m/s",
+        metavar="V",
+        help="wind speed, e.g. '5 m/s' or '15 mph' (default calm)",
+    )
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from grower import house, network
+    from grower.report import common
+    from grower.report import house as report
+    from grower.units import parse_quantity
+
+    wind = parse_quantity(args.wind, "speed", where="--wind")
+    if wind < 0:
+        from grower.errors import InputError
+
+        raise InputError("cannot be negative", where="--wind")
+    summaries = [network.describe(house.read(f), wind_m_s=wind) for f in args.files]
+    if args.json:
+        docs = [report.house_json(s) for s in summaries]
+        common.emit_json(docs[0] if len(docs) == 1 else {"houses": docs})
+        return 0
+    out = common.console()
+    for s in summaries:
+        system = common.unit_system(args.units, s.house.units)
+        report.render_house(out, s, system)
+    return 0

@@ -1,0 +1,165 @@
+"""Rendering of `grower house`: the breakdown a heating contractor reads."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from grower.network import HouseSummary
+from grower.units import (
+    UnitSystem,
+    show_area,
+    show_conductance,
+    show_length,
+    show_temperature,
+    show_u_value,
+    show_volume,
+)
+
+
+def house_json(s: HouseSummary) -> dict[str, Any]:
+    """The `grower house --json` document (SI)."""
+    h, k, c = s.house, s.conductances, s.capacities
+    return {
+        "name": h.name,
+        "file": h.path,
+        "shape": h.shape,
+        "bays": h.bays,
+        "k_w_per_k": s.k_w_per_k,
+        "c_j_per_k": s.c_j_per_k,
+        "time_constant_h": s.time_constant_h,
+        "volume_m3": h.volume_m3,
+        "floor_area_m2": h.floor_area_m2,
+        "perimeter_m": h.envelope.perimeter_m,
+        "areas_m2": {x.name: x.area_m2 for x in k.surfaces},
+        "materials": {x.name: x.material_key for x in k.surfaces},
+        "u_w_per_m2k": {x.name: x.u_w_m2k for x in k.surfaces},
+        "ua_w_per_k": {x.name: x.ua_w_per_k for x in k.surfaces},
+        "cover_w_per_k": k.cover_w_per_k,
+        "infiltration_w_per_k": k.infiltration_w_per_k,
+        "air_changes_per_hour": k.air_changes_per_hour,
+        "perimeter_w_per_k": k.perimeter_w_per_k,
+        "sky_w_per_k": k.sky_w_per_k,
+        "conduction_w_per_k": k.conduction_w_per_k,
+        "curtain_closed": k.curtain_closed,
+        "wind_m_s": k.wind_m_s,
+        "capacity_j_per_k": {
+            "air": c.air_j_per_k,
+            "soil": c.soil_j_per_k,
+            "water": c.water_j_per_k,
+            "other_mass": c.other_mass_j_per_k,
+        },
+        "air_mass_w_per_k": c.air_mass_w_per_k,
+        "ground_w_per_k": c.ground_w_per_k,
+    }
+
+
+def _num(value: float, digits: int = 0) -> str:
+    return f"{value:,.{digits}f}"
+
+
+def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
+    """Print the breakdown of one house."""
+    from rich.table import Table
+
+    h, k, c = s.house, s.conductances, s.capacities
+    total = k.total_w_per_k
+    kk = show_conductance(total, system)
+    dims = " × ".join(show_length(v, system).text(1) for v in (h.width_m * h.bays, h.length_m))
+    console.print(
+        f"[bold]{h.name}[/bold] — {h.shape}, {dims}"
+        + (f", {h.bays} bays" if h.bays > 1 else "")
+        + f"  ({h.path})"
+    )
+    per = "°F" if system == "us" else "kelvin"
+    console.print(
+        f"Loses [bold]{_num(kk.value)} {'Btu/h' if system == 'us' else 'W'}[/bold] for every "
+        f"{per} between inside and outside (K = {_num(total)} W/K); time constant C/K = "
+        f"[bold]{s.time_constant_h:.1f} h[/bold]"
+    )
+    if k.curtain_closed and h.curtain:
+        console.print(f"Energy curtain drawn: {h.curtain.curtain.label}")
+
+    ua_unit = show_conductance(1.0, system).unit
+    table = Table(title=None, show_footer=False, expand=False)
+    table.add_column("part", no_wrap=True)
+    table.add_column("cover")
+    table.add_column(f"area {show_area(1.0, system).unit}", justify="right")
+    table.add_column(f"U {show_u_value(1.0, system).unit}", justify="right")
+    table.add_column(f"UA {ua_unit}", justify="right")
+    table.add_column("share", justify="right")
+
+    def row(name: str, what: str, area: str, u: str, ua_w: float) -> None:
+        table.add_row(
+            name, what, area, u, _num(show_conductance(ua_w, system).value), f"{ua_w / total:.0%}"
+        )
+
+    for x in k.surfaces:
+        row(
+            x.name,
+            x.material_key,
+            _num(show_area(x.area_m2, system).value),
+            f"{show_u_value(x.u_w_m2k, system).value:.2f}",
+            x.ua_w_per_k,
+        )
+    row(
+        "air exchange",
+        f"{k.air_changes_per_hour:g} ACH × {_num(show_volume(h.volume_m3, system).value)} "
+        f"{show_volume(1, system).unit}",
+        "",
+        "",
+        k.infiltration_w_per_k,
+    )
+    row(
+        "perimeter",
+        f"{_num(show_length(h.envelope.perimeter_m, system).value)} {show_length(1, system).unit}, "
+        f"{'insulated' if h.perimeter_insulated else 'uninsulated'}",
+        "",
+        "",
+        k.perimeter_w_per_k,
+    )
+    tau = h.roof_material.longwave_transmittance
+    row(
+        "sky radiation",
+        f"clear sky, roof passes {tau:.0%} IR",
+        _num(show_area(h.floor_area_m2, system).value),
+        "",
+        k.sky_w_per_k,
+    )
+    table.add_section()
+    table.add_row(
+        "[bold]total K[/bold]",
+        f"{_num(total)} W/K"
+        if system == "us"
+        else f"{_num(show_conductance(total, 'us').value)} Btu/h·°F",
+        "",
+        "",
+        f"[bold]{_num(show_conductance(total, system).value)}[/bold]",
+        "100%",
+    )
+    console.print(table)
+
+    cap = Table(show_header=True, expand=False)
+    cap.add_column("heat capacity")
+    cap.add_column("MJ/K", justify="right")
+    cap.add_row("air, structure and canopy (air node)", f"{c.air_j_per_k / 1e6:.2f}")
+    cap.add_row(
+        f"floor, top {10:d} cm of {h.floor_kind} (mass node)", f"{c.soil_j_per_k / 1e6:.2f}"
+    )
+    if c.water_j_per_k:
+        cap.add_row("water (mass node)", f"{c.water_j_per_k / 1e6:.2f}")
+    if c.other_mass_j_per_k:
+        cap.add_row("benches and other mass (mass node)", f"{c.other_mass_j_per_k / 1e6:.2f}")
+    cap.add_section()
+    cap.add_row("[bold]total C[/bold]", f"[bold]{c.total_j_per_k / 1e6:.2f}[/bold]")
+    console.print(cap)
+    deep = show_temperature(c.deep_ground_c, system)
+    console.print(
+        f"Air–mass coupling {_num(c.air_mass_w_per_k)} W/K; to the deep ground "
+        f"{_num(c.ground_w_per_k)} W/K at {deep.text(0)}"
+        + (" (assumed; set \\[floor] deep_ground_temperature)" if c.deep_ground_assumed else "")
+    )
+    console.print(
+        "Calm, clear night. U-values are handbook values at winter design wind; "
+        "they are raised above it (--wind)."
+    )
+    console.print()
