@@ -1,0 +1,571 @@
+"""Crops and their critical temperatures: loading, lookup and the alarm threshold.
+
+Crops are data: one TOML file per crop (format in ``crops/README.md``). The shipped files
+are read first, then the user's own from ``<user config dir>/crops`` and from a directory
+given with ``--crops-dir``; a user file whose ``name`` matches an earlier crop replaces it
+and records which file it overrode. Every temperature is stored in the unit its source
+printed and converted to °C here; every value carries its basis.
+
+The alarm threshold for a stage is its damage temperature plus a safety margin
+(`DEFAULT_MARGIN_K`, common practice, no source), unless the grower sets one. Chilling is
+a separate, milder warning above freezing.
+
+References
+----------
+Penn State Extension, "Orchard Frost – Critical Temperatures for Various Fruits" (after
+Washington State University EB0419). OMAFRA, "Irrigation for frost protection of
+strawberries". UF/IFAS FAWN, "Critical temperature selection guide – vegetables". UMass
+Extension Greenhouse Update, 19 March 2021. Each crop file names the sources of its own
+values.
+"""
+
+from __future__ import annotations
+
+import functools
+import importlib.resources
+import math
+import re
+import tomllib
+from collections.abc import Iterable
+from dataclasses import dataclass, replace
+from importlib.resources.abc import Traversable
+from pathlib import Path
+from typing import Any, Literal
+
+import platformdirs
+
+import grower
+from grower.errors import InputError, did_you_mean
+from grower.units import f_to_c
+
+#: safety margin added to the damage temperature [K] — common practice, no source
+DEFAULT_MARGIN_K = 1.0
+MARGIN_BASIS = "common practice, no source"
+
+#: threshold kinds, warm to cold; rank = position in the required ordering
+KINDS = ("chill", "damage", "severe", "kill_10", "kill", "kill_90")
+_RANK = {"chill": 0, "damage": 1, "severe": 2, "kill_10": 2, "kill": 3, "kill_90": 3}
+LABELS = {
+    "chill": "chilling",
+    "damage": "damage",
+    "severe": "severe damage",
+    "kill_10": "10 % kill",
+    "kill": "kill",
+    "kill_90": "90 % kill",
+}
+BASES = ("common practice", "from memory")
+_TOP_KEYS = ("name", "aliases", "group", "default_stage", "note", "sources", "stage")
+_STAGE_KEYS = ("name", "aliases", "note", *KINDS)
+_ENTRY_KEYS = ("value", "unit", "source", "ref", "basis", "hours", "minutes", "note")
+_UNITS = {"F": "°F", "°F": "°F", "C": "°C", "°C": "°C"}
+#: a crop threshold outside this range [°C] is a typo, not a plant
+_PLAUSIBLE_C = (-45.0, 30.0)
+
+Origin = Literal["shipped", "user"]
+
+
+@dataclass(frozen=True)
+class Threshold:
+    """One critical temperature of a stage, with its basis.
+
+    ``value_c`` [°C] is what grower computes with; ``printed_value`` and ``printed_unit``
+    are what the source printed. ``basis`` is ``"source"``, ``"common practice"`` or
+    ``"from memory"``; ``basis_text`` names the publication, or repeats the basis.
+    ``hours`` [h] is the exposure the figure refers to, where the source gives one.
+    """
+
+    kind: str
+    value_c: float
+    printed_value: float
+    printed_unit: str
+    basis: str
+    basis_text: str
+    hours: float | None = None
+    note: str = ""
+
+    @property
+    def label(self) -> str:
+        return LABELS[self.kind]
+
+
+@dataclass(frozen=True)
+class Stage:
+    """A growth stage and its thresholds (``damage`` always present)."""
+
+    name: str
+    damage: Threshold
+    aliases: tuple[str, ...] = ()
+    note: str = ""
+    chill: Threshold | None = None
+    severe: Threshold | None = None
+    kill_10: Threshold | None = None
+    kill: Threshold | None = None
+    kill_90: Threshold | None = None
+
+    @property
+    def lethal(self) -> Threshold | None:
+        """The kill temperature: ``kill``, else the 90 % kill of a bud stage."""
+        return self.kill or self.kill_90
+
+    def thresholds(self) -> tuple[Threshold, ...]:
+        """Every threshold given for the stage, warm to cold (damage once)."""
+        found = [getattr(self, kind) for kind in KINDS]
+        if self.kill_10 is not None and self.damage.value_c == self.kill_10.value_c:
+            found[KINDS.index("damage")] = None  # damage *is* the 10 % kill
+        return tuple(t for t in found if t is not None)
+
+
+@dataclass(frozen=True)
+class Crop:
+    """A crop: its names, stages and where its file came from."""
+
+    name: str
+    stages: tuple[Stage, ...]
+    default_stage: str
+    aliases: tuple[str, ...] = ()
+    group: str = ""
+    note: str = ""
+    path: str = ""
+    origin: Origin = "shipped"
+    overrides: str | None = None  # the file this one replaced
+
+    def stage(self, name: str | None = None) -> Stage:
+        """The named stage (forgiving case, plurals, aliases), or the default one."""
+        wanted = self.default_stage if name is None or not name.strip() else name
+        key = _key(wanted)
+        for stage in self.stages:
+            if key in {_key(n) for n in (stage.name, *stage.aliases)}:
+                return stage
+        names = [s.name for s in self.stages]
+        raise InputError(
+            f'{self.name} has no stage "{wanted}"{did_you_mean(wanted, names)}; '
+            f"stages: {', '.join(names)}",
+            where="crop",
+        )
+
+    def damage_range_c(self) -> tuple[float, float]:
+        """Coldest and warmest damage temperature over the stages [°C]."""
+        values = [s.damage.value_c for s in self.stages]
+        return min(values), max(values)
+
+
+@dataclass(frozen=True)
+class ThresholdChoice:
+    """The temperatures a plan watches for one stage [°C; margin in K]."""
+
+    stage: str
+    alarm_c: float
+    damage_c: float
+    margin_k: float
+    chill_c: float | None
+    chill_hours: float | None
+    severe_c: float | None
+    kill_c: float | None
+    kill_label: str | None
+    basis: str
+    margin_basis: str
+    overridden: bool
+
+    @property
+    def alarm_below_damage(self) -> bool:
+        """True when a grower's own threshold is colder than the damage temperature."""
+        return self.alarm_c < self.damage_c
+
+
+@dataclass(frozen=True)
+class CropBook:
+    """All crops in force, with forgiving lookup by name, alias or plural."""
+
+    crops: tuple[Crop, ...]
+
+    @functools.cached_property
+    def _index(self) -> dict[str, Crop]:
+        return _build_index(self.crops)
+
+    def get(self, name: str) -> Crop | None:
+        """The crop called `name` (or an alias, any case, plural), else None."""
+        return self._index.get(_key(name))
+
+    def find(self, name: str) -> Crop:
+        """Like `get`, but an unknown name is an `InputError` with a suggestion."""
+        crop = self.get(name)
+        if crop is None:
+            names = [c.name for c in self.crops] + [a for c in self.crops for a in c.aliases]
+            hint = did_you_mean(name.strip().lower(), [n.lower() for n in names])
+            raise InputError(
+                f'unknown crop "{name}"{hint}; `grower crops` lists them', where="crop"
+            )
+        return crop
+
+    def resolve(self, spec: str) -> tuple[Crop, Stage]:
+        """``"tomato:flowering"`` or ``"tomato"`` (default stage) → (crop, stage)."""
+        name, _, stage = spec.partition(":")
+        crop = self.find(name)
+        return crop, crop.stage(stage or None)
+
+    def search(self, query: str) -> tuple[Crop, ...]:
+        """Crops whose name, alias or group contains `query` (forgiving)."""
+        key = _key(query)
+        return tuple(
+            c for c in self.crops if any(key in _key(n) for n in (c.name, *c.aliases, c.group) if n)
+        )
+
+
+# ---------------------------------------------------------------- names
+
+
+def _singular(word: str) -> str:
+    if len(word) > 4 and word.endswith("ies"):
+        return word[:-3] + "y"
+    if word.endswith(("oes", "ches", "shes", "xes", "sses")):
+        return word[:-2]
+    if word.endswith("s") and not word.endswith(("ss", "us", "is")) and len(word) > 3:
+        return word[:-1]
+    return word
+
+
+def _key(text: str) -> str:
+    """Lookup key: lower case, no separators, last word singular."""
+    words = re.sub(r"[\s_\-./]+", " ", text.strip().lower()).split()
+    if words:
+        words[-1] = _singular(words[-1])
+    return "".join(words)
+
+
+def _build_index(crops: Iterable[Crop]) -> dict[str, Crop]:
+    index: dict[str, Crop] = {}
+    for crop in crops:
+        for name in (crop.name, *crop.aliases):
+            other = index.get(_key(name))
+            if other is not None and other is not crop:
+                raise InputError(
+                    f'"{name}" names both "{other.name}" ({other.path}) and "{crop.name}"; '
+                    "rename one or drop the alias",
+                    where=crop.path,
+                )
+            index[_key(name)] = crop
+    return index
+
+
+# ---------------------------------------------------------------- parsing one file
+
+
+def _check_keys(table: dict[str, Any], allowed: tuple[str, ...], where: str) -> None:
+    for key in table:
+        if key not in allowed:
+            raise InputError(f'unknown key "{key}"{did_you_mean(key, allowed)}', where=where)
+
+
+def _text(value: Any, where: str, *, empty_ok: bool = False) -> str:
+    if not isinstance(value, str) or (not value.strip() and not empty_ok):
+        raise InputError(f"expected text, got {value!r}", where=where)
+    return value.strip()
+
+
+def _texts(value: Any, where: str) -> tuple[str, ...]:
+    if not isinstance(value, list):
+        raise InputError(f"expected a list of names, got {value!r}", where=where)
+    return tuple(_text(v, f"{where}[{i}]") for i, v in enumerate(value))
+
+
+def _number(value: Any, where: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, int | float) or not math.isfinite(value):
+        raise InputError(f"expected a number, got {value!r}", where=where)
+    return float(value)
+
+
+def _threshold(entry: Any, kind: str, sources: dict[str, str], where: str) -> Threshold:
+    if not isinstance(entry, dict):
+        raise InputError(
+            'expected a table like { value = 28, unit = "F", source = "..." }', where=where
+        )
+    _check_keys(entry, _ENTRY_KEYS, where)
+    if "value" not in entry:
+        raise InputError('missing "value"', where=where)
+    value = _number(entry["value"], f"{where}.value")
+    unit = entry.get("unit")
+    if unit not in _UNITS:
+        raise InputError(f'unit {unit!r} unknown; use "F" or "C"', where=f"{where}.unit")
+    given = [k for k in ("source", "ref", "basis") if k in entry]
+    if len(given) != 1:
+        raise InputError(
+            'give exactly one of source = "...", ref = "<key in [sources]>" or '
+            'basis = "common practice" / "from memory"',
+            where=where,
+        )
+    how = given[0]
+    if how == "source":
+        basis, text = "source", _text(entry["source"], f"{where}.source")
+    elif how == "ref":
+        ref = _text(entry["ref"], f"{where}.ref")
+        if ref not in sources:
+            raise InputError(
+                f'no source "{ref}" in [sources]{did_you_mean(ref, sources)}', where=f"{where}.ref"
+            )
+        basis, text = "source", sources[ref]
+    else:
+        basis = _text(entry["basis"], f"{where}.basis")
+        if basis not in BASES:
+            raise InputError(
+                f'basis "{basis}" unknown; use "common practice" or "from memory"',
+                where=f"{where}.basis",
+            )
+        text = basis
+    if "hours" in entry and "minutes" in entry:
+        raise InputError("give hours or minutes, not both", where=where)
+    hours = None
+    for key, per_hour in (("hours", 1.0), ("minutes", 60.0)):
+        if key in entry:
+            hours = _number(entry[key], f"{where}.{key}") / per_hour
+            if hours <= 0:
+                raise InputError(f"{key} must be positive", where=f"{where}.{key}")
+    printed_unit = _UNITS[unit]
+    value_c = f_to_c(value) if printed_unit == "°F" else value
+    if not _PLAUSIBLE_C[0] <= value_c <= _PLAUSIBLE_C[1]:
+        raise InputError(
+            f"{value:g} {printed_unit} is not a plausible crop temperature", where=where
+        )
+    note = _text(entry.get("note", ""), f"{where}.note", empty_ok=True)
+    return Threshold(kind, value_c, value, printed_unit, basis, text, hours, note)
+
+
+def _check_order(found: dict[str, Threshold], where: str) -> None:
+    for warm in found.values():
+        for cold in found.values():
+            if _RANK[warm.kind] < _RANK[cold.kind] and warm.value_c < cold.value_c:
+                raise InputError(
+                    f"{warm.kind} ({warm.printed_value:g} {warm.printed_unit}) is colder than "
+                    f"{cold.kind} ({cold.printed_value:g} {cold.printed_unit}); thresholds must "
+                    "be ordered chill ≥ damage ≥ severe, kill_10 ≥ kill, kill_90",
+                    where=where,
+                )
+
+
+def _stage(table: Any, sources: dict[str, str], where: str) -> Stage:
+    if not isinstance(table, dict):
+        raise InputError("each [[stage]] must be a table", where=where)
+    _check_keys(table, _STAGE_KEYS, where)
+    if "name" not in table:
+        raise InputError('missing "name"', where=where)
+    name = _text(table["name"], f"{where}.name")
+    where = f'{where} ("{name}")'
+    found = {k: _threshold(table[k], k, sources, f"{where}.{k}") for k in KINDS if k in table}
+    _check_order(found, where)
+    if "damage" not in found:
+        if "kill_10" not in found:
+            raise InputError("a stage needs damage (or kill_10 for fruit buds)", where=where)
+        k10 = found["kill_10"]
+        found["damage"] = replace(k10, kind="damage", note=k10.note or "the 10 % kill temperature")
+    stage = Stage(
+        name=name,
+        aliases=_texts(table.get("aliases", []), f"{where}.aliases"),
+        note=_text(table.get("note", ""), f"{where}.note", empty_ok=True),
+        **found,
+    )
+    return stage
+
+
+def parse_crop(text: str, where: str, *, origin: Origin = "shipped") -> Crop:
+    """Parse and validate one crop file's text; `where` names it in errors.
+
+    Raises `InputError` (one line naming the file and key) for invalid TOML, unknown
+    keys, values without a basis, unknown units, thresholds out of order, duplicate
+    stage names or a default stage that is not a stage.
+    """
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML: {exc}", where=where) from None
+    _check_keys(doc, _TOP_KEYS, where)
+    if "name" not in doc:
+        raise InputError('missing "name"', where=where)
+    name = _text(doc["name"], f"{where}: name")
+    if ":" in name:
+        raise InputError(f'"{name}": a crop name cannot contain ":"', where=f"{where}: name")
+    sources = doc.get("sources", {})
+    if not isinstance(sources, dict):
+        raise InputError('[sources] must be a table of key = "citation"', where=where)
+    sources = {k: _text(v, f"{where}: sources.{k}") for k, v in sources.items()}
+    tables = doc.get("stage")
+    if not isinstance(tables, list) or not tables:
+        raise InputError("needs at least one [[stage]]", where=where)
+    stages = tuple(_stage(t, sources, f"{where}: stage[{i}]") for i, t in enumerate(tables))
+    seen: dict[str, str] = {}
+    for stage in stages:
+        own = {_key(label): label for label in (stage.name, *stage.aliases)}
+        for key, label in own.items():
+            if key in seen:
+                raise InputError(
+                    f'stage name "{label}" is used twice (stages "{seen[key]}" and "{stage.name}")',
+                    where=where,
+                )
+        seen.update(dict.fromkeys(own, stage.name))
+    default = doc.get("default_stage")
+    if default is None:
+        if len(stages) > 1:
+            raise InputError('missing "default_stage" (there is more than one stage)', where=where)
+        default = stages[0].name
+    default = _text(default, f"{where}: default_stage")
+    if _key(default) not in seen:
+        names = [s.name for s in stages]
+        raise InputError(
+            f'default_stage "{default}" is not a stage{did_you_mean(default, names)}; '
+            f"stages: {', '.join(names)}",
+            where=where,
+        )
+    return Crop(
+        name=name,
+        stages=stages,
+        default_stage=seen[_key(default)],
+        aliases=_texts(doc.get("aliases", []), f"{where}: aliases"),
+        group=_text(doc.get("group", ""), f"{where}: group", empty_ok=True),
+        note=_text(doc.get("note", ""), f"{where}: note", empty_ok=True),
+        path=where,
+        origin=origin,
+    )
+
+
+# ---------------------------------------------------------------- directories
+
+
+def shipped_crops_dir() -> Traversable:
+    """Where the shipped crop files are: in the wheel, else the source checkout."""
+    packaged = importlib.resources.files("grower") / "_crops"
+    if packaged.is_dir():
+        return packaged
+    return Path(grower.__file__).resolve().parent.parent / "crops"
+
+
+def user_crops_dir() -> Path:
+    """The user's own crop directory: ``<user config dir>/grower/crops``."""
+    return Path(platformdirs.user_config_dir("grower")) / "crops"
+
+
+def _read_dir(directory: Traversable, origin: Origin) -> list[Crop]:
+    crops: dict[str, Crop] = {}
+    files = sorted(
+        (f for f in directory.iterdir() if f.name.endswith(".toml") and f.is_file()),
+        key=lambda f: f.name,
+    )
+    for file in files:
+        where = str(file)
+        try:
+            text = file.read_bytes().decode("utf-8")
+        except UnicodeDecodeError:
+            raise InputError("not UTF-8 text", where=where) from None
+        crop = parse_crop(text, where, origin=origin)
+        key = _key(crop.name)
+        if key in crops:
+            raise InputError(
+                f'crop "{crop.name}" is also defined in {crops[key].path}', where=where
+            )
+        crops[key] = crop
+    return list(crops.values())
+
+
+@functools.lru_cache(maxsize=4)
+def _shipped(directory: str) -> tuple[Crop, ...]:
+    root = shipped_crops_dir()
+    if not root.is_dir():
+        raise InputError(f"the shipped crop files are missing ({directory}); reinstall grower")
+    return tuple(_read_dir(root, "shipped"))
+
+
+def load_crops(
+    crops_dir: str | Path | None = None, *, user_dir: str | Path | None | bool = True
+) -> CropBook:
+    """Load the shipped crops, then the user's (config dir, then `crops_dir`).
+
+    Parameters
+    ----------
+    crops_dir : path, optional
+        A directory of the grower's own crop files (``--crops-dir``); must exist.
+    user_dir : path, True or None
+        The user configuration crop directory; True means `user_crops_dir()`, None or
+        False skips it. A missing user directory is skipped silently.
+
+    Returns
+    -------
+    CropBook
+        All crops, a later file replacing an earlier crop of the same name (its
+        ``overrides`` names the file it replaced).
+    """
+    merged: dict[str, Crop] = {_key(c.name): c for c in _shipped(str(shipped_crops_dir()))}
+    layers: list[tuple[Path, bool]] = []
+    if user_dir is True:
+        layers.append((user_crops_dir(), False))
+    elif user_dir:
+        layers.append((Path(user_dir), False))
+    if crops_dir is not None:
+        layers.append((Path(crops_dir), True))
+    for directory, required in layers:
+        if not directory.exists():
+            if required:
+                raise InputError(f'"{directory}": no such directory', where="--crops-dir")
+            continue
+        if not directory.is_dir():
+            raise InputError(f'"{directory}" is not a directory', where="crops directory")
+        for crop in _read_dir(directory, "user"):
+            key = _key(crop.name)
+            if key in merged:
+                crop = replace(crop, overrides=merged[key].path)
+            merged[key] = crop
+    book = CropBook(tuple(sorted(merged.values(), key=lambda c: c.name)))
+    _ = book._index  # alias clashes are reported at load time
+    return book
+
+
+def find_crop(name: str, book: CropBook | None = None) -> Crop:
+    """The crop called `name` (case, plurals, aliases forgiven); `InputError` if none."""
+    return (book or load_crops()).find(name)
+
+
+def resolve(spec: str, book: CropBook | None = None) -> tuple[Crop, Stage]:
+    """``"crop:stage"`` or ``"crop"`` → (crop, stage), the default stage if none given."""
+    return (book or load_crops()).resolve(spec)
+
+
+# ---------------------------------------------------------------- the threshold
+
+
+def select_threshold(
+    stage: Stage, margin_k: float = DEFAULT_MARGIN_K, override_c: float | None = None
+) -> ThresholdChoice:
+    """Choose the alarm temperature for a stage.
+
+    Parameters
+    ----------
+    stage : Stage
+    margin_k : float
+        Safety margin added to the damage temperature [K]; default `DEFAULT_MARGIN_K`
+        (common practice, no source). Must be ≥ 0.
+    override_c : float, optional
+        The grower's own alarm temperature [°C] (``--threshold``); no margin is added.
+
+    Returns
+    -------
+    ThresholdChoice
+        Alarm, damage, chilling (with its duration where published), severe and kill
+        temperatures [°C].
+    """
+    if not math.isfinite(margin_k) or margin_k < 0:
+        raise ValueError(f"margin_k must be a finite number ≥ 0 [K], got {margin_k!r}")
+    if override_c is not None and not math.isfinite(override_c):
+        raise ValueError(f"override_c must be finite [°C], got {override_c!r}")
+    damage = stage.damage
+    lethal = stage.lethal
+    overridden = override_c is not None
+    return ThresholdChoice(
+        stage=stage.name,
+        alarm_c=float(override_c) if overridden else damage.value_c + margin_k,
+        damage_c=damage.value_c,
+        margin_k=0.0 if overridden else float(margin_k),
+        chill_c=stage.chill.value_c if stage.chill else None,
+        chill_hours=stage.chill.hours if stage.chill else None,
+        severe_c=stage.severe.value_c if stage.severe else None,
+        kill_c=lethal.value_c if lethal else None,
+        kill_label=lethal.label if lethal else None,
+        basis=damage.basis_text,
+        margin_basis="set by the grower" if overridden else MARGIN_BASIS,
+        overridden=overridden,
+    )
