@@ -1,5 +1,5 @@
 """Fuels: heating values against the published figures, units against pint, containers,
-amounts, parsing, cautions.
+amounts, parsing (the cautions are in test_safety.py).
 
 Check values are computed from the figure each source printed, never typed in from
 elsewhere; tolerances are the printed precision of the source.
@@ -18,7 +18,6 @@ from grower.fuels import (
     UNITS,
     FuelAmount,
     appliance_for,
-    cautions,
     containers_needed,
     fuel_amount,
     fuel_per_hour,
@@ -371,46 +370,3 @@ def test_unit_table_factors_against_pint():
     for unit, (_, factor) in UNITS.items():
         expected = UREG.parse_expression(pint_names[unit]).to_base_units().magnitude
         assert factor == pytest.approx(expected, rel=PINT_BTU_RTOL), unit
-
-
-# ---------------------------------------------------------------- cautions
-
-
-def test_combustion_cautions_with_opening_sizes():
-    notes = cautions("propane", None, 100_000 * W_PER_BTU_H)
-    text = " ".join(notes)
-    # Purdue Extension: 1 in² per 1,000 Btu/h -> 100 in² for 100,000 Btu/h
-    assert "at least 100 in²" in text
-    # IFGC 304 / NFPA 54: 1 in² per 4,000 / 2,000 / 1,000 Btu/h -> 25 / 50 / 100 in²
-    assert "25 in² from outdoors by vertical ducts" in text
-    assert "50 in² by horizontal ducts" in text
-    # OSHA PEL 50 ppm; NIOSH REL 35 ppm, ceiling 200 ppm
-    assert "50 ppm" in text and "35 ppm" in text and "200 ppm" in text
-    assert "ethylene" in text and "0.05 ppm" in text  # Univ. of Arkansas
-    assert "NFPA 58" in text and "1910.110" in text and "25 ft" in text
-    assert "supplier" in text and "100,000 Btu/h" in text  # vaporisation
-    assert "licensed installer" in notes[-1] and "local" in notes[-1]
-
-
-def test_unvented_heater_gets_the_stronger_warning():
-    vented = " ".join(cautions("kerosene", "unit-heater-vented", 20_000.0))
-    unvented = " ".join(cautions("kerosene", "unvented", 20_000.0))
-    assert "Unvented heater" in unvented and "Unvented heater" not in vented
-    assert "2-3-10" in vented
-    assert "0.5 ppm" in unvented  # SO₂ from kerosene
-
-
-def test_electric_cautions_give_the_current():
-    notes = " ".join(cautions("electricity", None, 10_000.0))
-    # I = P / V: 10 kW -> 41.7 A at 240 V, 83.3 A at 120 V
-    assert "41.7 A at 240 V" in notes and "83.3 A at 120 V" in notes
-    assert "licensed electrician" in notes
-    assert "Combustion air" not in notes and "Carbon monoxide" not in notes
-
-
-def test_cautions_without_a_size_still_warn():
-    notes = cautions("natural-gas")
-    assert any("1 in² of fresh-air inlet per 1,000 Btu/h" in n for n in notes)
-    assert any("NFPA 54" in n for n in notes)
-    with pytest.raises(InputError, match="does not run on"):
-        cautions("propane", "electric", 1000.0)

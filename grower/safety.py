@@ -1,0 +1,160 @@
+"""Safety cautions for heating a house: combustion air, venting, CO, storage, power.
+
+Advice here can hurt someone if it is wrong or missing: the cautions name their sources
+where there is one (or say "common practice"), and the last one defers to local codes
+and licensed installers. The fuel and the appliance come from `grower.fuels`.
+
+References
+----------
+Purdue Extension, "Greenhouse heating checklist" (combustion air). International Fuel
+Gas Code 304 / NFPA 54 (combustion air, gas piping). OSHA and NIOSH carbon monoxide
+limits. Ohio State greenhouse guidance (the 2-3-10 chimney rule). ANSI Z83.7 and UW
+Extension A3907-02 (unvented heaters). University of Arkansas greenhouse management
+text (ethylene and other gases that harm plants). NFPA 58 and OSHA 29 CFR 1910.110
+(LP-gas containers and their separation from buildings).
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from grower.units import W_PER_BTU_H
+
+if TYPE_CHECKING:
+    from grower.fuels import Appliance, Fuel
+
+#: square metres per square inch [m² in-2], exact (1 in = 0.0254 m)
+M2_PER_IN2 = 0.0254**2
+
+
+def cautions(
+    fuel: str | Fuel, appliance: str | Appliance | None = None, input_w: float | None = None
+) -> tuple[str, ...]:
+    """Short safety cautions for heating with `fuel` on `appliance` at `input_w` [W].
+
+    Each names its source; the last defers to local codes and licensed installers.
+    """
+    from grower.fuels import appliance_for, get_fuel  # grower.fuels imports this module
+
+    fuel = get_fuel(fuel)
+    appliance = appliance_for(fuel, appliance)
+    btu_h = None if input_w is None else float(input_w) / W_PER_BTU_H
+    out: list[str] = []
+    if fuel.combustion:
+        if btu_h is not None:
+            # Purdue Extension, "Greenhouse heating checklist": 1 in² inlet per 1,000 Btu/h.
+            inlet = btu_h / 1000.0
+            text = (
+                f"Combustion air: a {btu_h:,.0f} Btu/h heater needs a fresh-air inlet of at "
+                f"least {inlet:,.0f} in² ({inlet * M2_PER_IN2 * 1e4:,.0f} cm²), 1 in² per "
+                "1,000 Btu/h of input (Purdue Extension, Greenhouse heating checklist)."
+            )
+            if fuel.name in ("propane", "natural-gas"):
+                # IFGC 304 / NFPA 54: 1 in² per 4,000 (outdoor air, vertical ducts),
+                # 2,000 (horizontal ducts), 1,000 Btu/h (air from indoors).
+                text += (
+                    " The fuel gas code (IFGC 304 / NFPA 54) asks "
+                    f"{btu_h / 4000:,.0f} in² from outdoors by vertical ducts, "
+                    f"{btu_h / 2000:,.0f} in² by horizontal ducts, or "
+                    f"{btu_h / 1000:,.0f} in² of indoor air."
+                )
+            out.append(text)
+        else:
+            out.append(
+                "Combustion air: give 1 in² of fresh-air inlet per 1,000 Btu/h of heater "
+                "input (Purdue Extension, Greenhouse heating checklist)."
+            )
+        if appliance.vented:
+            # Ohio State greenhouse guidance: the 2-3-10 rule for natural-draft chimneys.
+            out.append(
+                "Venting: take flue gases outdoors through a listed vent or chimney; a "
+                "natural-draft chimney ends at least 3 ft above the roof and 2 ft above "
+                "anything within 10 ft (the 2-3-10 rule, Ohio State greenhouse guidance)."
+            )
+        else:
+            # ANSI Z83.7 construction heaters; UW Extension A3907-02.
+            out.append(
+                "Unvented heater: every combustion product and its water vapour stays in the "
+                "house (ANSI Z83.7 heaters are built that way) — an emergency measure only, "
+                "with the air inlet above kept open."
+            )
+        # OSHA PEL 50 ppm (8-h TWA); NIOSH REL 35 ppm, ceiling 200 ppm.
+        out.append(
+            "Carbon monoxide: fit CO alarms where people work and test them before a cold "
+            "night. OSHA's limit is 50 ppm over 8 h; NIOSH recommends 35 ppm with a 200 ppm "
+            "ceiling. If an alarm sounds, get out and ventilate."
+        )
+        # Univ. of Arkansas greenhouse management text: ethylene from 0.05 ppm (R);
+        # SO2 from 0.5 ppm and fuel gas from 50 ppm (secondary copies).
+        gas = {
+            "propane": " Leaked fuel gas harms them from about 50 ppm.",
+            "natural-gas": " Leaked fuel gas harms them from about 50 ppm.",
+            "heating-oil": " Sulfur dioxide harms them from about 0.5 ppm.",
+            "kerosene": " Sulfur dioxide harms them from about 0.5 ppm.",
+        }.get(fuel.name, "")
+        out.append(
+            "Crop damage: a blocked flue, a cracked heat exchanger, back-draft or incomplete "
+            "combustion puts ethylene in the house, which damages plants from 0.05 ppm "
+            f"(University of Arkansas greenhouse management text).{gas}"
+        )
+    storage = {
+        # NFPA 58; OSHA 29 CFR 1910.110 tank separation from buildings.
+        "propane": (
+            "Fuel storage: LP-gas tanks and cylinders follow NFPA 58; OSHA 29 CFR 1910.110 "
+            "keeps tanks 10 ft from buildings up to 500 gal water capacity and 25 ft for "
+            "501–2,000 gal. Keep cylinders outdoors and upright (common practice)."
+        ),
+        # NFPA 54 / ANSI Z223.1 and the IFGC.
+        "natural-gas": (
+            "Gas piping: piping, regulators and appliance connections follow NFPA 54 / ANSI "
+            "Z223.1 (or the IFGC) and are leak-tested by a licensed gas fitter."
+        ),
+        # common practice, no source
+        "heating-oil": (
+            "Fuel storage: keep oil in a listed tank away from the heater, as the local fire "
+            "code requires, and check it for leaks (common practice)."
+        ),
+        "kerosene": (
+            "Fuel storage: keep kerosene in a listed tank or approved cans away from the "
+            "heater, as the local fire code requires (common practice)."
+        ),
+        "wood-pellets": (
+            "Fuel storage: keep pellets dry and away from the stove; empty ash into a metal "
+            "container with a lid (common practice)."
+        ),
+    }.get(fuel.name)
+    if storage:
+        out.append(storage)
+    if fuel.name == "propane":
+        # REFERENCES: no published vaporisation table was found; defer to the supplier.
+        need = f" {btu_h:,.0f} Btu/h" if btu_h is not None else " the heater's input"
+        out.append(
+            "Cold weather: a propane tank vaporises less gas as it gets colder and emptier; "
+            f"ask the supplier whether the tank can supply{need} on the coldest night (no "
+            "published table was found for this)."
+        )
+    if fuel.name == "electricity":
+        if input_w is not None:
+            text = (
+                f"Electrical load: {input_w / 1e3:,.1f} kW draws {input_w / 240:,.1f} A at "
+                f"240 V ({input_w / 120:,.1f} A at 120 V). "
+            )
+        else:
+            text = (
+                "Electrical load: current = power ÷ voltage (a 5 kW heater draws 20.8 A at 240 V). "
+            )
+        # common practice: a continuous load within 80 % of the circuit rating.
+        out.append(
+            text + "A heater is a continuous load: keep it within 80 % of the circuit rating "
+            "(common practice) and have a licensed electrician check the circuit and service."
+        )
+        out.append(
+            "Power cuts: an electric heater is no backup when the grid fails unless a "
+            "generator, sized for it and connected through a transfer switch, carries it."
+        )
+    out.append(
+        "Codes: follow local building, fire and fuel codes and the maker's instructions; "
+        "have a licensed installer fit, vent and test any heater. These are reminders, not "
+        "a design."
+    )
+    return tuple(out)

@@ -1,0 +1,74 @@
+"""Safety cautions: opening sizes from the published rules, CO limits, electrical load.
+
+Each check names the rule or limit it comes from; numbers are computed from the rule as
+printed (1 in² per 1,000 Btu/h and so on), never typed in from elsewhere.
+"""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+import pytest
+
+from grower import fuels, safety
+from grower.errors import InputError
+from grower.safety import cautions
+from grower.units import W_PER_BTU_H
+
+
+def test_combustion_cautions_with_opening_sizes():
+    notes = cautions("propane", None, 100_000 * W_PER_BTU_H)
+    text = " ".join(notes)
+    # Purdue Extension: 1 in² per 1,000 Btu/h -> 100 in² for 100,000 Btu/h
+    assert "at least 100 in²" in text
+    # IFGC 304 / NFPA 54: 1 in² per 4,000 / 2,000 / 1,000 Btu/h -> 25 / 50 / 100 in²
+    assert "25 in² from outdoors by vertical ducts" in text
+    assert "50 in² by horizontal ducts" in text
+    # OSHA PEL 50 ppm; NIOSH REL 35 ppm, ceiling 200 ppm
+    assert "50 ppm" in text and "35 ppm" in text and "200 ppm" in text
+    assert "ethylene" in text and "0.05 ppm" in text  # Univ. of Arkansas
+    assert "NFPA 58" in text and "1910.110" in text and "25 ft" in text
+    assert "supplier" in text and "100,000 Btu/h" in text  # vaporisation
+    assert "licensed installer" in notes[-1] and "local" in notes[-1]
+
+
+def test_unvented_heater_gets_the_stronger_warning():
+    vented = " ".join(cautions("kerosene", "unit-heater-vented", 20_000.0))
+    unvented = " ".join(cautions("kerosene", "unvented", 20_000.0))
+    assert "Unvented heater" in unvented and "Unvented heater" not in vented
+    assert "2-3-10" in vented
+    assert "0.5 ppm" in unvented  # SO₂ from kerosene
+
+
+def test_electric_cautions_give_the_current():
+    notes = " ".join(cautions("electricity", None, 10_000.0))
+    # I = P / V: 10 kW -> 41.7 A at 240 V, 83.3 A at 120 V
+    assert "41.7 A at 240 V" in notes and "83.3 A at 120 V" in notes
+    assert "licensed electrician" in notes
+    assert "Combustion air" not in notes and "Carbon monoxide" not in notes
+
+
+def test_cautions_without_a_size_still_warn():
+    notes = cautions("natural-gas")
+    assert any("1 in² of fresh-air inlet per 1,000 Btu/h" in n for n in notes)
+    assert any("NFPA 54" in n for n in notes)
+    with pytest.raises(InputError, match="does not run on"):
+        cautions("propane", "electric", 1000.0)
+
+
+def test_fuels_still_offers_the_cautions():
+    # callers use fuels.cautions; it must be the same function, not a copy.
+    # 1 in = 0.0254 m exactly, by definition (NIST SP 811), so 1 in² = 6.4516e-4 m².
+    assert fuels.cautions is safety.cautions
+    assert fuels.M2_PER_IN2 == safety.M2_PER_IN2 == pytest.approx(6.4516e-4, rel=1e-12)
+
+
+def test_safety_imports_on_its_own():
+    # a fresh interpreter importing grower.safety first (no circular import with fuels)
+    code = (
+        "import grower.safety as s; "
+        "assert s.cautions('propane')[-1].startswith('Codes:'); "
+        "import grower.fuels as f; assert f.cautions is s.cautions"
+    )
+    subprocess.run([sys.executable, "-c", code], check=True)
