@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import re
 import sys
 from collections.abc import Sequence
 
@@ -71,10 +72,28 @@ def _error(message: str) -> int:
     return EXIT_INPUT
 
 
+_NEGATIVE = re.compile(r"^[-\u2212]\.?\d")
+
+
+def join_negative_values(argv: Sequence[str]) -> list[str]:
+    """Let "--outside -25C" mean "--outside=-25C".
+
+    argparse takes "-25C" for an option (only bare numbers like "-25" are spared), but a
+    temperature below zero is the most common value grower is given.
+    """
+    out: list[str] = []
+    for token in argv:
+        if _NEGATIVE.match(token) and out and out[-1].startswith("--") and "=" not in out[-1]:
+            out[-1] = f"{out[-1]}={token}"
+        else:
+            out.append(token)
+    return out
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the `grower` console script; returns the exit status."""
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args = parser.parse_args(join_negative_values(sys.argv[1:] if argv is None else argv))
     try:
         return int(args.run(args) or 0)
     except InputError as exc:

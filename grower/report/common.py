@@ -55,3 +55,15 @@ def unit_system(requested: str | None, default: str | None = None) -> UnitSystem
     """The display system: the option, else the house file's choice, else metric."""
     choice = requested or default or "metric"
     return "us" if choice == "us" else "metric"
+
+
+def render_cautions(console, cautions) -> None:
+    """The safety cautions, always last and always shown in full."""
+    if not cautions:
+        return
+    console.print()
+    console.print(
+        "[bold]Safety[/bold] — general cautions, not a substitute for a licensed installer:"
+    )
+    for c in cautions:
+        console.print(f"  ⚠ {c}")

@@ -1,0 +1,101 @@
+"""`grower size HOUSE --outside T`: the backup heater for a design-cold, windy, clear night."""
+
+from __future__ import annotations
+
+import argparse
+
+from grower.commands._options import add_crop_options, choose_threshold, speed, temperature
+
+
+def register(subparsers, common: argparse.ArgumentParser) -> None:
+    p = subparsers.add_parser(
+        "size",
+        parents=[common],
+        help="size a backup heater: output and nameplate input at a design night",
+        description=(
+            "Heat loss of a house at a design outside temperature, wind and a clear sky; "
+            "the heater output and nameplate input that hold a temperature, a split into "
+            "common unit sizes, the combustion-air opening and fuel per hour at full fire."
+        ),
+    )
+    p.add_argument("house", metavar="HOUSE", help="house file (TOML)")
+    p.add_argument(
+        "--outside",
+        required=True,
+        metavar="T",
+        help="design outside temperature, e.g. -25C or -13F",
+    )
+    p.add_argument("--wind", default="15 mph", metavar="V", help="design wind (default 15 mph)")
+    p.add_argument("--hold", metavar="T", help="inside temperature to hold, e.g. 5C or 40F")
+    add_crop_options(p)
+    p.add_argument(
+        "--fuel",
+        metavar="KIND",
+        help="propane, natural-gas, heating-oil, kerosene, electricity, wood-pellets",
+    )
+    p.add_argument(
+        "--appliance", metavar="TYPE", help="heater type (default: the fuel's usual one)"
+    )
+    p.add_argument(
+        "--safety-factor",
+        type=float,
+        default=None,
+        metavar="F",
+        help="output over heat loss (default 1.2)",
+    )
+    p.add_argument("--no-calibration", action="store_true", help=argparse.SUPPRESS)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from grower import house
+    from grower.errors import InputError
+    from grower.plans import model, size
+    from grower.report import common
+    from grower.report import size as report
+
+    h = house.read(args.house)
+    outside = temperature(args.outside, "--outside")
+    wind = speed(args.wind, "--wind")
+    crop, stage, choice, override = choose_threshold(args)
+    hold = temperature(args.hold, "--hold")
+    if hold is not None and (crop or override is not None):
+        raise InputError("give --hold or --crop/--threshold, not both", where="grower size")
+    if hold is not None:
+        basis = "set with --hold"
+    elif choice is not None or override is not None:
+        alarm = choice.alarm_c if choice else override
+        # on a clear design night leaves run below the air: hold the air that much warmer
+        offset = model.LEAF_BELOW_AIR_CLEAR_K * h.roof_material.longwave_transmittance
+        hold = alarm + offset
+        what = f"{crop.name} ({stage.name})" if crop else "your threshold"
+        basis = (
+            f"{what}: plants at {alarm:.1f} °C, air {offset:.1f} K warmer "
+            "(leaves below air on a clear night)"
+        )
+    else:
+        raise InputError("say what to hold: --hold T, or --crop NAME", where="grower size")
+    if hold <= outside:
+        raise InputError(
+            f"the temperature to hold ({hold:.1f} °C) is not above the design outside "
+            f"temperature ({outside:.1f} °C)",
+            where="--hold",
+        )
+    factor = size.SAFETY_FACTOR if args.safety_factor is None else args.safety_factor
+    if not 1.0 <= factor <= 3.0:
+        raise InputError(f"{factor:g} must be within 1–3", where="--safety-factor")
+    result = size.size(
+        h,
+        design_outside_c=outside,
+        hold_c=hold,
+        hold_basis=basis,
+        wind_m_s=wind,
+        fuel_name=args.fuel,
+        appliance_name=args.appliance,
+        safety_factor=factor,
+    )
+    if args.json:
+        common.emit_json(report.size_json(result))
+        return 0
+    report.render_size(common.console(), result, common.unit_system(args.units, h.units))
+    return 0

@@ -1,0 +1,132 @@
+"""`grower stock HOUSE --setpoint T --fuel KIND`: fuel for a forecast cold spell."""
+
+from __future__ import annotations
+
+import argparse
+
+from grower.commands._options import add_forecast_options, temperature
+
+
+def register(subparsers, common: argparse.ArgumentParser) -> None:
+    p = subparsers.add_parser(
+        "stock",
+        parents=[common],
+        help="plan fuel for a cold spell: fuel burned per day, cost, when the stock runs out",
+        description=(
+            "Run the house through a multi-day forecast with its thermostat heater (day and "
+            "night setpoints, sun and venting by day) and report heat delivered and fuel "
+            "burned per day in the unit it is bought in, containers, cost, and when the "
+            "fuel on hand runs out."
+        ),
+    )
+    p.add_argument("house", metavar="HOUSE", help="house file (TOML)")
+    p.add_argument(
+        "--setpoint",
+        required=True,
+        metavar="T",
+        help="heating setpoint (by day, and at night unless --night-setpoint), e.g. 10C",
+    )
+    p.add_argument("--night-setpoint", metavar="T", help="heating setpoint from sunset to sunrise")
+    p.add_argument(
+        "--fuel", metavar="KIND", help="fuel (default: the house's [stock] fuel or its heater's)"
+    )
+    p.add_argument(
+        "--on-hand",
+        metavar="AMOUNT",
+        help='fuel on hand, e.g. "320 gal", "900 L", "3 100-lb cylinders"',
+    )
+    p.add_argument(
+        "--price",
+        type=float,
+        metavar="P",
+        help="price per unit of fuel (the unit of --on-hand, else the fuel's usual unit)",
+    )
+    p.add_argument(
+        "--fuel-unit",
+        metavar="UNIT",
+        help="report fuel in this unit (gal, L, therm, m3, kWh, lb, kg …)",
+    )
+    p.add_argument(
+        "--days", type=int, default=16, metavar="N", help="days of live forecast (1–16, default 16)"
+    )
+    p.add_argument(
+        "--model",
+        choices=("two-node", "lumped"),
+        default="two-node",
+        help="thermal model (default two-node)",
+    )
+    p.add_argument(
+        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+    )
+    add_forecast_options(p, live_days=16)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    import sys
+
+    from grower import house
+    from grower.commands._options import get_forecast, start_time
+    from grower.errors import InputError
+    from grower.plans import stock
+    from grower.report import common
+    from grower.report import stock as report
+
+    if not 1 <= args.days <= 16:
+        raise InputError(f"{args.days} must be within 1–16", where="--days")
+    if args.low:
+        raise InputError(
+            "a cold spell needs a multi-day forecast: give --forecast FILE or use the live forecast",
+            where="--low",
+        )
+    h = house.read(args.house)
+    setpoint = temperature(args.setpoint, "--setpoint")
+    night = temperature(args.night_setpoint, "--night-setpoint")
+    for value, option in ((setpoint, "--setpoint"), (night, "--night-setpoint")):
+        if value is not None and not -5.0 <= value <= 35.0:
+            raise InputError(f"{value:.1f} °C is outside −5…35 °C", where=option)
+        if value is not None and value >= h.vent_temperature_c:
+            raise InputError(
+                f"{value:.1f} °C is not below the house's vent temperature ({h.vent_temperature_c:.1f} °C)",
+                where=option,
+            )
+    if args.price is not None and not args.price >= 0:
+        raise InputError("must be zero or more", where="--price")
+    forecast = get_forecast(args, h, days=args.days)
+    start = start_time(args, h, forecast)
+
+    progress = None
+    bar = None
+    if sys.stderr.isatty() and not args.json:
+        from rich.progress import Progress
+
+        bar = Progress(transient=True, console=common.console(stderr=True))
+        task = bar.add_task("simulating", total=None)
+        bar.start()
+
+        def progress(done: int, total: int) -> None:
+            bar.update(task, completed=done, total=total)
+
+    try:
+        result = stock.stock(
+            h,
+            forecast,
+            setpoint_c=setpoint,
+            night_setpoint_c=night,
+            fuel_name=args.fuel,
+            on_hand_text=args.on_hand,
+            price=args.price,
+            unit=args.fuel_unit,
+            kind=args.model,
+            start=start,
+            use_calibration=not args.no_calibration,
+            progress=progress,
+        )
+    finally:
+        if bar is not None:
+            bar.stop()
+    if args.json:
+        common.emit_json(report.stock_json(result))
+        return 0
+    report.render_stock(common.console(), result, common.unit_system(args.units, h.units))
+    return 0

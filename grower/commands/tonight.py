@@ -1,0 +1,129 @@
+"""`grower tonight HOUSE… --crop NAME`: tonight's frost risk with no heat."""
+
+from __future__ import annotations
+
+import argparse
+
+from grower.commands._options import add_crop_options, add_forecast_options, temperature
+
+
+def register(subparsers, common: argparse.ArgumentParser) -> None:
+    p = subparsers.add_parser(
+        "tonight",
+        parents=[common],
+        help="will the crop make it tonight with no heat? when, how cold, what heat holds it",
+        description=(
+            "If no heat is given tonight (heater failure, power cut, unheated tunnel): at "
+            "what time the crop reaches its damage temperature, how cold it gets, and the "
+            "heat that would hold it safe. The night runs from now (or --start) to two "
+            "hours after sunrise."
+        ),
+        epilog=(
+            "Exit status: 0 done (and, with --alert-status, safe); 2 bad input; "
+            "3 with --alert-status when damage is expected in any house."
+        ),
+    )
+    p.add_argument("houses", nargs="+", metavar="HOUSE", help="house file(s) (TOML)")
+    add_crop_options(p)
+    add_forecast_options(p)
+    p.add_argument("--inside-now", metavar="T", help="inside air temperature measured now, e.g. 6C")
+    p.add_argument("--soil-now", metavar="T", help="soil temperature at 5 cm measured now, e.g. 8C")
+    p.add_argument(
+        "--model",
+        choices=("two-node", "lumped"),
+        default="two-node",
+        help="two-node: air + soil and water mass (default); lumped: one node, the handbook model",
+    )
+    p.add_argument(
+        "--colder",
+        default="2 K",
+        metavar="DT",
+        help="also show the night this much colder (default 2 K)",
+    )
+    p.add_argument("--plot", metavar="FILE", help="write the chart as an image (.png or .svg)")
+    p.add_argument(
+        "--alert-status",
+        action="store_true",
+        help="exit with status 3 when damage is expected (0 when safe), for cron jobs",
+    )
+    p.add_argument(
+        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+    )
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from grower import house
+    from grower.cli import EXIT_ALERT
+    from grower.commands._options import choose_threshold, get_forecast, start_time
+    from grower.errors import InputError
+    from grower.plans import tonight
+    from grower.report import common
+    from grower.report import tonight as report
+    from grower.units import parse_temperature_difference
+
+    crop, stage, choice, override = choose_threshold(args)
+    if choice is None and override is None:
+        raise InputError(
+            "say what to protect: --crop NAME (see `grower crops`) or --threshold T",
+            where="grower tonight",
+        )
+    colder = parse_temperature_difference(args.colder, where="--colder")
+    if not 0 < colder <= 15:
+        raise InputError("must be between 0 and 15 K", where="--colder")
+    inside = temperature(args.inside_now, "--inside-now")
+    soil = temperature(args.soil_now, "--soil-now")
+    if args.plot and len(args.houses) > 1:
+        raise InputError("--plot takes one house", where="--plot")
+    houses = [house.read(f) for f in args.houses]
+    results = []
+    for h in houses:
+        forecast = get_forecast(args, h)
+        start = start_time(args, h, forecast)
+        if choice is not None:
+            alarm = choice.alarm_c
+            basis = (
+                f"{crop.name} ({stage.name}): damage {choice.damage_c:.1f} °C"
+                + (f" + {choice.margin_k:g} K margin" if choice.margin_k else "")
+                + f" — {choice.basis}"
+            )
+            if override is not None:
+                basis = f"your threshold (--threshold); {crop.name} ({stage.name}) damage {choice.damage_c:.1f} °C"
+        else:
+            alarm, basis = override, "your threshold (--threshold)"
+        results.append(
+            tonight.tonight(
+                h,
+                forecast,
+                threshold_c=alarm,
+                threshold_basis=basis,
+                damage_c=choice.damage_c if choice else None,
+                margin_k=choice.margin_k if choice else 0.0,
+                crop=crop.name if crop else None,
+                stage=stage.name if stage else None,
+                crop_origin=(crop.path if crop and crop.origin == "user" else None),
+                chill_c=choice.chill_c if choice else None,
+                chill_hours=choice.chill_hours if choice else None,
+                kind=args.model,
+                inside_now_c=inside,
+                soil_now_c=soil,
+                start=start,
+                colder_by_k=colder,
+                use_calibration=not args.no_calibration,
+            )
+        )
+    if args.plot:
+        report.write_image(args.plot, results[0], common.unit_system(args.units, houses[0].units))
+    if args.json:
+        docs = [report.tonight_json(r) for r in results]
+        common.emit_json(docs[0] if len(docs) == 1 else {"houses": report.by_urgency(docs)})
+    else:
+        out = common.console()
+        system = common.unit_system(args.units, houses[0].units)
+        if len(results) > 1:
+            report.render_summary(out, results, system)
+        else:
+            report.render_tonight(out, results[0], system)
+    if args.alert_status and any(not r.safe for r in results):
+        return EXIT_ALERT
+    return 0

@@ -1,0 +1,273 @@
+"""The house as the solver sees it: network matrices and boundary series.
+
+Shared by tonight, size, stock and fit. Everything here is a pure function of the house,
+the forecast's arrays and a few choices (model, wind, curtain).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from typing import Literal
+
+import numpy as np
+import pandas as pd
+
+from grower import network, sky
+from grower.house import House
+from grower.network import Capacities, Conductances
+
+ModelKind = Literal["two-node", "lumped"]
+#: the solver's boundary temperatures, in this order
+BOUNDARIES = ("outside", "sky", "deep_ground")
+
+#: leaves on a clear, calm night run 1–3 °C below the adjacent air when they see the
+#: whole sky — Leuning, R. & Cremer, K. W. (1988), Leaf temperatures during radiation
+#: frost. Part I. Observation. *Agric. For. Meteorol.* 42, 121–133. We take the middle,
+#: 2 K, and scale it by the share of the sky the leaves see through the cover (its
+#: long-wave transmittance) and by the clear part of the sky.
+LEAF_BELOW_AIR_CLEAR_K = 2.0
+#: share of the solar radiation entering the house that heats air and mass; the rest
+#: evaporates water from crop and soil (from memory: about half in a cropped house)
+SUN_SENSIBLE_FRACTION = 0.5
+#: above this global radiation the leaves are not cooler than the air [W m-2]
+#: (common practice, no source)
+DAYLIGHT_W_M2 = 20.0
+
+
+@dataclass(frozen=True)
+class Model:
+    """The network of one house at one set of conditions."""
+
+    kind: ModelKind
+    conductances: Conductances
+    capacities: Capacities
+    k_w_per_k: float  # K = K_c + K_r (after calibration)
+    k_conduction_w_per_k: float
+    k_sky_w_per_k: float
+    c_j_per_k: float  # lumped total (after calibration)
+    calibrated: bool
+    network: object  # grower.solver.Network
+
+    @property
+    def time_constant_h(self) -> float:
+        return self.c_j_per_k / self.k_w_per_k / 3600.0
+
+
+def calibration_of(house: House, use: bool = True) -> dict[str, float] | None:
+    """The fitted K and C from the house file's [calibration], or None."""
+    cal = house.calibration
+    if not use or not cal:
+        return None
+    k, c = cal.get("k_w_per_k"), cal.get("c_j_per_k")
+    if isinstance(k, int | float) and isinstance(c, int | float) and k > 0 and c > 0:
+        return {"k_w_per_k": float(k), "c_j_per_k": float(c)}
+    return None
+
+
+def build(
+    house: House,
+    *,
+    kind: ModelKind = "two-node",
+    wind_m_s: float = 0.0,
+    curtain_closed: bool = True,
+    mean_radiant_temp_c: float = -10.0,
+    air_temp_c: float = 0.0,
+    use_calibration: bool = True,
+) -> Model:
+    """Conductances, capacities and the solver network of `house`.
+
+    Two-node: the air node (air, light structure, canopy) conducts to the outside air
+    through K_c (cover, air exchange, perimeter) and to the mass node through h·A; the
+    mass node (floor active layer, water, benches) radiates to the sky through K_r and
+    conducts to the deep ground through k/d·A. It is the floor and the crop, not the
+    air, that see the sky: with K_r on the air node the air ran 2–3 K below the outside
+    air all night, where measured plastic tunnels end the night on average 1.3 °C above
+    it (Savage 1980, *Agrochemophysica* 12:5–13). Lumped: one node holding all of C, to
+    outside air and sky together, i.e. K = K_c + K_r to T_eff (the handbook model; the
+    deep ground is left out). A calibration in the house file replaces K and C; in the two-node model
+    every conductance is scaled by K_fit/K and every capacity by C_fit/C.
+    """
+    from grower import solver
+
+    cond = network.conductances(
+        house,
+        wind_m_s=wind_m_s,
+        curtain_closed=curtain_closed,
+        air_temp_c=air_temp_c,
+        mean_radiant_temp_c=mean_radiant_temp_c,
+    )
+    caps = network.capacities(house, rho_cp_j_m3k=cond.rho_cp_j_m3k)
+    k_c, k_r = cond.conduction_w_per_k, cond.sky_w_per_k
+    c_total = caps.total_j_per_k
+    cal = calibration_of(house, use_calibration)
+    k_scale = c_scale = 1.0
+    if cal:
+        k_scale = cal["k_w_per_k"] / (k_c + k_r)
+        c_scale = cal["c_j_per_k"] / c_total
+    k_c, k_r = k_c * k_scale, k_r * k_scale
+    if kind == "lumped":
+        net = solver.Network(
+            capacitance_j_per_k=np.array([c_total * c_scale]),
+            coupling_w_per_k=np.zeros((1, 1)),
+            boundary_w_per_k=np.array([[k_c, k_r, 0.0]]),
+            node_names=("air",),
+            boundary_names=BOUNDARIES,
+        )
+    else:
+        g = caps.air_mass_w_per_k * k_scale
+        net = solver.Network(
+            capacitance_j_per_k=np.array([caps.air_j_per_k, caps.mass_j_per_k]) * c_scale,
+            coupling_w_per_k=np.array([[0.0, g], [g, 0.0]]),
+            boundary_w_per_k=np.array([[k_c, 0.0, 0.0], [0.0, k_r, caps.ground_w_per_k * k_scale]]),
+            node_names=("air", "mass"),
+            boundary_names=BOUNDARIES,
+        )
+    return Model(kind, cond, caps, k_c + k_r, k_c, k_r, c_total * c_scale, cal is not None, net)
+
+
+@dataclass(frozen=True)
+class Boundary:
+    """The forecast on the solver's time grid, with what the house makes of it."""
+
+    times: pd.DatetimeIndex  # tz-aware
+    times_s: np.ndarray  # seconds since the first time (from UTC: right across DST)
+    outside_c: np.ndarray
+    sky_c: np.ndarray
+    effective_c: np.ndarray
+    sun_w: np.ndarray  # sensible solar gain into the air node [W]
+    plant_offset_k: np.ndarray  # leaves below air [K]
+    wind_m_s: np.ndarray
+    cloud_fraction: np.ndarray  # NaN where not given
+    assumed_clear: bool
+
+    def solver_boundary(self, model: Model, deep_ground_c: float | None = None) -> np.ndarray:
+        """(N, 3) boundary temperatures: outside air, sky, deep ground (`BOUNDARIES`)."""
+        deep = model.capacities.deep_ground_c if deep_ground_c is None else deep_ground_c
+        return np.column_stack([self.outside_c, self.sky_c, np.full_like(self.outside_c, deep)])
+
+    def solver_gains(self, model: Model) -> np.ndarray:
+        """(N, n) heat inputs per node: the sun on the air node."""
+        n = len(model.network.capacitance_j_per_k)
+        gains = np.zeros((len(self.times_s), n))
+        gains[:, 0] = self.sun_w
+        return gains
+
+    def shifted(self, delta_k: float, model: Model) -> Boundary:
+        """The same night `delta_k` warmer (negative: colder) outside and in the sky."""
+        out = self.outside_c + delta_k
+        skyc = self.sky_c + delta_k
+        eff = network.effective_outside(model.k_conduction_w_per_k, model.k_sky_w_per_k, out, skyc)
+        return replace(self, outside_c=out, sky_c=skyc, effective_c=eff)
+
+
+def grid(
+    start: pd.Timestamp, end: pd.Timestamp, frame_index: pd.DatetimeIndex, step_s: float
+) -> pd.DatetimeIndex:
+    """A time grid from `start` to `end`: every `step_s` plus every forecast sample."""
+    regular = pd.date_range(start, end, freq=pd.Timedelta(seconds=step_s))
+    inside = frame_index[(frame_index > start) & (frame_index < end)]
+    out = regular.union(inside).union(pd.DatetimeIndex([start, end]))
+    return out.tz_convert(start.tz)
+
+
+def epoch_s(index: pd.DatetimeIndex) -> np.ndarray:
+    """UTC seconds since 1970 of a tz-aware index, whatever its resolution."""
+    return index.as_unit("ns").asi8 / 1e9
+
+
+def boundary(
+    house: House,
+    model: Model,
+    forecast,
+    times: pd.DatetimeIndex,
+    *,
+    pressure_hpa: float | None = None,
+) -> Boundary:
+    """Outside, sky and effective temperatures, sun gain and leaf offset on `times`.
+
+    `forecast` is a `grower.weather.Forecast`; it is linear between its samples. The sky
+    temperature is computed at the forecast samples (Berdahl & Martin with a dew point,
+    Swinbank without, the one-layer cloud correction; see `grower.sky`) and then
+    interpolated, so that it, too, is piecewise linear. Where the forecast gives no
+    cloud, the sky is taken as clear.
+    """
+    frame = forecast.frame
+    given = set(forecast.given)
+    src_s = epoch_s(frame.index)
+    at_s = epoch_s(times)
+    t_out = frame["temperature_c"].to_numpy(dtype=float)
+    dew = frame["dew_point_c"].to_numpy(dtype=float) if "dew_point_c" in given else None
+    assumed_clear = "cloud_cover_pct" not in given
+    cloud = None if assumed_clear else frame["cloud_cover_pct"].to_numpy(dtype=float) / 100.0
+    local_hour = (frame.index.hour + frame.index.minute / 60.0).to_numpy(dtype=float)
+    t_sky_src = sky.sky_temperature(
+        t_out,
+        dew,
+        cloud,
+        hour=local_hour if dew is not None else None,
+        pressure_hpa=pressure_hpa if dew is not None else None,
+    )
+    outside = np.interp(at_s, src_s, t_out)
+    t_sky = np.interp(at_s, src_s, t_sky_src)
+    eff = network.effective_outside(model.k_conduction_w_per_k, model.k_sky_w_per_k, outside, t_sky)
+    if "shortwave_w_m2" in given:
+        sw_src = frame["shortwave_w_m2"].to_numpy(dtype=float)
+        sw = np.interp(at_s, src_s + forecast.shortwave_offset_s, sw_src)
+    else:
+        sw = np.zeros(len(at_s))
+    tau_solar = house.roof_material.solar_transmittance
+    sun = sw * tau_solar * house.floor_area_m2 * SUN_SENSIBLE_FRACTION
+    cloud_at = np.full(len(at_s), np.nan) if cloud is None else np.interp(at_s, src_s, cloud)
+    offset = plant_offset(house, model, np.where(np.isfinite(cloud_at), cloud_at, 0.0), sw)
+    if "wind_speed_m_s" in given:
+        wind = np.interp(at_s, src_s, frame["wind_speed_m_s"].to_numpy(dtype=float))
+    else:
+        wind = np.zeros(len(at_s))
+    return Boundary(
+        times=times,
+        times_s=at_s - at_s[0],
+        outside_c=outside,
+        sky_c=t_sky,
+        effective_c=eff,
+        sun_w=sun,
+        plant_offset_k=offset,
+        wind_m_s=wind,
+        cloud_fraction=cloud_at,
+        assumed_clear=assumed_clear,
+    )
+
+
+def plant_offset(
+    house: House, model: Model, cloud_fraction: np.ndarray, shortwave_w_m2: np.ndarray
+) -> np.ndarray:
+    """How far leaves run below the air [K]: 2 K × clear share × cover IR share, at night.
+
+    See `LEAF_BELOW_AIR_CLEAR_K`. A closed energy curtain blocks most of the sky.
+    """
+    tau = house.roof_material.longwave_transmittance
+    if house.curtain and model.conductances.curtain_closed:
+        tau *= house.curtain.curtain.longwave_transmittance
+    clear = 1.0 - np.clip(cloud_fraction, 0.0, 1.0)
+    night = shortwave_w_m2 < DAYLIGHT_W_M2
+    return np.where(night, LEAF_BELOW_AIR_CLEAR_K * clear * tau, 0.0)
+
+
+def quasi_steady_air(
+    model: Model, boundary_c: np.ndarray, gains_w: np.ndarray, mass_c: float
+) -> float:
+    """Air temperature in balance with the boundary at the first time and with floor and
+    water at `mass_c` (the air node settles in minutes; the mass in days) [°C].
+
+    In the lumped model the one node stands for everything; it starts where the air of
+    the two-node model would, so that the two models start alike.
+    """
+    if model.kind == "lumped":
+        k_c = model.k_conduction_w_per_k
+        g = model.capacities.air_mass_w_per_k
+        num = k_c * float(boundary_c[0, 0]) + float(gains_w[0, 0]) + g * mass_c
+        return num / (k_c + g)
+    net = model.network
+    h = np.asarray(net.boundary_w_per_k, dtype=float)[0]
+    g = float(np.asarray(net.coupling_w_per_k)[0, 1])
+    num = float(h @ boundary_c[0]) + float(gains_w[0, 0]) + g * mass_c
+    return num / (float(h.sum()) + g)

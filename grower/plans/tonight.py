@@ -1,0 +1,377 @@
+"""`tonight`: with no heat, when does the crop reach its damage temperature?
+
+The night runs from the start (now, or `--start`) to two hours after the next sunrise.
+The house floats freely through the forecast (exact stepping of the thermal network);
+the plant temperature is the air temperature less the leaf offset of a clear night
+under the cover (`grower.plans.model.LEAF_BELOW_AIR_CLEAR_K`). We report the first time
+the plants reach the alarm temperature (damage + margin), the coldest air and plant
+temperature, hours below the alarm, the heat that holds the plants at the alarm
+temperature all night (peak and energy, and the fuel that burns), whether the installed
+heater holds it, and the same night a few degrees colder than forecast.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from grower import fuels, solver
+from grower.errors import InputError
+from grower.house import House
+from grower.plans import model as hm
+from grower.plans import runs
+
+#: step of the solver's grid [s]; the forecast's own samples are added to it. The
+#: solution is exact for piecewise-linear inputs, so the step only sets the resolution of
+#: the reported series and of the minimum.
+STEP_S = 600.0
+#: the night ends this long after sunrise [s]
+AFTER_SUNRISE_S = 2 * 3600.0
+#: without a site (no sunrise), the night is this long [s]
+NIGHT_WITHOUT_SITE_S = 16 * 3600.0
+#: "the same night colder than forecast" [K] (common practice, no source: forecast lows
+#: are often 2 °C off in valley bottoms on clear nights)
+COLDER_BY_K = 2.0
+#: a heater that keeps the plants within this of the alarm holds it [K]
+HOLD_TOLERANCE_K = 0.05
+#: how much colder a soil than assumed is tried, to show what the assumption is worth [K]
+#: (common practice, no source: a spread of readings across a house floor)
+SOIL_COLDER_K = 3.0
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """One run's answer."""
+
+    crossing_time: dt.datetime | None
+    min_air_c: float
+    min_plant_c: float
+    min_time: dt.datetime
+    hours_below: float
+
+
+@dataclass(frozen=True)
+class HeaterCheck:
+    """Whether the installed heater holds the alarm temperature."""
+
+    output_w: float
+    holds: bool
+    min_plant_c: float
+    min_time: dt.datetime
+    energy_kwh: float
+
+
+@dataclass(frozen=True)
+class Chill:
+    """Chilling: a milder warning than damage."""
+
+    threshold_c: float
+    hours_below: float
+    duration_h: float | None  # exposure that matters, where published
+    harmful: bool
+
+
+@dataclass(frozen=True)
+class TonightResult:
+    house_name: str
+    house_path: str
+    model: str
+    calibrated: bool
+    k_w_per_k: float
+    c_j_per_k: float
+    time_constant_h: float
+    crop: str | None
+    stage: str | None
+    crop_origin: str | None
+    threshold_c: float
+    damage_c: float | None
+    margin_k: float
+    threshold_basis: str
+    start: dt.datetime
+    end: dt.datetime
+    sunrise: dt.datetime | None
+    verdict: Verdict
+    colder_by_k: float
+    colder: Verdict
+    hold_peak_w: float
+    hold_energy_kwh: float
+    hold_fuel: fuels.FuelAmount
+    hold_fuel_label: str
+    hold_appliance: str
+    heater: HeaterCheck | None
+    chill: Chill | None
+    soil_colder: Verdict | None  # the same night with the soil SOIL_COLDER_K colder
+    soil_assumed: bool
+    initial_air_c: float
+    initial_mass_c: float | None
+    assumptions: tuple[str, ...]
+    forecast_source: str
+    forecast_attribution: str | None
+    forecast_issued_at: dt.datetime | None
+    forecast_age_s: float | None
+    forecast_warnings: tuple[str, ...]
+    times: tuple[dt.datetime, ...]
+    outside_c: np.ndarray
+    effective_outside_c: np.ndarray
+    air_c: np.ndarray
+    plant_c: np.ndarray
+    colder_air_c: np.ndarray
+    cautions: tuple[str, ...]
+
+    @property
+    def safe(self) -> bool:
+        return self.verdict.crossing_time is None
+
+
+def night_window(
+    house: House, forecast, start: pd.Timestamp | None, now: pd.Timestamp
+) -> tuple[pd.Timestamp, pd.Timestamp, pd.Timestamp | None, list[str]]:
+    """(start, end, sunrise, notes): from `start` (or now) to 2 h after the next sunrise."""
+    from grower import diurnal
+
+    notes: list[str] = []
+    first, last = forecast.start, forecast.end
+    if start is None:
+        if now < first:
+            start = first
+            notes.append(
+                f"the forecast starts later than now: the night is taken from {first:%a %H:%M}"
+            )
+        elif now > last:
+            raise InputError(
+                f"the forecast ends at {last.isoformat()}, before now; give a newer forecast or --start",
+                where=forecast.source,
+            )
+        else:
+            start = now
+    elif not first <= start <= last:
+        raise InputError(
+            f"--start {start.isoformat()} is outside the forecast ({first.isoformat()} to {last.isoformat()})",
+            where="--start",
+        )
+    sunrise = None
+    if house.site is not None:
+        s0 = start.timestamp()
+        rises, _sets = diurnal.sun_events(
+            house.site.latitude_deg, house.site.longitude_deg, s0, s0 + 2 * 86400.0
+        )
+        nxt = rises[rises > s0 + 1800.0]  # sunrise in the next half hour is this morning's
+        sunrise = pd.Timestamp(float(nxt[0]), unit="s", tz="UTC").tz_convert(start.tz)
+        end = sunrise + pd.Timedelta(seconds=AFTER_SUNRISE_S)
+    else:
+        end = start + pd.Timedelta(seconds=NIGHT_WITHOUT_SITE_S)
+        notes.append("no [site] in the house file: the night is taken as 16 h (no sunrise known)")
+    if end > last:
+        raise InputError(
+            f"the forecast ends at {last.isoformat()}, but the night runs to {end.isoformat()} "
+            "(2 h after sunrise); give a longer forecast",
+            where=forecast.source,
+        )
+    return start, end, sunrise, notes
+
+
+def _at(b: hm.Boundary, seconds: float) -> dt.datetime:
+    """The time `seconds` after the start, to the second, in the start's zone."""
+    return when(b.times[0], seconds)
+
+
+def when(start: pd.Timestamp, seconds: float = 0.0) -> dt.datetime:
+    t0 = start.timestamp() + float(seconds)
+    return dt.datetime.fromtimestamp(round(t0), start.tz)
+
+
+def _verdict(b: hm.Boundary, air: np.ndarray, crossing, member: int) -> Verdict:
+    """One member's answer from the solver's exact analysis (`solver.Crossing`)."""
+    t = crossing.time_s[member]
+    return Verdict(
+        crossing_time=None if np.isnan(t) else _at(b, t),
+        min_air_c=float(air.min()),
+        min_plant_c=float(crossing.min_c[member]),
+        min_time=_at(b, crossing.min_time_s[member]),
+        hours_below=float(crossing.hours_below[member]),
+    )
+
+
+def tonight(
+    house: House,
+    forecast,
+    *,
+    threshold_c: float,
+    threshold_basis: str,
+    damage_c: float | None = None,
+    margin_k: float = 0.0,
+    crop: str | None = None,
+    stage: str | None = None,
+    crop_origin: str | None = None,
+    chill_c: float | None = None,
+    chill_hours: float | None = None,
+    kind: hm.ModelKind = "two-node",
+    inside_now_c: float | None = None,
+    soil_now_c: float | None = None,
+    start: pd.Timestamp | None = None,
+    now: pd.Timestamp | None = None,
+    colder_by_k: float = COLDER_BY_K,
+    use_calibration: bool = True,
+) -> TonightResult:
+    """Tonight's frost verdict for one house; see the module docstring."""
+    from grower import weather
+
+    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz)
+    start, end, sunrise, notes = night_window(house, forecast, start, now)
+    times = hm.grid(start, end, forecast.frame.index, STEP_S)
+    frame = forecast.frame
+    window = frame[(frame.index >= start - pd.Timedelta(hours=1)) & (frame.index <= end)]
+    wind = (
+        float(np.nanmean(window["wind_speed_m_s"])) if "wind_speed_m_s" in forecast.given else 0.0
+    )
+    mean_out = float(window["temperature_c"].mean())
+    pressure = house.site.pressure_hpa if house.site else None
+    mdl = hm.build(
+        house,
+        kind=kind,
+        wind_m_s=wind,
+        curtain_closed=True,
+        mean_radiant_temp_c=mean_out - 5.0,
+        air_temp_c=mean_out,
+        use_calibration=use_calibration,
+    )
+    b = hm.boundary(house, mdl, forecast, times, pressure_hpa=pressure)
+    bc = b.solver_boundary(mdl)
+    gains = b.solver_gains(mdl)
+
+    assumptions = list(notes)
+    deep = mdl.capacities.deep_ground_c
+    soil_assumed = soil_now_c is None
+    if soil_assumed:
+        soil_now_c = deep
+        assumptions.append(
+            f"soil (top 10 cm) and water assumed at {soil_now_c:.1f} °C now, the deep-ground "
+            "temperature"
+            + (
+                " (itself assumed: set [floor] deep_ground_temperature)"
+                if mdl.capacities.deep_ground_assumed
+                else ""
+            )
+            + f"; measure it at 5 cm and give --soil-now"
+        )
+    if inside_now_c is None:
+        inside_now_c = hm.quasi_steady_air(mdl, bc, gains, soil_now_c)
+        assumptions.append(
+            f"inside air assumed at {inside_now_c:.1f} °C now (in balance with the soil and "
+            "the outside); give --inside-now with a reading"
+        )
+    for note in weather.assumptions(forecast):
+        assumptions.append(note)
+    if mdl.calibrated:
+        assumptions.append("K and C from the house file's [calibration] (grower fit)")
+    x0 = np.array([inside_now_c]) if kind == "lumped" else np.array([inside_now_c, soil_now_c])
+
+    # free float as members run at once: this forecast; the night colder; the soil colder
+    colder = b.shifted(-colder_by_k, mdl)
+    members_bc = [bc, colder.solver_boundary(mdl)]
+    members_x0 = [x0, x0]
+    if kind == "two-node":
+        members_bc.append(bc)
+        members_x0.append(np.array([inside_now_c, soil_now_c - SOIL_COLDER_K]))
+    free = runs.free_float(mdl, b.times_s, np.stack(members_bc), np.stack(members_x0), gains)
+    crossing = solver.analyse(free, threshold_c, b.plant_offset_k)
+    air = free.air_c
+    verdict = _verdict(b, air[0], crossing, 0)
+    cold = _verdict(colder, air[1], crossing, 1)
+    soil_colder = _verdict(b, air[2], crossing, 2) if kind == "two-node" else None
+
+    # heat that holds the plants at the alarm temperature: the air at alarm + leaf offset
+    setpoint = threshold_c + b.plant_offset_k
+    held = runs.hold(mdl, b.times_s, bc, x0, setpoint, gains)
+    hold_peak_w, hold_j = float(held.peak_w[0]), float(held.energy_j[0])
+    if house.heaters:
+        heater = house.heaters[0]
+        fuel = fuels.get_fuel(heater.fuel)
+        eff = heater.efficiency
+        appliance = heater.appliance or fuel.default_appliance
+    else:
+        fuel = fuels.get_fuel("propane")
+        appliance = fuel.default_appliance
+        eff = fuels.get_appliance(appliance).efficiency
+        assumptions.append(
+            "no heater in the house file: fuel shown for propane in a "
+            + fuels.get_appliance(appliance).label
+        )
+    amount = fuels.fuel_amount(hold_j, fuel, eff)
+
+    check = None
+    if house.heaters:
+        q = house.heater_output_w
+        run = runs.thermostat(mdl, b.times_s, bc, x0, setpoint, q, gains)
+        c = solver.analyse(run, threshold_c, b.plant_offset_k)
+        check = HeaterCheck(
+            output_w=q,
+            # the thermostat holds the plants *at* the alarm: allow for round-off
+            holds=bool(c.min_c[0] >= threshold_c - HOLD_TOLERANCE_K),
+            min_plant_c=float(c.min_c[0]),
+            min_time=_at(b, c.min_time_s[0]),
+            energy_kwh=float(run.heat_j[0]) / 3.6e6,
+        )
+
+    chill = None
+    if chill_c is not None and chill_c > threshold_c:
+        c = solver.analyse(free, chill_c, b.plant_offset_k)
+        hours = float(c.hours_below[0])
+        if hours > 0:
+            harmful = chill_hours is None or hours >= chill_hours
+            chill = Chill(chill_c, hours, chill_hours, harmful)
+
+    cautions: tuple[str, ...] = ()
+    if verdict.crossing_time is not None or check is not None:
+        cautions = fuels.cautions(fuel, appliance, hold_peak_w / eff if hold_peak_w > 0 else None)
+
+    local = [when(t) for t in b.times]
+    return TonightResult(
+        house_name=house.name,
+        house_path=house.path,
+        model=kind,
+        calibrated=mdl.calibrated,
+        k_w_per_k=mdl.k_w_per_k,
+        c_j_per_k=mdl.c_j_per_k,
+        time_constant_h=mdl.time_constant_h,
+        crop=crop,
+        stage=stage,
+        crop_origin=crop_origin,
+        threshold_c=threshold_c,
+        damage_c=damage_c,
+        margin_k=margin_k,
+        threshold_basis=threshold_basis,
+        start=when(start),
+        end=when(end),
+        sunrise=when(sunrise) if sunrise is not None else None,
+        verdict=verdict,
+        colder_by_k=colder_by_k,
+        colder=cold,
+        hold_peak_w=hold_peak_w,
+        hold_energy_kwh=hold_j / 3.6e6,
+        hold_fuel=amount,
+        hold_fuel_label=fuel.label,
+        hold_appliance=fuels.get_appliance(appliance).label,
+        heater=check,
+        chill=chill,
+        soil_colder=soil_colder,
+        soil_assumed=soil_assumed,
+        initial_air_c=float(inside_now_c),
+        initial_mass_c=None if kind == "lumped" else float(soil_now_c),
+        assumptions=tuple(assumptions),
+        forecast_source=forecast.source,
+        forecast_attribution=forecast.attribution,
+        forecast_issued_at=forecast.issued_at,
+        forecast_age_s=forecast.age_s,
+        forecast_warnings=tuple(forecast.warnings),
+        times=tuple(local),
+        outside_c=b.outside_c,
+        effective_outside_c=b.effective_c,
+        air_c=air[0],
+        plant_c=air[0] - b.plant_offset_k,
+        colder_air_c=air[1],
+        cautions=cautions,
+    )

@@ -1,0 +1,151 @@
+"""Rendering of `grower size`."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from grower.plans.size import SizeResult
+from grower.report.common import render_cautions
+from grower.units import (
+    W_PER_BTU_H,
+    UnitSystem,
+    show_speed,
+    show_temperature,
+)
+
+
+def size_json(r: SizeResult) -> dict[str, Any]:
+    """The `grower size --json` document (SI)."""
+    return {
+        "house": r.house_name,
+        "file": r.house_path,
+        "design_outside_c": r.design_outside_c,
+        "wind_m_s": r.wind_m_s,
+        "sky_c": r.sky_c,
+        "effective_outside_c": r.effective_outside_c,
+        "hold_c": r.hold_c,
+        "hold_basis": r.hold_basis,
+        "k_w_per_k": r.k_w_per_k,
+        "k_conduction_w_per_k": r.k_conduction_w_per_k,
+        "k_sky_w_per_k": r.k_sky_w_per_k,
+        "heat_loss_w": r.heat_loss_w,
+        "conduction_loss_w": r.conduction_loss_w,
+        "sky_loss_w": r.sky_loss_w,
+        "curtain_saving_w": r.curtain_saving_w,
+        "safety_factor": r.safety_factor,
+        "recommended_output_w": r.recommended_output_w,
+        "recommended_input_w": r.recommended_input_w,
+        "efficiency": r.efficiency,
+        "appliance": r.appliance,
+        "fuel": {
+            "kind": r.fuel.name,
+            "unit": r.fuel_per_hour.unit,
+            "heating_value_j_per_unit": r.fuel_per_hour.heating_value_j_per_unit,
+            "per_hour_at_full_fire": r.fuel_per_hour.amount_per_hour,
+            "source": r.fuel.source,
+            "year": r.fuel.year,
+        },
+        "units": [
+            {
+                "count": u.count,
+                "input_each_w": u.input_each_w,
+                "output_each_w": u.output_each_w,
+                "one_down_share": u.one_down_share,
+            }
+            for u in r.units
+        ],
+        "combustion_air_in2": r.combustion_air_in2,
+        "installed_output_w": r.installed_output_w,
+        "installed_holds": r.installed_holds,
+        "notes": list(r.notes),
+        "cautions": list(r.cautions),
+    }
+
+
+def power_text(watts: float, system: UnitSystem) -> str:
+    """ "47.1 kW (160,700 Btu/h)", the system's unit first."""
+    kw = f"{watts / 1e3:,.1f} kW"
+    btu = f"{watts / W_PER_BTU_H:,.0f} Btu/h"
+    return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
+
+
+def render_size(console, r: SizeResult, system: UnitSystem) -> None:
+    from rich.table import Table
+
+    t = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    console.print(
+        f"[bold]{r.house_name}[/bold]: a heater of [bold]{power_text(r.recommended_output_w, system)}"
+        f"[/bold] output — nameplate input [bold]{power_text(r.recommended_input_w, system)}[/bold] "
+        f"for a {r.appliance} at {r.efficiency:.0%} efficiency"
+    )
+    console.print(
+        f"holds {t(r.hold_c)} inside at {t(r.design_outside_c)} outside, "
+        f"wind {show_speed(r.wind_m_s, system).text(1)}, clear sky at {t(r.sky_c)}"
+    )
+    console.print(f"  hold: {r.hold_basis}")
+    console.print()
+
+    table = Table(show_header=False, box=None, pad_edge=False)
+    table.add_column(style="dim")
+    table.add_column(justify="right")
+    table.add_row(
+        "loss to the outside air (cover, air exchange, perimeter)",
+        power_text(r.conduction_loss_w, system),
+    )
+    table.add_row("loss by radiation to the clear sky", power_text(r.sky_loss_w, system))
+    table.add_row(
+        f"design heat loss  K·(T_hold − T_eff), K = {r.k_w_per_k:,.0f} W/K, T_eff = {t(r.effective_outside_c)}",
+        f"[bold]{power_text(r.heat_loss_w, system)}[/bold]",
+    )
+    table.add_row(
+        f"× safety factor {r.safety_factor:g}", power_text(r.recommended_output_w, system)
+    )
+    table.add_row(
+        f"÷ efficiency {r.efficiency:.0%} = nameplate input",
+        power_text(r.recommended_input_w, system),
+    )
+    if r.curtain_saving_w:
+        table.add_row(
+            "with the energy curtain drawn, the loss is less by",
+            power_text(r.curtain_saving_w, system),
+        )
+    rate = r.fuel_per_hour
+    table.add_row(
+        f"{r.fuel.label} at full fire",
+        f"{rate.amount_per_hour:,.2f} {rate.unit}/h",
+    )
+    console.print(table)
+    console.print()
+
+    units = Table(title="Split into common unit sizes", title_justify="left")
+    units.add_column("units", justify="right")
+    units.add_column("input each", justify="right")
+    units.add_column("output each", justify="right")
+    units.add_column("if one fails", justify="right")
+    for u in r.units:
+        units.add_row(
+            f"{u.count} ×",
+            power_text(u.input_each_w, system),
+            power_text(u.output_each_w, system),
+            "—" if u.count == 1 else f"{u.one_down_share:.0%} of the loss",
+        )
+    console.print(units)
+    if r.combustion_air_in2:
+        a = r.combustion_air_in2
+        console.print(
+            f"Combustion air for {r.recommended_input_w / W_PER_BTU_H:,.0f} Btu/h input: "
+            f"[bold]{a['rule_of_thumb_in2']:,.0f} in²[/bold] ({a['rule_of_thumb_in2'] * 6.4516:,.0f} cm²) "
+            "of free inlet area (1 in² per 1,000 Btu/h); by the fuel gas code, "
+            f"{a['outdoor_vertical_duct_in2']:,.0f} in² from outdoors through vertical ducts or "
+            f"{a['outdoor_horizontal_duct_in2']:,.0f} in² through horizontal ones."
+        )
+    if r.installed_holds is not None:
+        verdict = "holds it" if r.installed_holds else "[bold red]does not hold it[/bold red]"
+        console.print(
+            f"Installed heat: {power_text(r.installed_output_w, system)} output — {verdict} "
+            f"(design loss {power_text(r.heat_loss_w, system)})."
+        )
+    console.print()
+    for n in r.notes:
+        console.print(f"[dim]· {n}[/dim]")
+    render_cautions(console, r.cautions)

@@ -1,0 +1,339 @@
+"""Rendering of `grower tonight`: the verdict first, then the numbers behind it."""
+
+from __future__ import annotations
+
+import datetime as dt
+from typing import Any
+
+from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict
+from grower.report import chart
+from grower.report.common import render_cautions
+from grower.units import W_PER_BTU_H, UnitSystem, show_temperature, show_temperature_difference
+
+
+def _iso(t: dt.datetime | None) -> str | None:
+    return None if t is None else t.isoformat(timespec="seconds")
+
+
+def tonight_json(r: TonightResult) -> dict[str, Any]:
+    """The `grower tonight --json` document (SI, ISO 8601 times with offset)."""
+    return {
+        "house": r.house_name,
+        "file": r.house_path,
+        "model": r.model,
+        "calibrated": r.calibrated,
+        "k_w_per_k": r.k_w_per_k,
+        "c_j_per_k": r.c_j_per_k,
+        "time_constant_h": r.time_constant_h,
+        "crop": r.crop,
+        "stage": r.stage,
+        "threshold_c": r.threshold_c,
+        "damage_c": r.damage_c,
+        "margin_k": r.margin_k,
+        "threshold_basis": r.threshold_basis,
+        "start": _iso(r.start),
+        "end": _iso(r.end),
+        "sunrise": _iso(r.sunrise),
+        "safe": r.safe,
+        "crossing_time": _iso(r.verdict.crossing_time),
+        "min_air_c": r.verdict.min_air_c,
+        "min_plant_c": r.verdict.min_plant_c,
+        "min_time": _iso(r.verdict.min_time),
+        "hours_below": r.verdict.hours_below,
+        "hold_peak_w": r.hold_peak_w,
+        "hold_energy_kwh": r.hold_energy_kwh,
+        "hold_fuel": {
+            "kind": r.hold_fuel.fuel,
+            "amount": r.hold_fuel.amount,
+            "unit": r.hold_fuel.unit,
+            "heating_value_j_per_unit": r.hold_fuel.heating_value_j_per_unit,
+            "efficiency": r.hold_fuel.efficiency,
+        },
+        "heater": None
+        if r.heater is None
+        else {
+            "output_w": r.heater.output_w,
+            "holds": r.heater.holds,
+            "min_plant_c": r.heater.min_plant_c,
+            "min_time": _iso(r.heater.min_time),
+            "energy_kwh": r.heater.energy_kwh,
+        },
+        "colder": {
+            "by_c": r.colder_by_k,
+            "crossing_time": _iso(r.colder.crossing_time),
+            "min_plant_c": r.colder.min_plant_c,
+            "min_air_c": r.colder.min_air_c,
+            "hours_below": r.colder.hours_below,
+        },
+        "soil_colder": None
+        if r.soil_colder is None
+        else {
+            "by_c": SOIL_COLDER_K,
+            "crossing_time": _iso(r.soil_colder.crossing_time),
+            "min_plant_c": r.soil_colder.min_plant_c,
+        },
+        "chill": None
+        if r.chill is None
+        else {
+            "threshold_c": r.chill.threshold_c,
+            "hours_below": r.chill.hours_below,
+            "duration_h": r.chill.duration_h,
+            "harmful": r.chill.harmful,
+        },
+        "initial_air_c": r.initial_air_c,
+        "initial_mass_c": r.initial_mass_c,
+        "assumptions": list(r.assumptions),
+        "forecast": {
+            "source": r.forecast_source,
+            "issued_at": _iso(r.forecast_issued_at),
+            "age_s": r.forecast_age_s,
+            "attribution": r.forecast_attribution,
+            "warnings": list(r.forecast_warnings),
+        },
+        "cautions": list(r.cautions),
+        "series": [
+            {
+                "time": _iso(t),
+                "outside_c": float(o),
+                "effective_outside_c": float(e),
+                "air_c": float(a),
+                "plant_c": float(p),
+            }
+            for t, o, e, a, p in zip(
+                r.times, r.outside_c, r.effective_outside_c, r.air_c, r.plant_c, strict=True
+            )
+        ],
+    }
+
+
+def by_urgency(docs: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """Most urgent first: earliest crossing, then the smallest margin above threshold."""
+
+    def key(d: dict[str, Any]):
+        crossing = d["crossing_time"]
+        return (crossing is None, crossing or "", d["min_plant_c"] - d["threshold_c"])
+
+    return sorted(docs, key=key)
+
+
+def _span(seconds: float) -> str:
+    minutes = int(round(seconds / 60.0))
+    h, m = divmod(minutes, 60)
+    return f"{h} h {m:02d} min" if h else f"{m} min"
+
+
+def _clock(t: dt.datetime, start: dt.datetime) -> str:
+    day = "" if t.date() == start.date() else t.strftime(" %a")
+    return t.strftime("%H:%M") + day
+
+
+def _what(r: TonightResult) -> str:
+    return f"{r.crop} ({r.stage})" if r.crop else "the plants"
+
+
+def verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None = None) -> str:
+    """The first line: safe, or when the crop reaches its alarm temperature."""
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    v = r.verdict
+    now = now or dt.datetime.now(r.start.tzinfo)
+    if v.crossing_time is None:
+        return (
+            f"[bold green]SAFE[/bold green] [bold]{r.house_name}[/bold]: {_what(r)} stays above "
+            f"{T(r.threshold_c)} tonight with no heat — coldest plants {T(v.min_plant_c)} at "
+            f"{_clock(v.min_time, r.start)}"
+        )
+    ref = now if abs((r.start - now).total_seconds()) < 600 else r.start
+    rel = "from now" if ref is now else f"after the start ({_clock(r.start, r.start)})"
+    return (
+        f"[bold red]FROST[/bold red] [bold]{r.house_name}[/bold]: {_what(r)} reaches "
+        f"[bold]{T(r.threshold_c)}[/bold] at [bold]{_clock(v.crossing_time, r.start)}[/bold], "
+        f"{_span((v.crossing_time - ref).total_seconds())} {rel}, with no heat"
+    )
+
+
+def _power(w: float, system: UnitSystem) -> str:
+    kw, btu = f"{w / 1e3:,.1f} kW", f"{w / W_PER_BTU_H:,.0f} Btu/h"
+    return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
+
+
+def _verdict_text(v: Verdict, r: TonightResult, system: UnitSystem) -> str:
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    if v.crossing_time is None:
+        return f"safe, coldest plants {T(v.min_plant_c)}"
+    return f"reaches {T(r.threshold_c)} at {_clock(v.crossing_time, r.start)}, coldest plants {T(v.min_plant_c)}"
+
+
+def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
+    from rich.table import Table
+
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    console.print(verdict_line(r, system))
+    console.print(f"[dim]alarm {T(r.threshold_c)}: {r.threshold_basis}[/dim]", highlight=False)
+    console.print()
+    v = r.verdict
+    table = Table(show_header=False, box=None, pad_edge=False)
+    table.add_column(style="dim", no_wrap=True)
+    table.add_column()
+    table.add_row(
+        "night",
+        f"{r.start:%a %d %b %H:%M} to {_clock(r.end, r.start)}"
+        + (f" (sunrise {_clock(r.sunrise, r.start)})" if r.sunrise else ""),
+    )
+    table.add_row(
+        "coldest",
+        f"air {T(v.min_air_c)}, plants {T(v.min_plant_c)} at {_clock(v.min_time, r.start)}",
+    )
+    if v.hours_below > 0:
+        table.add_row("below the alarm", f"{v.hours_below:.1f} h")
+    fuel = r.hold_fuel
+    table.add_row(
+        "heat to hold the alarm",
+        f"[bold]{_power(r.hold_peak_w, system)}[/bold] at the coldest hour; "
+        f"{r.hold_energy_kwh:,.0f} kWh over the night = {fuel.amount:,.1f} {fuel.unit} of "
+        f"{r.hold_fuel_label} in a {r.hold_appliance} ({fuel.efficiency:.0%})",
+    )
+    if r.heater is not None:
+        h = r.heater
+        if h.holds:
+            text = f"[green]holds it[/green] ({_power(h.output_w, system)} output)"
+        else:
+            text = (
+                f"[bold red]does not hold it[/bold red]: at full output ({_power(h.output_w, system)}) "
+                f"the plants fall to {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
+            )
+        table.add_row("installed heater", text)
+    d = show_temperature_difference(r.colder_by_k, system).text(0)
+    table.add_row(f"{d} colder than forecast", _verdict_text(r.colder, r, system))
+    if r.soil_colder is not None and r.soil_assumed:
+        d_soil = show_temperature_difference(SOIL_COLDER_K, system).text(0)
+        table.add_row(f"soil {d_soil} colder", _verdict_text(r.soil_colder, r, system))
+    if r.chill is not None:
+        c = r.chill
+        dur = f"; harm after about {c.duration_h:g} h" if c.duration_h else ""
+        style = "yellow" if c.harmful else "dim"
+        table.add_row(
+            "chilling",
+            f"[{style}]{c.hours_below:.1f} h below {T(c.threshold_c)}{dur}[/{style}]",
+        )
+    table.add_row(
+        "house",
+        f"K = {r.k_w_per_k:,.0f} W/K, C = {r.c_j_per_k / 1e6:,.1f} MJ/K, "
+        f"τ = {r.time_constant_h:.1f} h ({r.model}"
+        + (", calibrated" if r.calibrated else "")
+        + ")",
+    )
+    console.print(table)
+    console.print()
+
+    unit = show_temperature(0, system).unit
+    conv = (lambda a: a * 1.8 + 32.0) if system == "us" else (lambda a: a)
+    rows = chart.layout(
+        list(r.times),
+        [
+            chart.Series("outside", conv(r.outside_c), "·", "blue"),
+            chart.Series("effective outside", conv(r.effective_outside_c), "∙", "cyan"),
+            chart.Series("air", conv(r.air_c), "•", "green"),
+            chart.Series("plants", conv(r.plant_c), "*", "bold yellow"),
+        ],
+        threshold=conv(r.threshold_c),
+        threshold_label="alarm",
+        marker_time=r.verdict.crossing_time,
+        unit=unit,
+    )
+    chart.render(console, rows)
+    console.print()
+    src = f"Forecast: {r.forecast_source}"
+    if r.forecast_issued_at:
+        src += f", issued {r.forecast_issued_at:%d %b %H:%M}"
+    if r.forecast_age_s is not None:
+        src += f", fetched {r.forecast_age_s / 60:.0f} min ago"
+    console.print(f"[dim]{src}[/dim]")
+    if r.forecast_attribution:
+        console.print(f"[dim]{r.forecast_attribution}[/dim]")
+    for w in r.forecast_warnings:
+        console.print(f"[yellow]! {w}[/yellow]")
+    for a in r.assumptions:
+        console.print(f"[dim]· {a}[/dim]")
+    render_cautions(console, r.cautions)
+
+
+def render_summary(console, results: list[TonightResult], system: UnitSystem) -> None:
+    """Several houses: one table, most urgent first."""
+    from rich.table import Table
+
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    order = sorted(
+        results,
+        key=lambda r: (
+            r.safe,
+            r.verdict.crossing_time.timestamp() if r.verdict.crossing_time else 0.0,
+            r.verdict.min_plant_c - r.threshold_c,
+        ),
+    )
+    frost = [r for r in order if not r.safe]
+    if frost:
+        console.print(verdict_line(frost[0], system))
+        if len(frost) > 1:
+            console.print(
+                f"[bold red]{len(frost)} of {len(results)} houses reach the alarm tonight with no heat[/bold red]"
+            )
+    else:
+        console.print(
+            f"[bold green]SAFE[/bold green]: all {len(results)} houses stay above the alarm tonight with no heat"
+        )
+    table = Table()
+    table.add_column("house")
+    table.add_column("alarm", justify="right")
+    table.add_column("reaches it", justify="right")
+    table.add_column("coldest plants", justify="right")
+    table.add_column("heat to hold", justify="right")
+    table.add_column("installed heater")
+    for r in order:
+        when = (
+            "[green]no[/green]"
+            if r.safe
+            else f"[bold red]{_clock(r.verdict.crossing_time, r.start)}[/bold red]"
+        )
+        heater = (
+            "—"
+            if r.heater is None
+            else ("holds" if r.heater.holds else f"[red]falls to {T(r.heater.min_plant_c)}[/red]")
+        )
+        table.add_row(
+            r.house_name,
+            T(r.threshold_c),
+            when,
+            T(r.verdict.min_plant_c),
+            _power(r.hold_peak_w, system),
+            heater,
+        )
+    console.print(table)
+    for r in order:
+        for w in r.forecast_warnings:
+            console.print(f"[yellow]! {r.house_name}: {w}[/yellow]")
+    attributions = {r.forecast_attribution for r in order if r.forecast_attribution}
+    for a in sorted(attributions):
+        console.print(f"[dim]{a}[/dim]")
+    cautions = next((r.cautions for r in order if r.cautions), ())
+    render_cautions(console, cautions)
+
+
+def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
+    from grower.report.image import write_plot
+
+    conv = (lambda a: a * 1.8 + 32.0) if system == "us" else (lambda a: a)
+    write_plot(
+        path,
+        list(r.times),
+        {
+            "outside": conv(r.outside_c),
+            "effective outside": conv(r.effective_outside_c),
+            "air": conv(r.air_c),
+            "plant": conv(r.plant_c),
+            "air, colder night": conv(r.colder_air_c),
+        },
+        threshold=conv(r.threshold_c),
+        crossing=r.verdict.crossing_time,
+        unit=show_temperature(0, system).unit,
+        title=f"{r.house_name} — {r.crop or 'threshold'}: tonight with no heat",
+    )
