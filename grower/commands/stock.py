@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from grower.commands._options import add_forecast_options, temperature
+from grower.commands._options import add_crop_options, add_forecast_options, temperature
 
 
 def register(subparsers, common: argparse.ArgumentParser) -> None:
@@ -58,6 +58,7 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
     p.add_argument(
         "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
     )
+    add_crop_options(p)
     add_forecast_options(p, live_days=16)
     p.set_defaults(run=run)
 
@@ -66,7 +67,7 @@ def run(args: argparse.Namespace) -> int:
     import sys
 
     from grower import house
-    from grower.commands._options import get_forecast, start_time
+    from grower.commands._options import choose_threshold, get_forecast, start_time
     from grower.errors import InputError
     from grower.plans import stock
     from grower.report import common
@@ -90,6 +91,16 @@ def run(args: argparse.Namespace) -> int:
                 f"{value:.1f} °C is not below the house's vent temperature ({h.vent_temperature_c:.1f} °C)",
                 where=option,
             )
+    crop, stage, choice, override = choose_threshold(args)
+    alarm = choice.alarm_c if choice else override
+    if alarm is not None:
+        for value, option in ((setpoint, "--setpoint"), (night, "--night-setpoint")):
+            if value is not None and value < alarm:
+                what = f"{crop.name} ({stage.name})" if crop else "your --threshold"
+                raise InputError(
+                    f"{value:.1f} °C is below the alarm temperature of {what}, {alarm:.1f} °C",
+                    where=option,
+                )
     if args.price is not None and not args.price >= 0:
         raise InputError("must be zero or more", where="--price")
     forecast = get_forecast(args, h, days=args.days)

@@ -271,7 +271,7 @@ def stock(
             before = cum[k - 1] if k > 0 else 0.0
             frac = (need_j - before) / step_j[k] if step_j[k] > 0 else 0.0
             t_out = starts[k] + pd.Timedelta(seconds=float(frac * dur[k]))
-            runs_out = t_out.to_pydatetime()
+            runs_out = dt.datetime.fromtimestamp(round(t_out.timestamp()), start.tz)
             lasts = (t_out - start).total_seconds() / 86400.0
     notes += list(weather.assumptions(forecast))
     if model_used is not None and model_used.calibrated:
@@ -288,8 +288,8 @@ def stock(
         night_setpoint_c=night_set,
         vent_c=vent,
         heater_output_w=None if math.isinf(q_max) else q_max,
-        start=start.to_pydatetime(),
-        end=end.to_pydatetime(),
+        start=dt.datetime.fromtimestamp(round(start.timestamp()), start.tz),
+        end=dt.datetime.fromtimestamp(round(end.timestamp()), start.tz),
         days=tuple(days),
         energy_kwh=total_j / 3.6e6,
         fuel=amount,

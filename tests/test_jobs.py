@@ -1,0 +1,403 @@
+"""End-to-end checks of tonight, size and stock on the example farm.
+
+Each JSON answer is checked against an independent hand calculation from the numbers the
+report itself gives (K, C, T_eff) and the published heating values in the fuel table.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import pytest
+
+from grower import fuels
+from grower.cli import main
+
+NIGHT = "examples/forecast-cold-night.csv"
+SNAP = "examples/forecast-cold-snap.csv"
+
+
+def run_json(capsys, *argv: str) -> dict:
+    code = main([*argv, "--json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    return json.loads(out)
+
+
+def run_error(capsys, *argv: str) -> str:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    assert code == 2, (out, err)
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("Error: "), err
+    assert "Traceback" not in err
+    return lines[0]
+
+
+# ---------------------------------------------------------------- size
+
+
+@pytest.mark.parametrize("house", ["hoop-tunnel", "gable-house", "glass-range"])
+def test_size_heat_loss_is_k_times_difference(capsys, house):
+    d = run_json(capsys, "size", f"examples/{house}.toml", "--outside", "-25C", "--hold", "5C")
+    # steady state: Q = K·(T_hold − T_eff), exact up to round-off
+    assert d["heat_loss_w"] == pytest.approx(
+        d["k_w_per_k"] * (d["hold_c"] - d["effective_outside_c"]), rel=1e-9
+    )
+    assert d["recommended_output_w"] == pytest.approx(d["heat_loss_w"] * d["safety_factor"])
+    # unit heaters are rated on input: output = input × efficiency
+    assert d["recommended_input_w"] == pytest.approx(d["recommended_output_w"] / d["efficiency"])
+    # fuel per hour at full fire = input × 1 h ÷ heating value per unit
+    f = d["fuel"]
+    assert f["per_hour_at_full_fire"] == pytest.approx(
+        d["recommended_input_w"] * 3600 / f["heating_value_j_per_unit"]
+    )
+    assert d["cautions"], "size always shows the safety cautions"
+
+
+def test_size_propane_gallon_per_hour_from_eia_figure(capsys):
+    # US EIA: propane 91,452 Btu/gal. A 100,000 Btu/h input burns 100000/91452 gal/h.
+    d = run_json(capsys, "size", "examples/gable-house.toml", "--outside", "-20C", "--hold", "5C")
+    btu_h = d["recommended_input_w"] / 0.29307107
+    assert d["fuel"]["per_hour_at_full_fire"] == pytest.approx(btu_h / 91452, rel=2e-3)
+
+
+def test_size_wind_and_crop(capsys):
+    calm = run_json(
+        capsys, "size", "examples/hoop-tunnel.toml", "--outside", "-10F", "--hold", "40F"
+    )
+    windy = run_json(
+        capsys,
+        "size",
+        "examples/hoop-tunnel.toml",
+        "--outside",
+        "-10F",
+        "--hold",
+        "40F",
+        "--wind",
+        "30 mph",
+    )
+    assert windy["heat_loss_w"] > calm["heat_loss_w"]
+    crop = run_json(
+        capsys, "size", "examples/hoop-tunnel.toml", "--outside", "-10F", "--crop", "lettuce"
+    )
+    assert crop["hold_c"] > -2.0  # spring lettuce damage −2 °C + margin + leaf offset
+    # a colder design night needs more heat
+    colder = run_json(
+        capsys, "size", "examples/hoop-tunnel.toml", "--outside", "-20F", "--hold", "40F"
+    )
+    assert colder["heat_loss_w"] > calm["heat_loss_w"]
+
+
+def test_size_bad_input(capsys):
+    assert "unknown fuel" in run_error(
+        capsys,
+        "size",
+        "examples/gable-house.toml",
+        "--outside",
+        "-20C",
+        "--hold",
+        "5C",
+        "--fuel",
+        "coal",
+    )
+    assert "--hold" in run_error(
+        capsys, "size", "examples/gable-house.toml", "--outside", "-20C", "--hold", "-30C"
+    )
+    assert "--outside" in run_error(
+        capsys, "size", "examples/gable-house.toml", "--outside", "-20 m", "--hold", "5C"
+    )
+
+
+# ---------------------------------------------------------------- tonight
+
+
+def test_tonight_json_contract(capsys):
+    d = run_json(
+        capsys, "tonight", "examples/hoop-tunnel.toml", "--crop", "lettuce", "--forecast", NIGHT
+    )
+    for key in (
+        "model",
+        "k_w_per_k",
+        "c_j_per_k",
+        "threshold_c",
+        "crossing_time",
+        "min_air_c",
+        "min_plant_c",
+        "min_time",
+        "hold_peak_w",
+        "hold_energy_kwh",
+        "colder",
+        "series",
+    ):
+        assert key in d
+    for key in ("by_c", "crossing_time", "min_plant_c"):
+        assert key in d["colder"]
+    row = d["series"][0]
+    assert set(row) == {"time", "outside_c", "effective_outside_c", "air_c", "plant_c"}
+    assert row["time"].endswith("-05:00")  # the site's offset in December
+    # the plants are never warmer than the air
+    assert all(r["plant_c"] <= r["air_c"] + 1e-12 for r in d["series"])
+    # fuel = energy ÷ (heating value × efficiency)
+    f = d["hold_fuel"]
+    assert f["amount"] == pytest.approx(
+        d["hold_energy_kwh"] * 3.6e6 / (f["heating_value_j_per_unit"] * f["efficiency"])
+    )
+    # the colder night is not warmer
+    assert d["colder"]["min_plant_c"] < d["min_plant_c"]
+
+
+def test_tonight_verdict_is_first_line(capsys):
+    code = main(["tonight", "examples/hoop-tunnel.toml", "--crop", "lettuce", "--forecast", NIGHT])
+    out = capsys.readouterr().out
+    assert code == 0
+    first = out.splitlines()[0]
+    assert first.startswith(("FROST", "SAFE"))
+    assert "Lane tunnel" in first
+
+
+def _constant_forecast(tmp_path, temp_c: float = -5.0, hours: int = 30) -> str:
+    lines = ["time,temperature_c,cloud_cover_pct,wind_speed_m_s,shortwave_w_m2"]
+    for h in range(hours):
+        day, hour = divmod(16 + h, 24)
+        lines.append(f"2026-12-{3 + day:02d}T{hour:02d}:00-05:00,{temp_c},100,0,0")
+    path = tmp_path / "constant.csv"
+    path.write_text("\n".join(lines) + "\n")
+    return str(path)
+
+
+def test_lumped_crossing_equals_closed_form(capsys, tmp_path):
+    # Constant outside and sky, no sun: the lumped house follows
+    # T(t) = T_eff + (T0 − T_eff)·exp(−t/τ), τ = C/K, so it reaches the air temperature
+    # T_a = threshold + leaf offset at t* = τ·ln((T0 − T_eff)/(T_a − T_eff)).
+    path = _constant_forecast(tmp_path)
+    d = run_json(
+        capsys,
+        "tonight",
+        "examples/gable-house.toml",
+        "--threshold",
+        "0C",
+        "--forecast",
+        path,
+        "--model",
+        "lumped",
+        "--inside-now",
+        "12C",
+        "--start",
+        "2026-12-03T16:00",
+    )
+    tau = d["c_j_per_k"] / d["k_w_per_k"]
+    t_eff = d["series"][0]["effective_outside_c"]
+    offset = d["series"][0]["air_c"] - d["series"][0]["plant_c"]
+    assert all(r["effective_outside_c"] == pytest.approx(t_eff) for r in d["series"])
+    t_air = d["threshold_c"] + offset
+    expected = tau * math.log((12.0 - t_eff) / (t_air - t_eff))
+    import datetime as dt
+
+    start = dt.datetime.fromisoformat(d["start"])
+    crossing = dt.datetime.fromisoformat(d["crossing_time"])
+    # reported to the second
+    assert (crossing - start).total_seconds() == pytest.approx(expected, abs=1.0)
+    # steady heat to hold the plants at the threshold: K·(T_a − T_eff)
+    assert d["hold_peak_w"] == pytest.approx(d["k_w_per_k"] * (t_air - t_eff), rel=1e-6)
+
+
+def test_tonight_several_houses_most_urgent_first(capsys):
+    d = run_json(
+        capsys,
+        "tonight",
+        "examples/glass-range.toml",
+        "examples/hoop-tunnel.toml",
+        "--crop",
+        "lettuce",
+        "--forecast",
+        NIGHT,
+    )
+    houses = d["houses"]
+    assert [h["house"] for h in houses][0] == "Lane tunnel"  # single poly, no heat: first
+
+
+def test_alert_status_exit_codes(capsys, tmp_path):
+    code = main(
+        [
+            "tonight",
+            "examples/hoop-tunnel.toml",
+            "--crop",
+            "tomato",
+            "--forecast",
+            NIGHT,
+            "--alert-status",
+        ]
+    )
+    capsys.readouterr()
+    assert code == 3
+    warm = _constant_forecast(tmp_path, temp_c=15.0)
+    code = main(
+        [
+            "tonight",
+            "examples/hoop-tunnel.toml",
+            "--crop",
+            "kale",
+            "--forecast",
+            warm,
+            "--alert-status",
+            "--start",
+            "2026-12-03T16:00",
+            "--soil-now",
+            "15C",
+        ]
+    )
+    out = capsys.readouterr().out
+    assert code == 0, out
+    assert out.startswith("SAFE")
+
+
+def test_tonight_bad_input(capsys, tmp_path):
+    line = run_error(
+        capsys, "tonight", "examples/hoop-tunnel.toml", "--crop", "tomatos-x", "--forecast", NIGHT
+    )
+    assert "unknown crop" in line
+    line = run_error(
+        capsys, "tonight", "examples/hoop-tunnel.toml", "--crop", "tomatoe", "--forecast", NIGHT
+    )
+    assert "did you mean" in line or "tomato" in line
+    short = tmp_path / "short.csv"
+    short.write_text(
+        "time,temperature_c\n2026-12-03T16:00-05:00,2\n2026-12-03T19:00-05:00,0\n2026-12-03T22:00-05:00,-1\n"
+    )
+    line = run_error(
+        capsys, "tonight", "examples/hoop-tunnel.toml", "--crop", "kale", "--forecast", str(short)
+    )
+    assert "night runs to" in line
+
+
+def test_plot_writes_png(capsys, tmp_path):
+    pytest.importorskip("matplotlib")
+    png = tmp_path / "night.png"
+    code = main(
+        [
+            "tonight",
+            "examples/hoop-tunnel.toml",
+            "--crop",
+            "kale",
+            "--forecast",
+            NIGHT,
+            "--plot",
+            str(png),
+        ]
+    )
+    capsys.readouterr()
+    assert code == 0
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+# ---------------------------------------------------------------- stock
+
+
+def test_stock_fuel_from_energy(capsys):
+    d = run_json(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "8C",
+        "--night-setpoint",
+        "4C",
+        "--forecast",
+        SNAP,
+        "--on-hand",
+        "900 L",
+    )
+    f = d["fuel"]
+    # fuel = heat ÷ (heating value × efficiency); NRCan/EIA-based L of propane
+    assert f["amount"] == pytest.approx(
+        d["energy_kwh"] * 3.6e6 / (f["heating_value_j_per_unit"] * f["efficiency"])
+    )
+    assert f["unit"] == "L"
+    assert sum(day["fuel_amount"] for day in d["days"]) == pytest.approx(f["amount"])
+    assert sum(day["heat_kwh"] for day in d["days"]) == pytest.approx(d["energy_kwh"])
+    propane = fuels.get_fuel("propane")
+    assert f["heating_value_j_per_unit"] == pytest.approx(propane.j_per("L"))
+    assert d["cautions"]
+
+
+def test_stock_runs_out(capsys):
+    d = run_json(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "8C",
+        "--forecast",
+        SNAP,
+        "--on-hand",
+        "20 gal",
+    )
+    assert d["runs_out_at"] is not None
+    assert 0 < d["lasts_days"] < 5
+    # the stock's heat equals what was delivered up to then: check with the daily totals
+    on_hand_heat_kwh = d["on_hand"]["energy_j"] * d["fuel"]["efficiency"] / 3.6e6
+    assert on_hand_heat_kwh < d["energy_kwh"]
+
+
+def test_stock_higher_setpoint_burns_more(capsys):
+    lo = run_json(
+        capsys, "stock", "examples/glass-range.toml", "--setpoint", "5C", "--forecast", SNAP
+    )
+    hi = run_json(
+        capsys, "stock", "examples/glass-range.toml", "--setpoint", "12C", "--forecast", SNAP
+    )
+    assert hi["energy_kwh"] > lo["energy_kwh"] > 0
+
+
+def test_stock_bad_input(capsys):
+    line = run_error(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "8C",
+        "--forecast",
+        SNAP,
+        "--on-hand",
+        "200 kWh",
+    )
+    assert "--on-hand" in line
+    line = run_error(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "8C",
+        "--forecast",
+        SNAP,
+        "--fuel",
+        "unobtainium",
+    )
+    assert "unknown fuel" in line
+    line = run_error(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "2C",
+        "--forecast",
+        SNAP,
+        "--crop",
+        "basil",
+    )
+    assert "below" in line
+
+
+# ---------------------------------------------------------------- every command
+
+
+@pytest.mark.parametrize("command", ["tonight", "size", "stock", "house", "crops"])
+def test_every_command_has_help(capsys, command):
+    with pytest.raises(SystemExit) as exit_:
+        main([command, "--help"])
+    assert exit_.value.code == 0
+    out = capsys.readouterr().out
+    assert "--json" in out and "--units" in out
+    assert len(out.splitlines()) > 5
