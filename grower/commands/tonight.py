@@ -82,15 +82,11 @@ def run(args: argparse.Namespace) -> int:
         start = start_time(args, h, forecast)
         if choice is not None:
             alarm = choice.alarm_c
-            basis = (
-                f"{crop.name} ({stage.name}): damage {choice.damage_c:.1f} °C"
-                + (f" + {choice.margin_k:g} K margin" if choice.margin_k else "")
-                + f" — {choice.basis}"
-            )
+            basis = f"{crop.name} ({stage.name}): {choice.basis}"
             if override is not None:
-                basis = f"your threshold (--threshold); {crop.name} ({stage.name}) damage {choice.damage_c:.1f} °C"
+                basis = f"your --threshold; {basis}"
         else:
-            alarm, basis = override, "your threshold (--threshold)"
+            alarm, basis = override, "your --threshold"
         results.append(
             tonight.tonight(
                 h,

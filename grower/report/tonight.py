@@ -151,6 +151,18 @@ def verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None =
     )
 
 
+def alarm_text(r: TonightResult, system: UnitSystem) -> str:
+    """ "alarm 31.8 °F = damage 30.0 °F + 1.8 °F margin — strawberry (…): source"."""
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    text = f"alarm {T(r.threshold_c)}"
+    if r.damage_c is not None and r.margin_k:
+        margin = show_temperature_difference(r.margin_k, system).text(1)
+        text += f" = damage {T(r.damage_c)} + {margin} margin"
+    elif r.damage_c is not None:
+        text += f" (damage {T(r.damage_c)})"
+    return f"{text} — {r.threshold_basis}"
+
+
 def _power(w: float, system: UnitSystem) -> str:
     kw, btu = f"{w / 1e3:,.1f} kW", f"{w / W_PER_BTU_H:,.0f} Btu/h"
     return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
@@ -168,7 +180,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     console.print(verdict_line(r, system))
-    console.print(f"[dim]alarm {T(r.threshold_c)}: {r.threshold_basis}[/dim]", highlight=False)
+    console.print(f"[dim]{alarm_text(r, system)}[/dim]", highlight=False)
     console.print()
     v = r.verdict
     table = Table(show_header=False, box=None, pad_edge=False)
@@ -202,10 +214,10 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
                 f"the plants fall to {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
             )
         table.add_row("installed heater", text)
-    d = show_temperature_difference(r.colder_by_k, system).text(0)
+    d = show_temperature_difference(r.colder_by_k, system).text(1).replace(".0 ", " ")
     table.add_row(f"{d} colder than forecast", _verdict_text(r.colder, r, system))
     if r.soil_colder is not None and r.soil_assumed:
-        d_soil = show_temperature_difference(SOIL_COLDER_K, system).text(0)
+        d_soil = show_temperature_difference(SOIL_COLDER_K, system).text(1).replace(".0 ", " ")
         table.add_row(f"soil {d_soil} colder", _verdict_text(r.soil_colder, r, system))
     if r.chill is not None:
         c = r.chill
