@@ -401,3 +401,41 @@ def test_every_command_has_help(capsys, command):
     out = capsys.readouterr().out
     assert "--json" in out and "--units" in out
     assert len(out.splitlines()) > 5
+
+
+# ---------------------------------------------------------------- live forecast, loopback
+
+
+def test_tonight_live_forecast_from_loopback(capsys, httpserver, monkeypatch, tmp_path):
+    # A response we wrote in Open-Meteo's documented shape (tests/data), served locally.
+    from pathlib import Path
+
+    doc = json.loads((Path(__file__).parent / "data" / "openmeteo_kingston.json").read_text())
+    httpserver.expect_request("/v1/forecast").respond_with_json(doc)
+    monkeypatch.setenv("GROWER_FORECAST_URL", httpserver.url_for("/"))
+    monkeypatch.setenv("GROWER_CACHE_DIR", str(tmp_path / "cache"))
+    argv = ["tonight", "examples/hoop-tunnel.toml", "--crop", "kale", "--start", "2026-12-03T17:00"]
+    d = run_json(capsys, *argv)
+    assert d["forecast"]["attribution"] and "Open-Meteo" in d["forecast"]["attribution"]
+    assert d["start"] == "2026-12-03T17:00:00-05:00"
+    # second run: served from the cache, the server sees one request
+    run_json(capsys, *argv)
+    assert len(httpserver.log) == 1
+    # the report names the source and credits it
+    assert main(argv) == 0
+    out = capsys.readouterr().out
+    assert "Open-Meteo" in out
+
+
+def test_dead_network_no_cache_is_one_line(capsys, monkeypatch, tmp_path):
+    # nothing listens on this loopback port
+    import socket
+
+    s = socket.socket()
+    s.bind(("127.0.0.1", 0))
+    port = s.getsockname()[1]
+    s.close()
+    monkeypatch.setenv("GROWER_FORECAST_URL", f"http://127.0.0.1:{port}/")
+    monkeypatch.setenv("GROWER_CACHE_DIR", str(tmp_path / "cache"))
+    line = run_error(capsys, "tonight", "examples/hoop-tunnel.toml", "--crop", "kale")
+    assert "forecast" in line
