@@ -12,7 +12,7 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 
-from grower import network, sky
+from grower import network
 from grower.house import House
 from grower.network import Capacities, Conductances
 
@@ -185,55 +185,36 @@ def boundary(
 ) -> Boundary:
     """Outside, sky and effective temperatures, sun gain and leaf offset on `times`.
 
-    `forecast` is a `grower.weather.Forecast`; it is linear between its samples. The sky
-    temperature is computed at the forecast samples (Berdahl & Martin with a dew point,
-    Swinbank without, the one-layer cloud correction; see `grower.sky`) and then
-    interpolated, so that it, too, is piecewise linear. Where the forecast gives no
-    cloud, the sky is taken as clear.
+    `forecast` is a `grower.weather.Forecast`, linear between its samples; it is sampled
+    on the grid by `grower.weather.prepare_boundary` (sky temperature from Berdahl &
+    Martin with a dew point, Swinbank without, the one-layer cloud correction; clear
+    where the forecast gives no cloud).
     """
-    frame = forecast.frame
-    given = set(forecast.given)
-    src_s = epoch_s(frame.index)
+    from grower import weather
+
     at_s = epoch_s(times)
-    t_out = frame["temperature_c"].to_numpy(dtype=float)
-    dew = frame["dew_point_c"].to_numpy(dtype=float) if "dew_point_c" in given else None
-    assumed_clear = "cloud_cover_pct" not in given
-    cloud = None if assumed_clear else frame["cloud_cover_pct"].to_numpy(dtype=float) / 100.0
-    local_hour = (frame.index.hour + frame.index.minute / 60.0).to_numpy(dtype=float)
-    t_sky_src = sky.sky_temperature(
-        t_out,
-        dew,
-        cloud,
-        hour=local_hour if dew is not None else None,
-        pressure_hpa=pressure_hpa if dew is not None else None,
+    w = weather.prepare_boundary(
+        forecast, at_s - at_s[0], start=times[0], pressure_hpa=pressure_hpa
     )
-    outside = np.interp(at_s, src_s, t_out)
-    t_sky = np.interp(at_s, src_s, t_sky_src)
-    eff = network.effective_outside(model.k_conduction_w_per_k, model.k_sky_w_per_k, outside, t_sky)
-    if "shortwave_w_m2" in given:
-        sw_src = frame["shortwave_w_m2"].to_numpy(dtype=float)
-        sw = np.interp(at_s, src_s + forecast.shortwave_offset_s, sw_src)
-    else:
-        sw = np.zeros(len(at_s))
-    tau_solar = house.roof_material.solar_transmittance
-    sun = sw * tau_solar * house.floor_area_m2 * SUN_SENSIBLE_FRACTION
-    cloud_at = np.full(len(at_s), np.nan) if cloud is None else np.interp(at_s, src_s, cloud)
-    offset = plant_offset(house, model, np.where(np.isfinite(cloud_at), cloud_at, 0.0), sw)
-    if "wind_speed_m_s" in given:
-        wind = np.interp(at_s, src_s, frame["wind_speed_m_s"].to_numpy(dtype=float))
-    else:
-        wind = np.zeros(len(at_s))
+    eff = network.effective_outside(
+        model.k_conduction_w_per_k, model.k_sky_w_per_k, w.temperature_c, w.sky_c
+    )
+    sw = w.shortwave_w_m2
+    sun = sw * house.roof_material.solar_transmittance * house.floor_area_m2 * SUN_SENSIBLE_FRACTION
+    cloud = w.cloud_fraction if not w.assumed_clear else np.full(len(at_s), np.nan)
+    offset = plant_offset(house, model, np.where(np.isfinite(cloud), cloud, 0.0), sw)
+    wind = np.where(np.isfinite(w.wind_speed_m_s), w.wind_speed_m_s, 0.0)
     return Boundary(
         times=times,
         times_s=at_s - at_s[0],
-        outside_c=outside,
-        sky_c=t_sky,
+        outside_c=w.temperature_c,
+        sky_c=w.sky_c,
         effective_c=eff,
         sun_w=sun,
         plant_offset_k=offset,
         wind_m_s=wind,
-        cloud_fraction=cloud_at,
-        assumed_clear=assumed_clear,
+        cloud_fraction=cloud,
+        assumed_clear=w.assumed_clear,
     )
 
 

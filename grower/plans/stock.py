@@ -124,7 +124,7 @@ def stock(
     from grower import weather
 
     night_set = setpoint_c if night_setpoint_c is None else night_setpoint_c
-    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz)
+    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
     first, last = forecast.start, forecast.end
     notes: list[str] = []
     if start is None:

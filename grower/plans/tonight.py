@@ -219,7 +219,7 @@ def tonight(
     """Tonight's frost verdict for one house; see the module docstring."""
     from grower import weather
 
-    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz)
+    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
     start, end, sunrise, notes = night_window(house, forecast, start, now)
     times = hm.grid(start, end, forecast.frame.index, STEP_S)
     frame = forecast.frame
@@ -255,7 +255,7 @@ def tonight(
                 if mdl.capacities.deep_ground_assumed
                 else ""
             )
-            + f"; measure it at 5 cm and give --soil-now"
+            + "; measure it at 5 cm and give --soil-now"
         )
     if inside_now_c is None:
         inside_now_c = hm.quasi_steady_air(mdl, bc, gains, soil_now_c)
