@@ -135,7 +135,9 @@ def night_window(
     notes: list[str] = []
     first, last = forecast.start, forecast.end
     if start is None:
-        if now < first:
+        if first - pd.Timedelta(minutes=5) <= now < first:
+            start = first  # a curve built "now" starts a moment after the plan's now
+        elif now < first:
             start = first
             notes.append(
                 f"the forecast starts later than now: the night is taken from {first:%a %H:%M}"

@@ -142,6 +142,15 @@ def verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None =
             f"{T(r.threshold_c)} tonight with no heat — coldest plants {T(v.min_plant_c)} at "
             f"{_clock(v.min_time, r.start)}"
         )
+    if (v.crossing_time - r.start).total_seconds() < 1.0:
+        start_air = (
+            "assumed" if any(a.startswith("inside air assumed") for a in r.assumptions) else "given"
+        )
+        return (
+            f"[bold red]FROST[/bold red] [bold]{r.house_name}[/bold]: {_what(r)} is already at or "
+            f"below [bold]{T(r.threshold_c)}[/bold] at the start ({_clock(r.start, r.start)}; inside "
+            f"air {start_air} at {T(r.initial_air_c)}) — heat it now"
+        )
     ref = now if abs((r.start - now).total_seconds()) < 600 else r.start
     rel = "from now" if ref is now else f"after the start ({_clock(r.start, r.start)})"
     return (
