@@ -116,3 +116,37 @@ def test_site_and_timezone(tmp_path):
     text = MINIMAL + '\n[site]\nlatitude = 44.3\nlongitude = -76.5\ntimezone = "America/Nowhere"\n'
     with pytest.raises(InputError, match="site.timezone"):
         house.read(write_house(tmp_path, text))
+
+
+def test_house_json_contract(capsys, examples):
+    import json
+
+    assert main(["house", str(examples / "gable-house.toml"), "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    for key in (
+        "k_w_per_k",
+        "c_j_per_k",
+        "time_constant_h",
+        "volume_m3",
+        "floor_area_m2",
+        "areas_m2",
+        "ua_w_per_k",
+        "infiltration_w_per_k",
+    ):
+        assert key in d
+    assert "floor" not in d["areas_m2"]
+    parts = (
+        sum(d["ua_w_per_k"].values())
+        + d["infiltration_w_per_k"]
+        + d["perimeter_w_per_k"]
+        + d["sky_w_per_k"]
+    )
+    assert parts == pytest.approx(d["k_w_per_k"])
+    assert d["time_constant_h"] == pytest.approx(d["c_j_per_k"] / d["k_w_per_k"] / 3600)
+
+
+def test_house_report_in_us_units(capsys, examples):
+    assert main(["house", str(examples / "hoop-tunnel.toml"), "--units", "us"]) == 0
+    out = capsys.readouterr().out
+    assert "Btu/h" in out and "ft²" in out
+    assert out.splitlines()[0].startswith("Lane tunnel")

@@ -439,3 +439,24 @@ def test_dead_network_no_cache_is_one_line(capsys, monkeypatch, tmp_path):
     monkeypatch.setenv("GROWER_CACHE_DIR", str(tmp_path / "cache"))
     line = run_error(capsys, "tonight", "examples/hoop-tunnel.toml", "--crop", "kale")
     assert "forecast" in line
+
+
+def test_already_below_at_start_says_so(capsys, tmp_path):
+    path = _constant_forecast(tmp_path, temp_c=-8.0)
+    code = main(
+        [
+            "tonight",
+            "examples/hoop-tunnel.toml",
+            "--crop",
+            "kale",
+            "--forecast",
+            path,
+            "--start",
+            "2026-12-03T16:00",
+            "--inside-now",
+            "-6C",
+        ]
+    )
+    out = capsys.readouterr().out
+    assert code == 0
+    assert "already at or below" in out.splitlines()[0]
