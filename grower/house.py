@@ -26,7 +26,7 @@ from grower.units import parse_quantity
 #: floor kinds: volumetric heat capacity of the top layer [J m-3 K-1], thermal
 #: conductivity [W m-1 K-1], and the basis of both.
 FLOORS: dict[str, tuple[float, float, str]] = {
-    # moist soil 2.0–2.4 MJ/m³·K (de Vries form, REFERENCES "Thermal mass"); conductivity
+    # moist soil 2.0–2.4 MJ/m³·K (de Vries 1963 form 1.92·x_min + 2.51·x_org + 4.18·θ); conductivity
     # of moist loam ≈ 1.2 W/m·K (from memory)
     "soil": (2.2e6, 1.2, "heat capacity: de Vries (1963) form; conductivity from memory"),
     "gravel": (1.6e6, 0.9, "from memory"),

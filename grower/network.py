@@ -46,7 +46,7 @@ WIND_REFERENCE_M_S = 6.7056
 PERIMETER_UNINSULATED_W_MK = 1.4
 PERIMETER_INSULATED_W_MK = 0.7
 #: depth of soil that stores the daily cycle [m]: damping depth √(2α/ω) ≈ 0.10 m for
-#: α = 0.034 m²/day (REFERENCES "Thermal mass"; e.g. Hillel, Environmental Soil Physics)
+#: α = 0.034 m²/day (√(2α/ω) with ω = 2π/day; α for moist soil from memory)
 ACTIVE_LAYER_M = 0.10
 #: distance from the active layer to soil at the deep-ground temperature [m] (from memory)
 DEEP_GROUND_DEPTH_M = 1.0

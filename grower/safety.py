@@ -126,7 +126,7 @@ def cautions(
     if storage:
         out.append(storage)
     if fuel.name == "propane":
-        # REFERENCES: no published vaporisation table was found; defer to the supplier.
+        # No published vaporisation table was found; defer to the supplier.
         need = f" {btu_h:,.0f} Btu/h" if btu_h is not None else " the heater's input"
         out.append(
             "Cold weather: a propane tank vaporises less gas as it gets colder and emptier; "

@@ -262,7 +262,7 @@ def test_unknown_fuel_suggests():
 
 
 def test_propane_cylinders_and_tanks():
-    # 20-lb cylinder ≈ 4.7 gal, 100-lb ≈ 23.6 gal (REFERENCES, arithmetic on the density);
+    # 20-lb cylinder ≈ 4.7 gal, 100-lb ≈ 23.6 gal (arithmetic on the density);
     # 500 and 1,000-gal tanks at the 80 % rule hold 400 and 800 gal.
     sizes = {c.name: c.content for c in get_fuel("propane").containers}
     assert round(sizes["20-lb cylinder"], 1) == 4.7
