@@ -53,14 +53,30 @@ class Model:
         return self.c_j_per_k / self.k_w_per_k / 3600.0
 
 
-def calibration_of(house: House, use: bool = True) -> dict[str, float] | None:
-    """The fitted K and C from the house file's [calibration], or None."""
+def calibration_of(
+    house: House, use: bool = True, kind: ModelKind | None = None
+) -> dict[str, float] | None:
+    """The fitted K and C from the house file's [calibration], or None.
+
+    A calibration that names its model (``model = "lumped"`` or ``"two-node"``, as
+    `grower fit` writes it) is used by that model only (None for `kind` the other one):
+    the two models' fitted K and C are not interchangeable — a lumped fit of a two-node
+    house gives a longer C/K. A two-node fit also gives ``coupling_scale``, a factor on
+    the air–mass coupling on top of the factor on every conductance.
+    """
     cal = house.calibration
     if not use or not cal:
         return None
+    fitted_for = cal.get("model")
+    if kind is not None and fitted_for in ("lumped", "two-node") and fitted_for != kind:
+        return None
     k, c = cal.get("k_w_per_k"), cal.get("c_j_per_k")
     if isinstance(k, int | float) and isinstance(c, int | float) and k > 0 and c > 0:
-        return {"k_w_per_k": float(k), "c_j_per_k": float(c)}
+        out = {"k_w_per_k": float(k), "c_j_per_k": float(c)}
+        g = cal.get("coupling_scale")
+        if cal.get("model") == "two-node" and isinstance(g, int | float) and g > 0:
+            out["coupling_scale"] = float(g)
+        return out
     return None
 
 
@@ -85,7 +101,8 @@ def build(
     it (Savage 1980, *Agrochemophysica* 12:5–13). Lumped: one node holding all of C, to
     outside air and sky together, i.e. K = K_c + K_r to T_eff (the handbook model; the
     deep ground is left out). A calibration in the house file replaces K and C; in the two-node model
-    every conductance is scaled by K_fit/K and every capacity by C_fit/C.
+    every conductance is scaled by K_fit/K and every capacity by C_fit/C, and the air–mass
+    coupling further by a two-node fit's ``coupling_scale``.
     """
     from grower import solver
 
@@ -99,7 +116,7 @@ def build(
     caps = network.capacities(house, rho_cp_j_m3k=cond.rho_cp_j_m3k)
     k_c, k_r = cond.conduction_w_per_k, cond.sky_w_per_k
     c_total = caps.total_j_per_k
-    cal = calibration_of(house, use_calibration)
+    cal = calibration_of(house, use_calibration, kind)
     k_scale = c_scale = 1.0
     if cal:
         k_scale = cal["k_w_per_k"] / (k_c + k_r)
@@ -114,7 +131,7 @@ def build(
             boundary_names=BOUNDARIES,
         )
     else:
-        g = caps.air_mass_w_per_k * k_scale
+        g = caps.air_mass_w_per_k * k_scale * (cal.get("coupling_scale", 1.0) if cal else 1.0)
         net = solver.Network(
             capacitance_j_per_k=np.array([caps.air_j_per_k, caps.mass_j_per_k]) * c_scale,
             coupling_w_per_k=np.array([[0.0, g], [g, 0.0]]),

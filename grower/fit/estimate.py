@@ -1,0 +1,411 @@
+"""Least squares on the exact stepped model: scale factors on the geometry's network.
+
+The fitted network is the geometry's (`grower.plans.model.build`) with every conductance
+times ``k``, every heat capacity times ``c`` and, in the two-node model, the air–mass
+coupling times a further ``g`` — the same scaling `build` applies to a stored
+calibration. The residuals are the solver's air temperature (`grower.solver.free_float`,
+exact for the piecewise-linear boundary) less the logged one at every row. Each segment
+starts from its own state: the air's starting temperature is fitted, from the first
+logged value (one reading carries the logger's noise, and held fixed that error would
+run through the whole night, biasing C/K and making the intervals too narrow); in the
+two-node model the mass node's starting temperature is fitted too.
+
+What temperatures alone can tell: without a known heat input, ``k``, ``c`` and the
+heater output Q scale together (``C dT/dt = K (T_eff − T) + Q`` is unchanged when all
+three are multiplied by one number), so a record fixes the time constant C/K and the
+heater's lift Q/K, not K itself. One absolute heat flow sets the scale (the *anchor*):
+
+- ``"measured power"``: the record logs the heater's power: K, C are both fitted;
+- ``"heater rating"``: the record logs the heater's on/off state and the house file
+  gives its output: Q is that output, K and C are fitted;
+- ``"geometry"``: K stays the geometry's; C (and Q, from its on/off state) are fitted.
+
+Confidence intervals are the linearised ones: covariance ``s² (JᵀJ)⁻¹`` with J the
+Jacobian at the optimum (central differences) and ``s²`` the residual variance, 95 %
+with Student's t on n − p degrees of freedom; derived values by the delta method. They
+assume independent errors; a model error that runs in long waves makes them too narrow.
+
+References
+----------
+D. M. Bates and D. G. Watts (1988), *Nonlinear Regression Analysis and Its
+Applications*, Wiley, ch. 2 (linear approximation inference regions).
+M. A. Branch, T. F. Coleman and Y. Li (1999), "A subspace, interior, and conjugate
+gradient method for large-scale bound-constrained minimization problems", SIAM J. Sci.
+Comput. 21(1):1-23, doi:10.1137/S1064827595289108 (scipy's "trf" method).
+H. Akaike (1974), "A new look at the statistical model identification", IEEE Trans.
+Automatic Control 19(6):716-723, doi:10.1109/TAC.1974.1100705.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import optimize, special
+
+from grower import solver
+from grower.fit.data import FitData
+from grower.fit.results import ADVICE, LABELS, ModelFit, Parameter, SegmentFit
+
+#: a fitted or derived value whose 95 % half-width exceeds this share of it is refused
+#: (common practice, no source: a number known to ±50 % is no better than the geometry's)
+MAX_RELATIVE_CI = 0.5
+#: two fitted parameters correlated more than this cannot be told apart (common practice,
+#: no source)
+MAX_CORRELATION = 0.995
+#: scaled JᵀJ with a smaller ratio of least to greatest eigenvalue is near-singular
+#: (numerical: near the round-off of the finite-difference Jacobian)
+MIN_EIGEN_RATIO = 1e-12
+#: a fit that misses the record by more than this [K RMS] does not describe it
+#: (common practice, no source: logger accuracy ±0.5 K, model error a few tenths)
+MAX_RMS_K = 1.5
+CONFIDENCE = 0.95
+#: allowed range of each scale factor on the geometry (common practice, no source: far
+#: outside the ±30 % of handbook U-values, so only a wrong record reaches it)
+SCALE_BOUNDS = (0.05, 20.0)
+#: allowed range of a fitted starting temperature (air or mass) [°C]
+START_BOUNDS_C = (-40.0, 60.0)
+
+
+class _Problem:
+    """The residual function of one model on one record."""
+
+    def __init__(self, data: FitData, kind: str, anchor: str, fit_coupling: bool = True) -> None:
+        self.data, self.kind, self.anchor = data, kind, anchor
+        mdl = data.lumped if kind == "lumped" else data.two_node
+        net = mdl.network
+        self.net0 = net
+        self.c0 = np.array(net.capacitance_j_per_k)
+        self.g0 = np.array(net.coupling_w_per_k)
+        self.h0 = np.array(net.boundary_w_per_k)
+        self.k_geom, self.c_geom = mdl.k_w_per_k, mdl.c_j_per_k
+        self.coupling_geom = mdl.capacities.air_mass_w_per_k if kind == "two-node" else None
+        house = data.house
+        self.rating_w = house.heater_output_w if house.heaters else None
+        self.q_ref = self.rating_w or self.k_geom * 10.0
+        names, start, lo, hi = ["c"], [1.0], [SCALE_BOUNDS[0]], [SCALE_BOUNDS[1]]
+        if anchor in ("measured power", "heater rating"):
+            names.append("k")
+        if kind == "two-node" and fit_coupling:
+            names.append("g")
+        if data.heater == "state" and anchor != "heater rating":
+            names.append("q")
+        if data.with_days:
+            names.append("s")
+        for n in names[1:]:
+            start.append(1.0)
+            lo.append(0.0 if n in ("q", "s") else SCALE_BOUNDS[0])
+            hi.append(SCALE_BOUNDS[1])
+        self.globals = tuple(names)
+        nseg = len(data.segments)
+        for i, seg in enumerate(data.segments):
+            names.append(f"air{i}")
+            start.append(float(seg.inside_c[0]))
+        if kind == "two-node":
+            for i, seg in enumerate(data.segments):
+                names.append(f"mass{i}")
+                start.append(self._mass_guess(seg))
+        lo += [START_BOUNDS_C[0]] * (len(names) - len(lo))
+        hi += [START_BOUNDS_C[1]] * (len(names) - len(hi))
+        self.names = tuple(names)
+        self.air_at = len(self.globals)
+        self.mass_at = self.air_at + nseg if kind == "two-node" else None
+        self.lo, self.hi = np.array(lo), np.array(hi)
+        span = self.hi - self.lo
+        self.x0 = np.clip(np.array(start), self.lo + 1e-3 * span, self.hi - 1e-3 * span)
+        self.meas = np.concatenate([s.inside_c for s in data.segments])
+
+    def _mass_guess(self, seg) -> float:
+        """The floor's temperature that holds the first logged air in balance."""
+        h = self.h0[0]
+        g = float(self.g0[0, 1])
+        q = 0.0
+        if seg.heater_on is not None:
+            q = float(seg.heater_on[0]) * self.q_ref
+        elif seg.heater_w is not None:
+            q = float(seg.heater_w[0])
+        air = float(seg.inside_c[0])
+        m = ((h.sum() + g) * air - h @ seg.boundary_c[0] - q) / g
+        return float(np.clip(m, air - 10.0, air + 25.0))
+
+    def values(self, theta: np.ndarray) -> dict[str, float]:
+        p = dict(zip(self.names, theta, strict=True))
+        q_w = self.rating_w if self.anchor == "heater rating" else p.get("q", 0.0) * self.q_ref
+        return {
+            "k": p.get("k", 1.0),
+            "c": p["c"],
+            "g": p.get("g", 1.0),
+            "q_w": q_w or 0.0,
+            "s": p.get("s", 0.0),
+        }
+
+    def simulate(self, theta: np.ndarray) -> list[np.ndarray]:
+        v = self.values(theta)
+        net = solver.Network(
+            self.c0 * v["c"],
+            self.g0 * v["k"] * v["g"],
+            self.h0 * v["k"],
+            self.net0.node_names,
+            self.net0.boundary_names,
+        )
+        out = []
+        n = net.n_nodes
+        for i, seg in enumerate(self.data.segments):
+            x0 = [theta[self.air_at + i]]
+            if n == 2:
+                x0.append(theta[self.mass_at + i])
+            heat = None
+            if seg.heater_on is not None:
+                heat = seg.heater_on * v["q_w"]
+            elif seg.heater_w is not None:
+                heat = seg.heater_w
+            gains = None
+            if v["s"] > 0 and np.any(seg.sun_w):
+                gains = np.zeros((seg.times_s.size, n))
+                gains[:, 0] = seg.sun_w * v["s"]
+            tr = solver.free_float(net, seg.times_s, seg.boundary_c, np.array(x0), gains, heat)
+            out.append(tr.temps_c[0, seg.obs, 0])
+        return out
+
+    def residuals(self, theta: np.ndarray) -> np.ndarray:
+        return np.concatenate(self.simulate(theta)) - self.meas
+
+    def jacobian(self, theta: np.ndarray) -> np.ndarray:
+        """Central differences (the model is smooth in every parameter)."""
+        cols = []
+        for j in range(theta.size):
+            h = 1e-5 * max(1.0, abs(theta[j]))
+            up, dn = theta.copy(), theta.copy()
+            up[j] = min(theta[j] + h, self.hi[j])
+            dn[j] = max(theta[j] - h, self.lo[j])
+            cols.append((self.residuals(up) - self.residuals(dn)) / (up[j] - dn[j]))
+        return np.column_stack(cols)
+
+    def reported(self, theta: np.ndarray) -> dict[str, float]:
+        v = self.values(theta)
+        out = {
+            "k_w_per_k": v["k"] * self.k_geom,
+            "c_j_per_k": v["c"] * self.c_geom,
+        }
+        out["time_constant_h"] = out["c_j_per_k"] / out["k_w_per_k"] / 3600.0
+        if self.kind == "two-node":
+            out["coupling_w_per_k"] = v["k"] * v["g"] * self.coupling_geom
+        if self.data.heater == "state":
+            out["heater_output_w"] = v["q_w"]
+        if self.data.with_days:
+            out["sun_factor"] = v["s"]
+        return out
+
+    def status(self, name: str) -> str:
+        if name == "k_w_per_k":
+            return "fitted" if "k" in self.globals else "anchor"
+        if name == "coupling_w_per_k" and "g" not in self.globals:
+            return "fitted" if "k" in self.globals else "anchor"  # scales with K only
+        if name == "heater_output_w":
+            return "anchor" if self.anchor == "heater rating" else "fitted"
+        if name == "time_constant_h":
+            return "derived"
+        return "fitted"
+
+    def geometry(self, name: str) -> float | None:
+        return {
+            "k_w_per_k": self.k_geom,
+            "c_j_per_k": self.c_geom,
+            "time_constant_h": self.c_geom / self.k_geom / 3600.0,
+            "coupling_w_per_k": self.coupling_geom,
+            "heater_output_w": self.rating_w,
+            "sun_factor": 1.0,
+        }[name]
+
+
+def _solve(prob: _Problem) -> optimize.OptimizeResult:
+    best = None
+    # the time constant may be off by a factor of a few: start from the geometry, then
+    # from a lighter and a heavier house if the first start ends badly
+    for c_start in (1.0, 0.4, 2.5):
+        x0 = prob.x0.copy()
+        x0[0] = c_start
+        res = optimize.least_squares(
+            prob.residuals,
+            x0,
+            bounds=(prob.lo, prob.hi),
+            method="trf",
+            x_scale="jac",
+            xtol=1e-10,
+            ftol=1e-12,
+            gtol=1e-10,
+            max_nfev=100 * x0.size,
+        )
+        if best is None or res.cost < best.cost * (1 - 1e-9):
+            best = res
+        if res.success and not _at_bound(prob, res.x):
+            break
+    return best
+
+
+def _at_bound(prob: _Problem, x: np.ndarray) -> list[str]:
+    span = prob.hi - prob.lo
+    near = (x - prob.lo < 1e-6 * span) | (prob.hi - x < 1e-6 * span)
+    return [n for n, b in zip(prob.names, near, strict=True) if b and n not in ("q", "s")]
+
+
+def _physical(name: str) -> str:
+    if name.startswith("air"):
+        return "time_constant_h"
+    return {
+        "c": "c_j_per_k",
+        "k": "k_w_per_k",
+        "g": "coupling_w_per_k",
+        "q": "heater_output_w",
+        "s": "sun_factor",
+    }.get(name, "mass")
+
+
+def _pretty(name: str) -> str:
+    if name.startswith("mass"):
+        return f"the floor's starting temperature (segment {int(name[4:]) + 1})"
+    if name.startswith("air"):
+        return f"the air's starting temperature (segment {int(name[3:]) + 1})"
+    return LABELS[_physical(name)]
+
+
+def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True) -> ModelFit:
+    """Fit one model (`kind` "lumped" or "two-node") to the prepared record.
+
+    `fit_coupling` False holds the two-node model's air–mass coupling at the geometry's
+    (times the factor on every conductance), for a record too thin to fit it.
+    """
+    prob = _Problem(data, kind, anchor, fit_coupling)
+    res = _solve(prob)
+    theta = res.x
+    r = prob.residuals(theta)
+    n, p = r.size, theta.size
+    ssr = float(r @ r)
+    dof = max(n - p, 1)
+    s2 = ssr / dof
+    rms = float(np.sqrt(ssr / n))
+    jac = prob.jacobian(theta)
+    norms = np.linalg.norm(jac, axis=0)
+    refusal = None
+    if np.any(norms == 0):
+        j = int(np.flatnonzero(norms == 0)[0])
+        name = prob.names[j]
+        refusal = f"the record says nothing about {_pretty(name)}: {ADVICE[_physical(name)]}"
+        norms = np.where(norms == 0, 1.0, norms)
+    js = jac / norms
+    jtj = js.T @ js
+    eig = np.linalg.eigvalsh(jtj)
+    if refusal is None and eig[0] < MIN_EIGEN_RATIO * eig[-1]:
+        refusal = (
+            "the record cannot separate the parameters (near-singular fit): " + ADVICE["c_j_per_k"]
+        )
+    cov = np.linalg.pinv(jtj) / np.outer(norms, norms) * s2
+    sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        corr = cov / np.outer(sd, sd)
+    tq = float(special.stdtrit(dof, 0.5 + CONFIDENCE / 2.0))  # Student's t quantile
+
+    rep = prob.reported(theta)
+    names = list(rep)
+    grad = np.empty((len(names), p))
+    for j in range(p):
+        h = 1e-6 * max(1.0, abs(theta[j]))
+        up, dn = theta.copy(), theta.copy()
+        up[j] += h
+        dn[j] -= h
+        ru, rd = prob.reported(up), prob.reported(dn)
+        grad[:, j] = [(ru[k] - rd[k]) / (2 * h) for k in names]
+    var = np.einsum("ij,jk,ik->i", grad, cov, grad)
+    params = tuple(
+        Parameter(
+            name=k,
+            value=float(rep[k]),
+            half_width=0.0 if prob.status(k) == "anchor" else float(tq * np.sqrt(max(var[i], 0.0))),
+            geometry=prob.geometry(k),
+            status=prob.status(k),
+        )
+        for i, k in enumerate(names)
+    )
+
+    if refusal is None:
+        off = np.abs(np.nan_to_num(corr - np.eye(p)))
+        i, j = np.unravel_index(int(np.argmax(off)), off.shape) if p > 1 else (0, 0)
+        if p > 1 and off[i, j] > MAX_CORRELATION:
+            a, b = prob.names[i], prob.names[j]
+            worst = b if a == "c" else a
+            refusal = (
+                f"{_pretty(a)} and {_pretty(b)} cannot be told apart (correlation "
+                f"{corr[i, j]:+.3f}): {ADVICE[_physical(worst)]}"
+            )
+    if refusal is None:
+        for prm in params:
+            if prm.status != "anchor" and prm.relative > MAX_RELATIVE_CI:
+                refusal = (
+                    f"{prm.label} is not pinned down by the record (95 % interval ±"
+                    f"{prm.relative:.0%}): {ADVICE[prm.name]}"
+                )
+                break
+    if refusal is None and kind == "two-node":
+        for i in range(len(data.segments)):
+            j = prob.mass_at + i
+            if tq * sd[j] > 5.0:
+                refusal = (
+                    f"{_pretty(prob.names[j])} is not pinned down (±{tq * sd[j]:.0f} K): "
+                    + ADVICE["mass"]
+                )
+                break
+    if refusal is None:
+        edge = _at_bound(prob, theta)
+        if edge:
+            refusal = (
+                f"the fit runs to the edge of the allowed range ({_pretty(edge[0])}): the "
+                "record does not look like this house; check the sensors and the house file"
+            )
+    if refusal is None and rms > MAX_RMS_K:
+        refusal = (
+            f"the model misses the record by {rms:.1f} K RMS (more than {MAX_RMS_K:g} K): were "
+            "the vents open, was there heat that is not logged (a heater without its state, "
+            "the sun), or did the outside sensor sit in the sun?"
+        )
+
+    sims = prob.simulate(theta)
+    rec = data.record
+    segs = []
+    for i, (seg, y) in enumerate(zip(data.segments, sims, strict=True)):
+        d = y - seg.inside_c
+        mass = mass_hw = None
+        if kind == "two-node":
+            j = prob.mass_at + i
+            mass, mass_hw = float(theta[j]), float(tq * sd[j])
+        segs.append(
+            SegmentFit(
+                start=rec.local(int(seg.rows[0])),
+                end=rec.local(int(seg.rows[-1])),
+                n_rows=int(seg.rows.size),
+                first_line=int(rec.lines[seg.rows[0]]),
+                last_line=int(rec.lines[seg.rows[-1]]),
+                heated=seg.heated,
+                initial_air_c=float(theta[prob.air_at + i]),
+                initial_air_half_width=float(tq * sd[prob.air_at + i]),
+                initial_mass_c=mass,
+                initial_mass_half_width=mass_hw,
+                rms_k=float(np.sqrt(np.mean(d**2))),
+            )
+        )
+    v = prob.values(theta)
+    scales = {"k_scale": v["k"], "c_scale": v["c"]}
+    if kind == "two-node":
+        scales["coupling_scale"] = v["g"]
+    return ModelFit(
+        model=kind,
+        anchor=anchor,
+        parameters=params,
+        rms_k=rms,
+        n_residuals=n,
+        n_free=p,
+        aic=float(n * np.log(ssr / n) + 2 * p) if ssr > 0 else -np.inf,
+        free_names=prob.names,
+        correlation=corr,
+        segments=tuple(segs),
+        fitted_c=tuple(sims),
+        scales=scales,
+        refusal=refusal,
+    )

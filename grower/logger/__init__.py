@@ -1,0 +1,314 @@
+"""Reading a temperature logger's CSV export into a `LoggerRecord`.
+
+A record has a time column and the inside air temperature; optionally the outside air
+temperature, the heater's on/off state (or its power) and the sun (global irradiance,
+W/m²). Exports from cheap loggers differ; this reader takes the usual variations:
+
+- field separator ``,`` ``;`` or tab; with ``;`` or tab a decimal comma (``3,5``);
+- a title line or two before the header row; a units row right under it;
+- times in ISO 8601 (``2026-11-20T18:00-05:00``, ``2026-11-20 18:00``), month first
+  (``11/20/2026 6:00:00 PM``), day first (``20.11.2026 18:00``, ``20/11/2026 18:00``),
+  with or without seconds; or a date column and a time column; an offset in the time
+  column's name (``Time, GMT-05:00``) applies to every row;
+- °C or °F, from the column name (``Inside (°F)``, ``inside_f``) or the units row;
+- heater power in W, kW or Btu/h, or its state (on/off, 1/0, true/false, yes/no, a
+  fraction 0–1 or a percentage of the interval it ran);
+- irregular intervals and missing cells (a row without an inside temperature is left
+  out; the fit splits the record where it has a long gap).
+
+Columns are found by their names (``inside``/``indoor``, ``outside``/``outdoor``/
+``ambient``, ``heater``/``burner``, ``sun``/``solar``/``irradiance``; a single column
+named just "temperature" is the inside one); ``columns={"inside": "T1"}`` names them
+outright. Naive times are clock times in the site's zone: in the autumn's repeated hour
+the first 01:30 is daylight time and a repeated one standard time; a clock time that
+the spring change skips is an error.
+
+Every problem is one `InputError` line naming the file, the line and the column.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as dt
+import io
+import os
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from zoneinfo import ZoneInfo
+
+import numpy as np
+import pandas as pd
+
+from grower.errors import InputError
+from grower.logger.columns import (
+    _HEADER_SEARCH_LINES,
+    ROLE_WORDS,
+    ROLES,
+    TEMPERATURE_WORDS,
+    _header,
+    _is_units_row,
+    _roles,
+    _unit_of,
+)
+from grower.logger.times import _offset_in_name, _parse_times, _to_utc
+from grower.logger.values import (
+    ASSUMED_C_MEDIAN_MAX,
+    MISSING,
+    SUN_RANGE_W_M2,
+    TEMPERATURE_RANGE_C,
+    _heater,
+    _sun,
+    _temperatures,
+)
+
+__all__ = [
+    "ASSUMED_C_MEDIAN_MAX",
+    "MISSING",
+    "ROLES",
+    "ROLE_WORDS",
+    "SUN_RANGE_W_M2",
+    "TEMPERATURE_RANGE_C",
+    "TEMPERATURE_WORDS",
+    "LoggerRecord",
+    "read_logger_csv",
+]
+
+
+@dataclass(frozen=True, eq=False)
+class LoggerRecord:
+    """A logger record, SI, one entry per data row kept (rows without an inside
+    temperature are left out).
+
+    Attributes
+    ----------
+    path : the file
+    utc_s : (N,) times [s since 1970-01-01 UTC], strictly increasing
+    offsets_s : (N,) UTC offset of each row's clock [s]
+    inside_c : (N,) inside air temperature [°C]
+    outside_c : (N,) outside air temperature [°C], NaN where missing; None: no column
+    heater_fraction : (N,) share of the time up to the next row the heater ran [0–1];
+        None: no state column
+    heater_w : (N,) heater power up to the next row [W]; None: no power column
+    sun_w_m2 : (N,) global irradiance [W m-2]; None: no column
+    lines : (N,) the file's line number of each row
+    columns : role -> the header of the column used
+    units : role -> the unit read ("°F", "kW", "on/off", ...)
+    time_format : how the times were read ("ISO 8601", "%d.%m.%Y %H:%M")
+    timezone : IANA zone of naive times, or None when the file gave offsets
+    notes : what was assumed or left out, one sentence each
+    """
+
+    path: str
+    utc_s: np.ndarray
+    offsets_s: np.ndarray
+    inside_c: np.ndarray
+    outside_c: np.ndarray | None
+    heater_fraction: np.ndarray | None
+    heater_w: np.ndarray | None
+    sun_w_m2: np.ndarray | None
+    lines: np.ndarray
+    columns: Mapping[str, str]
+    units: Mapping[str, str]
+    time_format: str
+    timezone: str | None
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def n_rows(self) -> int:
+        return int(self.utc_s.size)
+
+    @property
+    def tz(self) -> dt.tzinfo:
+        """The zone for local times: the site's, else the file's single offset, else UTC."""
+        if self.timezone:
+            return ZoneInfo(self.timezone)
+        offs = np.unique(self.offsets_s)
+        return dt.timezone(dt.timedelta(seconds=int(offs[0]))) if offs.size == 1 else dt.UTC
+
+    def times(self) -> pd.DatetimeIndex:
+        """The rows' times as a tz-aware index in `tz`."""
+        micro = np.round(self.utc_s * 1e6).astype("int64")
+        return pd.DatetimeIndex(pd.to_datetime(micro, unit="us", utc=True)).tz_convert(self.tz)
+
+    def local(self, i: int) -> dt.datetime:
+        """Row `i`'s time as an aware datetime in `tz`."""
+        return dt.datetime.fromtimestamp(float(self.utc_s[i]), self.tz)
+
+
+# ---------------------------------------------------------------- the file
+
+
+def read_logger_csv(
+    path: str | os.PathLike[str],
+    *,
+    timezone: str | None = None,
+    columns: Mapping[str, str] | None = None,
+    day_first: bool | None = None,
+) -> LoggerRecord:
+    """Read a logger's CSV export.
+
+    Parameters
+    ----------
+    path : the CSV file
+    timezone : IANA zone of naive clock times (the house's site zone); None when the file
+        gives UTC offsets
+    columns : role -> header, for columns the names do not give away (roles: `ROLES`)
+    day_first : for dates like 05/11/2026: True day first, False month first, None from
+        the data
+
+    Returns
+    -------
+    LoggerRecord
+
+    Raises
+    ------
+    InputError
+        One line naming the file, the line and the column, for anything unreadable.
+    """
+    where = os.fspath(path)
+    notes: list[str] = []
+    text = _decode(path, where, notes)
+    lines = text.splitlines()
+    if not any(line.strip() for line in lines):
+        raise InputError(
+            "empty file (a header row with a time and an inside column is expected)", where=where
+        )
+    delimiter = _delimiter(lines)
+    decimal_comma = delimiter != ","
+    try:
+        rows = [
+            (n, [c.strip() for c in row])
+            for n, row in enumerate(csv.reader(io.StringIO(text), delimiter=delimiter), start=1)
+        ]
+    except csv.Error as exc:
+        raise InputError(f"not a readable CSV file ({exc})", where=where) from None
+    # csv.reader's own numbering counts physical lines; rows here are one per line
+    rows = [(n, r) for n, r in rows if any(r)]
+    head_at, header = _header(rows, columns, where)
+    if head_at > 0:
+        notes.append(f"the first {head_at} line(s) before the header were skipped")
+    roles = _roles(header, columns or {}, where, rows[head_at][0])
+    body = rows[head_at + 1 :]
+    units_row: list[str] | None = None
+    if body and _is_units_row(body[0][1], header, roles, day_first):
+        units_row = body[0][1]
+        body = body[1:]
+    if not body:
+        raise InputError("no data rows", where=where)
+    width = len(header)
+    for n, row in body:
+        if len(row) > width and not any(row[width:]):
+            row[:] = row[:width]
+        if len(row) != width:
+            raise InputError(f"line {n}: {len(row)} fields, the header has {width}", where=where)
+    line_no = np.array([n for n, _ in body])
+
+    def cells(role: str) -> list[str]:
+        return [row[roles[role]] for _, row in body]
+
+    units = {
+        r: _unit_of(header[j], units_row[j] if units_row else "", r, where)
+        for r, j in roles.items()
+        if r != "time" and r != "date"
+    }
+    # times
+    if "date" in roles:
+        time_text = [f"{d} {t}" for d, t in zip(cells("date"), cells("time"), strict=True)]
+        time_col = f"{header[roles['date']]} + {header[roles['time']]}"
+    else:
+        time_text = cells("time")
+        time_col = header[roles["time"]]
+    naive, fmt = _parse_times(time_text, line_no, time_col, where, day_first)
+    header_offset = _offset_in_name(header[roles["time"]])
+    utc_s, offsets, zone_used = _to_utc(naive, header_offset, timezone, line_no, time_col, where)
+    # values
+    inside = _temperatures(
+        cells("inside"), units["inside"], line_no, header[roles["inside"]], where, decimal_comma
+    )
+    keep = np.isfinite(inside)
+    if not keep.any():
+        raise InputError(f"column {header[roles['inside']]}: no inside temperatures", where=where)
+    if (~keep).any():
+        notes.append(
+            f"{int((~keep).sum())} row(s) without an inside temperature left out "
+            f"(first: line {line_no[~keep][0]})"
+        )
+    outside = heater_frac = heater_w = sun = None
+    if "outside" in roles:
+        outside = _temperatures(
+            cells("outside"),
+            units["outside"],
+            line_no,
+            header[roles["outside"]],
+            where,
+            decimal_comma,
+        )
+    if "heater" in roles:
+        heater_frac, heater_w, units["heater"] = _heater(
+            cells("heater"), units["heater"], line_no, header[roles["heater"]], where, decimal_comma
+        )
+    if "sun" in roles:
+        sun = _sun(
+            cells("sun"), units["sun"], line_no, header[roles["sun"]], where, decimal_comma, notes
+        )
+    order_bad = np.flatnonzero(np.diff(utc_s) <= 0)
+    if order_bad.size:
+        i = order_bad[0] + 1
+        raise InputError(
+            f"line {line_no[i]}, column {time_col}: time is not after the previous row's "
+            f"(line {line_no[i - 1]}); times must increase",
+            where=where,
+        )
+
+    def kept(a: np.ndarray | None) -> np.ndarray | None:
+        return None if a is None else a[keep]
+
+    used = {r: header[j] for r, j in roles.items() if r not in ("time", "date")}
+    used["time"] = time_col
+    unused = [h for j, h in enumerate(header) if j not in roles.values() and h]
+    if unused:
+        notes.append("column(s) not used: " + ", ".join(unused))
+    if "inside" in units and units["inside"] == "":
+        notes.append(f"no unit for {header[roles['inside']]}: °C assumed")
+        units["inside"] = "°C"
+    if "outside" in units and units["outside"] == "":
+        notes.append(f"no unit for {header[roles['outside']]}: °C assumed")
+        units["outside"] = "°C"
+    return LoggerRecord(
+        path=where,
+        utc_s=utc_s[keep],
+        offsets_s=offsets[keep],
+        inside_c=inside[keep],
+        outside_c=kept(outside),
+        heater_fraction=kept(heater_frac),
+        heater_w=kept(heater_w),
+        sun_w_m2=kept(sun),
+        lines=line_no[keep],
+        columns=used,
+        units={r: u for r, u in units.items()},
+        time_format=fmt,
+        timezone=zone_used,
+        notes=tuple(notes),
+    )
+
+
+def _decode(path, where: str, notes: list[str]) -> str:
+    with open(path, "rb") as handle:
+        raw = handle.read()
+    if b"\x00" in raw[:4096]:
+        raise InputError("not a text file (a CSV export is expected)", where=where)
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        # older exports write "°" as the single byte 0xB0 (Windows-1252 / Latin-1)
+        notes.append("the file is not UTF-8: read as Windows-1252")
+        return raw.decode("cp1252", errors="replace")
+
+
+def _delimiter(lines: Sequence[str]) -> str:
+    """';' or tab when the header-ish lines use it (then ',' is a decimal comma), else ','."""
+    sample = [line for line in lines[:_HEADER_SEARCH_LINES] if line.strip()]
+    for d in (";", "\t"):
+        if sum(line.count(d) >= 1 for line in sample) >= max(1, len(sample) // 2):
+            return d
+    return ","

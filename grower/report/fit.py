@@ -1,0 +1,275 @@
+"""Rendering of `grower fit`: the fitted values beside the geometry's, the residual, the chart."""
+
+from __future__ import annotations
+
+import datetime as dt
+from typing import Any
+
+import numpy as np
+
+from grower.fit import FitResult, ModelFit, Parameter, calibration_values
+from grower.fit.estimate import CONFIDENCE
+from grower.report import chart
+from grower.units import (
+    J_PER_BTU,
+    UnitSystem,
+    show_conductance,
+    show_power,
+    show_temperature,
+)
+
+INTERVAL_NOTE = (
+    "95 % intervals are the linearised ones (covariance s²(JᵀJ)⁻¹ at the optimum, Student's "
+    "t); they hold for independent errors — a model error that runs in long waves makes them "
+    "too narrow"
+)
+SHORT = {
+    "k_w_per_k": "K, conductance",
+    "c_j_per_k": "C, heat capacity",
+    "time_constant_h": "C/K",
+    "coupling_w_per_k": "air–floor coupling",
+    "heater_output_w": "heater output",
+    "sun_factor": "sun gain factor",
+}
+#: 1 Btu/°F in J/K
+J_PER_K_PER_BTU_F = J_PER_BTU * 1.8
+
+
+def _iso(t: dt.datetime | None) -> str | None:
+    return None if t is None else t.isoformat(timespec="seconds")
+
+
+def _param_json(p: Parameter) -> dict[str, Any]:
+    return {
+        "name": p.name,
+        "value": p.value,
+        "unit": p.unit,
+        "ci95_half_width": p.half_width,
+        "ci95_low": p.low,
+        "ci95_high": p.high,
+        "geometry": p.geometry,
+        "ratio_to_geometry": p.ratio,
+        "status": p.status,
+    }
+
+
+def _model_json(f: ModelFit) -> dict[str, Any]:
+    return {
+        "model": f.model,
+        "parameters": [_param_json(p) for p in f.parameters],
+        "rms_k": f.rms_k,
+        "aic": f.aic,
+        "n_residuals": f.n_residuals,
+        "n_free": f.n_free,
+        "refusal": f.refusal,
+    }
+
+
+def fit_json(r: FitResult, written: dict[str, str] | None = None) -> dict[str, Any]:
+    """The `grower fit --json` document (SI, ISO 8601 times with offset)."""
+    f = r.chosen
+    values = {p.name: p for p in f.parameters}
+    cal = calibration_values(r)
+    return {
+        "house": r.house_name,
+        "file": r.house_path,
+        "record": r.record_path,
+        "record_start": _iso(r.record_start),
+        "record_end": _iso(r.record_end),
+        "outside_source": r.outside_source,
+        "model": f.model,
+        "model_choice": r.choice,
+        "anchor": r.anchor,
+        "anchor_note": r.anchor_note,
+        "heater": r.heater,
+        "with_days": r.with_days,
+        "k_w_per_k": values["k_w_per_k"].value,
+        "c_j_per_k": values["c_j_per_k"].value,
+        "time_constant_h": values["time_constant_h"].value,
+        "parameters": [_param_json(p) for p in f.parameters],
+        "ratios": {p.name: p.ratio for p in f.parameters if p.ratio is not None},
+        "confidence": CONFIDENCE,
+        "interval": INTERVAL_NOTE,
+        "rms_k": f.rms_k,
+        "n_samples": r.n_samples,
+        "n_record_rows": r.n_record_rows,
+        "n_residuals": f.n_residuals,
+        "n_free": f.n_free,
+        "segments": [
+            {
+                "start": _iso(s.start),
+                "end": _iso(s.end),
+                "rows": s.n_rows,
+                "first_line": s.first_line,
+                "last_line": s.last_line,
+                "heated": s.heated,
+                "initial_air_c": s.initial_air_c,
+                "initial_air_ci95_half_width": s.initial_air_half_width,
+                "initial_mass_c": s.initial_mass_c,
+                "initial_mass_ci95_half_width": s.initial_mass_half_width,
+                "rms_k": s.rms_k,
+            }
+            for s in f.segments
+        ],
+        "other_model": None if r.other is None else _model_json(r.other),
+        "notes": list(r.notes),
+        "calibration": {
+            k: (v.isoformat() if hasattr(v, "isoformat") else v) for k, v in cal.items()
+        },
+        "written": written,
+        "series": [
+            {
+                "time": _iso(t),
+                "inside_c": float(m),
+                "fitted_c": float(y),
+                "outside_c": float(o),
+                "segment": int(s),
+            }
+            for t, m, y, o, s in zip(
+                r.times, r.measured_c, r.fitted_c, r.outside_c, r.segment_of_row, strict=True
+            )
+        ],
+    }
+
+
+def _show(name: str, value: float, system: UnitSystem) -> str:
+    """A parameter's value in display units."""
+    if name in ("k_w_per_k", "coupling_w_per_k"):
+        return show_conductance(value, system).text(0)
+    if name == "c_j_per_k":
+        if system == "us":
+            return f"{value / J_PER_K_PER_BTU_F / 1e3:,.1f} kBtu/°F"
+        return f"{value / 1e6:,.1f} MJ/K"
+    if name == "heater_output_w":
+        s = show_power(value, system)
+        return s.text(0) if system == "us" else s.text(1)
+    if name == "time_constant_h":
+        return f"{value:.2f} h"
+    return f"{value:.2f}"
+
+
+def _half(p: Parameter, system: UnitSystem) -> str:
+    if p.status == "anchor":
+        return "held (anchor)"
+    return f"± {_show(p.name, p.half_width, system)} ({p.relative:.0%})"
+
+
+def headline(r: FitResult, system: UnitSystem) -> str:
+    f = r.chosen
+    k, c, tau = f.get("k_w_per_k"), f.get("c_j_per_k"), f.get("time_constant_h")
+
+    def part(p: Parameter, sym: str) -> str:
+        pm = "" if p.status == "anchor" else f" ± {_show(p.name, p.half_width, system)}"
+        kept = (
+            " (kept: the anchor)" if p.status == "anchor" else f" ({p.ratio:.2f} × the geometry's)"
+        )
+        return f"{sym} = [bold]{_show(p.name, p.value, system)}[/bold]{pm}{kept}"
+
+    return f"{part(k, 'K')}, {part(c, 'C')}, C/K = [bold]{tau.value:.1f} h[/bold]"
+
+
+def render_fit(
+    console, r: FitResult, system: UnitSystem, written: dict[str, str] | None = None
+) -> None:
+    """Print the fit: headline, table, residual, chart, segments, notes."""
+    from rich.table import Table
+
+    f = r.chosen
+    nights = len(f.segments)
+    console.print(f"[bold]{r.house_name}[/bold] — fitted to {r.record_path}")
+    console.print(
+        f"{nights} {'night' if not r.with_days else 'segment'}{'s' if nights != 1 else ''}, "
+        f"{r.n_samples} of {r.n_record_rows} rows used "
+        f"({r.record_start:%d %b %H:%M} to {r.record_end:%d %b %H:%M}"
+        + (", nights only" if not r.with_days else ", days and nights")
+        + f"); outside: {r.outside_source}"
+    )
+    console.print(headline(r, system))
+    table = Table()
+    table.add_column("")
+    table.add_column("fitted", justify="right", no_wrap=True)
+    table.add_column("95 % interval", justify="right", no_wrap=True)
+    table.add_column("geometry", justify="right", no_wrap=True)
+    table.add_column("ratio", justify="right")
+    for p in f.parameters:
+        table.add_row(
+            SHORT[p.name],
+            _show(p.name, p.value, system),
+            _half(p, system),
+            "—" if p.geometry is None else _show(p.name, p.geometry, system),
+            "—" if p.ratio is None else f"{p.ratio:.2f}",
+        )
+    console.print(table)
+    console.print(f"Model: {r.choice}")
+    console.print(
+        f"Residual: [bold]{f.rms_k:.2f} K RMS[/bold] over {f.n_residuals} samples "
+        f"({f.n_free} fitted values)"
+    )
+    if r.other is not None and r.other.refusal is None:
+        o = r.other
+        k, c = o.get("k_w_per_k"), o.get("c_j_per_k")
+        console.print(
+            f"[dim]The {o.model} model gives K = {_show(k.name, k.value, system)}, "
+            f"C = {_show(c.name, c.value, system)}, RMS {o.rms_k:.2f} K.[/dim]"
+        )
+    console.print()
+
+    conv = (lambda a: a * 1.8 + 32.0) if system == "us" else (lambda a: a)
+    unit = show_temperature(0, system).unit
+    rows = chart.layout(
+        list(r.times),
+        [
+            chart.Series("outside", conv(np.asarray(r.outside_c)), "·", "blue"),
+            chart.Series("measured inside", conv(np.asarray(r.measured_c)), "•", "green"),
+            chart.Series("fitted", conv(np.asarray(r.fitted_c)), "*", "bold yellow"),
+        ],
+        unit=unit,
+    )
+    chart.render(console, rows)
+    if nights > 1:
+        console.print(
+            "[dim]Gaps between segments (days, long gaps) are bridged by straight lines.[/dim]"
+        )
+    console.print()
+
+    seg = Table()
+    seg.add_column("night" if not r.with_days else "segment", justify="right")
+    seg.add_column("when", no_wrap=True)
+    seg.add_column("rows (lines)", justify="right", no_wrap=True)
+    if r.heater:
+        seg.add_column("heater")
+    tu = show_temperature(0, system).unit
+    if f.model == "two-node":
+        seg.add_column(f"floor at start, {tu}", justify="right")
+    seg.add_column("RMS, K", justify="right")
+    for i, s in enumerate(f.segments, start=1):
+        same_day = s.start.date() == s.end.date()
+        cells = [
+            str(i),
+            f"{s.start:%d %b %H:%M}–{s.end:%H:%M}"
+            if same_day
+            else f"{s.start:%d %b %H:%M}–{s.end:%d %b %H:%M}"
+            if (s.end - s.start).days >= 1
+            else f"{s.start:%d %b %H:%M}–{s.end:%H:%M}",
+            f"{s.n_rows} ({s.first_line}–{s.last_line})",
+        ]
+        if r.heater:
+            cells.append("ran" if s.heated else "off")
+        if f.model == "two-node":
+            m = show_temperature(s.initial_mass_c, system)
+            hw = s.initial_mass_half_width * (1.8 if system == "us" else 1.0)
+            cells.append(f"{m.value:.1f} ± {hw:.1f}")
+        cells.append(f"{s.rms_k:.2f}")
+        seg.add_row(*cells)
+    console.print(seg)
+    console.print(f"[dim]· {r.anchor_note}[/dim]")
+    console.print(f"[dim]· {INTERVAL_NOTE}[/dim]")
+    for n in r.notes:
+        console.print(f"[dim]· {n}[/dim]")
+    if written:
+        console.print(
+            f"Calibration written to {written['file']} \\[calibration]; the previous file is "
+            f"kept as {written['backup']}. tonight and stock now use it (--no-calibration to ignore)."
+        )
+    else:
+        console.print("[dim]Add --write to store this in the house file's \\[calibration].[/dim]")
