@@ -43,7 +43,9 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         metavar="F",
         help="output over heat loss (default 1.2)",
     )
-    p.add_argument("--no-calibration", action="store_true", help=argparse.SUPPRESS)
+    p.add_argument(
+        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+    )
     p.set_defaults(run=run)
 
 
@@ -93,6 +95,7 @@ def run(args: argparse.Namespace) -> int:
         fuel_name=args.fuel,
         appliance_name=args.appliance,
         safety_factor=factor,
+        use_calibration=not args.no_calibration,
     )
     if args.json:
         common.emit_json(report.size_json(result))

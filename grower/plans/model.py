@@ -80,6 +80,44 @@ def calibration_of(
     return None
 
 
+def calibration_note(house: House, kind: ModelKind, use: bool = True) -> str | None:
+    """One line for the report: what calibration is used, or why one is not."""
+    cal = house.calibration
+    if not cal:
+        return None
+    if not use:
+        return "the house file's [calibration] is ignored (--no-calibration)"
+    if calibration_of(house, use, kind) is None:
+        fitted_for = cal.get("model")
+        if fitted_for in ("lumped", "two-node") and fitted_for != kind:
+            return (
+                f"the house file's [calibration] is for the {fitted_for} model: this run uses "
+                f"the geometry (give --model {fitted_for} to use it)"
+            )
+        return "the house file's [calibration] lacks k_w_per_k and c_j_per_k: not used"
+    when = cal.get("fit_date")
+    record = cal.get("record")
+    src = ", ".join(str(x) for x in (record, when) if x)
+    return f"K and C from the house file's [calibration] (grower fit{': ' + src if src else ''})"
+
+
+def calibration_ratio(house: House, use: bool = True) -> float | None:
+    """K_fit / K_geometry for a calm clear night, for steady sizing (`size`)."""
+    cal = calibration_of(house, use)
+    if cal is None:
+        return None
+    return cal["k_w_per_k"] / network.describe(house).k_w_per_k
+
+
+def calibrated_heater_output(house: House, use: bool = True) -> float | None:
+    """A heater output [W] that `grower fit` measured (not the rating it was anchored to)."""
+    cal = house.calibration
+    q = cal.get("heater_output_w") if (use and cal) else None
+    if isinstance(q, int | float) and q > 0 and cal.get("anchor") != "heater":
+        return float(q)
+    return None
+
+
 def build(
     house: House,
     *,

@@ -10,7 +10,7 @@ ignored: they help for a few hours, not through a long cold night.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from grower import fuels, network, sky
 from grower.house import House, _at
@@ -83,9 +83,18 @@ class SizeResult:
 
 
 def design_heat_loss(
-    house: House, design_outside_c: float, hold_c: float, wind_m_s: float, *, curtain_closed: bool
+    house: House,
+    design_outside_c: float,
+    hold_c: float,
+    wind_m_s: float,
+    *,
+    curtain_closed: bool,
+    k_ratio: float = 1.0,
 ) -> tuple[network.Conductances, float, float, float]:
-    """K, T_sky, T_eff and Q = K·(T_hold − T_eff) at the design condition."""
+    """K, T_sky, T_eff and Q = K·(T_hold − T_eff) at the design condition.
+
+    `k_ratio` scales every conductance (a calibration's K_fit / K_geometry).
+    """
     t_sky = float(sky.swinbank_sky_temperature(design_outside_c))
     cond = network.conductances(
         house,
@@ -94,6 +103,18 @@ def design_heat_loss(
         air_temp_c=design_outside_c,
         mean_radiant_temp_c=(hold_c + t_sky) / 2.0,
     )
+    if k_ratio != 1.0:
+        cond = replace(
+            cond,
+            surfaces=tuple(
+                replace(x, u_w_m2k=x.u_w_m2k * k_ratio, ua_w_per_k=x.ua_w_per_k * k_ratio)
+                for x in cond.surfaces
+            ),
+            cover_w_per_k=cond.cover_w_per_k * k_ratio,
+            infiltration_w_per_k=cond.infiltration_w_per_k * k_ratio,
+            perimeter_w_per_k=cond.perimeter_w_per_k * k_ratio,
+            sky_w_per_k=cond.sky_w_per_k * k_ratio,
+        )
     t_eff = float(
         network.effective_outside(
             cond.conduction_w_per_k, cond.sky_w_per_k, design_outside_c, t_sky
@@ -156,15 +177,19 @@ def size(
     fuel_name: str | None = None,
     appliance_name: str | None = None,
     safety_factor: float = SAFETY_FACTOR,
+    use_calibration: bool = True,
 ) -> SizeResult:
     """Size a heater for `house` to hold `hold_c` at `design_outside_c` and `wind_m_s`."""
+    from grower.plans import model as hm
+
+    ratio = hm.calibration_ratio(house, use_calibration) or 1.0
     cond, t_sky, t_eff, loss = design_heat_loss(
-        house, design_outside_c, hold_c, wind_m_s, curtain_closed=False
+        house, design_outside_c, hold_c, wind_m_s, curtain_closed=False, k_ratio=ratio
     )
     saving = None
     if house.curtain:
         _, _, _, loss_closed = design_heat_loss(
-            house, design_outside_c, hold_c, wind_m_s, curtain_closed=True
+            house, design_outside_c, hold_c, wind_m_s, curtain_closed=True, k_ratio=ratio
         )
         saving = loss - loss_closed
     loss = max(loss, 0.0)
@@ -189,6 +214,13 @@ def size(
     ]
     if house.curtain:
         notes.append("energy curtain taken as open (cautious); drawn, it saves the amount shown")
+    if ratio != 1.0:
+        notes.append(
+            f"every conductance × {ratio:.2f}: the house file's [calibration] (grower fit) "
+            "against the geometry's K on a calm clear night"
+        )
+    elif house.calibration and not use_calibration:
+        notes.append("the house file's [calibration] is ignored (--no-calibration)")
     return SizeResult(
         house_name=house.name,
         house_path=house.path,

@@ -159,6 +159,10 @@ def stock(
                 f"--fuel {fuel.name} differs from the installed heater's; a {appliance} is assumed"
             )
     q_max = house.heater_output_w if house.heaters else math.inf
+    measured = hm.calibrated_heater_output(house, use_calibration) if house.heaters else None
+    if measured is not None:
+        q_max = measured
+        notes.append(f"heater output {q_max / 1e3:.1f} kW as measured by grower fit")
     if not house.heaters:
         notes.append("no heater in the house file: an unlimited heater holds the setpoints")
 
@@ -274,8 +278,9 @@ def stock(
             runs_out = dt.datetime.fromtimestamp(round(t_out.timestamp()), start.tz)
             lasts = (t_out - start).total_seconds() / 86400.0
     notes += list(weather.assumptions(forecast))
-    if model_used is not None and model_used.calibrated:
-        notes.append("K and C from the house file's [calibration] (grower fit)")
+    note = hm.calibration_note(house, kind, use_calibration)
+    if note:
+        notes.append(note)
     peak = float(max(p.max() for p in power_all))
     return StockResult(
         house_name=house.name,

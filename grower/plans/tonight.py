@@ -267,8 +267,9 @@ def tonight(
         )
     for note in weather.assumptions(forecast):
         assumptions.append(note)
-    if mdl.calibrated:
-        assumptions.append("K and C from the house file's [calibration] (grower fit)")
+    note = hm.calibration_note(house, kind, use_calibration)
+    if note:
+        assumptions.append(note)
     x0 = np.array([inside_now_c]) if kind == "lumped" else np.array([inside_now_c, soil_now_c])
 
     # free float as members run at once: this forecast; the night colder; the soil colder
@@ -307,6 +308,12 @@ def tonight(
     check = None
     if house.heaters:
         q = house.heater_output_w
+        measured = hm.calibrated_heater_output(house, use_calibration)
+        if measured is not None:
+            q = measured
+            assumptions.append(
+                f"installed heater output {q / 1e3:.1f} kW as measured by grower fit"
+            )
         run = runs.thermostat(mdl, b.times_s, bc, x0, setpoint, q, gains)
         c = solver.analyse(run, threshold_c, b.plant_offset_k)
         check = HeaterCheck(

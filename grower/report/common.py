@@ -66,4 +66,11 @@ def render_cautions(console, cautions) -> None:
         "[bold]Safety[/bold] — general cautions, not a substitute for a licensed installer:"
     )
     for c in cautions:
-        console.print(f"  ⚠ {c}")
+        plain(console, f"  ⚠ {c}")
+
+
+def plain(console, text: str, style: str | None = None) -> None:
+    """Print `text` as it is: brackets in it ("[calibration]") are not markup."""
+    from rich.text import Text
+
+    console.print(Text(text, style=style or ""))

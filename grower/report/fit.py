@@ -10,6 +10,7 @@ import numpy as np
 from grower.fit import FitResult, ModelFit, Parameter, calibration_values
 from grower.fit.estimate import CONFIDENCE
 from grower.report import chart
+from grower.report.common import plain
 from grower.units import (
     J_PER_BTU,
     UnitSystem,
@@ -262,10 +263,10 @@ def render_fit(
         cells.append(f"{s.rms_k:.2f}")
         seg.add_row(*cells)
     console.print(seg)
-    console.print(f"[dim]· {r.anchor_note}[/dim]")
-    console.print(f"[dim]· {INTERVAL_NOTE}[/dim]")
+    plain(console, f"· {r.anchor_note}", "dim")
+    plain(console, f"· {INTERVAL_NOTE}", "dim")
     for n in r.notes:
-        console.print(f"[dim]· {n}[/dim]")
+        plain(console, f"· {n}", "dim")
     if written:
         console.print(
             f"Calibration written to {written['file']} \\[calibration]; the previous file is "

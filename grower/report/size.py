@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from grower.plans.size import SizeResult
-from grower.report.common import render_cautions
+from grower.report.common import plain, render_cautions
 from grower.units import (
     W_PER_BTU_H,
     UnitSystem,
@@ -82,7 +82,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
         f"holds {t(r.hold_c)} inside at {t(r.design_outside_c)} outside, "
         f"wind {show_speed(r.wind_m_s, system).text(1)}, clear sky at {t(r.sky_c)}"
     )
-    console.print(f"  hold: {r.hold_basis}")
+    plain(console, f"  hold: {r.hold_basis}")
     console.print()
 
     table = Table(show_header=False, box=None, pad_edge=False)
@@ -147,5 +147,5 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
         )
     console.print()
     for n in r.notes:
-        console.print(f"[dim]· {n}[/dim]")
+        plain(console, f"· {n}", "dim")
     render_cautions(console, r.cautions)

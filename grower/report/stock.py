@@ -6,7 +6,7 @@ import datetime as dt
 from typing import Any
 
 from grower.plans.stock import StockResult
-from grower.report.common import render_cautions
+from grower.report.common import plain, render_cautions
 from grower.units import W_PER_BTU_H, UnitSystem, show_temperature
 
 
@@ -150,11 +150,11 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     console.print(f"Peak heat {r.peak_w / 1e3:,.1f} kW ({r.peak_w / W_PER_BTU_H:,.0f} Btu/h).")
     console.print()
     if r.forecast_attribution:
-        console.print(f"[dim]Forecast: {r.forecast_source}. {r.forecast_attribution}[/dim]")
+        plain(console, f"Forecast: {r.forecast_source}. {r.forecast_attribution}", "dim")
     else:
-        console.print(f"[dim]Forecast: {r.forecast_source}[/dim]")
+        plain(console, f"Forecast: {r.forecast_source}", "dim")
     for w in r.forecast_warnings:
-        console.print(f"[yellow]! {w}[/yellow]")
+        plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
-        console.print(f"[dim]· {a}[/dim]")
+        plain(console, f"· {a}", "dim")
     render_cautions(console, r.cautions)

@@ -7,7 +7,7 @@ from typing import Any
 
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict
 from grower.report import chart
-from grower.report.common import render_cautions
+from grower.report.common import plain, render_cautions
 from grower.units import W_PER_BTU_H, UnitSystem, show_temperature, show_temperature_difference
 
 
@@ -189,7 +189,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     console.print(verdict_line(r, system))
-    console.print(f"[dim]{alarm_text(r, system)}[/dim]", highlight=False)
+    plain(console, f"{alarm_text(r, system)}", "dim")
     console.print()
     v = r.verdict
     table = Table(show_header=False, box=None, pad_edge=False)
@@ -268,13 +268,13 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
         src += f", issued {r.forecast_issued_at:%d %b %H:%M}"
     if r.forecast_age_s is not None:
         src += f", fetched {r.forecast_age_s / 60:.0f} min ago"
-    console.print(f"[dim]{src}[/dim]")
+    plain(console, f"{src}", "dim")
     if r.forecast_attribution:
-        console.print(f"[dim]{r.forecast_attribution}[/dim]")
+        plain(console, f"{r.forecast_attribution}", "dim")
     for w in r.forecast_warnings:
-        console.print(f"[yellow]! {w}[/yellow]")
+        plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
-        console.print(f"[dim]· {a}[/dim]")
+        plain(console, f"· {a}", "dim")
     render_cautions(console, r.cautions)
 
 
@@ -331,10 +331,10 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     console.print(table)
     for r in order:
         for w in r.forecast_warnings:
-            console.print(f"[yellow]! {r.house_name}: {w}[/yellow]")
+            plain(console, f"! {r.house_name}: {w}", "yellow")
     attributions = {r.forecast_attribution for r in order if r.forecast_attribution}
     for a in sorted(attributions):
-        console.print(f"[dim]{a}[/dim]")
+        plain(console, f"{a}", "dim")
     cautions = next((r.cautions for r in order if r.cautions), ())
     render_cautions(console, cautions)
 
