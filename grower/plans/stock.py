@@ -23,6 +23,7 @@ from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.plans.tonight import when
 
 STEP_S = 600.0
 #: soil and air at the start when nothing is measured: in balance with the heated house
@@ -275,7 +276,7 @@ def stock(
             before = cum[k - 1] if k > 0 else 0.0
             frac = (need_j - before) / step_j[k] if step_j[k] > 0 else 0.0
             t_out = starts[k] + pd.Timedelta(seconds=float(frac * dur[k]))
-            runs_out = dt.datetime.fromtimestamp(round(t_out.timestamp()), start.tz)
+            runs_out = when(t_out)
             lasts = (t_out - start).total_seconds() / 86400.0
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)
@@ -293,8 +294,8 @@ def stock(
         night_setpoint_c=night_set,
         vent_c=vent,
         heater_output_w=None if math.isinf(q_max) else q_max,
-        start=dt.datetime.fromtimestamp(round(start.timestamp()), start.tz),
-        end=dt.datetime.fromtimestamp(round(end.timestamp()), start.tz),
+        start=when(start),
+        end=when(end),
         days=tuple(days),
         energy_kwh=total_j / 3.6e6,
         fuel=amount,

@@ -45,6 +45,11 @@ def jsonable(value: Any) -> Any:
     return value
 
 
+def iso(t: dt.datetime | None) -> str | None:
+    """ISO 8601 to the second, with the UTC offset; None stays None."""
+    return None if t is None else t.isoformat(timespec="seconds")
+
+
 def emit_json(document: dict[str, Any]) -> None:
     """Write one JSON document to stdout."""
     json.dump(jsonable(document), sys.stdout, indent=2, ensure_ascii=False, allow_nan=False)

@@ -2,16 +2,11 @@
 
 from __future__ import annotations
 
-import datetime as dt
 from typing import Any
 
 from grower.plans.stock import StockResult
-from grower.report.common import plain, render_cautions
+from grower.report.common import iso, plain, render_cautions
 from grower.units import W_PER_BTU_H, UnitSystem, show_temperature
-
-
-def _iso(t: dt.datetime | None) -> str | None:
-    return None if t is None else t.isoformat(timespec="seconds")
 
 
 def stock_json(r: StockResult) -> dict[str, Any]:
@@ -27,8 +22,8 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         "night_setpoint_c": r.night_setpoint_c,
         "vent_c": r.vent_c,
         "heater_output_w": r.heater_output_w,
-        "start": _iso(r.start),
-        "end": _iso(r.end),
+        "start": iso(r.start),
+        "end": iso(r.end),
         "energy_kwh": r.energy_kwh,
         "peak_w": r.peak_w,
         "hours_below_setpoint": r.hours_below_setpoint,
@@ -42,7 +37,7 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         "on_hand": None
         if r.on_hand is None
         else {"amount": r.on_hand.amount, "unit": r.on_hand.unit, "energy_j": r.on_hand.energy_j},
-        "runs_out_at": _iso(r.runs_out_at),
+        "runs_out_at": iso(r.runs_out_at),
         "lasts_days": r.lasts_days,
         "price": r.price,
         "cost": r.cost,

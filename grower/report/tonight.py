@@ -7,12 +7,8 @@ from typing import Any
 
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict
 from grower.report import chart
-from grower.report.common import plain, render_cautions
+from grower.report.common import iso, plain, render_cautions
 from grower.units import W_PER_BTU_H, UnitSystem, show_temperature, show_temperature_difference
-
-
-def _iso(t: dt.datetime | None) -> str | None:
-    return None if t is None else t.isoformat(timespec="seconds")
 
 
 def tonight_json(r: TonightResult) -> dict[str, Any]:
@@ -31,14 +27,14 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         "damage_c": r.damage_c,
         "margin_k": r.margin_k,
         "threshold_basis": r.threshold_basis,
-        "start": _iso(r.start),
-        "end": _iso(r.end),
-        "sunrise": _iso(r.sunrise),
+        "start": iso(r.start),
+        "end": iso(r.end),
+        "sunrise": iso(r.sunrise),
         "safe": r.safe,
-        "crossing_time": _iso(r.verdict.crossing_time),
+        "crossing_time": iso(r.verdict.crossing_time),
         "min_air_c": r.verdict.min_air_c,
         "min_plant_c": r.verdict.min_plant_c,
-        "min_time": _iso(r.verdict.min_time),
+        "min_time": iso(r.verdict.min_time),
         "hours_below": r.verdict.hours_below,
         "hold_peak_w": r.hold_peak_w,
         "hold_energy_kwh": r.hold_energy_kwh,
@@ -55,12 +51,12 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
             "output_w": r.heater.output_w,
             "holds": r.heater.holds,
             "min_plant_c": r.heater.min_plant_c,
-            "min_time": _iso(r.heater.min_time),
+            "min_time": iso(r.heater.min_time),
             "energy_kwh": r.heater.energy_kwh,
         },
         "colder": {
             "by_c": r.colder_by_k,
-            "crossing_time": _iso(r.colder.crossing_time),
+            "crossing_time": iso(r.colder.crossing_time),
             "min_plant_c": r.colder.min_plant_c,
             "min_air_c": r.colder.min_air_c,
             "hours_below": r.colder.hours_below,
@@ -69,7 +65,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         if r.soil_colder is None
         else {
             "by_c": SOIL_COLDER_K,
-            "crossing_time": _iso(r.soil_colder.crossing_time),
+            "crossing_time": iso(r.soil_colder.crossing_time),
             "min_plant_c": r.soil_colder.min_plant_c,
         },
         "chill": None
@@ -85,7 +81,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         "assumptions": list(r.assumptions),
         "forecast": {
             "source": r.forecast_source,
-            "issued_at": _iso(r.forecast_issued_at),
+            "issued_at": iso(r.forecast_issued_at),
             "age_s": r.forecast_age_s,
             "attribution": r.forecast_attribution,
             "warnings": list(r.forecast_warnings),
@@ -93,7 +89,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         "cautions": list(r.cautions),
         "series": [
             {
-                "time": _iso(t),
+                "time": iso(t),
                 "outside_c": float(o),
                 "effective_outside_c": float(e),
                 "air_c": float(a),
