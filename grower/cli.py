@@ -40,7 +40,7 @@ def common_parser() -> argparse.ArgumentParser:
         "--units",
         choices=("metric", "us"),
         default=None,
-        help="units for the report (default: the house file's [site] units, else metric)",
+        help="units for the report (default: the house file's [site] units, else the locale's)",
     )
     return common
 

@@ -39,3 +39,9 @@ ends = "twin-wall-polycarbonate-8mm"
 [air]
 changes_per_hour = 1.0
 """
+
+
+@pytest.fixture(autouse=True)
+def _metric_locale(monkeypatch):
+    """Reports default to the locale's units: pin a neutral locale for every test."""
+    monkeypatch.setenv("LC_ALL", "C.UTF-8")

@@ -150,3 +150,14 @@ def test_house_report_in_us_units(capsys, examples):
     out = capsys.readouterr().out
     assert "Btu/h" in out and "ft²" in out
     assert out.splitlines()[0].startswith("Lane tunnel")
+
+
+def test_units_default_from_locale():
+    from grower.report.common import locale_system, unit_system
+
+    assert locale_system({"LANG": "en_US.UTF-8"}) == "us"
+    assert locale_system({"LANG": "en_CA.UTF-8"}) == "metric"
+    assert locale_system({"LC_ALL": "fr_FR.UTF-8", "LANG": "en_US.UTF-8"}) == "metric"
+    assert locale_system({}) == "metric"
+    assert unit_system("metric", "us") == "metric"  # the option wins
+    assert unit_system(None, "us") == "us"  # then the house file

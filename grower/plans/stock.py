@@ -71,6 +71,7 @@ class StockResult:
     assumptions: tuple[str, ...]
     forecast_source: str
     forecast_attribution: str | None
+    forecast_age_s: float | None
     forecast_warnings: tuple[str, ...]
     cautions: tuple[str, ...]
 
@@ -312,6 +313,7 @@ def stock(
         assumptions=tuple(notes),
         forecast_source=forecast.source,
         forecast_attribution=forecast.attribution,
+        forecast_age_s=forecast.age_s,
         forecast_warnings=tuple(forecast.warnings),
         cautions=fuels.cautions(fuel, appliance, (peak / eff) if peak > 0 else None),
     )

@@ -56,9 +56,29 @@ def emit_json(document: dict[str, Any]) -> None:
     sys.stdout.write("\n")
 
 
+#: territories whose locale measures in US customary units (common practice, no source:
+#: the United States, Liberia and Myanmar)
+US_TERRITORIES = ("US", "LR", "MM")
+
+
+def locale_system(environ=None) -> UnitSystem:
+    """US units when the user's locale (LC_ALL, LC_MEASUREMENT or LANG) is a US one."""
+    import os
+    import re
+
+    env = os.environ if environ is None else environ
+    for var in ("LC_ALL", "LC_MEASUREMENT", "LANG"):
+        value = env.get(var)
+        if value:
+            match = re.match(r"^[a-zA-Z]{2,3}_([A-Z]{2})", value)
+            return "us" if match and match.group(1) in US_TERRITORIES else "metric"
+    return "metric"
+
+
 def unit_system(requested: str | None, default: str | None = None) -> UnitSystem:
-    """The display system: the option, else the house file's choice, else metric."""
-    choice = requested or default or "metric"
+    """The display system: the option, else the house file's [site] units, else the
+    locale's (US customary in a US locale), else metric."""
+    choice = requested or default or locale_system()
     return "us" if choice == "us" else "metric"
 
 

@@ -61,6 +61,7 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         "forecast": {
             "source": r.forecast_source,
             "attribution": r.forecast_attribution,
+            "age_s": r.forecast_age_s,
             "warnings": list(r.forecast_warnings),
         },
         "cautions": list(r.cautions),
@@ -144,10 +145,12 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
         console.print("That is " + ", or ".join(parts) + ".")
     console.print(f"Peak heat {r.peak_w / 1e3:,.1f} kW ({r.peak_w / W_PER_BTU_H:,.0f} Btu/h).")
     console.print()
+    src = f"Forecast: {r.forecast_source}"
+    if r.forecast_age_s is not None:
+        src += f", fetched {r.forecast_age_s / 60:.0f} min ago"
     if r.forecast_attribution:
-        plain(console, f"Forecast: {r.forecast_source}. {r.forecast_attribution}", "dim")
-    else:
-        plain(console, f"Forecast: {r.forecast_source}", "dim")
+        src += f". {r.forecast_attribution}"
+    plain(console, src, "dim")
     for w in r.forecast_warnings:
         plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
