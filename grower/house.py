@@ -44,6 +44,7 @@ MASS_MATERIALS: dict[str, tuple[float, str]] = {
     "wood": (1600.0, "from memory"),
     "soil": (1100.0, "from memory (moist soil, per kg)"),
 }
+SOLID_DENSITY_KG_M3 = 2000.0
 WATER_DENSITY_KG_M3 = 1000.0  # near 4–10 °C, within 0.03 % (common practice, no source)
 
 #: key → (kind, required) for each section; kind drives parsing
@@ -472,8 +473,9 @@ def _mass(table: Mapping[str, Any], where: str) -> Mass:
     if "area" in m:
         area = _positive(m["area"], f"{where}.area")
     else:
-        # an upright cylinder as tall as 1.5 diameters (a drum): side + top, per item
-        vol_each = (volume if volume is not None else kg / 2000.0) / 1.0
+        # each item an upright cylinder 1.5 diameters tall (a drum): side + top. A solid
+        # given by mass is taken at 2000 kg/m³ (between wood and concrete: from memory).
+        vol_each = volume if volume is not None else kg / SOLID_DENSITY_KG_M3
         d = (4.0 * vol_each / (1.5 * math.pi)) ** (1.0 / 3.0)
         area = math.pi * d * 1.5 * d + math.pi * d**2 / 4.0
     cp, _basis = MASS_MATERIALS[material]
