@@ -71,10 +71,13 @@ def run(args: argparse.Namespace) -> int:
         offset = model.LEAF_BELOW_AIR_CLEAR_K * h.roof_material.longwave_transmittance
         hold = alarm + offset
         what = f"{crop.name} ({stage.name})" if crop else "your threshold"
-        basis = (
-            f"{what}: plants at {alarm:.1f} °C, air {offset:.1f} K warmer "
-            "(leaves below air on a clear night)"
-        )
+        if offset < 0.05:
+            basis = f"{what}: plants at {alarm:.1f} °C (the roof passes almost no thermal IR: leaves at air temperature)"
+        else:
+            basis = (
+                f"{what}: plants at {alarm:.1f} °C, air {offset:.1f} K warmer "
+                "(leaves run below the air on a clear night)"
+            )
     else:
         raise InputError("say what to hold: --hold T, or --crop NAME", where="grower size")
     if hold <= outside:
