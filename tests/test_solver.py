@@ -26,7 +26,7 @@ from scipy.integrate import solve_ivp
 from scipy.linalg import expm
 
 from grower import solver
-from grower.solver import FLOAT, FULL, HOLD, VENT, Network, lumped
+from grower.solver import FLOAT, FULL, HOLD, VENT, Network, lumped, split
 
 H = 3600.0
 
@@ -480,7 +480,7 @@ def test_switching_steps_split_the_same_one_by_one_or_all_at_once(monkeypatch):
     sp = np.where((t % 86400 >= 6 * H) & (t % 86400 < 18 * H), 12.0, 7.0)
     one = solver.thermostat(net, t, u, [10.0, 10.0], sp, 14000.0, 24.0, p)
     three = solver.thermostat(net, t, np.stack([u] * 3), [10.0, 10.0], sp, 14000.0, 24.0, p)
-    monkeypatch.setattr(solver, "_SCALAR_MAX", 0)
+    monkeypatch.setattr(split, "_SCALAR_MAX", 0)
     arrays = solver.thermostat(net, t, np.stack([u] * 3), [10.0, 10.0], sp, 14000.0, 24.0, p)
     for tr in (three, arrays):
         assert np.allclose(tr.temps_c, one.temps_c, rtol=0, atol=1e-11)

@@ -1,0 +1,260 @@
+"""Crossings, minima and hours below of the plant temperature on the exact solution.
+
+References
+----------
+W. H. Press et al. (2007), *Numerical Recipes*, 3rd ed., Cambridge University Press,
+sec. 9.4 (Newton-Raphson safeguarded by bisection).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .explin import _ExpLin, _profile
+from .modes import FLOAT, FULL
+from .network import _float_array
+from .problem import _series
+from .results import Crossing, Trajectory
+
+
+@dataclass(frozen=True)
+class _Pieces:
+    """Sub-step pieces of a run between switches (whole steps are kept on the grid)."""
+
+    split: np.ndarray  # (M, N-1) bool: step has switches
+    member: np.ndarray
+    step: np.ndarray
+    s0: np.ndarray
+    w: np.ndarray
+    mode: np.ndarray
+    x0: np.ndarray  # (K, n)
+
+
+def _pieces(tr: Trajectory) -> _Pieces:
+    mm, n1 = tr.mode.shape
+    sw = tr.switches
+    split = np.zeros((mm, n1), dtype=bool)
+    if sw.member.size == 0:
+        e = np.zeros(0, dtype=int)
+        return _Pieces(split, e, e, np.zeros(0), np.zeros(0), e, np.zeros((0, tr.network.n_nodes)))
+    split[sw.member, sw.step] = True
+    new = np.ones(sw.member.size, dtype=bool)
+    new[1:] = (sw.member[1:] != sw.member[:-1]) | (sw.step[1:] != sw.step[:-1])
+    last = np.ones(sw.member.size, dtype=bool)
+    last[:-1] = new[1:]
+    h = tr.problem.h
+    end = np.where(last, h[sw.step], np.roll(sw.offset_s, -1))
+    gm, gk = sw.member[new], sw.step[new]
+    member = np.concatenate([gm, sw.member])
+    step = np.concatenate([gk, sw.step])
+    s0 = np.concatenate([np.zeros(gm.size), sw.offset_s])
+    s1 = np.concatenate([sw.offset_s[new], end])
+    mode = np.concatenate([tr.mode[gm, gk], sw.mode]).astype(int)
+    x0 = np.concatenate([tr.temps_c[gm, gk], sw.state_c])
+    keep = s1 > s0
+    return _Pieces(split, member[keep], step[keep], s0[keep], (s1 - s0)[keep], mode[keep], x0[keep])
+
+
+def _float_el(tr, member, step, s0, w, x0, q, weight, g0, e1):  # type: ignore[no-untyped-def]
+    """_ExpLin of ``weight . z`` for float pieces (full network, heater q)."""
+    prob, full = tr.problem, tr.network._full
+    m = tr.network.n_boundaries
+    bk = prob.bt[:, member % prob.bt.shape[1], step].T
+    db = prob.bt[:, member % prob.bt.shape[1], step + 1].T - bk
+    h = prob.h[step][:, None]
+    beta = bk + db * (s0[:, None] / h) + q[:, None] * full.bm[:, m]
+    z0 = x0 @ full.w.T
+    return _ExpLin(full.lam, weight * z0, weight * beta, weight * db / h, g0, e1, w)
+
+
+def _clamp_el(tr, member, step, s0, w, x0, tc, weight, g0, e1):  # type: ignore[no-untyped-def]
+    """_ExpLin of ``weight . z_red`` for pieces with the air held at tc."""
+    prob, red = tr.problem, tr.network._red
+    m = tr.network.n_boundaries
+    bk = prob.brt[:, member % prob.brt.shape[1], step].T
+    db = prob.brt[:, member % prob.brt.shape[1], step + 1].T - bk
+    h = prob.h[step][:, None]
+    beta = bk + db * (s0[:, None] / h) + tc[:, None] * red.bm[:, m]
+    z0 = x0[:, 1:] @ red.w.T
+    return _ExpLin(red.lam, weight * z0, weight * beta, weight * db / h, g0, e1, w)
+
+
+def _member_values(value: object, name: str, mm: int) -> np.ndarray:
+    a = _float_array(value, name)
+    if a.ndim > 1 or (a.ndim == 1 and a.size not in (1, mm)):
+        raise ValueError(f"{name} must be a number or one per member ({mm}); got shape {a.shape}")
+    return np.array(np.broadcast_to(a.reshape(-1), (mm,)))
+
+
+def _offset(offset_k: object, nt: int, mm: int) -> np.ndarray:
+    if offset_k is None:
+        return np.zeros((1, nt))
+    off = _series(offset_k, "offset_k", nt, None)
+    if off.shape[0] not in (1, mm):
+        raise ValueError(f"offset_k has {off.shape[0]} members, the trajectory {mm}")
+    if np.any(off < 0):
+        raise ValueError("offset_k must be >= 0 (plants run colder than the air, not warmer)")
+    return off
+
+
+def _scatter_min(best, best_t, member, val, t):  # type: ignore[no-untyped-def]
+    """best[member] = min(best, val), with the time of the minimum."""
+    better = val < best[member]
+    if better.any():
+        o = np.argsort(-val[better], kind="stable")
+        mi = member[better][o]
+        best[mi] = val[better][o]
+        best_t[mi] = t[better][o]
+
+
+def analyse(
+    trajectory: Trajectory, threshold_c: float | np.ndarray, offset_k: np.ndarray | None = None
+) -> Crossing:
+    """Threshold crossing, minimum and hours below of the plant temperature, per member.
+
+    The plant temperature is the air node less ``offset_k`` (>= 0, linear between
+    samples). Everything is found on the exact solution inside the steps (and inside the
+    pieces between thermostat switches): a grid step whose two end values and curvature
+    bound ``h^2/8 max|g''|`` leave no doubt is settled at once, any other is analysed
+    exactly (inflection points, extrema, roots).
+
+    Parameters
+    ----------
+    trajectory : from `free_float` or `thermostat`
+    threshold_c : plant damage temperature [degC], a number or one per member
+    offset_k : None, (N,) or (M, N) air-to-plant temperature margin [K]
+
+    Returns
+    -------
+    Crossing
+
+    References
+    ----------
+    Press et al. (2007), sec. 9.4 (safeguarded Newton on the exact solution); the curvature
+    bound is the linear-interpolation remainder ``h^2/8 max|g''|`` of elementary analysis.
+    """
+    tr = trajectory
+    prob, net = tr.problem, tr.network
+    mm, nt = tr.temps_c.shape[:2]
+    t = tr.times_s
+    th = _member_values(threshold_c, "threshold_c", mm)
+    off = _offset(offset_k, nt, mm)
+    plant = tr.temps_c[:, :, 0] - off
+    g = plant - th[:, None]
+    ar = np.arange(mm)
+    kmin = np.argmin(plant, axis=1)
+    best, best_t = plant[ar, kmin].copy(), t[kmin].copy()
+    first = np.full(mm, np.inf)
+    below = np.zeros(mm)
+    h = prob.h
+    pcs = _pieces(tr)
+    doff = np.diff(off, axis=1) / h  # (Mo, N-1)
+    full = net._full  # type: ignore[attr-defined]
+    m = net.n_boundaries
+    # whole steps in a float mode: bound the curvature, analyse the doubtful ones
+    mode = tr.mode
+    ctl = tr.control is not None
+    ga, gb = g[:, :-1], g[:, 1:]
+    qmax = np.zeros(mm) if not ctl else np.broadcast_to(tr.control.q_max_w, (mm,))  # type: ignore[union-attr]
+    if ctl:
+        flo = ((mode == FLOAT) | (mode == FULL)) & ~pcs.split
+        qstep = np.where(mode == FULL, qmax[:, None], 0.0)
+    else:
+        flo = np.ones((mm, nt - 1), dtype=bool)
+        qstep = np.zeros((1, 1))
+    zt = (
+        tr.modal_z
+        if tr.modal_z is not None
+        else np.tensordot(full.w, np.moveaxis(tr.temps_c, -1, 0), axes=([1], [0]))
+    )
+    bound = np.zeros((mm, nt - 1))
+    for i, lam in enumerate(full.lam):
+        k2 = lam * zt[i, :, :-1]
+        k2 += prob.bt[i, :, :-1]
+        if ctl:
+            k2 += qstep * full.bm[i, m]
+        k2 *= lam
+        k2 += prob.dbt[i] / h
+        np.abs(k2, out=k2)
+        k2 *= abs(full.v[0, i])
+        bound += k2
+    bound *= h**2 / 8
+    if ctl:
+        bound[~flo] = 0.0
+    lob = np.minimum(ga, gb)
+    lob -= bound
+    hib = np.maximum(ga, gb)
+    hib += bound
+    is_below = hib < 0
+    unsure = lob <= 0
+    unsure &= ~is_below
+    deep = lob < (best - th)[:, None]
+    deep &= ~unsure
+    if ctl:
+        is_below &= ~pcs.split
+        unsure &= ~pcs.split
+        deep &= flo
+    below += is_below @ h
+    hit = is_below.any(axis=1)
+    first[hit] = np.minimum(first[hit], t[np.argmax(is_below[hit], axis=1)])
+    mi, ki = np.nonzero(unsure | deep)
+    fl = flo[mi, ki]
+    items = []  # (member, t0, el)
+    if mi.size:
+        g0 = g[mi, ki]
+        e1 = -doff[mi % off.shape[0], ki]
+        if fl.any():
+            j = fl
+            el = _float_el(
+                tr,
+                mi[j],
+                ki[j],
+                np.zeros(j.sum()),
+                h[ki[j]],
+                tr.temps_c[mi[j], ki[j]],
+                qstep[mi[j], ki[j]] if ctl else np.zeros(int(j.sum())),
+                full.v[0],
+                g0[j],
+                e1[j],
+            )
+            items.append((mi[j], t[ki[j]], el, unsure[mi[j], ki[j]]))
+        if (~fl).any():
+            j = ~fl
+            r0 = np.zeros((j.sum(), 0))
+            items.append(
+                (
+                    mi[j],
+                    t[ki[j]],
+                    _ExpLin(np.zeros(0), r0, r0, r0, g0[j], e1[j], h[ki[j]]),
+                    unsure[mi[j], ki[j]],
+                )
+            )
+    # pieces between switches
+    if pcs.member.size:
+        pm, pk = pcs.member, pcs.step
+        offa = off[pm % off.shape[0], pk] + doff[pm % off.shape[0], pk] * pcs.s0
+        e1 = -doff[pm % off.shape[0], pk]
+        isf = (pcs.mode == FLOAT) | (pcs.mode == FULL)
+        if isf.any():
+            j = isf
+            q = np.where(pcs.mode[j] == FULL, qmax[pm[j]], 0.0)
+            g0 = pcs.x0[j, 0] - offa[j] - th[pm[j]]
+            el = _float_el(
+                tr, pm[j], pk[j], pcs.s0[j], pcs.w[j], pcs.x0[j], q, full.v[0], g0, e1[j]
+            )
+            items.append((pm[j], t[pk[j]] + pcs.s0[j], el, np.ones(j.sum(), dtype=bool)))
+        if (~isf).any():
+            j = ~isf
+            tc = pcs.x0[j, 0]
+            r0 = np.zeros((j.sum(), 0))
+            el = _ExpLin(np.zeros(0), r0, r0, r0, tc - offa[j] - th[pm[j]], e1[j], pcs.w[j])
+            items.append((pm[j], t[pk[j]] + pcs.s0[j], el, np.ones(j.sum(), dtype=bool)))
+    for member, t0, el, count in items:
+        f, gmin, smin, blw = _profile(el)
+        below += np.bincount(member[count], weights=blw[count], minlength=mm)
+        ft = np.where(np.isnan(f), np.inf, t0 + f)
+        np.minimum.at(first, member, ft)
+        _scatter_min(best, best_t, member, gmin + th[member], t0 + smin)
+    return Crossing(th, np.where(np.isinf(first), np.nan, first), best, best_t, below / 3600.0)

@@ -1,0 +1,233 @@
+"""Exact analysis inside a step of ``g(s) = a + b s + sum_i c_i exp(lam_i s)``.
+
+Its inflection points are the zeros of ``sum_i c_i lam_i^2 exp(lam_i s)`` (closed form
+for two terms; for more, Rolle's theorem on ``exp(-lam_1 s) g''`` gives a recursion);
+between them ``g`` is convex or concave, so extrema and threshold crossings are bracketed
+and found by a safeguarded Newton iteration on the exact solution.
+
+References
+----------
+W. H. Press et al. (2007), *Numerical Recipes*, 3rd ed., Cambridge University Press,
+sec. 9.4 (Newton-Raphson safeguarded by bisection).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+class _ExpLin:
+    """A batch of ``g(s) = g0 + e1 s + sum_i [em z_i + em/lam b_i + (em - lam s)/lam^2 c_i]``,
+    ``em = expm1(lam_i s)``, on ``0 <= s <= w``: the exact solution of one mode set from
+    weighted modal state z, forcing b and forcing slope c. Written as an increment on g0 so
+    that g near a switching point is not lost in round-off."""
+
+    def __init__(self, lam, z, b, c, g0, e1, w):  # type: ignore[no-untyped-def]
+        self.lam, self.z, self.b, self.c = lam, z, b, c
+        self.g0, self.e1, self.w = g0, e1, w
+        self.k1 = lam * z + b  # g' coefficients at s = 0
+        self.k2 = lam * self.k1 + c  # g'' = sum k2 exp(lam s)
+
+    def take(self, i: np.ndarray) -> _ExpLin:
+        return _ExpLin(self.lam, self.z[i], self.b[i], self.c[i], self.g0[i], self.e1[i], self.w[i])
+
+    def _x(self, s: np.ndarray):  # type: ignore[no-untyped-def]
+        x = s[..., None] * self.lam
+        sh = (slice(None),) + (None,) * (s.ndim - 1)
+        return x, np.expm1(x), sh
+
+    def val(self, s: np.ndarray) -> np.ndarray:
+        x, em, sh = self._x(s)
+        lam = self.lam
+        t = em * self.z[sh] + em / lam * self.b[sh] + (em - x) / (lam * lam) * self.c[sh]
+        return self.g0[sh] + self.e1[sh] * s + t.sum(axis=-1)
+
+    def d1(self, s: np.ndarray) -> np.ndarray:
+        x, em, sh = self._x(s)
+        t = (em + 1.0) * self.k1[sh] + em / self.lam * self.c[sh]
+        return self.e1[sh] + t.sum(axis=-1)
+
+    def d2(self, s: np.ndarray) -> np.ndarray:
+        x, em, sh = self._x(s)
+        return ((em + 1.0) * self.k2[sh]).sum(axis=-1)
+
+
+def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
+    """Root in [a, b] of f (fd(s) -> (f, f')), f(a) and f(b) of opposite sign: Newton
+    steps kept inside a shrinking bracket, else bisection (Numerical Recipes sec. 9.4)."""
+    lo, hi = a.copy(), b.copy()
+    pos = fa > 0
+    x = 0.5 * (lo + hi)
+    tol = 1e-13 * (b - a) + 1e-300
+    for _ in range(200):
+        f, df = fd(x)
+        same = (f > 0) == pos
+        lo = np.where(same, x, lo)
+        hi = np.where(same, hi, x)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            xn = x - f / df
+        out = ~np.isfinite(xn) | (xn <= np.minimum(lo, hi)) | (xn >= np.maximum(lo, hi))
+        # a Newton step below the tolerance that only fails to enter the bracket by
+        # round-off has converged; any other goes to bisection
+        xn = np.where(out, np.where(np.abs(xn - x) <= tol, x, 0.5 * (lo + hi)), xn)
+        done = (f == 0) | (np.abs(xn - x) <= tol) | (np.abs(hi - lo) <= tol)
+        x = np.where(f == 0, x, xn)
+        if done.all():
+            break
+    return x
+
+
+def _roots_sum(coef: np.ndarray, mu: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """Zeros in (0, w) of ``sum_i coef_i exp(mu_i s)``: (K, r-1), sorted, NaN-padded."""
+    kk, r = coef.shape
+    if r < 2:
+        return np.zeros((kk, 0))
+    j = int(np.argmax(mu))
+    nu = mu - mu[j]
+    if r == 2:
+        o = 1 - j
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s = np.log(-coef[:, j] / coef[:, o]) / nu[o]
+        ok = np.isfinite(s) & (s > 0) & (s < w)
+        return np.where(ok, s, np.nan)[:, None]
+    oth = np.array([i for i in range(r) if i != j])
+    dco = coef[:, oth] * nu[oth]
+    sub = _roots_sum(dco, nu[oth], w)
+    br = np.sort(
+        np.concatenate(
+            [np.zeros((kk, 1)), np.where(np.isnan(sub), w[:, None], sub), w[:, None]], 1
+        ),
+        1,
+    )
+
+    def f_of(s, rows):  # type: ignore[no-untyped-def]
+        e = np.exp(s[..., None] * nu[oth])
+        return coef[rows, j] + (coef[rows][:, oth] * e).sum(-1), (dco[rows] * e).sum(-1)
+
+    fb = coef[:, j][:, None] + (coef[:, None, oth] * np.exp(br[..., None] * nu[oth])).sum(-1)
+    out = np.full((kk, r - 1), np.nan)
+    for p in range(r - 1):
+        sel = np.flatnonzero((fb[:, p] * fb[:, p + 1] < 0) & (br[:, p + 1] > br[:, p]))
+        if sel.size:
+            out[sel, p] = _solve(
+                lambda s, sel=sel: f_of(s, sel), br[sel, p], br[sel, p + 1], fb[sel, p]
+            )
+    return np.sort(out, axis=1)
+
+
+def _convex_breaks(el: _ExpLin) -> np.ndarray:
+    """0, the inflection points, w: (K, P); g is convex or concave between them."""
+    infl = _roots_sum(el.k2, el.lam, el.w)
+    w = el.w[:, None]
+    return np.sort(np.concatenate([np.zeros_like(w), np.where(np.isnan(infl), w, infl), w], 1), 1)
+
+
+def _first_root(el: _ExpLin, entered: bool) -> np.ndarray:
+    """First s in [0, w] with g(s) <= 0 (NaN if none). ``entered``: g(0) ~ 0 is the state
+    a mode was just entered in; it counts only if g heads down."""
+    kk = el.w.size
+    root = np.full(kk, np.nan)
+    if kk == 0:
+        return root
+    br = _convex_breaks(el)
+    gv = el.val(br)
+    gv[:, 0] = el.g0
+    open_ = np.ones(kk, dtype=bool)
+    at0 = gv[:, 0] <= 0
+    if entered:
+        scale = np.abs(el.e1) + (np.abs(el.lam * el.z) + np.abs(el.b)).sum(-1) + 1e-300
+        d0 = el.d1(np.zeros(kk))
+        tie = np.abs(d0) <= 1e-12 * scale
+        down = (d0 < 0) & ~tie | tie & (el.d2(np.zeros(kk)) < 0)
+        at0 &= down
+        gv[:, 0] = np.where(
+            at0 | (gv[:, 0] > 0), gv[:, 0], 1e-300
+        )  # just entered: g(0) counts as +0
+    root[at0] = 0.0
+    open_ &= ~at0
+    ba = []
+    for p in range(br.shape[1] - 1):
+        a, b = br[:, p], br[:, p + 1]
+        ga, gb = gv[:, p], gv[:, p + 1]
+        cand = open_ & (b > a)
+        hit = cand & (gb <= 0)
+        if hit.any():
+            i = np.flatnonzero(hit)
+            ba.append((i, a[i], b[i], ga[i]))
+            open_[i] = False
+        dip = np.flatnonzero(cand & ~hit)
+        if dip.size:
+            sub = el.take(dip)
+            a_, b_ = a[dip], b[dip]
+            da, db = sub.d1(a_), sub.d1(b_)
+            convex = sub.d2(0.5 * (a_ + b_)) > 0
+            maybe = convex & (da < 0) & (db > 0)
+            # tangents at both ends bound a convex g from below
+            with np.errstate(divide="ignore", invalid="ignore"):
+                sx = (gb[dip] - ga[dip] + da * a_ - db * b_) / (da - db)
+            lb = ga[dip] + da * (sx - a_)
+            # a dip within round-off of 0 right where a mode was entered is no switch
+            noise = (
+                1e-13 * (np.abs(sub.z).sum(-1) + np.abs(sub.b / sub.lam).sum(-1) + np.abs(sub.g0))
+                if entered
+                else np.zeros(dip.size)
+            )
+            maybe &= ~(lb > -noise)  # the minimum is >= lb: no deeper dip is possible
+            if maybe.any():
+                j = np.flatnonzero(maybe)
+                sj = sub.take(j)
+                sm = _solve(lambda s, sj=sj: (sj.d1(s), sj.d2(s)), a_[j], b_[j], da[j])
+                gm = sj.val(sm)
+                low = gm <= -noise[j]
+                i = dip[j[low]]
+                if i.size:
+                    ba.append((i, a_[j[low]], sm[low], ga[i]))
+                    open_[i] = False
+    if ba:
+        i = np.concatenate([x[0] for x in ba])
+        a = np.concatenate([x[1] for x in ba])
+        b = np.concatenate([x[2] for x in ba])
+        fa = np.concatenate([x[3] for x in ba])
+        sub = el.take(i)
+        gb = sub.val(b)
+        root[i] = np.where(gb == 0, b, _solve(lambda s: (sub.val(s), sub.d1(s)), a, b, fa))
+    return root
+
+
+def _profile(el: _ExpLin) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Exact first zero (g <= 0), minimum, its place and the length with g < 0, per item."""
+    kk = el.w.size
+    br = _convex_breaks(el)
+    d = el.d1(br)
+    ext = np.full((kk, br.shape[1] - 1), np.nan)
+    for p in range(br.shape[1] - 1):
+        sel = np.flatnonzero((d[:, p] * d[:, p + 1] < 0) & (br[:, p + 1] > br[:, p]))
+        if sel.size:
+            sub = el.take(sel)
+            ext[sel, p] = _solve(
+                lambda s, sub=sub: (sub.d1(s), sub.d2(s)), br[sel, p], br[sel, p + 1], d[sel, p]
+            )
+    mono = np.sort(np.concatenate([br, np.where(np.isnan(ext), el.w[:, None], ext)], 1), 1)
+    gv = el.val(mono)
+    gv[:, 0] = el.g0
+    k = np.argmin(gv, axis=1)
+    ar = np.arange(kk)
+    gmin, smin = gv[ar, k], mono[ar, k]
+    a, b = mono[:, :-1], mono[:, 1:]
+    ga, gb = gv[:, :-1], gv[:, 1:]
+    cross = (ga * gb < 0) & (b > a)
+    roots = np.full(a.shape, np.nan)
+    ii, pp = np.nonzero(cross)
+    if ii.size:
+        sub = el.take(ii)
+        roots[ii, pp] = _solve(lambda s: (sub.val(s), sub.d1(s)), a[ii, pp], b[ii, pp], ga[ii, pp])
+    full_below = (ga <= 0) & (gb <= 0) & ~((ga == 0) & (gb == 0))
+    part = np.where(ga < 0, roots - a, b - roots)
+    below = np.where(full_below, b - a, np.where(cross, part, 0.0)).sum(axis=1)
+    first = np.full(kk, np.nan)
+    first[gv[:, 0] <= 0] = 0.0
+    hitp = (gb <= 0) & (b > a)
+    for p in range(a.shape[1] - 1, -1, -1):  # keep the earliest
+        h = hitp[:, p] & (gv[:, 0] > 0)
+        first[h] = np.where(gb[h, p] == 0, b[h, p], roots[h, p])
+    return first, gmin, smin, below

@@ -1,0 +1,102 @@
+"""The free-floating run (no thermostat) and its first crossing.
+
+References
+----------
+C. F. Van Loan (1978), "Computing integrals involving the matrix exponential",
+IEEE Transactions on Automatic Control AC-23(3):395-404.
+G. F. Franklin, J. D. Powell and M. L. Workman (1998), *Digital Control of Dynamic
+Systems*, 3rd ed., Addison-Wesley (the first-order, "triangle", hold equivalent).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .analysis import analyse
+from .network import Network
+from .problem import _problem, _project, _series
+from .results import Trajectory, _no_switches
+from .stepping import _recur1
+
+
+def free_float(
+    network: Network,
+    times_s: np.ndarray,
+    boundary_c: np.ndarray,
+    initial_c: np.ndarray,
+    gains_w: np.ndarray | None = None,
+    heat_w: np.ndarray | None = None,
+) -> Trajectory:
+    """Exact response with no thermostat: every node, every member, at every grid time.
+
+    Parameters
+    ----------
+    network : `Network` (node 0 is the air)
+    times_s : (N,) strictly increasing times [s], any spacing
+    boundary_c : (N, m) or (M, N, m) boundary temperatures [degC], linear between samples
+        ((N,) allowed when m = 1)
+    initial_c : (n,) or (M, n) node temperatures at ``times_s[0]`` [degC]
+    gains_w : None, (N, n) or (M, N, n) heat input to each node [W] (sun, people, ...),
+        linear between samples
+    heat_w : None, (N,) or (M, N) a prescribed heater output on the air node [W], linear
+        between samples; reported in `Trajectory.heat_w` and ``heat_j``
+
+    Returns
+    -------
+    Trajectory
+
+    References
+    ----------
+    Van Loan (1978); Franklin, Powell and Workman (1998) (see the module notes).
+    """
+    prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w)
+    mm, nt = prob.n_members, prob.times_s.size
+    full, tab = network._full, prob.full  # type: ignore[attr-defined]
+    z0 = prob.initial_c @ full.w.T  # (Mi, r)
+    z = np.empty((full.lam.size, mm, nt))
+    for i in range(full.lam.size):
+        f = tab.f1[:, i] * prob.bt[i, :, :-1] + tab.f2[:, i] * prob.dbt[i]
+        z[i] = _recur1(tab.e[:, i], prob.uniform, f, z0[:, i], mm)
+    temps = _project(full.v, np.moveaxis(z, 0, -1))  # (n, M, N)
+    temps[:, :, 0] = np.broadcast_to(prob.initial_c, (mm, network.n_nodes)).T
+    temps = np.moveaxis(temps, 0, -1)
+    if heat_w is None:
+        q, step_q = np.zeros((mm, nt)), np.zeros((mm, nt - 1))
+    else:
+        q = np.array(np.broadcast_to(_series(heat_w, "heat_w", nt, None), (mm, nt)))
+        step_q = 0.5 * prob.h * (q[:, :-1] + q[:, 1:])
+    zero = np.zeros((mm, nt - 1))
+    return Trajectory(
+        prob.times_s,
+        temps,
+        q,
+        np.zeros((mm, nt)),
+        step_q.sum(axis=1),
+        np.zeros(mm),
+        step_q,
+        zero,
+        None,
+        np.zeros((mm, nt - 1), dtype=np.int8),
+        _no_switches(network.n_nodes),
+        network,
+        prob,
+        None,
+        z,
+    )
+
+
+def first_crossing(
+    network: Network,
+    times_s: np.ndarray,
+    boundary_c: np.ndarray,
+    initial_c: np.ndarray,
+    threshold_c: float | np.ndarray,
+    gains_w: np.ndarray | None = None,
+    offset_k: np.ndarray | None = None,
+    heat_w: np.ndarray | None = None,
+) -> np.ndarray:
+    """(M,) first time [s] the free-floating plant temperature reaches ``threshold_c``
+    (NaN where it never does); ``heat_w`` is a prescribed heater series on the air node.
+    Shorthand for ``analyse(free_float(...), threshold_c, offset_k).time_s``."""
+    tr = free_float(network, times_s, boundary_c, initial_c, gains_w, heat_w)
+    return analyse(tr, threshold_c, offset_k).time_s

@@ -1,0 +1,388 @@
+"""A step with switches for one member in plain Python floats (the same rules as `split`).
+
+Inside a step a watched quantity (the air less a limit, or the held power less a limit)
+is ``g(s) = g0 + b1 s + sum_i a_i expm1(lam_i s)``, the exact solution of the mode
+written as an increment on ``g0`` so that g near a switching point is not lost in
+round-off. Its first zero is bracketed between the inflection points (closed form for
+two modes) and found by Newton steps kept inside the bracket, else bisection. For one
+member numpy's per-call overhead would dominate such tiny arrays, so this is plain
+``math``.
+
+References
+----------
+W. H. Press et al. (2007), *Numerical Recipes*, 3rd ed., Cambridge University Press,
+sec. 9.4 (Newton-Raphson safeguarded by bisection).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from operator import add as _add
+from operator import mul as _mul
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from .explin import _roots_sum
+from .modes import _MAX_SWITCHES, _TOL_K, FLOAT, FULL, HOLD, VENT
+from .stepping import _sphi
+
+if TYPE_CHECKING:
+    from .runs import _Run
+
+_expm1, _exp, _inf = math.expm1, math.exp, math.inf
+
+
+def _newton(
+    fd: Callable[[float], tuple[float, float]], a: float, b: float, fa: float, fb: float | None
+) -> float:
+    """Root in [a, b] of f (``fd(s) -> (f, f')``), f(a) and f(b) of opposite sign: Newton
+    steps kept inside a shrinking bracket, else bisection; with ``fb`` it starts from the
+    secant instead of the midpoint (Numerical Recipes sec. 9.4)."""
+    lo, hi, pos = a, b, fa > 0
+    x = 0.5 * (a + b)
+    if fb is not None and fa != fb:
+        xs = a - fa * (b - a) / (fb - fa)
+        if a < xs < b:
+            x = xs
+    tol = 1e-13 * (b - a) + 1e-300
+    for _ in range(200):
+        fx, d = fd(x)
+        if fx == 0:
+            return x
+        if (fx > 0) == pos:
+            lo = x
+        else:
+            hi = x
+        xn = x - fx / d if d != 0 else math.nan
+        if not (min(lo, hi) < xn < max(lo, hi)):
+            # a Newton step below the tolerance that only fails to enter the bracket by
+            # round-off has converged; any other goes to bisection
+            xn = x if abs(xn - x) <= tol else 0.5 * (lo + hi)
+        if abs(xn - x) <= tol or abs(hi - lo) <= tol:
+            return xn
+        x = xn
+    return x
+
+
+def _first_root(
+    g0: float,
+    b1: float,
+    a: list[float],
+    lam: list[float],
+    w: float,
+    gw: float,
+    scale: float,
+    noise: float,
+) -> float:
+    """First s in [0, w] with g(s) <= 0 for a mode just entered (inf if none); gw = g(w).
+
+    ``g(0) ~ 0`` counts only if g heads down; a dip within round-off (``noise``) of 0 is
+    no switch; ``scale`` is the size of g' at 0 for telling a tangent start. The caller
+    has already tried the bound ``|g''| <= sum |k2|`` that rules out most roots.
+    """
+    k2 = [ai * li * li for ai, li in zip(a, lam, strict=True)]  # g'' = sum k2 exp(lam s)
+    # g'' >= kneg, the sum of the negative k2 (exp(lam s) <= 1), so on [0, w] g lies above
+    # the concave g0 + d0 s + kneg s^2 / 2, and above its tangent at 0 if g is convex
+    d0, tie = b1 + sum(map(_mul, a, lam)), 1e-12 * scale  # g'(0), a tangent start
+    kneg = sum(k for k in k2 if k < 0)
+    if gw > 0 and (
+        (g0 > 0 or (g0 == 0 and d0 > tie))
+        and g0 + d0 * w + kneg * w * w / 2 > 0
+        or kneg == 0
+        and (g0 > 0 or d0 >= -tie)
+        and min(g0, g0 + d0 * w) > -noise
+    ):
+        return _inf
+
+    def f(s: float) -> float:
+        out = g0 + b1 * s
+        for ai, li in zip(a, lam, strict=True):
+            out += ai * _expm1(li * s)
+        return out
+
+    def fd(s: float) -> tuple[float, float]:
+        out, d = g0 + b1 * s, b1
+        for ai, li in zip(a, lam, strict=True):
+            em = _expm1(li * s)
+            out += ai * em
+            d += ai * li * (em + 1.0)
+        return out, d
+
+    def dd(s: float) -> tuple[float, float]:
+        d, d2 = b1, 0.0
+        for ai, li, ki in zip(a, lam, k2, strict=True):
+            e = _exp(li * s)
+            d += ai * li * e
+            d2 += ki * e
+        return d, d2
+
+    r = len(lam)
+    br = [0.0, w]
+    if r == 2:
+        j = 0 if lam[0] >= lam[1] else 1
+        o = 1 - j
+        if k2[o] != 0 and -k2[j] / k2[o] > 0 and lam[o] != lam[j]:
+            si = math.log(-k2[j] / k2[o]) / (lam[o] - lam[j])
+            if 0 < si < w:
+                br = [0.0, si, w]
+    elif r > 2:
+        infl = _roots_sum(np.array([k2]), np.array(lam), np.array([w]))[0]
+        br = [0.0, *sorted(float(x) for x in infl[~np.isnan(infl)]), w]
+    gv = [g0] + [f(x) for x in br[1:-1]] + [gw]
+    if g0 <= 0:
+        d0 = dd(0.0)
+        tie = abs(d0[0]) <= 1e-12 * scale
+        if (d0[0] < 0 and not tie) or (tie and d0[1] < 0):
+            return 0.0
+        gv[0] = 1e-300  # just entered: g(0) counts as +0
+    for p in range(len(br) - 1):
+        lo, hi = br[p], br[p + 1]
+        if hi <= lo:
+            continue
+        ga, gb = gv[p], gv[p + 1]
+        if gb <= 0:
+            if gb == 0:
+                return hi
+            # secant start unless g(0) only counts as +0 (a mode just entered)
+            return _newton(fd, lo, hi, ga, gb if ga > 1e-250 else None)
+        (da, _), (db, _) = dd(lo), dd(hi)
+        if dd(0.5 * (lo + hi))[1] > 0 and da < 0 < db:
+            # tangents at both ends bound a convex g from below
+            sx = (gb - ga + da * lo - db * hi) / (da - db)
+            if not ga + da * (sx - lo) > -noise:  # the minimum is above: no deeper dip
+                sm = _newton(dd, lo, hi, da, None)
+                if f(sm) <= -noise:
+                    return _newton(fd, lo, sm, ga, None)
+    return _inf
+
+
+class _ScalarStep:
+    """`_Run._exact` for one member in Python floats: the same rules, step by step."""
+
+    def __init__(self, run: _Run) -> None:
+        self.run = run
+        f, r = run.f, run.r
+        self.lam, self.w, self.v = f.lam.tolist(), f.w.tolist(), f.v.tolist()
+        self.v0, self.bq = self.v[0], run.bq.tolist()
+        self.lr, self.wr, self.vr = r.lam.tolist(), r.w.tolist(), r.v.tolist()
+        self.bc, self.wq = run.bc.tolist(), run.wq.tolist()
+        self.gsum, self.c0 = run.gsum, run.c0
+        self.tolq = run.tolq
+
+    def _inputs(self, k: int, i: int, pack: np.ndarray | None) -> None:
+        """Step k's inputs for member i, from the run's arrays or from ``pack``, whose row
+        k is (h, b (r), db (r), b_held (r'), db_held (r'), qb, dqb, setpoint, vent)."""
+        rn = self.run
+        self.qm = float(rn.q[i])
+        if pack is None:
+            ctl = rn.ctl
+
+            def row(a: np.ndarray) -> np.ndarray:
+                return a[i if a.shape[0] > 1 else 0, k]
+
+            self.h = float(rn.p.h[k])
+            self.bk, self.dbk = row(rn.b).tolist(), row(rn.db).tolist()
+            self.brk, self.dbrk = row(rn.bru).tolist(), row(rn.dbr).tolist()
+            self.qbk, self.dqbk = float(row(rn.p.qb)), float(row(rn.dqb))
+            self.sp, self.vt = float(row(ctl.setpoint_c)), float(row(ctl.vent_c))
+            return
+        v = pack[k].tolist()
+        rf, rr = len(self.lam), len(self.lr)
+        self.h = v[0]
+        self.bk, self.dbk = v[1 : 1 + rf], v[1 + rf : 1 + 2 * rf]
+        j = 1 + 2 * rf
+        self.brk, self.dbrk = v[j : j + rr], v[j + rr : j + 2 * rr]
+        self.qbk, self.dqbk, self.sp, self.vt = v[j + 2 * rr :]
+
+    def _mode(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
+        """Modes, modal state, forcing and its slope of mode md at offset s from state x;
+        the clamped temperature (or heater output) and the weights of the watched value."""
+        h = self.h
+        frac = s / h
+        if md in (FLOAT, FULL):
+            q = self.qm if md == FULL else 0.0
+            z = [sum(map(_mul, row, x)) for row in self.w]
+            beta = [
+                b + d * frac + q * e for b, d, e in zip(self.bk, self.dbk, self.bq, strict=True)
+            ]
+            return self.lam, z, beta, [d / h for d in self.dbk], q, self.v0
+        tc = self.sp if md == HOLD else self.vt
+        xr = x[1:]
+        z = [sum(map(_mul, row, xr)) for row in self.wr]
+        beta = [b + d * frac + c * tc for b, d, c in zip(self.brk, self.dbrk, self.bc, strict=True)]
+        return self.lr, z, beta, [d / h for d in self.dbrk], tc, self.wq
+
+    def _qreq(self, s: float, x: list[float], tc: float) -> tuple[float, float]:
+        """Heater power that holds the air at tc from state x at offset s, and its rate."""
+        frac = s / self.h
+        xr = x[1:]
+        q = self.qbk + self.dqbk * frac + tc * self.gsum
+        dq = self.dqbk / self.h
+        for la, row, bi, di, ci, wi in zip(
+            self.lr, self.wr, self.brk, self.dbrk, self.bc, self.wq, strict=True
+        ):
+            zi = sum(map(_mul, row, xr))
+            q += wi * zi
+            dq += wi * (la * zi + bi + di * frac + ci * tc)
+        return q, dq
+
+    def _classify(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
+        tol, sp, vt, qm = _TOL_K, self.sp, self.vt, self.qm
+        x = list(x)
+        ta, jh, jv = x[0], 0.0, 0.0
+        heater = qm > 0
+        if start:
+            if ta > vt + tol:
+                jv, ta = self.c0 * (ta - vt), vt
+            if heater and math.isinf(qm) and ta < sp - tol:
+                jh, ta = self.c0 * (sp - ta), sp
+        md, heat, vent = FLOAT, 0.0, 0.0
+        cold = heater and ta < sp - tol
+        if cold:
+            md, heat = FULL, qm
+        at_s = heater and not cold and abs(ta - sp) <= tol
+        at_v = not at_s and abs(ta - vt) <= tol
+        if at_s or at_v:
+            tc = sp if at_s else vt
+            q, dq = self._qreq(s, [tc, *x[1:]], tc)
+            t0, tm = abs(q) <= self.tolq, abs(q - qm) <= self.tolq
+            vent_ok = q < -self.tolq or (t0 and dq < 0)
+            if at_s:
+                if q > qm + self.tolq or (tm and dq > 0):
+                    md = FULL
+                elif q > self.tolq or (t0 and dq >= 0):
+                    md = HOLD
+                elif abs(sp - vt) <= tol and vent_ok:
+                    md = VENT
+            elif vent_ok:
+                md = VENT
+            if md in (HOLD, VENT):
+                ta = tc
+            heat = q if md == HOLD else qm if md == FULL else 0.0
+            vent = -q if md == VENT else 0.0
+        x[0] = ta
+        return x, md, heat, vent, jh, jv
+
+    def _event(self, s: float, x: list[float], md: int, st) -> float:  # type: ignore[no-untyped-def]
+        """Offset (from s) of the next switch in mode md, inf if none this step."""
+        h, sp, vt, qm = self.h, self.sp, self.vt, self.qm
+        rem = h - s
+        lam, z, beta, gam, tq, wt = st
+        # g = g0 + e1 s + sg * sum_i wt_i (z_i + (beta_i + gam_i s)/lam_i ...) in the form
+        # g0 + b1 s + sum a_i expm1(lam_i s): a_i = wt_i (z_i + beta_i/lam_i + gam_i/lam_i^2)
+        # |g''| <= curv / (rem^2 / 8) for every candidate, most have no way down to 0;
+        # ew: the exponential part at the step's end
+        base, slope, curv, ew = [], 0.0, 0.0, 0.0
+        for c, zi, bi, gi, la in zip(wt, z, beta, gam, lam, strict=True):
+            ai = c * (zi + bi / la + gi / (la * la))
+            base.append(ai)
+            slope -= c * gi / la
+            curv += abs(ai) * la * la
+            ew += ai * _expm1(la * rem)
+        curv *= rem * rem / 8
+        if md in (FLOAT, FULL):
+            ta = x[0]
+            cand = []
+            if md == FLOAT and qm > 0:
+                cand.append((1.0, ta - sp, 0.0))
+            if md == FLOAT and math.isfinite(vt):
+                cand.append((-1.0, vt - ta, 0.0))
+            if md == FULL:
+                cand.append((-1.0, sp - ta, 0.0))
+        else:
+            dq = self.dqbk / h
+            q0 = self.qbk + dq * s + sum(map(_mul, wt, z)) + tq * self.gsum
+            cand = [(1.0, q0, dq)] if md == HOLD else [(-1.0, -q0, -dq)]
+            if md == HOLD and math.isfinite(qm):
+                cand.append((-1.0, qm - q0, -dq))
+        root, scale = _inf, None
+        for sg, g0, e1 in cand:
+            gw = g0 + (e1 + sg * slope) * rem + sg * ew
+            if g0 > 0 and gw > 0 and min(g0, gw) - curv > 0:
+                continue
+            if scale is None:  # sizes of g' at 0 and of g's terms (round-off scales)
+                scale = noise = 0.0
+                for c, zi, bi, la in zip(wt, z, beta, lam, strict=True):
+                    scale += abs(c * la * zi) + abs(c * bi)
+                    noise += abs(c * zi) + abs(c * bi / la)
+                noise *= 1e-13
+            a = [sg * ai for ai in base]
+            sc = abs(e1) + scale + 1e-300
+            rt = _first_root(g0, e1 + sg * slope, a, lam, rem, gw, sc, noise + 1e-13 * abs(g0))
+            root = min(root, rt)
+        return _inf if root >= rem * (1 - 1e-12) else root
+
+    def _advance(self, s: float, w: float, x: list[float], md: int, st):  # type: ignore[no-untyped-def]
+        """State, node-temperature integral, heat and vent energy over [s, s + w]."""
+        lam, z, beta, gam, tq, _ = st
+        z1, iz = [], []
+        ww, www = w * w, w * w * w
+        for la, zi, bi, gi in zip(lam, z, beta, gam, strict=True):
+            e, p1, p2, p3 = _sphi(la * w)
+            z1.append(e * zi + w * p1 * bi + ww * p2 * gi)
+            iz.append(w * p1 * zi + ww * p2 * bi + www * p3 * gi)
+        tv = self.v if md in (FLOAT, FULL) else self.vr
+        xs = [sum(map(_mul, row, z1)) for row in tv]
+        ix = [sum(map(_mul, row, iz)) for row in tv]
+        if md in (FLOAT, FULL):
+            return xs, ix, tq * w, 0.0
+        h = self.h
+        qb0 = self.qbk + self.dqbk * (s / h)
+        iq = (
+            0.5 * w * (2 * qb0 + self.dqbk * (w / h))
+            + sum(map(_mul, self.wq, iz))
+            + tq * self.gsum * w
+        )
+        if md == HOLD:
+            return [tq, *xs], [tq * w, *ix], iq, 0.0
+        return [tq, *xs], [tq * w, *ix], 0.0, -iq
+
+    def step(  # type: ignore[no-untyped-def]
+        self,
+        k: int,
+        i: int,
+        x: list[float],
+        pack: np.ndarray | None = None,
+        out: list | None = None,
+        pre=None,
+    ) -> tuple[list[float], int]:
+        """Step k of member i from node temperatures x; returns the state at its end.
+
+        ``pack``: the member's inputs (see `_inputs`), else they are read from the run.
+        The step's results go to the run's arrays, or with ``out`` are appended to it as
+        ``(k, mode, heat_w, vent_w, heat_j, vent_j, temp_integral, end state)``. ``pre``:
+        `_classify` of x at the step's start, with step k's inputs already loaded.
+        """
+        rn = self.run
+        if pre is None:
+            self._inputs(k, i, pack)
+            pre = self._classify(0.0, x, start=True)
+        x, md, heat, vent, eh, ev = pre
+        md0 = md
+        if eh > 0 or ev > 0:
+            rn.scalar_events.append((i, k, 0.0, md, x))
+        s, ti, h = 0.0, [0.0] * len(x), self.h
+        for _ in range(_MAX_SWITCHES):
+            st = self._mode(s, x, md)
+            dt = self._event(s, x, md, st)
+            w = dt if dt != _inf else h - s
+            x1, ix, e1, e2 = self._advance(s, w, x, md, st)
+            eh, ev = eh + e1, ev + e2
+            ti = list(map(_add, ti, ix))
+            s, x = s + w, x1
+            if dt == _inf:
+                break
+            x, md, _, _, _, _ = self._classify(s, x, start=False)
+            rn.scalar_events.append((i, k, s, md, x))
+        else:
+            raise RuntimeError(f"thermostat: more than {_MAX_SWITCHES} switches in step {k}")
+        if out is not None:
+            out.append((k, md0, heat, vent, eh, ev, ti, x))
+        else:
+            rn.mode[i, k], rn.heat_w[i, k], rn.vent_w[i, k] = md0, heat, vent
+            rn.step_heat[i, k], rn.step_vent[i, k] = eh, ev
+            rn.tint[i, k] = ti
+            rn.temps[i, k + 1] = x
+        return x, md

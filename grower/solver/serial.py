@@ -1,0 +1,349 @@
+"""The thermostat for one member at a time: long strides of whole steps, stored at the end.
+
+For few members the vectorised rounds of `runs` spend most of their time in numpy's
+per-call overhead. Here each mode gets, once per member, its particular solution over the
+whole horizon (from a zero modal state) and the limits its watched value must keep, with
+the curvature bound of that solution already taken off. A run of whole steps in one mode
+is then that solution plus the decay of the state's deviation from it, ``z_j = zb_j +
+P_j d`` with ``P_j`` the product of the step decays; a window of steps is checked in a
+dozen array operations (the deviation's share of the curvature bound by the triangle
+inequality), the first step that fails is split exactly in Python floats (`scalar`), and
+the accepted runs are turned into temperatures, integrals and energies in one pass per
+mode at the end. Arrays over the horizon are mode-major, ``(r, N)``: numpy is slow on
+operations that broadcast along a short last axis.
+
+References
+----------
+C. F. Van Loan (1978), "Computing integrals involving the matrix exponential",
+IEEE Transactions on Automatic Control AC-23(3):395-404.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from operator import mul
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from .modes import _TOL_K, FLOAT, FULL, HOLD, VENT
+from .stepping import _recur1
+
+if TYPE_CHECKING:
+    from .runs import _Run
+
+#: longest window of whole steps checked at once
+_LMAX = 4096
+
+
+@dataclass(frozen=True, eq=False)
+class _ModeData:
+    """One mode of one member over the whole horizon (N grid times, N-1 steps)."""
+
+    zb: np.ndarray  # (r, N) particular modal solution
+    beta: np.ndarray  # (r, N-1) modal forcing at each step's start
+    db: np.ndarray  # (r, N-1) its increment over the step
+    e: np.ndarray  # (N-1, r) step decays
+    wv: np.ndarray  # (r,) modal state -> watched value (air temperature or held power)
+    cv: np.ndarray  # (r,) |wv lam^2|: a deviation's share of the curvature bound
+    val: np.ndarray  # (N,) watched value of zb at the grid times (held power: less the
+    # clamp temperature's share tc_j gsum, which hi and lo take off instead)
+    hi: np.ndarray  # (N-1,) upper limit of the value over each step, less zb's curvature bound
+    lo: np.ndarray | None  # (N-1,) lower limit, plus the bound; None: no lower limit
+    same: np.ndarray | None  # (N-1,) clamp temperature unchanged since the step before
+    tc: np.ndarray | None  # (N,) clamp temperature (held or vent) [degC]
+    pw: np.ndarray | None  # (_LMAX + 1, r) powers of the decays for one step length; cv
+    # then includes the h^2/8 of the curvature bound
+    to_modes: list[list[float]]  # node temperatures (held air left out) -> modal state
+    to_nodes: list[list[float]]  # modal state -> node temperatures (held air left out)
+    wvl: list[float]  # wv and cv as Python floats
+    cvl: list[float]
+    zrows: np.ndarray  # (N, r) view of zb, a grid time a row
+
+
+class _Serial:
+    """The thermostat run of member ``i`` of `_Run` ``run``, writing into its arrays."""
+
+    def __init__(self, run: _Run, i: int) -> None:
+        self.rn, self.i = run, i
+        p, ctl = run.p, run.ctl
+        self.nt = p.times_s.size
+        self.hh8 = p.h**2 / 8
+        self.qm = float(run.q[i])
+        self.sp = ctl.setpoint_c[i % ctl.setpoint_c.shape[0]]
+        self.vt = ctl.vent_c[i % ctl.vent_c.shape[0]]
+
+        def member(a: np.ndarray) -> np.ndarray:  # (r, M, ...) -> (r, ...)
+            return a[:, i if a.shape[1] > 1 else 0]
+
+        self.bf, self.dbf = member(p.bt), member(p.dbt)  # (r, N), (r, N-1)
+        self.br = member(p.brt)
+        self.dbr = np.diff(self.br, axis=1)
+        self.qb = p.qb[i if p.qb.shape[0] > 1 else 0]  # (N,)
+        self.data: dict[int, _ModeData] = {}
+        self._zf: np.ndarray | None = None
+        self.pieces: dict[int, list[tuple[int, int, np.ndarray, np.ndarray]]] = {
+            md: [] for md in (FLOAT, FULL, HOLD, VENT)
+        }
+        self.exact: list[tuple] = []  # the exactly split steps, see `_ScalarStep.step`
+
+    def _pack(self) -> np.ndarray:
+        """The inputs of every step, one row a step, as `_ScalarStep._inputs` reads them."""
+        rows = (
+            self.rn.p.h[None],
+            self.bf[:, :-1],
+            self.dbf,
+            self.br[:, :-1],
+            self.dbr,
+            self.qb[None, :-1],
+            np.diff(self.qb)[None],
+            self.sp[None, :-1],
+            self.vt[None, :-1],
+        )
+        return np.concatenate(rows, axis=0).T
+
+    def _base(self, lam: np.ndarray, tab, forcing: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
+        """(r, N) solution of ``z[k+1] = e z[k] + forcing[:, k]`` from z = 0, per mode."""
+        out = np.empty((lam.size, self.nt))
+        for j in range(lam.size):
+            out[j] = _recur1(tab.e[:, j], self.rn.p.uniform, forcing[j][None], np.zeros(1), 1)[0]
+        return out
+
+    def _free(self) -> np.ndarray:
+        """(r, N) free float from a zero modal state, shared by FLOAT and FULL."""
+        if self._zf is None:
+            tab = self.rn.p.full
+            forcing = tab.f1.T * self.bf[:, :-1] + tab.f2.T * self.dbf
+            self._zf = self._base(self.rn.f.lam, tab, forcing)
+        return self._zf
+
+    def _mode(self, md: int) -> _ModeData:
+        if md in self.data:
+            return self.data[md]
+        rn, p = self.rn, self.rn.p
+        tol, tolq, h = _TOL_K, rn.tolq, p.h
+        lo = same = tc = None
+        if md in (FLOAT, FULL):
+            lam, tab, wv = rn.f.lam, p.full, rn.v0
+            zb, beta, db = self._free(), self.bf[:, :-1], self.dbf
+            if md == FULL:
+                bq = rn.bq[:, None]
+                zq = self._base(lam, tab, tab.f1.T * bq)
+                zb, beta = zb + self.qm * zq, beta + self.qm * bq
+        else:
+            lam, tab, wv = rn.r.lam, p.red, rn.wq
+            tc = np.asarray(self.sp if md == HOLD else self.vt, dtype=float)
+            tf = np.where(np.isfinite(tc), tc, 0.0)
+            db = self.dbr
+            beta = self.br[:, :-1] + tf[None, :-1] * rn.bc[:, None]
+            zb = self._base(lam, tab, tab.f1.T * beta + tab.f2.T * db)
+        lc = lam[:, None]
+        k2 = lc * (lc * zb[:, :-1] + beta) + db / h
+        bound = self.hh8 * (np.abs(wv) @ np.abs(k2))
+        val = wv @ zb
+        if tc is None:
+            if md == FULL:
+                hi = self.sp[:-1] + tol - bound
+            else:
+                hi = self.vt[:-1] + tol - bound
+                if self.qm > 0:
+                    lo = self.sp[:-1] - tol + bound
+        else:
+            val += self.qb
+            share = tf[:-1] * rn.gsum  # the held power is val + share over step j
+            same = np.ones(self.nt - 1, dtype=bool)
+            same[1:] = (tc[1:-1] == tc[:-2]) & np.isfinite(tc[1:-1])
+            if md == HOLD:
+                hi, lo = self.qm + tolq - bound - share, -tolq + bound - share
+            else:
+                hi = tolq - bound - share
+        cv, pw = np.abs(wv * lam * lam), None
+        if p.uniform:
+            pw = np.empty((_LMAX + 1, lam.size))
+            pw[0] = 1.0
+            np.cumprod(np.broadcast_to(tab.e[0], (_LMAX, lam.size)), axis=0, out=pw[1:])
+            cv = cv * self.hh8[0]
+        fr = rn.f if tc is None else rn.r
+        self.data[md] = _ModeData(
+            zb,
+            beta,
+            db,
+            tab.e,
+            wv,
+            cv,
+            val,
+            hi,
+            lo,
+            same,
+            tc,
+            pw,
+            fr.w.tolist(),
+            fr.v.tolist(),
+            wv.tolist(),
+            cv.tolist(),
+            zb.T,
+        )
+        return self.data[md]
+
+    def _window(self, m: _ModeData, k: int, nl: int, d: list[float]) -> tuple[int, np.ndarray]:
+        """Steps k.. that keep mode m from deviation d: their number and the decays (nl+1, r)."""
+        coef = np.array([[a * x, c * abs(x)] for a, c, x in zip(m.wvl, m.cvl, d, strict=True)])
+        if not d:  # no modes (the lumped network with the air held)
+            coef = coef.reshape(0, 2)
+        if m.pw is not None:
+            pw = m.pw[: nl + 1]
+            res = pw @ coef
+            bd = res[:-1, 1]
+        else:
+            pw = np.empty((nl + 1, len(d)))
+            pw[0] = 1.0
+            m.e[k : k + nl].cumprod(axis=0, out=pw[1:])
+            res = pw @ coef
+            bd = res[:-1, 1] * self.hh8[k : k + nl]
+        v = m.val[k : k + nl + 1] + res[:, 0]
+        a, b = v[:-1], v[1:]
+        hi = np.maximum(a, b)
+        hi += bd
+        ok = hi <= m.hi[k : k + nl]
+        if m.lo is not None:
+            lo = np.minimum(a, b)
+            lo -= bd
+            ok &= lo >= m.lo[k : k + nl]
+        if m.same is not None:
+            ok[1:] &= m.same[k + 1 : k + nl]
+        j = int(ok.argmin())
+        return (nl if ok[j] else j), pw
+
+    @staticmethod
+    def _state(m: _ModeData, k: int, p: list[float], d: list[float]) -> list[float]:
+        """Node temperatures at grid time k of a run in mode m with decays p of deviation d."""
+        z = [a + b * c for a, b, c in zip(m.zrows[k].tolist(), p, d, strict=True)]
+        x = [sum(map(mul, row, z)) for row in m.to_nodes]
+        return x if m.tc is None else [float(m.tc[k - 1]), *x]
+
+    def run(self) -> None:
+        """Step through the horizon and store the member's results in the run.
+
+        A run of whole steps in one mode ends at the first step that fails its window. If
+        the mode at that step's start is another one (a setpoint change, say) and nothing
+        jumps, a run in that mode starts there; otherwise the step is split exactly.
+        """
+        rn, i, last = self.rn, self.i, self.nt - 1
+        sc = rn._scalar
+        pack, exact = self._pack(), self.exact
+        x, md, k = rn.temps[i, 0].tolist(), -1, 0
+        nl, typical, fresh = 16, 16.0, False
+        while k < last:
+            run = 0
+            if md >= 0:
+                m = self._mode(md)
+                if m.tc is None or abs(x[0] - m.tc[k]) <= _TOL_K:
+                    xr = x if m.tc is None else x[1:]
+                    zk = m.zrows[k].tolist()
+                    d = [sum(map(mul, row, xr)) - b for row, b in zip(m.to_modes, zk, strict=True)]
+                    while True:
+                        nl = min(nl, last - k)
+                        nj, pw = self._window(m, k, nl, d)
+                        if nj:
+                            self.pieces[md].append((k, nj, d, pw[: nj + 1]))
+                        run += nj
+                        if nj < nl or k + nj == last:
+                            break
+                        k += nj
+                        d = list(map(mul, pw[nj].tolist(), d))
+                        nl = min(2 * nl, _LMAX)
+                    k += nj
+                    if run:
+                        x = self._state(m, k, pw[nj].tolist(), d)
+                        fresh = False
+                    if run > 2:  # the length of a run of one mode, smoothed
+                        typical = 0.5 * typical + 0.5 * run
+                    nl = min(max(2 * (nj + 1), int(3 * typical), 8), _LMAX)
+            if k == last:
+                break
+            pre = None
+            if not fresh:
+                sc._inputs(k, i, pack)
+                pre = sc._classify(0.0, x, start=True)
+                if pre[1] != md and pre[4] == 0 and pre[5] == 0:
+                    x, md, fresh = pre[0], pre[1], True
+                    continue
+            x, md = sc.step(k, i, x, pack, exact, pre)
+            k += 1
+            fresh = False
+        self._store()
+        # heater and vent output at the last grid point: the final mode, just before it
+        sc._inputs(last - 1, i, pack)
+        if md in (HOLD, VENT):
+            q, _ = sc._qreq(sc.h, x, sc.sp if md == HOLD else sc.vt)
+            rn.heat_w[i, -1], rn.vent_w[i, -1] = (q, 0.0) if md == HOLD else (0.0, -q)
+        else:
+            rn.heat_w[i, -1], rn.vent_w[i, -1] = (self.qm if md == FULL else 0.0), 0.0
+
+    def _store(self) -> None:
+        """Temperatures, integrals, outputs and energies of the exact steps and of all
+        accepted runs, per mode.
+
+        Rows are gathered with ``np.take`` and scattered one column at a time: numpy's
+        fancy indexing of whole rows is an order of magnitude slower for such narrow rows.
+        """
+        rn, p, i = self.rn, self.rn.p, self.i
+        temps, tint = rn.temps[i], rn.tint[i]  # (N, n), (N-1, n) views
+        if self.exact:
+            cols = list(zip(*self.exact, strict=True))
+            k = np.array(cols[0])
+            rn.mode[i][k] = cols[1]
+            outs = (rn.heat_w, rn.vent_w, rn.step_heat, rn.step_vent)
+            for dst, col in zip(outs, cols[2:6], strict=True):
+                dst[i][k] = col
+            _put_columns(tint, k, np.array(cols[6]).T, 0)
+            _put_columns(temps, k + 1, np.array(cols[7]).T, 0)
+        for md, pcs in self.pieces.items():
+            if not pcs:
+                continue
+            m = self.data[md]
+            ks = np.array([c[0] for c in pcs])
+            nj = np.array([c[1] for c in pcs])
+            cnt = nj + 1
+            pid = np.repeat(np.arange(ks.size), cnt)
+            off = np.arange(pid.size) - (np.cumsum(cnt) - cnt)[pid]
+            gk = ks[pid] + off
+            dev = np.array([c[2] for c in pcs]).T
+            z = np.take(m.zb, gk, axis=1)
+            z += np.concatenate([c[3] for c in pcs]).T * np.take(dev, pid, axis=1)
+            st, en = off < nj[pid], off > 0
+            steps, ge = gk[st], gk[en]
+            zs, ze = np.compress(st, z, axis=1), np.compress(en, z, axis=1)
+            hs = p.h[steps]
+            rn.mode[i][steps] = md
+            clamp = m.tc is not None
+            tab, v = (p.red, rn.r.v) if clamp else (p.full, rn.f.v)
+            f1, i2, i3 = (
+                (tab.f1[0][:, None], tab.i2[0][:, None], tab.i3[0][:, None])
+                if p.uniform
+                else (np.take(a.T, steps, axis=1) for a in (tab.f1, tab.i2, tab.i3))
+            )
+            iz = f1 * zs + i2 * np.take(m.beta, steps, axis=1) + i3 * np.take(m.db, steps, axis=1)
+            _put_columns(temps, ge, v @ ze, int(clamp))
+            _put_columns(tint, steps, v @ iz, int(clamp))
+            if not clamp:
+                if md == FULL:
+                    rn.heat_w[i][steps] = self.qm
+                    rn.step_heat[i][steps] = self.qm * hs
+                continue
+            tc = m.tc[steps]
+            temps[:, 0][ge] = m.tc[ge - 1]
+            tint[:, 0][steps] = tc * hs
+            qb = self.qb
+            iq = 0.5 * hs * (qb[steps] + qb[steps + 1]) + rn.wq @ iz + tc * rn.gsum * hs
+            qs = qb[steps] + rn.wq @ zs + tc * rn.gsum
+            if md == HOLD:
+                rn.heat_w[i][steps], rn.step_heat[i][steps] = qs, iq
+            else:
+                rn.vent_w[i][steps], rn.step_vent[i][steps] = -qs, -iq
+
+
+def _put_columns(dst: np.ndarray, rows: np.ndarray, cols: np.ndarray, first: int) -> None:
+    """``dst[rows, first:] = cols.T``, one column at a time (cols is (w, S))."""
+    for c in range(cols.shape[0]):
+        dst[:, first + c][rows] = cols[c]
