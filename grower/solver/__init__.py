@@ -32,7 +32,16 @@ The thermostat is the one nonlinearity. Modes (per member): ``FLOAT`` (heater of
 by a heater power in ``[0, q_max_w]``), ``VENT`` (air held at the vent temperature, excess
 heat removed). While a mode holds, a run of whole steps is a linear recurrence, computed
 for many steps at once; a step in which the mode changes is split at the exact switching
-instants. Setpoint and vent temperature are piecewise constant, the value at a step's start.
+instants (in Python floats where only one member switches there: numpy's per-call
+overhead would dominate). Setpoint and vent temperature are piecewise constant, the value
+at a step's start.
+
+Modules: `network` (the network, its modal decomposition), `stepping` (phi functions,
+step tables, recurrences), `problem` (input validation, modal forcing), `explin` and
+`scalar` (the exact solution inside a step: roots and extrema, for arrays and for one
+member), `results`, `freefloat`, `analysis` (crossings, minima, hours below), `modes`,
+`runs` (the thermostat's mode machine; `serial` runs few members one at a time, `split`
+splits switching steps for many at once), `control` (`thermostat`, `hold`).
 A raise of the setpoint with an unlimited heater, or a vent temperature below the air,
 moves the air node at once (an impulse of heat or of vent removal, counted in the
 energies; temperatures are stored as the value just before such a jump).

@@ -67,9 +67,9 @@ def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray) -> np.ndarray:  # t
         with np.errstate(divide="ignore", invalid="ignore"):
             xn = x - f / df
         out = ~np.isfinite(xn) | (xn <= np.minimum(lo, hi)) | (xn >= np.maximum(lo, hi))
-        # a Newton step below the tolerance that only fails to enter the bracket by
-        # round-off has converged; any other goes to bisection
-        xn = np.where(out, np.where(np.abs(xn - x) <= tol, x, 0.5 * (lo + hi)), xn)
+        # out of the bracket: bisection. A step below round-off (xn == x, x at the
+        # bracket's end) is convergence, not a reason to bisect down to the tolerance
+        xn = np.where(out & (xn != x), 0.5 * (lo + hi), xn)
         done = (f == 0) | (np.abs(xn - x) <= tol) | (np.abs(hi - lo) <= tol)
         x = np.where(f == 0, x, xn)
         if done.all():
@@ -172,7 +172,7 @@ def _first_root(el: _ExpLin, entered: bool) -> np.ndarray:
                 if entered
                 else np.zeros(dip.size)
             )
-            maybe &= ~(lb > -noise)  # the minimum is >= lb: no deeper dip is possible
+            maybe &= ~(lb > -noise)  # the minimum is >= lb: else no dip reaches below -noise
             if maybe.any():
                 j = np.flatnonzero(maybe)
                 sj = sub.take(j)

@@ -1,4 +1,10 @@
-"""The thermostat's mode machine: runs of whole steps in one mode, and the whole run."""
+"""The thermostat's mode machine: runs of whole steps in one mode, and the whole run.
+
+`_Run` holds the run's inputs and results. Few members go one at a time through `serial`;
+many go in rounds: a window of whole steps for all members at once, each in its mode, up
+to the first step where any member switches, which `split` (or `scalar`, when only one or
+two members switch there) splits at the exact instants.
+"""
 
 from __future__ import annotations
 
@@ -16,7 +22,7 @@ from .stepping import _recurrence
 
 #: up to this many members are run one at a time (`serial`): their windows of whole steps
 #: are cheaper alone than numpy rounds over all members at every member's switch
-_FEW_MEMBERS = 8
+_FEW_MEMBERS = 64
 
 
 class _Run(_SplitSteps):
@@ -198,18 +204,20 @@ class _Run(_SplitSteps):
     # -- the whole run -------------------------------------------------------------------
 
     def run(self) -> Trajectory:
+        """The whole run: few members one at a time (`serial`), many in rounds of windows
+        over all members, each round up to the first step in which any member switches."""
         p = self.p
         mm, nt = p.n_members, p.times_s.size
         x = np.array(np.broadcast_to(p.initial_c, (mm, self.net.n_nodes)))
         self.temps[:, 0] = x
-        md = np.full(mm, -1, dtype=np.int8)  # unknown: the first step is classified
-        # a window costs ~40 array operations: long for few members, short for many
-        lmax = int(np.clip(32768 // mm, 8, 4096))
-        k, nl, run, typical = 0, 16, 0, 16.0
         if mm <= _FEW_MEMBERS:
             for i in range(mm):
                 _Serial(self, i).run()
             return self._trajectory()
+        md = np.full(mm, -1, dtype=np.int8)  # unknown: the first step is classified
+        # a window costs ~40 array operations: long for few members, short for many
+        lmax = int(np.clip(32768 // mm, 8, 4096))
+        k, nl, run, typical = 0, 16, 0, 16.0
         while k < nt - 1:
             nl = min(nl, nt - 1 - k)
             bad = np.full(mm, nl)

@@ -4,14 +4,16 @@ Inside a step a watched quantity (the air less a limit, or the held power less a
 is ``g(s) = g0 + b1 s + sum_i a_i expm1(lam_i s)``, the exact solution of the mode
 written as an increment on ``g0`` so that g near a switching point is not lost in
 round-off. Its first zero is bracketed between the inflection points (closed form for
-two modes) and found by Newton steps kept inside the bracket, else bisection. For one
-member numpy's per-call overhead would dominate such tiny arrays, so this is plain
-``math``.
+two modes) and found by Halley steps (Newton's with the curvature, which g has at no
+extra cost) kept inside the bracket, else bisection. For one member numpy's per-call
+overhead would dominate such tiny arrays, so this is plain ``math``.
 
 References
 ----------
 W. H. Press et al. (2007), *Numerical Recipes*, 3rd ed., Cambridge University Press,
 sec. 9.4 (Newton-Raphson safeguarded by bisection).
+T. R. Scavo and J. B. Thoo (1995), "On the geometry of Halley's method", American
+Mathematical Monthly 102(5):417-426.
 """
 
 from __future__ import annotations
@@ -37,9 +39,9 @@ _expm1, _exp, _inf = math.expm1, math.exp, math.inf
 def _newton(
     fd: Callable[[float], tuple[float, float]], a: float, b: float, fa: float, fb: float | None
 ) -> float:
-    """Root in [a, b] of f (``fd(s) -> (f, f')``), f(a) and f(b) of opposite sign: Newton
-    steps kept inside a shrinking bracket, else bisection; with ``fb`` it starts from the
-    secant instead of the midpoint (Numerical Recipes sec. 9.4)."""
+    """Root in [a, b] of f, f(a) and f(b) of opposite sign: steps ``x - f/d`` (``fd(s) ->
+    (f, d)``, d = f' for Newton's) kept inside a shrinking bracket, else bisection; with
+    ``fb`` it starts from the secant instead of the midpoint (Numerical Recipes sec. 9.4)."""
     lo, hi, pos = a, b, fa > 0
     x = 0.5 * (a + b)
     if fb is not None and fa != fb:
@@ -56,10 +58,10 @@ def _newton(
         else:
             hi = x
         xn = x - fx / d if d != 0 else math.nan
-        if not (min(lo, hi) < xn < max(lo, hi)):
-            # a Newton step below the tolerance that only fails to enter the bracket by
-            # round-off has converged; any other goes to bisection
-            xn = x if abs(xn - x) <= tol else 0.5 * (lo + hi)
+        if not (min(lo, hi) < xn < max(lo, hi)) and xn != x:
+            # out of the bracket: bisection. A step below round-off (xn == x, x at the
+            # bracket's end) is convergence, not a reason to bisect down to the tolerance
+            xn = 0.5 * (lo + hi)
         if abs(xn - x) <= tol or abs(hi - lo) <= tol:
             return xn
         x = xn
@@ -83,18 +85,21 @@ def _first_root(
     has already tried the bound ``|g''| <= sum |k2|`` that rules out most roots.
     """
     k2 = [ai * li * li for ai, li in zip(a, lam, strict=True)]  # g'' = sum k2 exp(lam s)
-    # g'' >= kneg, the sum of the negative k2 (exp(lam s) <= 1), so on [0, w] g lies above
-    # the concave g0 + d0 s + kneg s^2 / 2, and above its tangent at 0 if g is convex
+    # On [0, w], g(s) = g0 + d0 s + sum_i k2_i s^2 phi2(lam_i s), and phi2 falls from 1/2
+    # at 0 to phi2(lam_i w): g lies above g0 + d0 s + cq s^2. If that parabola stays above 0
+    # (above the round-off noise for a mode entered at its limit), there is no switch.
     d0, tie = b1 + sum(map(_mul, a, lam)), 1e-12 * scale  # g'(0), a tangent start
-    kneg = sum(k for k in k2 if k < 0)
-    if gw > 0 and (
-        (g0 > 0 or (g0 == 0 and d0 > tie))
-        and g0 + d0 * w + kneg * w * w / 2 > 0
-        or kneg == 0
-        and (g0 > 0 or d0 >= -tie)
-        and min(g0, g0 + d0 * w) > -noise
-    ):
-        return _inf
+    down = g0 <= 0 and (d0 < -tie or (d0 <= tie and sum(k2) < 0))
+    if gw > 0 and g0 > -noise and not down:
+        cq = 0.0
+        for k, li in zip(k2, lam, strict=True):
+            cq += k * _sphi(li * w)[2] * (1 - 1e-12) if k > 0 else 0.5 * k
+        if cq > 0 and 0 < -d0 < 2 * cq * w:
+            low = g0 - d0 * d0 / (4 * cq)
+        else:
+            low = min(g0, g0 + (d0 + cq * w) * w)
+        if low > (0.0 if g0 > 0 else -noise):
+            return _inf
 
     def f(s: float) -> float:
         out = g0 + b1 * s
@@ -102,13 +107,14 @@ def _first_root(
             out += ai * _expm1(li * s)
         return out
 
-    def fd(s: float) -> tuple[float, float]:
-        out, d = g0 + b1 * s, b1
-        for ai, li in zip(a, lam, strict=True):
+    def fd(s: float) -> tuple[float, float]:  # g, and g' - g g''/(2 g') for Halley's step
+        out, d, d2 = g0 + b1 * s, b1, 0.0
+        for ai, li, ki in zip(a, lam, k2, strict=True):
             em = _expm1(li * s)
             out += ai * em
             d += ai * li * (em + 1.0)
-        return out, d
+            d2 += ki * (em + 1.0)
+        return out, (d - out * d2 / (2 * d) if d else 0.0)
 
     def dd(s: float) -> tuple[float, float]:
         d, d2 = b1, 0.0
@@ -132,9 +138,7 @@ def _first_root(
         br = [0.0, *sorted(float(x) for x in infl[~np.isnan(infl)]), w]
     gv = [g0] + [f(x) for x in br[1:-1]] + [gw]
     if g0 <= 0:
-        d0 = dd(0.0)
-        tie = abs(d0[0]) <= 1e-12 * scale
-        if (d0[0] < 0 and not tie) or (tie and d0[1] < 0):
+        if down:
             return 0.0
         gv[0] = 1e-300  # just entered: g(0) counts as +0
     for p in range(len(br) - 1):
@@ -147,11 +151,14 @@ def _first_root(
                 return hi
             # secant start unless g(0) only counts as +0 (a mode just entered)
             return _newton(fd, lo, hi, ga, gb if ga > 1e-250 else None)
-        (da, _), (db, _) = dd(lo), dd(hi)
-        if dd(0.5 * (lo + hi))[1] > 0 and da < 0 < db:
+        da = dd(lo)[0]
+        if da >= 0:  # a dip below 0 needs g to head down first, then up
+            continue
+        db = dd(hi)[0]
+        if db > 0 and dd(0.5 * (lo + hi))[1] > 0:
             # tangents at both ends bound a convex g from below
             sx = (gb - ga + da * lo - db * hi) / (da - db)
-            if not ga + da * (sx - lo) > -noise:  # the minimum is above: no deeper dip
+            if not ga + da * (sx - lo) > -noise:  # (else no dip can reach below -noise)
                 sm = _newton(dd, lo, hi, da, None)
                 if f(sm) <= -noise:
                     return _newton(fd, lo, sm, ga, None)
@@ -170,6 +177,7 @@ class _ScalarStep:
         self.bc, self.wq = run.bc.tolist(), run.wq.tolist()
         self.gsum, self.c0 = run.gsum, run.c0
         self.tolq = run.tolq
+        self.il, self.ilr = [1.0 / x for x in self.lam], [1.0 / x for x in self.lr]
 
     def _inputs(self, k: int, i: int, pack: np.ndarray | None) -> None:
         """Step k's inputs for member i, from the run's arrays or from ``pack``, whose row
@@ -199,20 +207,19 @@ class _ScalarStep:
     def _mode(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
         """Modes, modal state, forcing and its slope of mode md at offset s from state x;
         the clamped temperature (or heater output) and the weights of the watched value."""
-        h = self.h
-        frac = s / h
+        ih = 1.0 / self.h
         if md in (FLOAT, FULL):
             q = self.qm if md == FULL else 0.0
             z = [sum(map(_mul, row, x)) for row in self.w]
-            beta = [
-                b + d * frac + q * e for b, d, e in zip(self.bk, self.dbk, self.bq, strict=True)
-            ]
-            return self.lam, z, beta, [d / h for d in self.dbk], q, self.v0
+            gam = [d * ih for d in self.dbk]
+            beta = [b + g * s + q * e for b, g, e in zip(self.bk, gam, self.bq, strict=True)]
+            return self.lam, z, beta, gam, q, self.v0, self.il
         tc = self.sp if md == HOLD else self.vt
         xr = x[1:]
         z = [sum(map(_mul, row, xr)) for row in self.wr]
-        beta = [b + d * frac + c * tc for b, d, c in zip(self.brk, self.dbrk, self.bc, strict=True)]
-        return self.lr, z, beta, [d / h for d in self.dbrk], tc, self.wq
+        gam = [d * ih for d in self.dbrk]
+        beta = [b + g * s + c * tc for b, g, c in zip(self.brk, gam, self.bc, strict=True)]
+        return self.lr, z, beta, gam, tc, self.wq, self.ilr
 
     def _qreq(self, s: float, x: list[float], tc: float) -> tuple[float, float]:
         """Heater power that holds the air at tc from state x at offset s, and its rate."""
@@ -269,16 +276,17 @@ class _ScalarStep:
         """Offset (from s) of the next switch in mode md, inf if none this step."""
         h, sp, vt, qm = self.h, self.sp, self.vt, self.qm
         rem = h - s
-        lam, z, beta, gam, tq, wt = st
+        lam, z, beta, gam, tq, wt, il = st
         # g = g0 + e1 s + sg * sum_i wt_i (z_i + (beta_i + gam_i s)/lam_i ...) in the form
         # g0 + b1 s + sum a_i expm1(lam_i s): a_i = wt_i (z_i + beta_i/lam_i + gam_i/lam_i^2)
         # |g''| <= curv / (rem^2 / 8) for every candidate, most have no way down to 0;
         # ew: the exponential part at the step's end
         base, slope, curv, ew = [], 0.0, 0.0, 0.0
-        for c, zi, bi, gi, la in zip(wt, z, beta, gam, lam, strict=True):
-            ai = c * (zi + bi / la + gi / (la * la))
+        for c, zi, bi, gi, la, li in zip(wt, z, beta, gam, lam, il, strict=True):
+            gl = c * gi * li
+            ai = c * zi + (c * bi + gl) * li
             base.append(ai)
-            slope -= c * gi / la
+            slope -= gl
             curv += abs(ai) * la * la
             ew += ai * _expm1(la * rem)
         curv *= rem * rem / 8
@@ -304,9 +312,9 @@ class _ScalarStep:
                 continue
             if scale is None:  # sizes of g' at 0 and of g's terms (round-off scales)
                 scale = noise = 0.0
-                for c, zi, bi, la in zip(wt, z, beta, lam, strict=True):
+                for c, zi, bi, la, li in zip(wt, z, beta, lam, il, strict=True):
                     scale += abs(c * la * zi) + abs(c * bi)
-                    noise += abs(c * zi) + abs(c * bi / la)
+                    noise += abs(c * zi) + abs(c * bi * li)
                 noise *= 1e-13
             a = [sg * ai for ai in base]
             sc = abs(e1) + scale + 1e-300
@@ -316,7 +324,7 @@ class _ScalarStep:
 
     def _advance(self, s: float, w: float, x: list[float], md: int, st):  # type: ignore[no-untyped-def]
         """State, node-temperature integral, heat and vent energy over [s, s + w]."""
-        lam, z, beta, gam, tq, _ = st
+        lam, z, beta, gam, tq = st[:5]
         z1, iz = [], []
         ww, www = w * w, w * w * w
         for la, zi, bi, gi in zip(lam, z, beta, gam, strict=True):

@@ -82,7 +82,8 @@ class _Serial:
         self.qb = p.qb[i if p.qb.shape[0] > 1 else 0]  # (N,)
         self.data: dict[int, _ModeData] = {}
         self._zf: np.ndarray | None = None
-        self.pieces: dict[int, list[tuple[int, int, np.ndarray, np.ndarray]]] = {
+        # accepted runs per mode: (first step, steps, modal deviation, decays (steps+1, r))
+        self.pieces: dict[int, list[tuple[int, int, list[float], np.ndarray]]] = {
             md: [] for md in (FLOAT, FULL, HOLD, VENT)
         }
         self.exact: list[tuple] = []  # the exactly split steps, see `_ScalarStep.step`
@@ -118,6 +119,7 @@ class _Serial:
         return self._zf
 
     def _mode(self, md: int) -> _ModeData:
+        """The data of mode md over the whole horizon, made on first use."""
         if md in self.data:
             return self.data[md]
         rn, p = self.rn, self.rn.p
@@ -138,8 +140,12 @@ class _Serial:
             beta = self.br[:, :-1] + tf[None, :-1] * rn.bc[:, None]
             zb = self._base(lam, tab, tab.f1.T * beta + tab.f2.T * db)
         lc = lam[:, None]
-        k2 = lc * (lc * zb[:, :-1] + beta) + db / h
-        bound = self.hh8 * (np.abs(wv) @ np.abs(k2))
+        k2 = lc * zb[:, :-1]  # the curvature at each step's start, in place: big arrays
+        k2 += beta
+        k2 *= lc
+        k2 += db / h
+        bound = np.abs(wv) @ np.abs(k2, out=k2)
+        bound *= self.hh8
         val = wv @ zb
         if tc is None:
             if md == FULL:
@@ -190,15 +196,16 @@ class _Serial:
         coef = np.array([[a * x, c * abs(x)] for a, c, x in zip(m.wvl, m.cvl, d, strict=True)])
         if not d:  # no modes (the lumped network with the air held)
             coef = coef.reshape(0, 2)
+        # coef (r, 2): the deviation's share of the watched value and of the bound
         if m.pw is not None:
             pw = m.pw[: nl + 1]
-            res = pw @ coef
+            res = pw.dot(coef)  # ndarray.dot: less overhead than @ on small arrays
             bd = res[:-1, 1]
         else:
             pw = np.empty((nl + 1, len(d)))
             pw[0] = 1.0
             m.e[k : k + nl].cumprod(axis=0, out=pw[1:])
-            res = pw @ coef
+            res = pw.dot(coef)  # ndarray.dot: less overhead than @ on small arrays
             bd = res[:-1, 1] * self.hh8[k : k + nl]
         v = m.val[k : k + nl + 1] + res[:, 0]
         a, b = v[:-1], v[1:]
@@ -233,10 +240,11 @@ class _Serial:
         pack, exact = self._pack(), self.exact
         x, md, k = rn.temps[i, 0].tolist(), -1, 0
         nl, typical, fresh = 16, 16.0, False
+        data = self.data
         while k < last:
             run = 0
             if md >= 0:
-                m = self._mode(md)
+                m = data.get(md) or self._mode(md)
                 if m.tc is None or abs(x[0] - m.tc[k]) <= _TOL_K:
                     xr = x if m.tc is None else x[1:]
                     zk = m.zrows[k].tolist()
