@@ -5,14 +5,11 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from grower.crops import DEFAULT_MARGIN_K, MARGIN_BASIS, load_crops, user_crops_dir
-from grower.errors import InputError, did_you_mean
-from grower.report.common import emit_json, unit_system
-from grower.report.crops import crops_document, render_detail, render_list
-
 
 def add_crops_dir_argument(parser: argparse.ArgumentParser) -> None:
     """The ``--crops-dir DIR`` option (any command that looks crops up can add it)."""
+    from grower.crops import user_crops_dir
+
     parser.add_argument(
         "--crops-dir",
         type=Path,
@@ -49,6 +46,12 @@ def register(subparsers: argparse._SubParsersAction, common: argparse.ArgumentPa
 
 
 def run(args: argparse.Namespace) -> int:
+    # imported here, not at start-up: `grower --help` stays quick
+    from grower.crops import DEFAULT_MARGIN_K, MARGIN_BASIS, load_crops
+    from grower.errors import InputError, did_you_mean
+    from grower.report.common import emit_json, unit_system
+    from grower.report.crops import crops_document, render_detail, render_list
+
     book = load_crops(args.crops_dir)
     system = unit_system(args.units)
     query = args.query.strip() if args.query else None

@@ -9,8 +9,6 @@ import math
 import sys
 from typing import Any
 
-import numpy as np
-
 from grower.units import UnitSystem
 
 
@@ -26,6 +24,8 @@ def jsonable(value: Any) -> Any:
 
     NaN and infinities become null; datetimes become ISO 8601 strings with offset.
     """
+    import numpy as np
+
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
         return {f.name: jsonable(getattr(value, f.name)) for f in dataclasses.fields(value)}
     if isinstance(value, dict):
