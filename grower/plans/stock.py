@@ -25,9 +25,8 @@ from grower.plans import model as hm
 from grower.plans import runs
 from grower.plans.tonight import when
 
+#: solver grid step [s]; the run-out time is placed inside a step by its energy
 STEP_S = 600.0
-#: soil and air at the start when nothing is measured: in balance with the heated house
-#: (the house has been held at its setpoint before the spell) — common practice, no source
 
 
 @dataclass(frozen=True)
@@ -88,22 +87,18 @@ def segments(
         house.site.latitude_deg, house.site.longitude_deg, start.timestamp(), end.timestamp()
     )
     events = sorted([(t, "rise") for t in rises] + [(t, "set") for t in sets])
-    cuts = [start]
-    kinds = []
-    state_night = True
+    t0, t1 = start.timestamp(), end.timestamp()
+    # night at the start when the last event before it was a sunset
+    night = next((kind == "set" for t, kind in reversed(events) if t <= t0), True)
+    out: list[tuple[pd.Timestamp, pd.Timestamp, bool]] = []
+    cut = start
     for t, kind in events:
-        if t <= start.timestamp():
-            state_night = kind == "set"
-    night = state_night
-    for t, kind in events:
-        if start.timestamp() < t < end.timestamp():
+        if t0 < t < t1:
             ts = pd.Timestamp(t, unit="s", tz="UTC").tz_convert(start.tz)
-            cuts.append(ts)
-            kinds.append(night)
-            night = kind == "set"
-    cuts.append(end)
-    kinds.append(night)
-    return [(cuts[i], cuts[i + 1], kinds[i]) for i in range(len(kinds))]
+            out.append((cut, ts, night))
+            cut, night = ts, kind == "set"
+    out.append((cut, end, night))
+    return out
 
 
 def stock(
