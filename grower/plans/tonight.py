@@ -303,7 +303,13 @@ def tonight(
             "no heater in the house file: fuel shown for propane in a "
             + fuels.get_appliance(appliance).label
         )
-    amount = fuels.fuel_amount(hold_j, fuel, eff)
+    # in the unit the grower buys it in, when the house file says so ([stock] on_hand)
+    unit = None
+    if house.stock.get("on_hand") and fuels.get_fuel(house.stock.get("fuel") or fuel.name) == fuel:
+        unit = fuels.parse_amount(
+            house.stock["on_hand"], fuel, where=f"{house.path}: stock.on_hand"
+        ).unit
+    amount = fuels.fuel_amount(hold_j, fuel, eff, unit)
 
     check = None
     if house.heaters:
