@@ -14,10 +14,11 @@ import argparse
 import importlib
 import re
 import sys
+import warnings
 from collections.abc import Sequence
 
 from grower import __version__
-from grower.errors import InputError
+from grower.errors import InputError, InputNote, InputWarning
 
 #: subcommands, in the order `grower --help` lists them
 COMMANDS = ("tonight", "size", "stock", "house", "crops", "fit")
@@ -27,9 +28,18 @@ EXIT_INPUT = 2
 EXIT_ALERT = 3
 
 
+class Parser(argparse.ArgumentParser):
+    """argparse, with a usage mistake reported like every other error: one line, exit 2."""
+
+    def error(self, message: str):  # type: ignore[override]
+        hint = f"; see `{self.prog} --help`"
+        print(f"Error: {self.prog}: {' '.join(message.split())}{hint}", file=sys.stderr)
+        raise SystemExit(EXIT_INPUT)
+
+
 def common_parser() -> argparse.ArgumentParser:
     """The options every subcommand takes."""
-    common = argparse.ArgumentParser(add_help=False)
+    common = Parser(add_help=False)
     out = common.add_argument_group("output")
     out.add_argument(
         "--json",
@@ -46,7 +56,7 @@ def common_parser() -> argparse.ArgumentParser:
 
 
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = Parser(
         prog="grower",
         description=(
             "Frost-protection planner for greenhouses and high tunnels: tonight's frost "
@@ -90,10 +100,32 @@ def join_negative_values(argv: Sequence[str]) -> list[str]:
     return out
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """Input warnings and notes as one line on stderr; anything else as Python shows it."""
+    if issubclass(category, InputWarning):
+        print(f"Warning: {message}", file=sys.stderr)
+    elif issubclass(category, InputNote):
+        print(f"Note: {message}", file=sys.stderr)
+    else:
+        _python_showwarning(message, category, filename, lineno, file, line)
+
+
+_python_showwarning = warnings.showwarning
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the `grower` console script; returns the exit status."""
     parser = build_parser()
+    # a usage mistake: one line and SystemExit(2) (see `Parser.error`)
     args = parser.parse_args(join_negative_values(sys.argv[1:] if argv is None else argv))
+    with warnings.catch_warnings():
+        warnings.simplefilter("always", InputWarning)
+        warnings.simplefilter("always", InputNote)
+        warnings.showwarning = _show_warning
+        return _run(args)
+
+
+def _run(args: argparse.Namespace) -> int:
     try:
         return int(args.run(args) or 0)
     except InputError as exc:
@@ -104,11 +136,15 @@ def main(argv: Sequence[str] | None = None) -> int:
         return _error(f"{exc.filename}: is a directory, not a file")
     except PermissionError as exc:
         return _error(f"{exc.filename}: permission denied")
+    except BrokenPipeError:
+        return EXIT_OK
+    except OSError as exc:  # a full disk, a read-only file system, a vanished folder
+        what = exc.strerror or str(exc)
+        name = exc.filename or "a file"
+        return _error(f"{name}: {what} (nothing was changed)")
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
-    except BrokenPipeError:
-        return EXIT_OK
 
 
 if __name__ == "__main__":

@@ -26,3 +26,33 @@ def did_you_mean(word: str, choices: Iterable[str]) -> str:
     """Return ``' (did you mean "x"?)'`` for the closest choice, or ``''``."""
     close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
     return f' (did you mean "{close[0]}"?)' if close else ""
+
+
+class InputWarning(UserWarning):
+    """Something in the input is possible but unusual, or was repaired: the run goes on.
+
+    The command line prints each as one line on stderr, ``Warning: <message>``.
+    """
+
+
+class InputNote(UserWarning):
+    """How an input was read (a bare number's unit): ``Note: <message>`` on stderr."""
+
+
+def _one_line(message: str, where: str | None) -> str:
+    text = " ".join(str(message).split())
+    return f"{where}: {text}" if where else text
+
+
+def warn(message: str, *, where: str | None = None) -> None:
+    """Issue an `InputWarning` (one line naming `where`)."""
+    import warnings
+
+    warnings.warn(InputWarning(_one_line(message, where)), stacklevel=2)
+
+
+def note(message: str, *, where: str | None = None) -> None:
+    """Issue an `InputNote` (one line naming `where`)."""
+    import warnings
+
+    warnings.warn(InputNote(_one_line(message, where)), stacklevel=2)

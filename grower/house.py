@@ -18,8 +18,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from grower import covers, geometry
-from grower.errors import InputError, did_you_mean
+from grower import covers, geometry, limits
+from grower.errors import InputError, did_you_mean, warn
 from grower.site import Site
 from grower.units import parse_quantity
 
@@ -245,24 +245,103 @@ def _positive(value: float, where: str, *, allow_zero: bool = False) -> float:
 def read(path: str | Path) -> House:
     """Read and validate a house file.
 
+    Only a regular file of at most `grower.files.HOUSE_FILE_MAX_BYTES` is read (a FIFO
+    or a device is refused before it is opened); a UTF-8 byte-order mark is accepted.
+
     Raises `InputError` (one line naming the file and key) for a TOML syntax error, an
     unknown or missing key, an unknown material, a unit of the wrong dimension, or an
     impossible size.
     """
+    from grower import files
+
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except UnicodeDecodeError as exc:
-        raise InputError("not a text file (UTF-8 expected)", where=str(path)) from exc
+    text = files.read_text(path, files.HOUSE_FILE_MAX_BYTES, str(path), what="text (TOML)")
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"TOML syntax error: {exc}", where=str(path)) from exc
+    except RecursionError:
+        raise InputError("TOML nested too deeply to be a house file", where=str(path)) from None
     return from_mapping(doc, source=str(path))
 
 
 def from_mapping(doc: Mapping[str, Any], *, source: str = "house") -> House:
-    """Validate an already-parsed house document (see `read`)."""
+    """Validate an already-parsed house document (see `read`).
+
+    The steps, each its own function: the sections present, the shape and size
+    (`_shape`), the covers of each surface (`_surfaces`), air exchange, the site, the
+    floor, thermal mass, heaters, curtain, control, stock and calibration.
+    """
+    _check_sections(doc, source)
+
+    def at(key: str) -> str:
+        return f"{source}: {key}"
+
+    shape = _shape(doc["house"], at)
+    env = geometry.envelope(
+        shape.shape, shape.width_m, shape.length_m, shape.eave_m, shape.ridge_m, shape.bays
+    )
+    limits.check(env.floor_m2, limits.FLOOR_AREA_M2, at("house"))
+    surfaces = _surfaces(doc, shape, env, source, at)
+    ach = _air(doc["air"], at)
+    site, units = _site(doc.get("site"), at)
+    floor = _floor(doc.get("floor", {}), at)
+    masses = tuple(
+        _mass(m, f"{source}: mass[{i}]") for i, m in enumerate(_list(doc, "mass", source))
+    )
+    _check_masses(masses, env, source)
+    heaters = tuple(
+        _heater(hd, f"{source}: heater[{i}]") for i, hd in enumerate(_list(doc, "heater", source))
+    )
+    _check_heaters(heaters, env, source)
+    curtain = _curtain(doc.get("curtain"), at)
+    ctl = _section(doc.get("control", {}), SCHEMA["control"], at("control"))
+    vent = ctl.get("vent_temperature", 26.0)
+    limits.check(vent, limits.VENT_C, at("control.vent_temperature"))
+    stock = _stock(doc.get("stock", {}), at)
+    calibration = _calibration(doc.get("calibration", {}), at)
+
+    return House(
+        name=shape.name,
+        path=source,
+        shape=shape.shape,
+        width_m=shape.width_m,
+        length_m=shape.length_m,
+        sidewall_height_m=shape.eave_m,
+        ridge_height_m=shape.ridge_m,
+        bays=shape.bays,
+        envelope=env,
+        surfaces=surfaces,
+        air_changes_per_hour=ach,
+        floor_kind=floor["kind"],
+        perimeter_insulated=floor["perimeter_insulated"],
+        deep_ground_temperature_c=floor["deep_ground_temperature"],
+        masses=masses,
+        heaters=heaters,
+        curtain=curtain,
+        site=site,
+        units=units,
+        vent_temperature_c=vent,
+        stock=stock,
+        calibration=calibration,
+    )
+
+
+# ------------------------------------------------------------------ the steps
+
+
+@dataclass(frozen=True)
+class _Shape:
+    name: str
+    shape: str
+    width_m: float
+    length_m: float
+    eave_m: float
+    ridge_m: float
+    bays: int
+
+
+def _check_sections(doc: Mapping[str, Any], source: str) -> None:
     for key in doc:
         if key not in TOP_KEYS:
             raise InputError(f'unknown section "{key}"{did_you_mean(key, TOP_KEYS)}', where=source)
@@ -270,10 +349,10 @@ def from_mapping(doc: Mapping[str, Any], *, source: str = "house") -> House:
         if key not in doc:
             raise InputError(f'missing section "[{key}]"', where=source)
 
-    def at(key: str) -> str:
-        return f"{source}: {key}"
 
-    h = _section(doc["house"], SCHEMA["house"], at("house"))
+def _shape(table: Mapping[str, Any], at) -> _Shape:
+    """[house]: shape, span, length, heights and bays, each within its plausible range."""
+    h = _section(table, SCHEMA["house"], at("house"))
     shape = h["shape"]
     if shape not in geometry.SHAPES:
         raise InputError(
@@ -285,9 +364,21 @@ def from_mapping(doc: Mapping[str, Any], *, source: str = "house") -> House:
     length = _positive(h["length"], at("house.length"))
     eave = _positive(h["sidewall_height"], at("house.sidewall_height"), allow_zero=True)
     ridge = _positive(h["ridge_height"], at("house.ridge_height"))
+    limits.check(width, limits.WIDTH_M, at("house.width"), shown=_shown(h, table, "width"))
+    limits.check(length, limits.LENGTH_M, at("house.length"), shown=_shown(h, table, "length"))
+    limits.check(
+        eave,
+        limits.SIDEWALL_M,
+        at("house.sidewall_height"),
+        shown=_shown(h, table, "sidewall_height"),
+    )
+    limits.check(
+        ridge, limits.RIDGE_M, at("house.ridge_height"), shown=_shown(h, table, "ridge_height")
+    )
     bays = h.get("bays", 1)
     if bays < 1:
         raise InputError(f"must be at least 1 (got {bays})", where=at("house.bays"))
+    limits.check(bays, limits.BAYS, at("house.bays"))
     if shape == "lean-to" and bays != 1:
         raise InputError("a lean-to has one bay", where=at("house.bays"))
     if ridge < eave:
@@ -308,13 +399,19 @@ def from_mapping(doc: Mapping[str, Any], *, source: str = "house") -> House:
             f"({math.sqrt(3) / 2 * width:.3g} m)",
             where=at("house.ridge_height"),
         )
-    if shape in ("gable", "lean-to", "gothic") and rise == 0 and eave == 0:
+    if rise == 0 and eave == 0:
         raise InputError("a house needs some height", where=at("house.ridge_height"))
-    if shape == "arch" and rise == 0 and eave == 0:
-        raise InputError("a house needs some height", where=at("house.ridge_height"))
+    return _Shape(h["name"], shape, width, length, eave, ridge, bays)
 
-    env = geometry.envelope(shape, width, length, eave, ridge, bays)
 
+def _shown(parsed: Mapping[str, Any], table: Mapping[str, Any], key: str) -> str | None:
+    """The file's own text for a value given with a unit, for messages."""
+    raw = table.get(key)
+    return raw if isinstance(raw, str) else None
+
+
+def _surfaces(doc, shape: _Shape, env, source: str, at) -> tuple[Surface, ...]:
+    """[cover] and [knee_wall]: each envelope surface with its material."""
     materials = covers.load_materials(doc.get("materials"), where=source)
     cov = _section(doc["cover"], SCHEMA["cover"], at("cover"))
     roof = covers.get_material(cov["roof"], materials, where=at("cover.roof"))
@@ -328,17 +425,17 @@ def from_mapping(doc: Mapping[str, Any], *, source: str = "house") -> House:
     if "knee_wall" in doc:
         kw = _section(doc["knee_wall"], SCHEMA["knee_wall"], at("knee_wall"))
         kh = _positive(kw["height"], at("knee_wall.height"))
-        if kh > eave:
+        if kh > shape.eave_m:
             raise InputError(
-                f"knee wall height {kh:g} m is above the side wall height {eave:g} m",
+                f"knee wall height {kh:g} m is above the side wall height {shape.eave_m:g} m",
                 where=at("knee_wall.height"),
             )
         knee_material = covers.get_material(
             kw["material"], materials, where=at("knee_wall.material")
         )
-        walls = side_area / eave if eave > 0 else 0.0  # exposed side-wall length
+        walls = side_area / shape.eave_m if shape.eave_m > 0 else 0.0  # exposed side length
         knee_sides = walls * kh
-        knee_ends = 2.0 * bays * width * kh if kw.get("ends", True) else 0.0
+        knee_ends = 2.0 * shape.bays * shape.width_m * kh if kw.get("ends", True) else 0.0
         side_area -= knee_sides
         end_area -= knee_ends
         knee_area = knee_sides + knee_ends
@@ -349,91 +446,196 @@ def from_mapping(doc: Mapping[str, Any], *, source: str = "house") -> House:
     ]
     if knee_material is not None:
         surfaces.append(Surface("knee walls", knee_area, knee_material))
-    surfaces = [x for x in surfaces if x.area_m2 > 0 or x.name == "roof"]  # a hoop has no walls
+    # a hoop has no walls
+    return tuple(x for x in surfaces if x.area_m2 > 0 or x.name == "roof")
 
-    air = _section(doc["air"], SCHEMA["air"], at("air"))
+
+def _air(table: Mapping[str, Any], at) -> float:
+    air = _section(table, SCHEMA["air"], at("air"))
     ach = air["changes_per_hour"]
-    if ach < 0 or ach > 60:
+    b = limits.AIR_CHANGES_PER_H
+    if ach < b.lo or ach > b.hi:
         raise InputError(
-            f"{ach:g} is outside 0–60 air changes per hour", where=at("air.changes_per_hour")
+            f"{ach:g} is outside {b.lo:g}–{b.hi:g} air changes per hour",
+            where=at("air.changes_per_hour"),
         )
+    return limits.check(ach, b, at("air.changes_per_hour"))
 
-    site = None
-    units = None
-    if "site" in doc:
-        s = _section(doc["site"], SCHEMA["site"], at("site"))
-        if not -90 <= s["latitude"] <= 90:
-            raise InputError("latitude must be within −90…90 degrees", where=at("site.latitude"))
-        if not -180 <= s["longitude"] <= 180:
-            raise InputError(
-                "longitude must be within −180…180 degrees", where=at("site.longitude")
-            )
-        _check_timezone(s["timezone"], at("site.timezone"))
-        units = s.get("units")
-        if units is not None and units not in ("metric", "us"):
-            raise InputError(f'"{units}" must be "metric" or "us"', where=at("site.units"))
-        site = Site(
-            latitude_deg=s["latitude"],
-            longitude_deg=s["longitude"],
-            elevation_m=s.get("elevation", 0.0),
-            timezone=s["timezone"],
-            name=s.get("name", ""),
-        )
 
-    fl = _section(doc.get("floor", {}), SCHEMA["floor"], at("floor"))
-    floor_kind = fl.get("kind", "soil")
-    if floor_kind not in FLOORS:
+def _site(table: Mapping[str, Any] | None, at) -> tuple[Site | None, str | None]:
+    """[site]: where the house stands, its clock and its units; None when absent."""
+    if table is None:
+        return None, None
+    s = _section(table, SCHEMA["site"], at("site"))
+    if not -90 <= s["latitude"] <= 90:
+        raise InputError("latitude must be within −90…90 degrees", where=at("site.latitude"))
+    if not -180 <= s["longitude"] <= 180:
+        raise InputError("longitude must be within −180…180 degrees", where=at("site.longitude"))
+    _check_timezone(s["timezone"], at("site.timezone"))
+    _check_clock(s["timezone"], s["longitude"], at("site.timezone"))
+    units = s.get("units")
+    if units is not None and units not in ("metric", "us"):
+        raise InputError(f'"{units}" must be "metric" or "us"', where=at("site.units"))
+    elevation = s.get("elevation", 0.0)
+    limits.check(
+        elevation, limits.ELEVATION_M, at("site.elevation"), shown=_shown(s, table, "elevation")
+    )
+    site = Site(
+        latitude_deg=s["latitude"],
+        longitude_deg=s["longitude"],
+        elevation_m=elevation,
+        timezone=s["timezone"],
+        name=s.get("name", ""),
+    )
+    return site, units
+
+
+def _floor(table: Mapping[str, Any], at) -> dict[str, Any]:
+    fl = _section(table, SCHEMA["floor"], at("floor"))
+    kind = fl.get("kind", "soil")
+    if kind not in FLOORS:
         raise InputError(
-            f'unknown floor kind "{floor_kind}"{did_you_mean(floor_kind, FLOORS)}; '
+            f'unknown floor kind "{kind}"{did_you_mean(kind, FLOORS)}; '
             f"use one of {', '.join(FLOORS)}",
             where=at("floor.kind"),
         )
+    deep = fl.get("deep_ground_temperature")
+    if deep is not None:
+        limits.check(
+            deep,
+            limits.DEEP_GROUND_C,
+            at("floor.deep_ground_temperature"),
+            shown=_shown(fl, table, "deep_ground_temperature"),
+        )
+    return {
+        "kind": kind,
+        "perimeter_insulated": fl.get("perimeter_insulated", False),
+        "deep_ground_temperature": deep,
+    }
 
-    masses = tuple(
-        _mass(m, f"{source}: mass[{i}]") for i, m in enumerate(_list(doc, "mass", source))
-    )
-    heaters = tuple(
-        _heater(hd, f"{source}: heater[{i}]") for i, hd in enumerate(_list(doc, "heater", source))
-    )
 
-    curtain = None
-    if "curtain" in doc:
-        ct = _section(doc["curtain"], SCHEMA["curtain"], at("curtain"))
-        curtain = Curtain(
-            covers.get_curtain(ct["kind"], where=at("curtain.kind")),
-            ct.get("closed_at_night", True),
+def _check_masses(masses: tuple[Mass, ...], env, source: str) -> None:
+    """Thermal mass must fit in the house: volume and exchange area against its size."""
+    if not masses:
+        return
+    volume = sum(
+        m.mass_kg / (WATER_DENSITY_KG_M3 if m.material == "water" else SOLID_DENSITY_KG_M3)
+        for m in masses
+    )
+    share = volume / env.volume_m3
+    refuse, usual = limits.MASS_VOLUME_SHARE
+    where = f"{source}: mass"
+    if not math.isfinite(share) or share > refuse:
+        raise InputError(
+            f"{volume:,.4g} m³ of thermal mass is {share:.0%} of the house's {env.volume_m3:,.4g} m³ "
+            f"inside volume; more than {refuse:.0%} leaves no room to grow (check volume, mass and count)",
+            where=where,
+        )
+    if share > usual:
+        warn(
+            f"{volume:,.4g} m³ of thermal mass is {share:.0%} of the house's inside volume "
+            f"(usually under {usual:.0%}); check volume, mass and count",
+            where=where,
+        )
+    area = sum(m.area_m2 for m in masses)
+    refuse, usual = limits.MASS_AREA_PER_FLOOR
+    ratio = area / env.floor_m2
+    if not math.isfinite(ratio) or ratio > refuse:
+        raise InputError(
+            f"{area:,.4g} m² of mass surface is {ratio:.3g} × the floor area; more than "
+            f"{refuse:g} × cannot fit in the house",
+            where=where,
+        )
+    if ratio > usual:
+        warn(
+            f"{area:,.4g} m² of mass surface is {ratio:.3g} × the floor area (usually under {usual:g} ×)",
+            where=where,
         )
 
-    ctl = _section(doc.get("control", {}), SCHEMA["control"], at("control"))
-    stock = _section(doc.get("stock", {}), SCHEMA["stock"], at("stock"))
-    calibration = doc.get("calibration", {})
-    if not isinstance(calibration, Mapping):
-        raise InputError("must be a table", where=at("calibration"))
 
-    return House(
-        name=h["name"],
-        path=source,
-        shape=shape,
-        width_m=width,
-        length_m=length,
-        sidewall_height_m=eave,
-        ridge_height_m=ridge,
-        bays=bays,
-        envelope=env,
-        surfaces=tuple(surfaces),
-        air_changes_per_hour=ach,
-        floor_kind=floor_kind,
-        perimeter_insulated=fl.get("perimeter_insulated", False),
-        deep_ground_temperature_c=fl.get("deep_ground_temperature"),
-        masses=masses,
-        heaters=heaters,
-        curtain=curtain,
-        site=site,
-        units=units,
-        vent_temperature_c=ctl.get("vent_temperature", 26.0),
-        stock=stock,
-        calibration=dict(calibration),
+def _check_heaters(heaters: tuple[Heater, ...], env, source: str) -> None:
+    total = sum(h.output_w for h in heaters)
+    if heaters and total / env.floor_m2 > limits.HEATER_USUAL_W_PER_M2:
+        warn(
+            f"{total / 1e3:,.4g} kW of heat output is {total / env.floor_m2:,.0f} W per m² of floor "
+            f"(cold-climate designs install 100–400 W/m²); check input and output",
+            where=f"{source}: heater",
+        )
+
+
+def _curtain(table: Mapping[str, Any] | None, at) -> Curtain | None:
+    if table is None:
+        return None
+    ct = _section(table, SCHEMA["curtain"], at("curtain"))
+    return Curtain(
+        covers.get_curtain(ct["kind"], where=at("curtain.kind")), ct.get("closed_at_night", True)
     )
+
+
+def _stock(table: Mapping[str, Any], at) -> dict[str, Any]:
+    stock = _section(table, SCHEMA["stock"], at("stock"))
+    if "price" in stock and stock["price"] < 0:
+        raise InputError(
+            f"{stock['price']:g} is a negative price (zero or more)", where=at("stock.price")
+        )
+    return stock
+
+
+#: [calibration] keys that must be positive, finite numbers when present
+_CALIBRATION_POSITIVE = ("k_w_per_k", "c_j_per_k", "coupling_scale", "heater_output_w")
+
+
+def _calibration(table: Any, at) -> dict[str, Any]:
+    if not isinstance(table, Mapping):
+        raise InputError("must be a table", where=at("calibration"))
+    for key in _CALIBRATION_POSITIVE:
+        if key in table:
+            v = table[key]
+            if (
+                isinstance(v, bool)
+                or not isinstance(v, int | float)
+                or not math.isfinite(v)
+                or v <= 0
+            ):
+                raise InputError(
+                    f"{v!r} must be a positive number (written by `grower fit`; delete the "
+                    "[calibration] table to use the geometry)",
+                    where=at(f"calibration.{key}"),
+                )
+    return dict(table)
+
+
+def check_calibration(
+    house: House, k_geometry_w_per_k: float | None = None, c_geometry_j_per_k: float | None = None
+) -> None:
+    """Refuse a ``[calibration]`` K or C that cannot describe this envelope; warn of an
+    unusual one.
+
+    The fitted values are compared with the geometry's (`grower.network.describe`
+    unless given): K outside `limits.CALIBRATION_K_RATIO`\\[0] (0.2–5 ×) or C outside
+    `limits.CALIBRATION_C_RATIO`\\[0] (0.1–10 ×) is an `InputError` naming the file's
+    key; outside the usual ranges (0.5–2 ×, 0.33–3 ×) a warning. For the plans and the
+    commands to call before a calibrated run.
+    """
+    cal = house.calibration
+    k, c = cal.get("k_w_per_k"), cal.get("c_j_per_k")
+    if k is None and c is None:
+        return
+    if k_geometry_w_per_k is None or c_geometry_j_per_k is None:
+        from grower import network
+
+        summary = network.describe(house)
+        k_geometry_w_per_k = k_geometry_w_per_k or summary.k_w_per_k
+        c_geometry_j_per_k = c_geometry_j_per_k or summary.c_j_per_k
+    where = f"{house.path}: calibration"
+    if k is not None:
+        limits.check_ratio(
+            float(k) / k_geometry_w_per_k, limits.CALIBRATION_K_RATIO, "K", f"{where}.k_w_per_k"
+        )
+    if c is not None:
+        limits.check_ratio(
+            float(c) / c_geometry_j_per_k, limits.CALIBRATION_C_RATIO, "C", f"{where}.c_j_per_k"
+        )
 
 
 def _list(doc: Mapping[str, Any], key: str, source: str) -> list[Mapping[str, Any]]:
@@ -494,6 +696,7 @@ def _heater(table: Mapping[str, Any], where: str) -> Heater:
             raise InputError(
                 f"{eff:g} must be within 0 < efficiency ≤ 1", where=f"{where}.efficiency"
             )
+        limits.check(eff, limits.EFFICIENCY, f"{where}.efficiency")
     else:
         key = appliance_key or fuel.default_appliance
         eff = _at(fuels.appliance_for, fuel, f"{where}.appliance", key).efficiency
@@ -501,9 +704,11 @@ def _heater(table: Mapping[str, Any], where: str) -> Heater:
         raise InputError('give "input" (nameplate) or "output", not both', where=where)
     if "input" in hd:
         q_in = _positive(hd["input"], f"{where}.input")
+        limits.check(q_in, limits.HEATER_W, f"{where}.input", shown=_shown(hd, table, "input"))
         q_out = q_in * eff
     elif "output" in hd:
         q_out = _positive(hd["output"], f"{where}.output")
+        limits.check(q_out, limits.HEATER_W, f"{where}.output", shown=_shown(hd, table, "output"))
         q_in = q_out / eff
     else:
         raise InputError('missing key "input" (nameplate rating) or "output"', where=where)
@@ -517,6 +722,40 @@ def _at(lookup, name, where: str, *more):
     except InputError as exc:
         text = str(exc).split(": ", 1)[-1]
         raise InputError(text, where=where) from exc
+
+
+def _check_clock(zone_name: str, longitude_deg: float, where: str) -> None:
+    """The zone's clock against the longitude's solar time (15° per hour).
+
+    A sign slip in the longitude (west is negative) or a zone from the wrong continent
+    puts sunrise and the forecast's hours many hours off; the widest real gaps are
+    about 3 h, 4 h with summer time (`limits.TIMEZONE_LONGITUDE_H`).
+    """
+    import datetime as dt
+    from zoneinfo import ZoneInfo
+
+    zone = ZoneInfo(zone_name)
+    solar_h = longitude_deg / 15.0
+    gaps = []
+    for month in (1, 7):
+        offset = dt.datetime(2026, month, 15, 12, tzinfo=zone).utcoffset()
+        off_h = offset.total_seconds() / 3600.0 if offset is not None else 0.0
+        gaps.append(abs((off_h - solar_h + 12.0) % 24.0 - 12.0))
+    gap = min(gaps)
+    refuse, usual = limits.TIMEZONE_LONGITUDE_H
+    hint = "; longitudes west of Greenwich are negative" if longitude_deg * solar_h >= 0 else ""
+    if gap > refuse:
+        raise InputError(
+            f'"{zone_name}" keeps a clock {gap:.1f} h from the solar time of longitude '
+            f"{longitude_deg:g}° (at most {refuse:g} h anywhere){hint}",
+            where=where,
+        )
+    if gap > usual:
+        warn(
+            f'"{zone_name}" keeps a clock {gap:.1f} h from the solar time of longitude '
+            f"{longitude_deg:g}° (usually under {usual:g} h); check longitude and zone",
+            where=where,
+        )
 
 
 def _check_timezone(name: str, where: str) -> None:

@@ -1,7 +1,10 @@
 """Quantities with units, at the edges of the program.
 
 Input files and command-line options may give a number with a unit ("30 ft", "-4 C",
-"25F", "150000 BTU/h", "12 mph"); a bare number is SI (for temperatures, °C). Inside,
+"25F", "150000 BTU/h", "12 mph"); a bare number is SI (for temperatures, °C) — except a
+bare command-line temperature, which the commands read in the report's unit system
+(`parse_temperature(..., bare="F")`). Units are case-correct: "5 mW" is five milliwatts,
+"5 MW" five megawatts, and "5 mw" is refused as either. Inside,
 everything is SI: m, m², m³, W, J, kg, s, m/s; absolute temperatures in °C, differences
 in K. This module turns text into SI floats and SI floats into display values.
 
@@ -46,7 +49,10 @@ M_S_PER_MPH = 0.44704
 
 UnitSystem = Literal["metric", "us"]
 
-# kind -> {unit spelling (lower case, no spaces): factor to SI}
+# kind -> {unit spelling: factor to SI}. Spellings are case-correct: an SI prefix's case
+# is its meaning ("mW" is a milliwatt, "MW" a megawatt). Input is matched exactly first,
+# then ignoring case only where that cannot change the meaning ("KW", "FT", "MPH"); a
+# spelling that could be two units ("mw": mW or MW) is refused with both named.
 _FACTORS: dict[str, dict[str, float]] = {
     "length": {
         "m": 1.0,
@@ -77,6 +83,7 @@ _FACTORS: dict[str, dict[str, float]] = {
     "volume": {
         "m3": 1.0,
         "m³": 1.0,
+        "L": 1e-3,
         "l": 1e-3,
         "liter": 1e-3,
         "liters": 1e-3,
@@ -100,24 +107,28 @@ _FACTORS: dict[str, dict[str, float]] = {
         "pounds": KG_PER_LB,
     },
     "power": {
-        "w": 1.0,
-        "kw": 1e3,
-        "mw": 1e6,
-        "btu/h": W_PER_BTU_H,
-        "btu/hr": W_PER_BTU_H,
-        "btuh": W_PER_BTU_H,
-        "mbh": 1e3 * W_PER_BTU_H,
-        "kbtu/h": 1e3 * W_PER_BTU_H,
+        "W": 1.0,
+        "mW": 1e-3,
+        "kW": 1e3,
+        "KW": 1e3,  # a common misspelling of kW: there is no kelvin-watt
+        "MW": 1e6,
+        "Btu/h": W_PER_BTU_H,
+        "Btu/hr": W_PER_BTU_H,
+        "Btuh": W_PER_BTU_H,
+        "MBH": 1e3 * W_PER_BTU_H,  # the trade's thousand Btu/h (common practice, no source)
+        "kBtu/h": 1e3 * W_PER_BTU_H,
     },
     "energy": {
-        "j": 1.0,
-        "kj": 1e3,
-        "mj": 1e6,
-        "gj": 1e9,
-        "wh": 3600.0,
-        "kwh": J_PER_KWH,
-        "mwh": 1e3 * J_PER_KWH,
-        "btu": J_PER_BTU,
+        "J": 1.0,
+        "mJ": 1e-3,
+        "kJ": 1e3,
+        "MJ": 1e6,
+        "GJ": 1e9,
+        "Wh": 3600.0,
+        "mWh": 3.6,
+        "kWh": J_PER_KWH,
+        "MWh": 1e3 * J_PER_KWH,
+        "Btu": J_PER_BTU,
         "therm": J_PER_THERM,
         "therms": J_PER_THERM,
     },
@@ -133,14 +144,14 @@ _FACTORS: dict[str, dict[str, float]] = {
         "knots": 1852.0 / 3600.0,
     },
     "u_value": {
-        "w/m2k": 1.0,
-        "w/m²k": 1.0,
-        "w/m2/k": 1.0,
-        "w/(m2k)": 1.0,
-        "w/m2·k": 1.0,
-        "btu/hft2f": W_M2K_PER_BTU_HFT2F,
-        "btu/h·ft²·°f": W_M2K_PER_BTU_HFT2F,
-        "btu/(hft2f)": W_M2K_PER_BTU_HFT2F,
+        "W/m2K": 1.0,
+        "W/m²K": 1.0,
+        "W/m2/K": 1.0,
+        "W/(m2K)": 1.0,
+        "W/m2·K": 1.0,
+        "Btu/hft2F": W_M2K_PER_BTU_HFT2F,
+        "Btu/h·ft²·°F": W_M2K_PER_BTU_HFT2F,
+        "Btu/(hft2F)": W_M2K_PER_BTU_HFT2F,
     },
     "fraction": {"": 1.0, "%": 0.01, "pct": 0.01, "percent": 0.01},
 }
@@ -171,8 +182,8 @@ def c_to_f(temp_c: float) -> float:
 
 
 def _normalise_unit(unit: str) -> str:
-    """Fold spellings of one unit together: case, spaces, ·, *, ^, ², ³, brackets."""
-    unit = unit.lower().replace(" ", "").replace("º", "°")
+    """Fold spellings of one unit together: spaces, ·, *, ^, ², ³, brackets (not case)."""
+    unit = unit.replace(" ", "").replace("º", "°")
     for old, new in (("·", ""), ("*", ""), ("^", ""), ("²", "2"), ("³", "3"), ("(", ""), (")", "")):
         unit = unit.replace(old, new)
     return unit
@@ -181,6 +192,33 @@ def _normalise_unit(unit: str) -> str:
 for _table in _FACTORS.values():
     for _unit in list(_table):
         _table.setdefault(_normalise_unit(_unit), _table[_unit])
+
+#: kind -> lower-case spelling -> {factor: a case-correct spelling}
+_FOLDED: dict[str, dict[str, dict[float, str]]] = {}
+for _kind, _table in _FACTORS.items():
+    _fold = _FOLDED.setdefault(_kind, {})
+    for _unit, _factor in _table.items():
+        _fold.setdefault(_unit.lower(), {}).setdefault(_factor, _unit)
+
+
+def _factor(kind: str, unit: str, value: object, where: str) -> float | None:
+    """SI factor of `unit` (normalised) for `kind`; None when unknown; InputError when
+    the spelling could be two units that differ only in case ("mw": mW or MW)."""
+    table = _FACTORS[kind]
+    if unit in table:
+        return table[unit]
+    found = _FOLDED[kind].get(unit.lower(), {})
+    if len(found) == 1:
+        return next(iter(found))
+    if len(found) > 1:
+        names = " or ".join(f'"{u}"' for u in sorted(found.values()))
+        raise InputError(
+            f'"{value}": "{unit}" could be {names} (the case of a prefix is its meaning: '
+            "m is milli, M is mega); write the unit as it is spelled",
+            where=where,
+        )
+    return None
+
 
 _THOUSANDS = re.compile(r"^[-+]?\d{1,3}(,\d{3})+(\.\d*)?$")
 
@@ -210,24 +248,28 @@ def _check_finite(value: float, text: object, where: str) -> float:
     return value
 
 
-def parse_temperature(value: object, *, where: str = "temperature") -> float:
+def parse_temperature(
+    value: object, *, where: str = "temperature", bare: Literal["C", "F"] = "C"
+) -> float:
     """Parse an absolute temperature ("−4 C", "25F", "271.15 K", 3) to °C.
 
-    A bare number is °C. Raises `InputError` naming `where` for text that is not a
-    temperature, a unit of another dimension, or a value below absolute zero.
+    A bare number is read in `bare` (°C unless the caller knows the user works in °F).
+    Raises `InputError` naming `where` for text that is not a temperature, a unit of
+    another dimension, or a value below absolute zero.
     """
     if isinstance(value, bool):
         raise InputError(f"{value!r} is not a temperature", where=where)
     if isinstance(value, int | float):
-        if value < -273.15:
+        celsius = f_to_c(float(value)) if bare == "F" else float(value)
+        if celsius < -273.15:
             raise InputError(f'"{value}" is below absolute zero', where=where)
-        return _check_finite(float(value), value, where)
+        return _check_finite(celsius, value, where)
     if not isinstance(value, str):
         raise InputError(f"{value!r} is not a temperature", where=where)
     number, unit = _split(value, "temperature", where)
-    unit = unit.replace("º", "°")
+    unit = unit.replace("º", "°").lower()
     if unit == "":
-        celsius = number
+        celsius = f_to_c(number) if bare == "F" else number
     elif unit in _TEMPERATURE_UNITS:
         scale = _TEMPERATURE_UNITS[unit]
         celsius = {"C": number, "F": f_to_c(number), "K": number - 273.15}[scale]
@@ -242,18 +284,23 @@ def parse_temperature(value: object, *, where: str = "temperature") -> float:
     return _check_finite(celsius, value, where)
 
 
-def parse_temperature_difference(value: object, *, where: str = "temperature difference") -> float:
-    """Parse a temperature *difference* ("2 C", "4F", "3 K", 2) to K."""
+def parse_temperature_difference(
+    value: object, *, where: str = "temperature difference", bare: Literal["K", "F"] = "K"
+) -> float:
+    """Parse a temperature *difference* ("2 C", "4F", "3 K", 2) to K.
+
+    A bare number is read in `bare` (K, or °F degrees for a user working in °F).
+    """
     if isinstance(value, bool):
         raise InputError(f"{value!r} is not a temperature difference", where=where)
     if isinstance(value, int | float):
-        return _check_finite(float(value), value, where)
+        return _check_finite(float(value) / (1.8 if bare == "F" else 1.0), value, where)
     if not isinstance(value, str):
         raise InputError(f"{value!r} is not a temperature difference", where=where)
     number, unit = _split(value, "temperature difference", where)
-    unit = unit.replace("º", "°")
+    unit = unit.replace("º", "°").lower()
     if unit == "":
-        return number
+        return _check_finite(number / (1.8 if bare == "F" else 1.0), value, where)
     scale = _TEMPERATURE_UNITS.get(unit)
     if scale is None:
         raise InputError(
@@ -263,10 +310,10 @@ def parse_temperature_difference(value: object, *, where: str = "temperature dif
 
 
 def _kind_of(unit: str) -> str | None:
-    for kind, table in _FACTORS.items():
-        if unit in table and unit != "":
+    for kind, fold in _FOLDED.items():
+        if unit and unit.lower() in fold:
             return kind
-    if unit in _TEMPERATURE_UNITS:
+    if unit.lower() in _TEMPERATURE_UNITS:
         return "temperature"
     return None
 
@@ -305,7 +352,8 @@ def parse_quantity(value: object, kind: str, *, where: str = "value") -> float:
     if not isinstance(value, str):
         raise InputError(f"{value!r} is not a {kind.replace('_', ' ')}", where=where)
     number, unit = _split(value, kind.replace("_", " "), where)
-    if unit not in table:
+    factor = _factor(kind, unit, value, where)
+    if factor is None:
         if unit == "" and kind != "fraction":
             return _check_finite(number, value, where)
         other = _kind_of(unit)
@@ -319,7 +367,7 @@ def parse_quantity(value: object, kind: str, *, where: str = "value") -> float:
             f'"{value}": unknown {kind.replace("_", " ")} unit "{unit}" (known: {known})',
             where=where,
         )
-    return _check_finite(number * table[unit], value, where)
+    return _check_finite(number * factor, value, where)
 
 
 # ---------------------------------------------------------------- display

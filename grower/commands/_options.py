@@ -29,25 +29,130 @@ def add_crop_options(p: argparse.ArgumentParser, *, required: bool = False) -> N
     g.add_argument("--crops-dir", metavar="DIR", help="a folder of your own crop files")
 
 
-def temperature(text: str | None, option: str) -> float | None:
-    from grower.units import parse_temperature
+def reading_system(args: argparse.Namespace, houses) -> str | None:
+    """The unit system a bare command-line temperature is read in: the report's.
 
-    return None if text is None else parse_temperature(text, where=option)
+    ``--units``, else the house files' ``[site] units`` (None when the houses disagree:
+    a bare number is then refused), else the locale's, as `report.common.unit_system`.
+    """
+    from grower.report.common import unit_system
+
+    if getattr(args, "units", None):
+        return args.units
+    given = {h.units for h in houses if h.units}
+    if len(given) > 1:
+        return None
+    return unit_system(None, given.pop() if given else None)
 
 
-def choose_threshold(args: argparse.Namespace):
-    """(crop, stage, ThresholdChoice) from --crop/--threshold/--margin, or Nones."""
-    from grower import crops
+def _is_bare(text: str) -> bool:
+    try:
+        float(text.strip().replace("\u2212", "-"))
+    except ValueError:
+        return False
+    return True
+
+
+def _why(args: argparse.Namespace, system: str) -> str:
+    if getattr(args, "units", None):
+        return f"--units {system}"
+    return "the report's units"
+
+
+def temperature(
+    text: str | None,
+    option: str,
+    system: str | None = "metric",
+    bound=None,
+    *,
+    why: str = "the report's units",
+) -> float | None:
+    """A command-line temperature [°C]; a bare number is read in `system` and echoed.
+
+    `bound` (a `grower.limits.Bound`) refuses an impossible value and warns of an
+    unusual one, showing the range in the user's units.
+    """
+    from grower import limits
+    from grower.errors import note
+    from grower.units import c_to_f, parse_temperature
+
+    if text is None:
+        return None
+    bare = _is_bare(text)
+    if bare and system is None:
+        raise InputError(
+            f'"{text}" has no unit and the house files use different units; write {text}C or {text}F',
+            where=option,
+        )
+    unit = "F" if system == "us" else "C"
+    value = parse_temperature(text, where=option, bare=unit)
+    if bare:
+        note(
+            f"{text} read as {text} °{unit} ({why}); write {text}C or {text}F to say", where=option
+        )
+    if bound is not None:
+        tail = text.strip().lower()
+        shown_f = tail.endswith("f") or (bare and system == "us")
+
+        def convert(lo: float, hi: float) -> str:
+            if shown_f:
+                return f"{c_to_f(lo):.0f}…{c_to_f(hi):.0f} °F".replace("-", "−")
+            return f"{lo:g}…{hi:g} °C".replace("-", "−")
+
+        limits.check(value, bound, option, shown=text, convert=convert)
+    return value
+
+
+def difference(
+    text: str | None,
+    option: str,
+    system: str | None = "metric",
+    bound=None,
+    *,
+    why: str = "the report's units",
+) -> float | None:
+    """A command-line temperature difference [K]; a bare number in `system` (K or °F)."""
+    from grower import limits
+    from grower.errors import note
     from grower.units import parse_temperature_difference
 
-    override = temperature(args.threshold, "--threshold")
+    if text is None:
+        return None
+    bare = _is_bare(text)
+    if bare and system is None:
+        raise InputError(
+            f'"{text}" has no unit and the house files use different units; write {text}K or {text}F',
+            where=option,
+        )
+    unit = "F" if system == "us" else "K"
+    value = parse_temperature_difference(text, where=option, bare=unit)
+    if bare:
+        shown = "°F" if unit == "F" else "K"
+        note(
+            f"{text} read as {text} {shown} ({why}); write {text}K or {text}F to say", where=option
+        )
+    if bound is not None:
+        limits.check(value, bound, option, shown=text)
+    return value
+
+
+def choose_threshold(args: argparse.Namespace, system: str | None = "metric"):
+    """(crop, stage, ThresholdChoice) from --crop/--threshold/--margin, or Nones.
+
+    Bare numbers in --threshold and --margin are read in `system`.
+    """
+    from grower import crops, limits
+
+    why = _why(args, system or "metric")
+    override = temperature(args.threshold, "--threshold", system, limits.ALARM_C, why=why)
     margin = (
         crops.DEFAULT_MARGIN_K
         if args.margin is None
-        else parse_temperature_difference(args.margin, where="--margin")
+        else difference(args.margin, "--margin", system, why=why)
     )
     if margin < 0:
         raise InputError("cannot be negative", where="--margin")
+    limits.check(margin, limits.MARGIN_K, "--margin", shown=args.margin or None)
     if not args.crop:
         return None, None, None, override
     book = crops.load_crops(args.crops_dir)
@@ -56,12 +161,13 @@ def choose_threshold(args: argparse.Namespace):
 
 
 def speed(text: str, option: str) -> float:
+    from grower import limits
     from grower.units import parse_quantity
 
     v = parse_quantity(text, "speed", where=option)
     if v < 0:
         raise InputError("cannot be negative", where=option)
-    return v
+    return limits.check(v, limits.WIND_M_S, option, shown=text)
 
 
 def add_forecast_options(p: argparse.ArgumentParser, *, live_days: int = 3) -> None:
@@ -91,8 +197,17 @@ def add_forecast_options(p: argparse.ArgumentParser, *, live_days: int = 3) -> N
 
 
 def _parse_time(text: str, tz_name: str | None, option: str):
+    import datetime as dt
+
     import pandas as pd
 
+    from grower import limits
+
+    try:
+        limits.check_year(dt.datetime.fromisoformat(text.strip()).year, option)
+    except ValueError as exc:
+        if isinstance(exc, InputError):
+            raise
     try:
         t = pd.Timestamp(text.replace(" ", "T", 1) if "T" not in text else text)
     except (ValueError, TypeError) as exc:
@@ -126,10 +241,12 @@ def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
     """The forecast the options ask for: a file, a forecast low, or the live service."""
     import datetime as dt
 
-    from grower import weather
+    from grower import limits, weather
     from grower.units import parse_quantity
 
     site = house.site
+    system = reading_system(args, [house])
+    why = _why(args, system or "metric")
     extras = [o for o in ("high", "dew_point", "cloud", "wind") if getattr(args, o, None)]
     if args.forecast:
         if extras:
@@ -151,12 +268,15 @@ def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
             if args.cloud is None
             else parse_quantity(args.cloud.rstrip("%"), "fraction", where="--cloud")
         )
+        low = temperature(args.low, "--low", system, limits.OUTSIDE_AIR_C, why=why)
+        high = temperature(args.high, "--high", system, limits.OUTSIDE_AIR_C, why=why)
+        dew = temperature(args.dew_point, "--dew-point", system, limits.DEW_POINT_C, why=why)
         return weather.forecast_from_low(
             site,
-            temperature(args.low, "--low"),
+            low,
             (start.to_pydatetime() if start is not None else now),
-            high_c=temperature(args.high, "--high"),
-            dew_point_c=temperature(args.dew_point, "--dew-point"),
+            high_c=high,
+            dew_point_c=dew,
             cloud_pct=cloud,
             wind_m_s=None if args.wind is None else speed(args.wind, "--wind"),
             step_s=900.0,
@@ -183,3 +303,11 @@ def live_forecast(site, days: int):
         with Console(stderr=True).status("fetching the forecast…") as status:
             return weather.fetch_forecast(site, days=days, status=lambda text: status.update(text))
     return weather.fetch_forecast(site, days=days)
+
+
+def check_house(h, *, use_calibration: bool = True) -> None:
+    """Checks of a house that need its model: a ``[calibration]`` against the geometry."""
+    if use_calibration and h.calibration:
+        from grower.house import check_calibration
+
+        check_calibration(h)

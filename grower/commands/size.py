@@ -50,17 +50,20 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from grower import house
+    from grower import house, limits
+    from grower.commands._options import check_house, reading_system
     from grower.errors import InputError
     from grower.plans import model, size
     from grower.report import common
     from grower.report import size as report
 
     h = house.read(args.house)
-    outside = temperature(args.outside, "--outside")
+    system = reading_system(args, [h])  # bare numbers are read in the report's units
+    check_house(h, use_calibration=not args.no_calibration)
+    outside = temperature(args.outside, "--outside", system, limits.OUTSIDE_AIR_C)
     wind = speed(args.wind, "--wind")
-    crop, stage, choice, override = choose_threshold(args)
-    hold = temperature(args.hold, "--hold")
+    crop, stage, choice, override = choose_threshold(args, system)
+    hold = temperature(args.hold, "--hold", system, limits.HOLD_C)
     if hold is not None and (crop or override is not None):
         raise InputError("give --hold or --crop/--threshold, not both", where="grower size")
     if hold is not None:

@@ -67,7 +67,13 @@ def run(args: argparse.Namespace) -> int:
     import sys
 
     from grower import house
-    from grower.commands._options import choose_threshold, get_forecast, start_time
+    from grower.commands._options import (
+        check_house,
+        choose_threshold,
+        get_forecast,
+        reading_system,
+        start_time,
+    )
     from grower.errors import InputError
     from grower.plans import stock
     from grower.report import common
@@ -81,8 +87,10 @@ def run(args: argparse.Namespace) -> int:
             where="--low",
         )
     h = house.read(args.house)
-    setpoint = temperature(args.setpoint, "--setpoint")
-    night = temperature(args.night_setpoint, "--night-setpoint")
+    system = reading_system(args, [h])  # bare numbers are read in the report's units
+    check_house(h, use_calibration=not args.no_calibration)
+    setpoint = temperature(args.setpoint, "--setpoint", system)
+    night = temperature(args.night_setpoint, "--night-setpoint", system)
     for value, option in ((setpoint, "--setpoint"), (night, "--night-setpoint")):
         if value is not None and not -5.0 <= value <= 35.0:
             raise InputError(f"{value:.1f} °C is outside −5…35 °C", where=option)
@@ -91,7 +99,7 @@ def run(args: argparse.Namespace) -> int:
                 f"{value:.1f} °C is not below the house's vent temperature ({h.vent_temperature_c:.1f} °C)",
                 where=option,
             )
-    crop, stage, choice, override = choose_threshold(args)
+    crop, stage, choice, override = choose_threshold(args, system)
     alarm = choice.alarm_c if choice else override
     if alarm is not None:
         for value, option in ((setpoint, "--setpoint"), (night, "--night-setpoint")):

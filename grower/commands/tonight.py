@@ -53,29 +53,38 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from grower import house
+    from grower import house, limits
     from grower.cli import EXIT_ALERT
-    from grower.commands._options import choose_threshold, get_forecast, start_time
+    from grower.commands._options import (
+        check_house,
+        choose_threshold,
+        difference,
+        get_forecast,
+        reading_system,
+        start_time,
+    )
     from grower.errors import InputError
     from grower.plans import tonight
     from grower.report import common
     from grower.report import tonight as report
-    from grower.units import parse_temperature_difference
 
-    crop, stage, choice, override = choose_threshold(args)
+    if args.plot and len(args.houses) > 1:
+        raise InputError("--plot takes one house", where="--plot")
+    houses = [house.read(f) for f in args.houses]
+    system = reading_system(args, houses)  # bare numbers are read in the report's units
+    crop, stage, choice, override = choose_threshold(args, system)
     if choice is None and override is None:
         raise InputError(
             "say what to protect: --crop NAME (see `grower crops`) or --threshold T",
             where="grower tonight",
         )
-    colder = parse_temperature_difference(args.colder, where="--colder")
+    colder = difference(args.colder, "--colder", system)
     if not 0 < colder <= 15:
         raise InputError("must be between 0 and 15 K", where="--colder")
-    inside = temperature(args.inside_now, "--inside-now")
-    soil = temperature(args.soil_now, "--soil-now")
-    if args.plot and len(args.houses) > 1:
-        raise InputError("--plot takes one house", where="--plot")
-    houses = [house.read(f) for f in args.houses]
+    inside = temperature(args.inside_now, "--inside-now", system, limits.INSIDE_AIR_C)
+    soil = temperature(args.soil_now, "--soil-now", system, limits.SOIL_C)
+    for h in houses:
+        check_house(h, use_calibration=not args.no_calibration)
     results = []
     for h in houses:
         forecast = get_forecast(args, h)

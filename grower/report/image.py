@@ -42,6 +42,10 @@ def write_plot(
         raise InputError("the chart file must end in .png or .svg", where=f"--plot {path}")
     if not path.parent.exists():
         raise InputError("folder does not exist", where=f"--plot {path}")
+    if path.is_dir():
+        raise InputError(
+            "is a folder; give a file name ending in .png or .svg", where=f"--plot {path}"
+        )
     try:
         import matplotlib
 
@@ -71,7 +75,12 @@ def write_plot(
     ax.legend(loc="best", fontsize=8)
     fig.tight_layout()
     tmp = path.with_name(f".{path.name}.tmp")
-    fig.savefig(tmp, format=path.suffix.lower().lstrip("."))
-    plt.close(fig)
-    tmp.replace(path)
+    try:
+        fig.savefig(tmp, format=path.suffix.lower().lstrip("."))
+        tmp.replace(path)
+    except BaseException:
+        tmp.unlink(missing_ok=True)  # a failed write leaves nothing behind
+        raise
+    finally:
+        plt.close(fig)
     return path
