@@ -630,11 +630,17 @@ def check_calibration(
     where = f"{house.path}: calibration"
     if k is not None:
         limits.check_ratio(
-            float(k) / k_geometry_w_per_k, limits.CALIBRATION_K_RATIO, "K", f"{where}.k_w_per_k"
+            float(k) / k_geometry_w_per_k,
+            limits.CALIBRATION_K_RATIO,
+            f"K = {float(k):,.4g} W/K (the geometry's {k_geometry_w_per_k:,.4g} W/K)",
+            f"{where}.k_w_per_k",
         )
     if c is not None:
         limits.check_ratio(
-            float(c) / c_geometry_j_per_k, limits.CALIBRATION_C_RATIO, "C", f"{where}.c_j_per_k"
+            float(c) / c_geometry_j_per_k,
+            limits.CALIBRATION_C_RATIO,
+            f"C = {float(c) / 1e6:,.4g} MJ/K (the geometry's {c_geometry_j_per_k / 1e6:,.4g} MJ/K)",
+            f"{where}.c_j_per_k",
         )
 
 
@@ -736,14 +742,19 @@ def _check_clock(zone_name: str, longitude_deg: float, where: str) -> None:
 
     zone = ZoneInfo(zone_name)
     solar_h = longitude_deg / 15.0
-    gaps = []
+    offsets = []
     for month in (1, 7):
         offset = dt.datetime(2026, month, 15, 12, tzinfo=zone).utcoffset()
-        off_h = offset.total_seconds() / 3600.0 if offset is not None else 0.0
-        gaps.append(abs((off_h - solar_h + 12.0) % 24.0 - 12.0))
+        offsets.append(offset.total_seconds() / 3600.0 if offset is not None else 0.0)
+    gaps = [abs((off_h - solar_h + 12.0) % 24.0 - 12.0) for off_h in offsets]
     gap = min(gaps)
     refuse, usual = limits.TIMEZONE_LONGITUDE_H
-    hint = "; longitudes west of Greenwich are negative" if longitude_deg * solar_h >= 0 else ""
+    flipped = min(abs((g_off - (-solar_h) + 12.0) % 24.0 - 12.0) for g_off in offsets)
+    hint = ""
+    if flipped <= usual:
+        side = "west" if longitude_deg > 0 else "east"
+        sign = "negative" if side == "west" else "positive"
+        hint = f"; is the site {side} of Greenwich? {side} longitudes are {sign}"
     if gap > refuse:
         raise InputError(
             f'"{zone_name}" keeps a clock {gap:.1f} h from the solar time of longitude '

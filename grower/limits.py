@@ -39,8 +39,7 @@ def _num(value: float) -> str:
 
 
 def _range(lo: float, hi: float, unit: str) -> str:
-    sep = "" if unit in ("%", "°C", "°F") or not unit else " "
-    return f"{_num(lo)}…{_num(hi)}{sep}{unit}"
+    return f"{_num(lo)}…{_num(hi)}{_unit_suffix(unit)}"
 
 
 # Temperatures [°C]. Earth's recorded air-temperature extremes: −89.2 °C (Vostok,
@@ -283,9 +282,9 @@ def check(
     """
     if isinstance(value, float) and math.isnan(value):
         raise InputError("is not a number", where=where)
-    given = f'"{shown}"' if shown is not None else _num(value) + _unit_suffix(bound.unit)
+    given = f'"{shown}"' if shown is not None else _num(float(value)) + _unit_suffix(bound.unit)
     if shown is not None and convert is None:
-        given += f" ({_num(value)}{_unit_suffix(bound.unit)})"
+        given += f" ({_num(float(value))}{_unit_suffix(bound.unit)})"
     if not bound.lo <= value <= bound.hi:
         rng = convert(bound.lo, bound.hi) if convert else _range(bound.lo, bound.hi, bound.unit)
         raise InputError(
@@ -305,17 +304,19 @@ def check(
 def _unit_suffix(unit: str) -> str:
     if not unit:
         return ""
-    return unit if unit in ("°C", "°F", "%") else f" {unit}"
+    return unit if unit == "%" else f" {unit}"
 
 
 def check_ratio(
     ratio: float, ranges: tuple[tuple[float, float], tuple[float, float]], what: str, where: str
 ) -> None:
-    """Refuse a ratio outside ranges[0], warn outside ranges[1]."""
+    """Refuse a ratio outside ranges[0], warn outside ranges[1]; `what` names the values
+    ("K = 10 W/K")."""
     (lo, hi), (ulo, uhi) = ranges
     if not math.isfinite(ratio) or not lo <= ratio <= hi:
         raise InputError(
-            f"{what} is {ratio:.3g} × the geometry's, outside the possible {lo:g}–{hi:g} ×",
+            f"{what} is {ratio:.3g} × the geometry's, outside the possible {lo:g}–{hi:g} × "
+            "(delete the [calibration] table or refit)",
             where=where,
         )
     if not ulo <= ratio <= uhi:

@@ -293,8 +293,9 @@ def read_logger_csv(
 
 
 def _decode(path, where: str, notes: list[str]) -> str:
-    with open(path, "rb") as handle:
-        raw = handle.read()
+    from grower import files
+
+    raw = files.read_bytes(path, files.LOGGER_FILE_MAX_BYTES, where)
     if b"\x00" in raw[:4096]:
         raise InputError("not a text file (a CSV export is expected)", where=where)
     try:

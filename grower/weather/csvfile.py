@@ -8,13 +8,15 @@ from __future__ import annotations
 
 import csv
 import datetime as dt
+import io
 import os
 from collections.abc import Callable
 
 import numpy as np
 from numpy.typing import NDArray
 
-from grower.errors import InputError, did_you_mean
+from grower import files, limits
+from grower.errors import InputError, did_you_mean, warn
 from grower.site import Site
 from grower.units import M_S_PER_MPH, f_to_c
 from grower.weather.forecast import (
@@ -72,13 +74,11 @@ def read_forecast_csv(
     where = os.fspath(path)
     zone_name = timezone or (site.timezone if site else None)
     zone = _zone(zone_name, where) if zone_name else None
+    text = files.read_text(path, files.FORECAST_FILE_MAX_BYTES, where, what="UTF-8 text")
     try:
-        with open(path, newline="", encoding="utf-8-sig") as handle:
-            reader = csv.reader(handle)
-            header = next(reader, None)
-            rows = [(reader.line_num, row) for row in reader if any(cell.strip() for cell in row)]
-    except UnicodeDecodeError:
-        raise InputError("not a UTF-8 text file", where=where) from None
+        reader = csv.reader(io.StringIO(text, newline=""))
+        header = next(reader, None)
+        rows = [(reader.line_num, row) for row in reader if any(cell.strip() for cell in row)]
     except csv.Error as exc:
         raise InputError(f"not a readable CSV file ({exc})", where=where) from None
     if not header or not any(h.strip() for h in header):
@@ -101,6 +101,13 @@ def read_forecast_csv(
         _parse_time(text, f"line {line}", where)
         for text, line in zip(cells["time"], lines, strict=True)
     ]
+    lo_year, hi_year = limits.YEARS
+    for t, line in zip(times, lines, strict=True):
+        if not lo_year <= t.year <= hi_year:
+            raise InputError(
+                f"line {line}, column time: the year {t.year} is outside {lo_year}–{hi_year}",
+                where=where,
+            )
     aware = [t.tzinfo is not None for t in times]
     if any(aware) and not all(aware):
         i = aware.index(not aware[0])
@@ -135,6 +142,7 @@ def read_forecast_csv(
         head, unit = label_unit[col]
         return f"{cells[head][i]} {unit}"
 
+    _check_wind(values, label_unit, cells, lines, where)
     utc_s, offsets, values, warnings = _check_and_repair(
         utc_s,
         offsets,
@@ -144,13 +152,23 @@ def read_forecast_csv(
         raw=raw,
         where=where,
     )
+    _check_fahrenheit(values, label_unit, where)
+    if site is not None and "shortwave_w_m2" in values:
+        _check_sun(utc_s, values["shortwave_w_m2"], site, where)
     if zone is not None:
         tz, tz_name = zone, zone_name
         offsets = _zone_offsets(utc_s, zone)
     elif np.unique(offsets).size == 1:
         tz, tz_name = dt.timezone(dt.timedelta(seconds=int(offsets[0]))), None
     else:
-        tz, tz_name = dt.UTC, None
+        # offsets change inside the file (a clock change) and no site zone is known: show
+        # times on the file's own clock, through a zone that keeps exactly those offsets
+        tz, tz_name = _zone_keeping(utc_s, offsets), None
+        if tz is dt.UTC:
+            warnings = [
+                *warnings,
+                "the file's UTC offsets change in a way no time zone does: times shown in UTC",
+            ]
     return _make(
         utc_s,
         offsets,
@@ -161,6 +179,124 @@ def read_forecast_csv(
         source=f"file {where}",
         warnings=tuple(warnings),
     )
+
+
+def _zone_keeping(utc_s, offsets) -> dt.tzinfo:
+    """An IANA zone whose clock has exactly `offsets` at `utc_s`, else UTC."""
+    from zoneinfo import ZoneInfo, available_timezones
+
+    change = np.flatnonzero(np.diff(offsets))
+    probe = np.unique(np.concatenate(([0, offsets.size - 1], change, change + 1)))
+    for name in sorted(available_timezones()):
+        try:
+            zone = ZoneInfo(name)
+        except Exception:  # a broken tzdata entry
+            continue
+        if all(
+            dt.datetime.fromtimestamp(float(utc_s[i]), zone).utcoffset().total_seconds()
+            == offsets[i]
+            for i in probe
+        ) and np.array_equal(_zone_offsets(utc_s, zone), offsets):
+            return zone
+    return dt.UTC
+
+
+def _check_wind(values, label_unit, cells, lines, where: str) -> None:
+    """The wind's physical bound (the shared range check only refuses a negative one)."""
+    wind = values.get("wind_speed_m_s")
+    if wind is not None:
+        b = limits.WIND_M_S
+        bad = np.flatnonzero(np.isfinite(wind) & (wind > b.hi))
+        if bad.size:
+            i = int(bad[0])
+            head = label_unit["wind_speed_m_s"][0]
+            raise InputError(
+                f'line {lines[i]}, column {head}: "{cells[head][i]}" is outside the possible '
+                f"wind speed range, 0…{b.hi:g} m/s: {b.basis}",
+                where=where,
+            )
+
+
+def _check_fahrenheit(values, label_unit, where: str) -> None:
+    """°F numbers under a °C header: a warning when the column's median is hot."""
+    temp = values["temperature_c"]
+    head = label_unit["temperature_c"][0]
+    if head == "temperature_c" and np.isfinite(temp).any():
+        median = float(np.nanmedian(temp))
+        if median > CELSIUS_MEDIAN_WARN_C:
+            warn(
+                f"column temperature_c has a median of {median:.1f} °C, hot for a frost or fuel "
+                "plan: if these are °F, name the column temperature_f",
+                where=where,
+            )
+
+
+#: a temperature_c column whose median is above this may hold °F (a warning) [°C]
+#: (common practice, no source: frost and fuel plans are for nights below ~20 °C)
+CELSIUS_MEDIAN_WARN_C = 30.0
+#: the solar constant [W m-2] (Kopp & Lean 2011, Geophys. Res. Lett. 38:L01706)
+SOLAR_CONSTANT_W_M2 = 1361.0
+
+
+def solar_elevation_deg(utc_s, latitude_deg: float, longitude_deg: float):
+    """Approximate solar elevation [°] at UTC epoch seconds `utc_s` (vectorised).
+
+    Declination and the equation of time from Spencer's Fourier series, hour angle from
+    the longitude; no refraction. Good to about 0.5° — for plausibility checks only.
+
+    References
+    ----------
+    Spencer, J. W. (1971). Fourier series representation of the position of the sun.
+    *Search*, 2(5), 172.
+    """
+    t = np.asarray(utc_s, dtype=float)
+    days = t / 86400.0
+    year_start = np.array(
+        [dt.datetime(y, 1, 1, tzinfo=dt.UTC).timestamp() for y in range(1900, 2201)]
+    )
+    idx = np.clip(np.searchsorted(year_start, t, side="right") - 1, 0, year_start.size - 1)
+    day_of_year = (t - year_start[idx]) / 86400.0  # 0 at 1 January 00:00 UTC
+    g = 2.0 * np.pi * day_of_year / 365.0
+    decl = (
+        0.006918
+        - 0.399912 * np.cos(g)
+        + 0.070257 * np.sin(g)
+        - 0.006758 * np.cos(2 * g)
+        + 0.000907 * np.sin(2 * g)
+        - 0.002697 * np.cos(3 * g)
+        + 0.00148 * np.sin(3 * g)
+    )
+    eot_min = 229.18 * (
+        0.000075
+        + 0.001868 * np.cos(g)
+        - 0.032077 * np.sin(g)
+        - 0.014615 * np.cos(2 * g)
+        - 0.040849 * np.sin(2 * g)
+    )
+    utc_h = (days % 1.0) * 24.0
+    solar_h = utc_h + longitude_deg / 15.0 + eot_min / 60.0
+    hour_angle = np.radians(15.0 * (solar_h - 12.0))
+    lat = np.radians(latitude_deg)
+    sin_el = np.sin(lat) * np.sin(decl) + np.cos(lat) * np.cos(decl) * np.cos(hour_angle)
+    return np.degrees(np.arcsin(np.clip(sin_el, -1.0, 1.0)))
+
+
+def _check_sun(utc_s, shortwave, site: Site, where: str) -> None:
+    """Refuse sun the sky cannot give: more than the solar constant on a horizontal
+    surface with the sun 15° higher than it is (an hour of slack for a clock an hour
+    out) plus 50 W/m² of sensor offset and diffuse light."""
+    elevation = solar_elevation_deg(utc_s, site.latitude_deg, site.longitude_deg)
+    ceiling = SOLAR_CONSTANT_W_M2 * np.clip(np.sin(np.radians(elevation + 15.0)), 0, 1) + 50.0
+    bad = np.flatnonzero(np.isfinite(shortwave) & (shortwave > ceiling))
+    if bad.size:
+        i = int(bad[0])
+        when = dt.datetime.fromtimestamp(float(utc_s[i]), dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
+        raise InputError(
+            f"column shortwave_w_m2: {shortwave[i]:g} W/m² at {when}, when the sun is "
+            f"{abs(elevation[i]):.0f}° {'below' if elevation[i] < 0 else 'above'} the site's "
+            f"horizon (at most {ceiling[i]:.0f} W/m² then): are the times in the right zone?",
+            where=where,
+        )
 
 
 def _csv_header(header: list[str], where: str) -> dict[str, tuple]:
