@@ -251,6 +251,29 @@ def read_logger_csv(
         sun = _sun(
             cells("sun"), units["sun"], line_no, header[roles["sun"]], where, decimal_comma, notes
         )
+    # loggers drop readings: a short gap in a secondary column is filled, a longer one
+    # leaves its rows out (an all-empty column is not used); each said in the notes
+    if outside is not None:
+        outside, keep = _fill_or_drop(
+            outside, utc_s, keep, line_no, header[roles["outside"]], notes, interpolate=True
+        )
+    if sun is not None:
+        sun, keep = _fill_or_drop(
+            sun, utc_s, keep, line_no, header[roles["sun"]], notes, interpolate=True
+        )
+    if heater_w is not None:
+        heater_w, keep = _fill_or_drop(
+            heater_w, utc_s, keep, line_no, header[roles["heater"]], notes, interpolate=False
+        )
+    if heater_frac is not None:
+        heater_frac, keep = _fill_or_drop(
+            heater_frac, utc_s, keep, line_no, header[roles["heater"]], notes, interpolate=False
+        )
+    if not keep.any():
+        raise InputError(
+            "no row has every column it needs (inside, and the outside or heater columns found)",
+            where=where,
+        )
     order_bad = np.flatnonzero(np.diff(utc_s) <= 0)
     if order_bad.size:
         i = order_bad[0] + 1
@@ -290,6 +313,58 @@ def read_logger_csv(
         timezone=zone_used,
         notes=tuple(notes),
     )
+
+
+#: a gap in a secondary column (outside, sun) up to this long is filled linearly [s]
+#: (common practice, no source: air temperature changes little within the hour)
+FILL_GAP_S = 3600.0
+
+
+def _fill_or_drop(
+    values: np.ndarray,
+    utc_s: np.ndarray,
+    keep: np.ndarray,
+    lines: np.ndarray,
+    column: str,
+    notes: list[str],
+    *,
+    interpolate: bool,
+) -> tuple[np.ndarray | None, np.ndarray]:
+    """Missing readings of one column among the kept rows: filled or left out.
+
+    Returns the column (None when it has no readings at all) and the new `keep` mask.
+    """
+    values = values.astype(float, copy=True)
+    missing = keep & ~np.isfinite(values)
+    if not missing.any():
+        return values, keep
+    good = keep & np.isfinite(values)
+    if not good.any():
+        notes.append(f"column {column} has no readings: not used")
+        return None, keep
+    filled = np.zeros_like(keep)
+    if interpolate:
+        t_good, v_good = utc_s[good], values[good]
+        idx = np.flatnonzero(missing)
+        after = np.searchsorted(t_good, utc_s[idx], side="right")
+        inside = (after > 0) & (after < t_good.size)
+        span = np.full(idx.size, np.inf)
+        span[inside] = t_good[after[inside]] - t_good[after[inside] - 1]
+        ok = inside & (span <= FILL_GAP_S)
+        values[idx[ok]] = np.interp(utc_s[idx[ok]], t_good, v_good)
+        filled[idx[ok]] = True
+    dropped = missing & ~filled
+    if filled.any():
+        notes.append(
+            f"column {column}: {int(filled.sum())} missing reading(s) filled by linear "
+            f"interpolation (gaps up to {FILL_GAP_S / 60:.0f} min; first: line {lines[filled][0]})"
+        )
+    if dropped.any():
+        notes.append(
+            f"column {column}: {int(dropped.sum())} row(s) without a reading left out "
+            f"(first: line {lines[dropped][0]})"
+        )
+    return values, keep & ~dropped
 
 
 def _decode(path, where: str, notes: list[str]) -> str:

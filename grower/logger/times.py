@@ -153,6 +153,15 @@ def _to_utc(
     col: str,
     where: str,
 ) -> tuple[np.ndarray, np.ndarray, str | None]:
+    from grower import limits
+
+    lo_year, hi_year = limits.YEARS
+    for t, n in zip(times, lines, strict=True):
+        if not lo_year <= t.year <= hi_year:
+            raise InputError(
+                f"line {n}, column {col}: the year {t.year} is outside {lo_year}–{hi_year}",
+                where=where,
+            )
     aware = [t.tzinfo is not None for t in times]
     if any(aware) and not all(aware):
         i = aware.index(not aware[0])
