@@ -106,6 +106,7 @@ def run(args: argparse.Namespace) -> int:
     record = logger.read_logger_csv(
         args.log, timezone=zone, columns=columns_option(args.column), day_first=day_first
     )
+    record = logger.resample(record)  # 1-second readings: 5-minute means first
     outside = weather.read_forecast_csv(args.outside, site=h.site) if args.outside else None
     result = fit_house(
         h,
