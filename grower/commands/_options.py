@@ -311,3 +311,28 @@ def check_house(h, *, use_calibration: bool = True) -> None:
         from grower.house import check_calibration
 
         check_calibration(h)
+
+
+def limit_days(forecast, start, days: int, option: str = "--days"):
+    """The forecast cut to `days` days from the run's start (a file's rows beyond are
+    dropped, said in the forecast's warnings), so a long file costs one read, not a
+    long simulation. `start` None means now, or the file's first row when it begins
+    later; one row either side of the window is kept for interpolation.
+    """
+    import dataclasses
+
+    import pandas as pd
+
+    index = forecast.frame.index
+    now = pd.Timestamp.now(tz=index.tz)
+    begin = start if start is not None else (now if index[0] <= now <= index[-1] else index[0])
+    end = begin + pd.Timedelta(days=days)
+    if index[-1] <= end:
+        return forecast
+    last = int(index.searchsorted(end, side="left"))  # first row at or after the end
+    first = max(int(index.searchsorted(begin, side="right")) - 1, 0)
+    frame = forecast.frame.iloc[first : last + 1]
+    if len(frame) < 2:
+        return forecast
+    kept = f"{option} {days}: the forecast's {len(index):,} rows cut to the {len(frame):,} of the {days} day(s) from the start"
+    return dataclasses.replace(forecast, frame=frame, warnings=(*forecast.warnings, kept))

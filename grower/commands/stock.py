@@ -47,7 +47,11 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         help="report fuel in this unit (gal, L, therm, m3, kWh, lb, kg …)",
     )
     p.add_argument(
-        "--days", type=int, default=16, metavar="N", help="days of live forecast (1–16, default 16)"
+        "--days",
+        type=int,
+        default=16,
+        metavar="N",
+        help="days to plan from the start: of the live forecast or of a file (1–16, default 16)",
     )
     p.add_argument(
         "--model",
@@ -71,6 +75,7 @@ def run(args: argparse.Namespace) -> int:
         check_house,
         choose_threshold,
         get_forecast,
+        limit_days,
         reading_system,
         start_time,
     )
@@ -113,6 +118,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("must be zero or more", where="--price")
     forecast = get_forecast(args, h, days=args.days)
     start = start_time(args, h, forecast)
+    forecast = limit_days(forecast, start, args.days)  # a file too: linear in its rows
 
     progress = None
     bar = None
