@@ -281,7 +281,9 @@ def solar_elevation_deg(utc_s, latitude_deg: float, longitude_deg: float):
     return np.degrees(np.arcsin(np.clip(sin_el, -1.0, 1.0)))
 
 
-def _check_sun(utc_s, shortwave, site: Site, where: str) -> None:
+def _check_sun(
+    utc_s, shortwave, site: Site, where: str, column: str = "column shortwave_w_m2"
+) -> None:
     """Refuse sun the sky cannot give: more than the solar constant on a horizontal
     surface with the sun 15° higher than it is (an hour of slack for a clock an hour
     out) plus 50 W/m² of sensor offset and diffuse light."""
@@ -292,7 +294,7 @@ def _check_sun(utc_s, shortwave, site: Site, where: str) -> None:
         i = int(bad[0])
         when = dt.datetime.fromtimestamp(float(utc_s[i]), dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
         raise InputError(
-            f"column shortwave_w_m2: {shortwave[i]:g} W/m² at {when}, when the sun is "
+            f"{column}: {shortwave[i]:g} W/m² at {when}, when the sun is "
             f"{abs(elevation[i]):.0f}° {'below' if elevation[i] < 0 else 'above'} the site's "
             f"horizon (at most {ceiling[i]:.0f} W/m² then): are the times in the right zone?",
             where=where,

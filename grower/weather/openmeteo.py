@@ -15,6 +15,7 @@ CC BY 4.0).
 from __future__ import annotations
 
 import datetime as dt
+import math
 import os
 import re
 import sqlite3
@@ -27,6 +28,7 @@ from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 import numpy as np
 from numpy.typing import NDArray
 
+from grower import limits
 from grower.errors import InputError
 from grower.site import Site
 from grower.units import M_S_PER_MPH, f_to_c
@@ -40,6 +42,10 @@ from grower.weather.forecast import (
 )
 
 DEFAULT_FORECAST_URL = "https://api.open-meteo.com"
+#: clocks on Earth run from UTC−12 to UTC+14 [s]
+MAX_UTC_OFFSET_S = 14 * 3600
+#: most hours an answer may hold (30 years of history; a forecast has 384)
+MAX_HOURS = 24 * 366 * 30
 OPEN_METEO_ATTRIBUTION = "Weather data by Open-Meteo.com (CC BY 4.0)"
 _OPEN_METEO_VARS = {
     "temperature_2m": "temperature_c",
@@ -178,7 +184,7 @@ def fetch_openmeteo(
         )
     try:
         document = response.json()
-    except ValueError:
+    except (ValueError, RecursionError):
         raise InputError(
             f"the forecast service at {base} sent an answer that is not JSON ({response.text[:40]!r})"
         ) from None
@@ -214,6 +220,10 @@ def parse_openmeteo(
         An error document, a missing or malformed field or variable.
     """
     where = f"forecast from {url}"
+    if not isinstance(document, Mapping):
+        raise InputError(
+            f"the answer is a JSON {type(document).__name__}, not an object", where=where
+        )
     if document.get("error"):
         raise InputError(
             f"the service reported an error: {document.get('reason') or 'no reason given'}",
@@ -224,8 +234,23 @@ def parse_openmeteo(
         raise InputError("the answer has no hourly.time list", where=where)
     if not isinstance(offset, int | float) or isinstance(offset, bool):
         raise InputError("the answer has no utc_offset_seconds", where=where)
+    if not math.isfinite(offset) or abs(offset) > MAX_UTC_OFFSET_S:
+        raise InputError(
+            f"utc_offset_seconds {offset:g} is beyond any clock on Earth (UTC−12…+14)",
+            where=where,
+        )
+    offset = int(offset)
     stamps = hourly["time"]
+    if len(stamps) > MAX_HOURS:
+        raise InputError(
+            f"the answer has {len(stamps):,} hours; a forecast has at most {MAX_HOURS:,}",
+            where=where,
+        )
     units = document.get("hourly_units") or {}
+    if not isinstance(units, Mapping):
+        raise InputError(
+            f"hourly_units is a JSON {type(units).__name__}, not an object of units", where=where
+        )
     values: dict[str, NDArray[np.float64]] = {}
     for var, col in _OPEN_METEO_VARS.items():
         series = hourly.get(var)
@@ -236,17 +261,33 @@ def parse_openmeteo(
                 f"hourly.{var} has {len(series)} values for {len(stamps)} times", where=where
             )
         try:
+            if any(isinstance(x, bool | str) for x in series):
+                raise TypeError
             numbers = np.array([np.nan if x is None else float(x) for x in series])
-        except (TypeError, ValueError):
+        except (TypeError, ValueError, OverflowError):
             raise InputError(
                 f"hourly.{var} holds a value that is not a number", where=where
             ) from None
         if np.isnan(numbers).all():
             raise InputError(f"hourly.{var} has no values", where=where)
         values[col] = _convert_unit(numbers, units.get(var), var, where)
+    wind = values.get("wind_speed_m_s")
+    if wind is not None and np.any(np.isfinite(wind) & (wind > limits.WIND_M_S.hi)):
+        i = int(np.flatnonzero(np.isfinite(wind) & (wind > limits.WIND_M_S.hi))[0])
+        raise InputError(
+            f"hourly.wind_speed_10m[{i}]: {wind[i]:g} m/s is beyond the strongest gust on "
+            f"record ({limits.WIND_M_S.hi:g} m/s)",
+            where=where,
+        )
     utc_s = np.empty(len(stamps))
+    lo_year, hi_year = limits.YEARS
     for i, text in enumerate(stamps):
         when = _parse_time(str(text), f"hourly.time[{i}]", where)
+        if not lo_year <= when.year <= hi_year:
+            raise InputError(
+                f"hourly.time[{i}]: the year {when.year} is outside {lo_year}–{hi_year}",
+                where=where,
+            )
         utc_s[i] = (
             when.timestamp() if when.tzinfo else when.replace(tzinfo=dt.UTC).timestamp() - offset
         )
@@ -265,7 +306,13 @@ def parse_openmeteo(
         where=where,
     )
     warnings += more
+    if site is not None:
+        from grower.weather.csvfile import _check_sun
+
+        _check_sun(utc_s, values["shortwave_w_m2"], site, where, "hourly.shortwave_radiation")
     zone_name = site.timezone if site else document.get("timezone")
+    if not isinstance(zone_name, str):
+        zone_name = None
     try:
         tz: Any = ZoneInfo(zone_name) if zone_name else None
     except (ZoneInfoNotFoundError, ValueError):
