@@ -7,13 +7,16 @@ of the file (a tomlkit round trip: only the ``[calibration]`` table changes), ch
 that the result is still a valid house file, keeps the previous file as
 ``HOUSE.toml.bak`` (``.bak1``, ``.bak2``… when that exists) and replaces the file
 atomically (a temporary file in the same folder, then `os.replace`), so a failure at
-any point leaves the original file whole.
+any point leaves the original file whole. A symbolic link is written through, hard
+links are kept, CRLF line endings and a byte-order mark are kept, and a read-only file
+is refused (see `write_calibration`).
 """
 
 from __future__ import annotations
 
 import os
 import shutil
+import stat
 import tempfile
 import tomllib
 from pathlib import Path
@@ -82,7 +85,7 @@ def calibration_values(result: FitResult) -> dict[str, Any]:
 def _backup_path(path: Path) -> Path:
     candidate = path.with_name(path.name + ".bak")
     n = 1
-    while candidate.exists():
+    while candidate.exists() or candidate.is_symlink():
         candidate = path.with_name(f"{path.name}.bak{n}")
         n += 1
     return candidate
@@ -118,35 +121,98 @@ def updated_text(text: str, values: dict[str, Any], where: str) -> str:
 def write_calibration(path: str | os.PathLike[str], result: FitResult) -> Path:
     """Store `result` in the house file's ``[calibration]``; returns the backup's path.
 
+    The file the name points to is the one changed: a symbolic link is followed and
+    the link kept; a file with several hard links is rewritten in place, so every name
+    sees the new text. Line endings (CRLF or LF) and a UTF-8 byte-order mark are kept.
+    The backup (``HOUSE.toml.bak``, else ``.bak1``, ``.bak2``…) is written to a
+    temporary name and renamed, so a full disk leaves no empty backup; the new text
+    is written the same way and renamed over the file (or, for a hard-linked file,
+    written in place after the backup is safe, and put back if that write fails).
+
     Raises
     ------
     InputError
-        The file is not valid TOML, or would not be a valid house file afterwards.
+        The file is not valid TOML, would not be a valid house file afterwards, or is
+        read-only (it is not replaced behind the owner's back).
     OSError
-        The folder is not writable; the original file is then untouched.
+        The folder is not writable or the disk is full; the original file is then
+        untouched and no partial backup or temporary file is left.
     """
-    from grower import house
+    from grower import files, house
 
-    path = Path(path)
-    where = str(path)
+    where = os.fspath(path)
+    target = Path(os.path.realpath(path))  # through a symbolic link, to the file itself
+    st = files.check_regular(target, where)
+    raw = files.read_bytes(target, files.HOUSE_FILE_MAX_BYTES, where)
+    bom = raw.startswith(b"\xef\xbb\xbf")
     try:
-        text = path.read_text(encoding="utf-8")
+        text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise InputError("not a text file (UTF-8 expected)", where=where) from None
-    new = updated_text(text, calibration_values(result), where)
+    crlf = "\r\n" in text
+    new = updated_text(text.replace("\r\n", "\n"), calibration_values(result), where)
     house.from_mapping(tomllib.loads(new), source=where)  # still a valid house file
-    backup = _backup_path(path)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
+    if crlf:
+        new = new.replace("\r\n", "\n").replace("\n", "\r\n")
+    data = (b"\xef\xbb\xbf" if bom else b"") + new.encode("utf-8")
+    if not os.access(target, os.W_OK) or not st.st_mode & stat.S_IWUSR:
+        raise InputError(
+            "is read-only: not changed (make it writable, e.g. chmod u+w, to store the fit)",
+            where=where,
+        )
+    backup = _backup_path(target)
+    _write_new(backup, raw, target)
+    if st.st_nlink > 1:
+        _write_in_place(target, data, raw)
+    else:
+        _replace(target, data)
+    return backup
+
+
+def _write_new(dest: Path, data: bytes, like: Path) -> None:
+    """Write `data` to a new file `dest` through a temporary name (mode of `like`)."""
+    fd, tmp = tempfile.mkstemp(dir=dest.parent, prefix=f".{dest.name}.", suffix=".tmp")
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(new)
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
             handle.flush()
             os.fsync(handle.fileno())
-        shutil.copymode(path, tmp)
-        shutil.copy2(path, backup)
-        os.replace(tmp, path)
+        shutil.copystat(like, tmp)
+        os.replace(tmp, dest)
     except BaseException:
         if os.path.exists(tmp):
             os.unlink(tmp)
         raise
-    return backup
+
+
+def _replace(target: Path, data: bytes) -> None:
+    """Atomically replace `target` with `data` (a temporary file, then a rename)."""
+    fd, tmp = tempfile.mkstemp(dir=target.parent, prefix=f".{target.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+            handle.flush()
+            os.fsync(handle.fileno())
+        shutil.copymode(target, tmp)
+        os.replace(tmp, target)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+def _write_in_place(target: Path, data: bytes, original: bytes) -> None:
+    """Rewrite a hard-linked file in place; on failure put the original bytes back."""
+    with open(target, "r+b") as handle:
+        try:
+            handle.seek(0)
+            handle.write(data)
+            handle.truncate()
+            handle.flush()
+            os.fsync(handle.fileno())
+        except BaseException:
+            handle.seek(0)
+            handle.write(original)
+            handle.truncate()
+            handle.flush()
+            raise
