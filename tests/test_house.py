@@ -161,3 +161,119 @@ def test_units_default_from_locale():
     assert locale_system({}) == "metric"
     assert unit_system("metric", "us") == "metric"  # the option wins
     assert unit_system(None, "us") == "us"  # then the house file
+
+
+# ---------------------------------------------------------------- plausible ranges
+
+
+def _h(tmp_path, extra: str = "", old: str = "", new: str = ""):
+    text = MINIMAL.replace(old, new) if old else MINIMAL
+    return write_house(tmp_path, text + extra)
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "words"),
+    [
+        ('width = "9 m"', 'width = "9 mm"', ["house.width", "0.3…100 m"]),
+        ('length = "30 m"', 'length = "30 km"', ["house.length", "0.5…2,000 m"]),
+        ('ridge_height = "4.2 m"', 'ridge_height = "500 m"', ["house.ridge_height"]),
+        ("bays = 1", "bays = 9000000000000000000", ["house.bays", "1…1,000"]),
+        ("changes_per_hour = 1.0", "changes_per_hour = 61", ["0–60"]),
+    ],
+)
+def test_sizes_outside_the_possible_range_are_refused(tmp_path, old, new, words):
+    with pytest.raises(InputError) as info:
+        house.read(_h(tmp_path, old=old, new=new))
+    for w in words:
+        assert w in str(info.value)
+
+
+@pytest.mark.parametrize(
+    ("extra", "words"),
+    [
+        (
+            '\n[floor]\ndeep_ground_temperature = "1000 C"\n',
+            ["deep_ground_temperature", "−30…40 °C"],
+        ),
+        ('\n[[mass]]\nmaterial = "water"\nvolume = "55 gal"\ncount = 2000\n', ["inside volume"]),
+        ('\n[[mass]]\nmaterial = "water"\nvolume = "1 m3"\narea = 1e9\n', ["mass surface"]),
+        ('\n[[heater]]\nfuel = "propane"\nefficiency = 1e-9\ninput = "30 kW"\n', ["efficiency"]),
+        ('\n[[heater]]\nfuel = "propane"\ninput = "1e30 W"\n', ["heater power"]),
+        ('\n[stock]\nfuel = "propane"\nprice = -1.0\n', ["negative price"]),
+        ("\n[calibration]\nk_w_per_k = -5.0\n", ["calibration.k_w_per_k", "positive"]),
+        ('\n[control]\nvent_temperature = "90 C"\n', ["vent_temperature"]),
+        (
+            '\n[site]\nlatitude = 44.3\nlongitude = -76.5\ntimezone = "America/Toronto"\nelevation = "50 km"\n',
+            ["site.elevation"],
+        ),
+        (
+            '\n[site]\nlatitude = 44.3\nlongitude = 76.5\ntimezone = "America/Toronto"\n',
+            ["site.timezone", "west longitudes are negative"],
+        ),
+    ],
+)
+def test_impossible_inputs_are_refused_naming_the_key(tmp_path, extra, words):
+    with pytest.raises(InputError) as info:
+        house.read(_h(tmp_path, extra))
+    for w in words:
+        assert w in str(info.value), str(info.value)
+
+
+def test_unusual_values_warn_and_are_kept(tmp_path):
+    from grower.errors import InputWarning
+
+    path = _h(tmp_path, old="changes_per_hour = 1.0", new="changes_per_hour = 20")
+    with pytest.warns(InputWarning, match="air changes"):
+        h = house.read(path)
+    assert h.air_changes_per_hour == 20
+
+
+def test_real_clocks_far_from_solar_time_pass(tmp_path):
+    # Kashgar (75.99° E) keeps Beijing time, UTC+8: 2.9 h ahead of its solar time;
+    # Madrid (3.7° W) keeps UTC+1/+2 — both real, both within the 3.5 h warning bound
+    for lon, zone in (
+        (75.99, "Asia/Shanghai"),
+        (-3.7, "Europe/Madrid"),
+        (-157.4, "Pacific/Kiritimati"),
+    ):
+        extra = f'\n[site]\nlatitude = 20.0\nlongitude = {lon}\ntimezone = "{zone}"\n'
+        house.read(_h(tmp_path, extra))
+
+
+def test_check_calibration_against_the_geometry(tmp_path):
+    from grower import network
+
+    h = house.read(_h(tmp_path))
+    k = network.describe(h).k_w_per_k
+    c = network.describe(h).c_j_per_k
+    for ratio, ok in ((1.0, True), (0.01, False), (50.0, False)):
+        cal = house.from_mapping(
+            {**_doc(h), "calibration": {"k_w_per_k": k * ratio, "c_j_per_k": c}}, source="x"
+        )
+        if ok:
+            house.check_calibration(cal)
+        else:
+            with pytest.raises(InputError, match="geometry's"):
+                house.check_calibration(cal)
+
+
+def _doc(_h):
+    import tomllib
+
+    return tomllib.loads(MINIMAL)
+
+
+def test_a_utf8_bom_crlf_and_a_fifo(tmp_path):
+    import os
+
+    path = tmp_path / "bom.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + MINIMAL.replace("\n", "\r\n").encode())
+    assert house.read(path).width_m == 9.0
+    fifo = tmp_path / "fifo.toml"
+    os.mkfifo(fifo)
+    with pytest.raises(InputError, match="named pipe"):
+        house.read(fifo)
+    big = tmp_path / "big.toml"
+    big.write_bytes(b"#" * (2 << 20))
+    with pytest.raises(InputError, match="larger than"):
+        house.read(big)

@@ -347,3 +347,76 @@ def test_example_record_reads(examples):
     # lost to a read-out and one inside value missing
     assert rec.n_rows == (4 * 24 - 4) * 6 + 1 - 5 - 1
     assert rec.heater_fraction.max() == 1.0 and rec.heater_fraction.min() == 0.0
+
+
+# ---------------------------------------------------------------- dropped readings, resampling
+
+
+def _record_text(n: int = 12, step_min: int = 10, blank_outside=(), blank_heater=()) -> str:
+    lines = ["time,inside,outside,heater", ",°C,°C,on/off"]
+    t0 = dt.datetime(2026, 11, 20, 18, 0)
+    for i in range(n):
+        t = t0 + dt.timedelta(minutes=step_min * i)
+        out = "" if i in blank_outside else f"{-2 - 0.1 * i:.2f}"
+        heat = "" if i in blank_heater else ("on" if i % 4 == 0 else "off")
+        lines.append(f"{t:%Y-%m-%d %H:%M},{8 - 0.2 * i:.2f},{out},{heat}")
+    return "\n".join(lines) + "\n"
+
+
+def test_a_single_blank_outside_reading_is_filled_linearly(tmp_path):
+    p = tmp_path / "r.csv"
+    p.write_text(_record_text(blank_outside={5}), encoding="utf-8")
+    r = read_logger_csv(p, timezone="America/Toronto")
+    assert r.n_rows == 12 and np.isfinite(r.outside_c).all()
+    assert r.outside_c[5] == pytest.approx(-2.5)  # halfway between −2.4 and −2.6
+    assert any("1 missing reading(s) filled" in n and "line 8" in n for n in r.notes)
+
+
+def test_a_long_outside_gap_and_a_blank_heater_leave_rows_out(tmp_path):
+    p = tmp_path / "r.csv"
+    # 10-minute rows: a run of 7 blanks spans 80 min between good readings (> 60 min)
+    p.write_text(_record_text(n=20, blank_outside=set(range(5, 12)), blank_heater={15}), "utf-8")
+    r = read_logger_csv(p, timezone="America/Toronto")
+    assert r.n_rows == 20 - 7 - 1
+    assert np.isfinite(r.outside_c).all() and np.isfinite(r.heater_fraction).all()
+    assert any("7 row(s) without a reading left out" in n for n in r.notes)
+
+
+def test_an_empty_outside_column_is_not_used(tmp_path):
+    p = tmp_path / "r.csv"
+    p.write_text(_record_text(blank_outside=set(range(12))), encoding="utf-8")
+    r = read_logger_csv(p, timezone="America/Toronto")
+    assert r.outside_c is None and any("has no readings" in n for n in r.notes)
+
+
+def test_resample_averages_fine_records_and_keeps_coarse_ones(tmp_path):
+    from grower.logger import resample
+
+    p = tmp_path / "fine.csv"
+    lines = ["time,inside,outside,heater"]
+    t0 = dt.datetime(2026, 11, 20, 18, 0, tzinfo=dt.timezone(dt.timedelta(hours=-5)))
+    for i in range(1800):  # 30 min of 1-second readings; heater on the first minute of five
+        t = t0 + dt.timedelta(seconds=i)
+        lines.append(f"{t.isoformat()},{8 - i / 1800:.4f},-2,{'1' if i % 300 < 60 else '0'}")
+    p.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    r = read_logger_csv(p)
+    s = resample(r)
+    assert s.n_rows == 6
+    # each 5-minute mean: the mean time and temperature of its 300 rows (exact means)
+    assert s.utc_s[0] == pytest.approx(r.utc_s[:300].mean())
+    assert s.inside_c[0] == pytest.approx(r.inside_c[:300].mean())
+    assert s.heater_fraction == pytest.approx(np.full(6, 0.2))
+    assert "averaged into 6 means of 5 min" in s.notes[-1]
+    assert resample(s) is s  # already coarse: unchanged
+
+
+def test_years_outside_1900_2200_are_refused(tmp_path):
+    p = tmp_path / "r.csv"
+    p.write_text(_record_text().replace("2026-11-20 19:00", "3026-11-20 19:00"), "utf-8")
+    with pytest.raises(InputError, match="the year 3026 is outside 1900–2200"):
+        read_logger_csv(p, timezone="America/Toronto")
+
+
+def test_a_device_is_refused_before_reading():
+    with pytest.raises(InputError, match="not a regular file"):
+        read_logger_csv("/dev/zero")

@@ -255,3 +255,46 @@ def test_thousands_separator_is_not_a_decimal_comma():
 
 def test_unicode_minus():
     assert parse_temperature("−4 C") == -4.0
+
+
+# ---------------------------------------------------------------- case of SI prefixes
+
+
+@pytest.mark.parametrize(
+    ("text", "kind", "pint_text"),
+    [
+        ("5 mW", "power", "5 milliwatt"),
+        ("5 MW", "power", "5 megawatt"),
+        ("5 kW", "power", "5 kilowatt"),
+        ("5 KW", "power", "5 kilowatt"),  # the common misspelling: no kelvin-watt exists
+        ("3 MJ", "energy", "3 megajoule"),
+        ("3 mJ", "energy", "3 millijoule"),
+        ("2 MWh", "energy", "2 megawatt_hour"),
+        ("30 FT", "length", "30 foot"),
+        ("9.1 M", "length", "9.1 meter"),
+        ("12 MPH", "speed", "12 mile/hour"),
+    ],
+)
+def test_prefix_case_is_meaning_checked_against_pint(text, kind, pint_text):
+    # reference: pint's unit registry (SI prefixes m = 1e-3, M = 1e6, k = 1e3)
+    expected = pint.UnitRegistry().Quantity(pint_text).to_base_units().magnitude
+    assert units.parse_quantity(text, kind) == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    ("text", "kind"), [("5 mw", "power"), ("3 mj", "energy"), ("1 mwh", "energy")]
+)
+def test_a_spelling_that_could_be_milli_or_mega_is_refused(text, kind):
+    with pytest.raises(InputError, match=r'could be "M.*" or "m.*"'):
+        units.parse_quantity(text, kind, where="house.toml: heater[0].input")
+
+
+def test_bare_temperature_in_fahrenheit_when_asked():
+    # 28 °F = −2.2222 °C (exact definition: °C = (°F − 32) / 1.8)
+    assert units.parse_temperature("28", bare="F") == pytest.approx(-20 / 9)
+    assert units.parse_temperature("28C", bare="F") == pytest.approx(28.0)
+    assert units.parse_temperature(28, bare="F") == pytest.approx(-20 / 9)
+    assert units.parse_temperature_difference("9", bare="F") == pytest.approx(5.0)
+    assert units.parse_temperature_difference("9K", bare="F") == pytest.approx(9.0)
+    with pytest.raises(InputError, match="absolute zero"):
+        units.parse_temperature("-500", bare="F")

@@ -667,3 +667,102 @@ def test_copy_of_document_is_not_modified_by_parse():
     before = copy.deepcopy(doc)
     weather.parse_openmeteo(doc, site=FARM)
     assert doc == before
+
+
+# ---------------------------------------------------------------- hostile files and answers
+
+
+def _hostile_csv(tmp_path, rows, header="time,temperature_c,shortwave_w_m2"):
+    p = tmp_path / "f.csv"
+    p.write_text(header + "\n" + "\n".join(rows) + "\n", encoding="utf-8")
+    return p
+
+
+def _hostile_hours(n=6, start="2026-12-03T20:00-05:00"):
+    t0 = dt.datetime.fromisoformat(start)
+    return [(t0 + dt.timedelta(hours=i)).isoformat(timespec="minutes") for i in range(n)]
+
+
+def test_solar_elevation_agrees_with_astral():
+    # reference: astral 3.x (NOAA solar equations); Spencer's series is good to ~0.5°
+    import astral
+    import astral.sun
+
+    from grower.weather.csvfile import solar_elevation_deg
+
+    obs = astral.Observer(latitude=44.3, longitude=-76.5)
+    for iso in (
+        "2026-12-03T17:00:00+00:00",
+        "2026-06-21T16:30:00+00:00",
+        "2026-03-20T05:00:00+00:00",
+    ):
+        t = dt.datetime.fromisoformat(iso)
+        ours = float(solar_elevation_deg([t.timestamp()], 44.3, -76.5)[0])
+        ref = astral.sun.elevation(obs, t, with_refraction=False)
+        assert ours == pytest.approx(ref, abs=1.0)
+
+
+def test_sun_at_midnight_is_refused_with_a_site(tmp_path):
+    site = FARM
+    rows = [f"{t},-3,{1400 if i == 4 else 0}" for i, t in enumerate(_hostile_hours())]
+    with pytest.raises(InputError, match="1400 W/m².*below the site's horizon"):
+        weather.read_forecast_csv(_hostile_csv(tmp_path, rows), site=site)
+    # the same file is accepted by day
+    day = [
+        f"{t},-3,{300 if i == 3 else 0}"
+        for i, t in enumerate(_hostile_hours(start="2026-12-03T09:00-05:00"))
+    ]
+    weather.read_forecast_csv(_hostile_csv(tmp_path, day), site=site)
+
+
+def test_wind_beyond_the_record_and_years_out_of_range(tmp_path):
+    rows = [f"{t},-3,{1e6 if i == 2 else 3}" for i, t in enumerate(_hostile_hours())]
+    with pytest.raises(InputError, match="line 4, column wind_speed_m_s.*113 m/s"):
+        weather.read_forecast_csv(_hostile_csv(tmp_path, rows, "time,temperature_c,wind_speed_m_s"))
+    rows = [f"{t.replace('2026', '3000')},-3,0" for t in _hostile_hours()]
+    with pytest.raises(InputError, match="line 2, column time: the year 3000"):
+        weather.read_forecast_csv(_hostile_csv(tmp_path, rows))
+
+
+def test_fahrenheit_under_a_celsius_header_warns(tmp_path):
+    from grower.errors import InputWarning
+
+    rows = [f"{t},{41 + i},0" for i, t in enumerate(_hostile_hours())]
+    with pytest.warns(InputWarning, match="temperature_f"):
+        weather.read_forecast_csv(_hostile_csv(tmp_path, rows))
+
+
+def test_mixed_offsets_with_no_site_keep_the_files_clock(tmp_path):
+    zone = ZoneInfo("America/Toronto")
+    t0 = dt.datetime(2026, 11, 1, 3, tzinfo=dt.UTC)
+    rows = [
+        f"{(t0 + dt.timedelta(hours=i)).astimezone(zone).isoformat(timespec='minutes')},-3,0"
+        for i in range(6)
+    ]
+    fc = weather.read_forecast_csv(_hostile_csv(tmp_path, rows))
+    shown = [t.isoformat()[-6:] for t in fc.frame.index]
+    assert shown[2:4] == ["-04:00", "-05:00"] and fc.timezone is None  # 06:00 UTC: EST
+
+
+@pytest.mark.parametrize(
+    ("change", "words"),
+    [
+        (lambda d: d.update(hourly_units=["°C"]), "hourly_units is a JSON list"),
+        (lambda d: d.update(utc_offset_seconds=1e20), "beyond any clock"),
+        (lambda d: d["hourly"]["temperature_2m"].__setitem__(1, "5"), "not a number"),
+        (lambda d: d["hourly"]["wind_speed_10m"].__setitem__(3, 1e6), "strongest gust"),
+        (
+            lambda d: d["hourly"].update(
+                time=[t.replace("2026", "3000") for t in d["hourly"]["time"]]
+            ),
+            "the year 3000",
+        ),
+    ],
+)
+def test_live_answers_of_the_wrong_shape_are_one_line(change, words):
+    doc = json.loads((DATA / "openmeteo_kingston.json").read_text(encoding="utf-8"))
+    change(doc)
+    with pytest.raises(InputError, match=words):
+        weather.parse_openmeteo(doc)
+    with pytest.raises(InputError, match="a JSON list, not an object"):
+        weather.parse_openmeteo([doc])
