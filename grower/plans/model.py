@@ -305,9 +305,11 @@ def plant_offset(
 ) -> np.ndarray:
     """How far leaves run below the air [K]: 2 K × clear share × cover IR share, at night.
 
-    See `LEAF_BELOW_AIR_CLEAR_K`. A closed energy curtain blocks most of the sky.
+    See `LEAF_BELOW_AIR_CLEAR_K`. The cover's share is the one the network uses (with its
+    inside condensate, `grower.network.CONDENSATION_LW_FACTOR`); a closed energy curtain
+    blocks most of the sky.
     """
-    tau = house.roof_material.longwave_transmittance
+    tau = house.roof_material.longwave_transmittance * network.CONDENSATION_LW_FACTOR
     if house.curtain and model.conductances.curtain_closed:
         tau *= house.curtain.curtain.longwave_transmittance
     clear = 1.0 - np.clip(cloud_fraction, 0.0, 1.0)
