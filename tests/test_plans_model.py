@@ -164,11 +164,11 @@ def _unheated_minimum(name: str, kind: str, x0_balanced: bool, forecast: str):
 def test_unheated_single_poly_tunnel_clear_night_against_measurements():
     # Unheated plastic tunnels on clear nights: colder than outside until condensate forms
     # on the film, night minima on average 1.3 K above outside (Savage 1980,
-    # Agrochemophysica 12:5–13, abstract); inversions of about 1 K below outside on clear
-    # calm nights are the usual lower end (the summary: about −1…+3 K). The example
-    # tunnel (single poly), a clear calm night with the soil at the deep-ground
-    # temperature, must fall in that range; the model's own tolerance is 0.5 K below it
-    # (a clear, dry night, dew point −3 °C: the coldest case the range covers).
+    # Agrochemophysica 12:5–13, abstract). The band of about −1…+3 K around outside for
+    # the night minimum in unheated plastic tunnels is from memory (not read in a source
+    # here). The example tunnel (single poly) on the example's clear, calm, dry night (dew
+    # point −3 °C, the coldest case such a band covers), with the soil at the deep-ground
+    # temperature, must fall in it, 0.5 K of model tolerance allowed below.
     air, outside, _ = _unheated_minimum(
         "hoop-tunnel", "two-node", False, str(EXAMPLES / "forecast-cold-night.csv")
     )
