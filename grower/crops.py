@@ -340,12 +340,14 @@ def load_crops(
 
 
 def _raw_names(text: str) -> tuple[str, ...] | None:
-    """The name and aliases a crop file declares, read without validating the rest
-    (None when the file is not TOML of the expected shape; the full parse says why)."""
+    """The name and aliases a crop file declares, read from its top-level keys (before the
+    first table) without parsing or validating the rest (None when that part is not TOML
+    of the expected shape; the full parse says why)."""
     import tomllib
 
+    head = re.split(r"^\s*\[", text, maxsplit=1, flags=re.MULTILINE)[0]  # top-level keys only
     try:
-        doc = tomllib.loads(text)
+        doc = tomllib.loads(head)
     except tomllib.TOMLDecodeError:
         return None
     name, aliases = doc.get("name"), doc.get("aliases", [])
