@@ -59,7 +59,7 @@ def _pieces(tr: Trajectory) -> _Pieces:
 
 def _float_el(tr, member, step, s0, w, x0, q, weight, g0, e1):  # type: ignore[no-untyped-def]
     """_ExpLin of ``weight . z`` for float pieces (full network, heater q)."""
-    prob, full = tr.problem, tr.network._full
+    prob, full = tr.problem, tr.network.modes
     m = tr.network.n_boundaries
     bk = prob.bt[:, member % prob.bt.shape[1], step].T
     db = prob.bt[:, member % prob.bt.shape[1], step + 1].T - bk
@@ -71,7 +71,7 @@ def _float_el(tr, member, step, s0, w, x0, q, weight, g0, e1):  # type: ignore[n
 
 def _clamp_el(tr, member, step, s0, w, x0, tc, weight, g0, e1):  # type: ignore[no-untyped-def]
     """_ExpLin of ``weight . z_red`` for pieces with the air held at tc."""
-    prob, red = tr.problem, tr.network._red
+    prob, red = tr.problem, tr.network.held_modes
     m = tr.network.n_boundaries
     bk = prob.brt[:, member % prob.brt.shape[1], step].T
     db = prob.brt[:, member % prob.brt.shape[1], step + 1].T - bk
@@ -151,7 +151,7 @@ def analyse(
     h = prob.h
     pcs = _pieces(tr)
     doff = np.diff(off, axis=1) / h  # (Mo, N-1)
-    full = net._full  # type: ignore[attr-defined]
+    full = net.modes
     m = net.n_boundaries
     # whole steps in a float mode: bound the curvature, analyse the doubtful ones
     mode = tr.mode

@@ -51,7 +51,7 @@ def free_float(
     """
     prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w)
     mm, nt = prob.n_members, prob.times_s.size
-    full, tab = network._full, prob.full  # type: ignore[attr-defined]
+    full, tab = network.modes, prob.full
     z0 = prob.initial_c @ full.w.T  # (Mi, r)
     z = np.empty((full.lam.size, mm, nt))
     for i in range(full.lam.size):

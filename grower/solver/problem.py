@@ -31,11 +31,11 @@ class _Problem:
 
     @cached_property
     def red(self) -> _Table:  # step table of the network with the air held
-        return _table(self.network._red.lam, self.unique_h, self.kind)  # type: ignore[attr-defined]
+        return _table(self.network.held_modes.lam, self.unique_h, self.kind)
 
     @cached_property
     def brt(self) -> np.ndarray:  # (n-1, Mu, N) reduced modal forcing of (U, P_1..)
-        red, m = self.network._red, self.network.n_boundaries  # type: ignore[attr-defined]
+        red, m = self.network.held_modes, self.network.n_boundaries
         u, p = self.boundary_c, self.gains_w
         return _project(red.bm[:, :m], u) + _project(red.bm[:, m + 1 :], p[:, :, 1:])
 
@@ -139,7 +139,7 @@ def _problem(
     hq = np.round(steps / quantum) * quantum
     hu, kind = np.unique(hq, return_inverse=True)
     hu = np.maximum(hu, np.finfo(float).tiny)
-    full = network._full  # type: ignore[attr-defined]
+    full = network.modes
     bt = _project(full.bm[:, :m], u) + _project(full.bm[:, m:], p)
     return _Problem(
         network,
