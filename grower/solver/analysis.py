@@ -169,23 +169,31 @@ def analyse(
         if tr.modal_z is not None
         else np.tensordot(full.w, np.moveaxis(tr.temps_c, -1, 0), axes=([1], [0]))
     )
+    # g'' at a step's start, mode by mode: lam (lam z + b) + (b[k+1] - b[k]) / h, written
+    # as lam^2 z + (lam - 1/h) b[k] + b[k+1] / h (no array of differences), into two
+    # scratch arrays: fresh big temporaries cost more than the arithmetic
     bound = np.zeros((mm, nt - 1))
+    k2 = np.empty((mm, nt - 1))
+    tmp = np.empty((mm, nt - 1))
+    ih = 1.0 / h
     for i, lam in enumerate(full.lam):
-        k2 = lam * zt[i, :, :-1]
-        k2 += prob.bt[i, :, :-1]
+        bi = prob.bt[i]
+        np.multiply(zt[i, :, :-1], lam * lam, out=k2)
+        np.multiply(bi[:, :-1], lam - ih, out=tmp)
+        k2 += tmp
+        np.multiply(bi[:, 1:], ih, out=tmp)
+        k2 += tmp
         if ctl:
-            k2 += qstep * full.bm[i, m]
-        k2 *= lam
-        k2 += prob.dbt[i] / h
+            k2 += qstep * (lam * full.bm[i, m])
         np.abs(k2, out=k2)
         k2 *= abs(full.v[0, i])
         bound += k2
     bound *= h**2 / 8
     if ctl:
         bound[~flo] = 0.0
-    lob = np.minimum(ga, gb)
+    lob = np.minimum(ga, gb, out=k2)
     lob -= bound
-    hib = np.maximum(ga, gb)
+    hib = np.maximum(ga, gb, out=tmp)
     hib += bound
     is_below = hib < 0
     unsure = lob <= 0
@@ -196,7 +204,7 @@ def analyse(
         is_below &= ~pcs.split
         unsure &= ~pcs.split
         deep &= flo
-    below += is_below @ h
+    below += np.count_nonzero(is_below, axis=1) * h[0] if prob.uniform else (is_below * h).sum(1)
     hit = is_below.any(axis=1)
     first[hit] = np.minimum(first[hit], t[np.argmax(is_below[hit], axis=1)])
     mi, ki = np.nonzero(unsure | deep)

@@ -25,9 +25,12 @@ class _Problem:
     uniform: bool
     full: _Table
     bt: np.ndarray  # (r, Mu, N) modal forcing of (U, P), mode axis first
-    dbt: np.ndarray  # (r, Mu, N-1) its step increments
     unique_h: np.ndarray  # distinct step lengths [s]
     kind: np.ndarray  # (N-1,) index of each step's length in unique_h
+
+    @cached_property
+    def dbt(self) -> np.ndarray:  # (r, Mu, N-1) step increments of the modal forcing
+        return np.diff(self.bt, axis=2)
 
     @cached_property
     def red(self) -> _Table:  # step table of the network with the air held
@@ -152,7 +155,6 @@ def _problem(
         hu.size == 1,
         _table(full.lam, hu, kind),
         bt,
-        np.diff(bt, axis=2),
         hu,
         kind,
     )

@@ -125,13 +125,46 @@ def _scan(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.nda
     return out
 
 
-def _recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.ndarray:
-    """``z[k+1] = e[k] z[k] + f[k]`` for f (M, N-1, r), z0 (M, r) -> z (M, N, r)."""
-    mm, k1, r = f.shape
-    out = np.empty((mm, k1 + 1, r))
-    for i in range(r):
-        out[:, :, i] = _recur1(e[:, i], uniform, f[:, :, i], z0[:, i], mm)
-    return out
+#: from this many members on, `recurrence` steps all of them at once, step by step
+_MANY = 32
+
+
+def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.ndarray:
+    """``z[k+1] = e[k] z[k] + f[k]`` for every mode and member: the runs of whole steps.
+
+    Parameters
+    ----------
+    e : (N-1, r) step decays ``exp(lam h)`` of each mode
+    uniform : all steps have one length (``e`` is the same on every row)
+    f : (r, M, N-1) forcing of each step (from `_table`'s ``f1``, ``f2``)
+    z0 : (r, M) or (r, 1) modal state at the first grid time
+
+    Returns
+    -------
+    (r, M, N) modal state at the grid times
+
+    For many members the steps are taken one after another, each for all modes and
+    members at once (two array operations a step, as in a plain stepping loop); for few
+    members a step-by-step loop would be all Python overhead, and each mode's recurrence is
+    the blocked cumulative sum of `_scan` instead. Both are the same arithmetic to
+    round-off.
+    """
+    r, mm, k1 = f.shape
+    if mm < _MANY:
+        out = np.empty((r, mm, k1 + 1))
+        for i in range(r):
+            out[i] = _recur1(e[:, i], uniform, f[i], z0[i], mm)
+        return out
+    ft = np.ascontiguousarray(f.transpose(2, 0, 1))  # (N-1, r, M): a step is a row
+    zt = np.empty((k1 + 1, r, mm))
+    zt[0] = z0
+    ek = np.ascontiguousarray(e)[:, :, None]
+    mul, add = np.multiply, np.add
+    for k in range(k1):
+        row = zt[k + 1]
+        mul(zt[k], ek[k], out=row)
+        add(row, ft[k], out=row)
+    return np.ascontiguousarray(zt.transpose(1, 2, 0))
 
 
 def _sphi(x: float) -> tuple[float, float, float, float]:
