@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from grower import fuels, network, sky
+from grower import fuels, network, safety, sky
 from grower.house import House, _at
 from grower.units import W_PER_BTU_H
 
@@ -270,6 +270,6 @@ def size(
         combustion_air_in2=air,
         installed_output_w=installed,
         installed_holds=(installed >= loss) if house.heaters else None,
-        cautions=fuels.cautions(fuel, appliance, inp),
+        cautions=safety.cautions(fuel, appliance, inp),
         notes=tuple(notes),
     )

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from grower import fuels
+from grower import fuels, safety
 from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
@@ -310,5 +310,5 @@ def stock(
         forecast_attribution=forecast.attribution,
         forecast_age_s=forecast.age_s,
         forecast_warnings=tuple(forecast.warnings),
-        cautions=fuels.cautions(fuel, appliance, (peak / eff) if peak > 0 else None),
+        cautions=safety.cautions(fuel, appliance, (peak / eff) if peak > 0 else None),
     )

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from grower import fuels, solver
+from grower import fuels, safety, solver
 from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
@@ -341,7 +341,7 @@ def tonight(
 
     cautions: tuple[str, ...] = ()
     if verdict.crossing_time is not None or check is not None:
-        cautions = fuels.cautions(fuel, appliance, hold_peak_w / eff if hold_peak_w > 0 else None)
+        cautions = safety.cautions(fuel, appliance, hold_peak_w / eff if hold_peak_w > 0 else None)
 
     local = [when(t) for t in b.times]
     return TonightResult(
