@@ -284,11 +284,51 @@ def check(
     if stock is None or container is None or size_of(container.name) is None:
         return VapourCheck(
             False,
-            'vapour supply not checked: give the containers, e.g. --on-hand "2 100-lb cylinders" '
-            'or "1 500-gal tank", and --fill',
+            'vapour supply not checked: give the fuel on hand as its containers ("2 100-lb '
+            'cylinders", "1 500-gal tank") and their fill',
         )
     share = stock.share_full if share_full is None else share_full
     sup = supply(container.name, stock.count, share, outside_c)
     per = sup.per_container_w
     need = math.ceil(input_w / per - 1e-9) if per > 0 else None
     return VapourCheck(True, None, sup, float(input_w), sup.capacity_w < input_w, need, at)
+
+
+def house_check(
+    house: Any,
+    source: Any,
+    outside_c: float,
+    *,
+    burned_j: float = 0.0,
+    at: Any = None,
+    design_fill_pct: float | None = None,
+) -> VapourCheck:
+    """The vapour check for a house's own ``[stock]`` (tonight and size).
+
+    `source` is the `grower.fuels.HeatSource` the plan uses; `burned_j` the fuel energy
+    burned before the hour checked [J] (it lowers the fill). `design_fill_pct`, for a
+    design condition (`size`), is the fill assumed (read like ``--fill``) when
+    ``[stock] fill`` is not given.
+    """
+    from grower import fuels
+
+    stock_t = getattr(house, "stock", None) or {}
+    withdrawal = str(stock_t.get("withdrawal", "vapour"))
+    text = stock_t.get("on_hand")
+    where = f"{getattr(house, 'path', 'house')}: stock"
+    stock = None
+    if text and fuels.get_fuel(stock_t.get("fuel") or source.fuel.name) == source.fuel:
+        stock = fuels.parse_amount(text, source.fuel, where=f"{where}.on_hand")
+        fill = stock_t.get("fill")
+        if fill is not None:
+            stock = fuels.with_fill(
+                stock, source.fuel, fuels.parse_fill(fill, f"{where}.fill"), f"{where}.fill"
+            )
+        elif design_fill_pct is not None and stock.container is not None:
+            stock = fuels.with_fill(stock, source.fuel, design_fill_pct, f"{where}.fill")
+    share = None
+    if stock is not None and stock.energy_j > 0:
+        share = stock.share_full * max(0.0, 1.0 - burned_j / stock.energy_j)
+    return check(
+        source.fuel.name, stock, source.input_w, outside_c, share, withdrawal=withdrawal, at=at
+    )

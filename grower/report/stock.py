@@ -210,7 +210,7 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     heat_label = "heat therm" if us else "heat kWh"
     heat_of = (lambda kwh: kwh * 3.6e6 / J_PER_THERM) if us else (lambda kwh: kwh)  # noqa: E731
     table = Table()
-    table.add_column("day")
+    table.add_column("day", no_wrap=True)
     table.add_column(heat_label, justify="right")
     table.add_column(f"fuel {unit}", justify="right")
     if r.price is not None:

@@ -77,3 +77,13 @@ def fields(check: VapourCheck) -> dict[str, Any]:
             "source": None if s is None else s.source,
         },
     }
+
+
+def render(console, check: VapourCheck | None, system: UnitSystem) -> None:
+    """The vapour line: bold red when the containers fall short, dim when not checked."""
+    if check is None:
+        return
+    from grower.report.common import plain
+
+    line, short = sentence(check, system)
+    plain(console, line, "bold red" if short else (None if check.applies else "dim"))
