@@ -20,7 +20,7 @@ from grower import __version__
 from grower.errors import InputError
 
 #: subcommands, in the order `grower --help` lists them
-COMMANDS = ("tonight", "size", "stock", "house", "crops", "fit")
+COMMANDS = ("tonight", "size", "stock", "winters", "house", "crops", "fit")
 
 EXIT_OK = 0
 EXIT_INPUT = 2
