@@ -12,8 +12,9 @@ The numbers are the propane trade's (``grower/data/vaporisation.toml``):
 - an ASME tank: the rule ``D × L × K`` [Btu/h] at 0 °F, D the outside diameter and L
   the overall length [in], K by the percent of the tank filled (10–60 %);
 - other temperatures for a tank, and other upright cylinders: scaled from the 100-lb
-  table — by its temperature dependence at the same share of a full fill (the same air-
-  to-liquid heat flow through the wetted wall drives both), and for a cylinder of
+  table — by its temperature dependence (the same air-
+  to-liquid heat flow through the wetted wall drives both; for a tank, whose K already
+  carries the fill, that of the half-full row), and for a cylinder of
   another size by its wetted wall, diameter × height (common practice, no source);
 - below the table's coldest column (0 °F, −17.8 °C) the table is extended with the slope
   of its 0–20 °F columns, which reaches zero near −43 °F, close to propane's boiling
@@ -197,8 +198,9 @@ def tank_k(percent_filled: float) -> tuple[float, bool]:
 def tank_btu_h(diameter_in: float, length_in: float, percent_filled: float, temp_f: float):
     """Vapour capacity of one ASME tank [Btu/h]: D × L × K at 0 °F, scaled to `temp_f`."""
     k, ext = tank_k(percent_filled)
-    share = percent_filled / FULL_TANK_GAUGE_PCT
-    factor = temperature_factor(share, temp_f)
+    # the temperature dependence of the 100-lb table's middle row (half full): the rule's
+    # K already carries the fill, and one factor for every fill keeps the rule monotone
+    factor = temperature_factor(0.5, temp_f)
     ext = ext or temp_f < 0.0 or temp_f > 70.0
     return diameter_in * length_in * k * factor, ext
 

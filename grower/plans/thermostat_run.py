@@ -83,8 +83,9 @@ def _grid(segs, frame_index: pd.DatetimeIndex) -> tuple[pd.DatetimeIndex, np.nda
     """The grid over all segments (their cuts included) and each step's night flag."""
     start, end = segs[0][0], segs[-1][1]
     times = hm.grid(start, end, frame_index, STEP_S)
-    cuts = pd.DatetimeIndex([a for a, _, _ in segs[1:]]).tz_convert(start.tz)
-    times = times.union(cuts).tz_convert(start.tz)
+    if len(segs) > 1:
+        cuts = pd.DatetimeIndex([a for a, _, _ in segs[1:]]).tz_convert(start.tz)
+        times = times.union(cuts).tz_convert(start.tz)
     t = hm.epoch_s(times)
     cut_s = np.array([a.timestamp() for a, _, _ in segs])
     which = np.searchsorted(cut_s, t[:-1], side="right") - 1
