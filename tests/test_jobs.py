@@ -393,7 +393,7 @@ def test_stock_bad_input(capsys):
 # ---------------------------------------------------------------- every command
 
 
-@pytest.mark.parametrize("command", ["tonight", "size", "stock", "house", "crops"])
+@pytest.mark.parametrize("command", ["tonight", "size", "stock", "winters", "house", "crops"])
 def test_every_command_has_help(capsys, command):
     with pytest.raises(SystemExit) as exit_:
         main([command, "--help"])
