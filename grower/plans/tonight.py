@@ -272,7 +272,7 @@ def tonight(
     note = hm.calibration_note(house, kind, use_calibration)
     if note:
         assumptions.append(note)
-    x0 = np.array([inside_now_c]) if kind == "lumped" else np.array([inside_now_c, soil_now_c])
+    x0 = hm.initial_state(mdl, inside_now_c, soil_now_c)
 
     # free float as members run at once: this forecast; the night colder; the soil colder
     colder = b.shifted(-colder_by_k, mdl)

@@ -30,8 +30,9 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "k_conduction_w_per_k": r.k_conduction_w_per_k,
         "k_sky_w_per_k": r.k_sky_w_per_k,
         "heat_loss_w": r.heat_loss_w,
-        "conduction_loss_w": r.conduction_loss_w,
-        "sky_loss_w": r.sky_loss_w,
+        "handbook_loss_w": r.handbook_loss_w,
+        "wind_allowance_w": r.wind_allowance_w,
+        "sky_allowance_w": r.sky_allowance_w,
         "curtain_saving_w": r.curtain_saving_w,
         "safety_factor": r.safety_factor,
         "recommended_output_w": r.recommended_output_w,
@@ -91,14 +92,18 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     table.add_column(style="dim")
     table.add_column(justify="right")
     table.add_row(
-        "loss to the outside air (cover, air exchange, perimeter)",
-        power_text(r.conduction_loss_w, system),
+        "handbook heat loss (Σ U·A·ΔT + air exchange + perimeter)",
+        power_text(r.handbook_loss_w, system),
     )
-    table.add_row("loss by radiation to the clear sky", power_text(r.sky_loss_w, system))
+    sign = "+" if r.wind_allowance_w >= 0 else "−"
     table.add_row(
-        f"design heat loss  K·(T_hold − T_eff), K = {r.k_w_per_k:,.0f} W/K, T_eff = {t(r.effective_outside_c)}",
-        f"[bold]{power_text(r.heat_loss_w, system)}[/bold]",
+        f"{sign} wind {show_speed(r.wind_m_s, system).text(0)} against the tables' 15 mph",
+        power_text(abs(r.wind_allowance_w), system),
     )
+    table.add_row(
+        f"+ clear sky at {t(r.sky_c)}, below the outside air", power_text(r.sky_allowance_w, system)
+    )
+    table.add_row("= design heat loss", f"[bold]{power_text(r.heat_loss_w, system)}[/bold]")
     table.add_row(
         f"× safety factor {r.safety_factor:g}", power_text(r.recommended_output_w, system)
     )

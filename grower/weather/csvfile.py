@@ -34,6 +34,7 @@ _CSV_COLUMNS: dict[str, tuple[str, Callable[[NDArray[np.float64]], NDArray[np.fl
     "dew_point_c": ("dew_point_c", lambda v: v, "°C"),
     "dew_point_f": ("dew_point_c", f_to_c, "°F"),
     "cloud_cover_pct": ("cloud_cover_pct", lambda v: v, "%"),
+    "cloud_cover_low_pct": ("cloud_cover_low_pct", lambda v: v, "%"),
     "wind_speed_m_s": ("wind_speed_m_s", lambda v: v, "m/s"),
     "wind_speed_mph": ("wind_speed_m_s", lambda v: v * M_S_PER_MPH, "mph"),
     "wind_speed_km_h": ("wind_speed_m_s", lambda v: v / 3.6, "km/h"),
