@@ -37,6 +37,7 @@ class Run:
     times: pd.DatetimeIndex  # tz-aware, N
     step_s: np.ndarray  # step lengths [s], N − 1
     outside_c: np.ndarray  # N
+    effective_c: np.ndarray  # N: the outside, sky and deep ground as one temperature
     air_c: np.ndarray  # N
     plant_c: np.ndarray  # N: air less the leaf offset
     heat_w: np.ndarray  # N
@@ -157,6 +158,7 @@ def simulate(
     n = len(t_s)
     air, heat = np.empty(n), np.empty(n)
     plant_off = np.empty(n)
+    eff = np.empty(n)
     step_heat, step_vent = np.empty(n - 1), np.empty(n - 1)
     x = None
     notes = []
@@ -181,6 +183,7 @@ def simulate(
         air[sl] = res.air_c[0]
         heat[sl] = res.heat_w[0]
         plant_off[sl] = bnd.plant_offset_k[sl]
+        eff[sl] = bnd.effective_c[sl]
         step_heat[i0:i1] = res.step_heat_j[0]
         step_vent[i0:i1] = res.step_vent_j[0]
     if progress:
@@ -194,6 +197,7 @@ def simulate(
         times=times,
         step_s=step,
         outside_c=b0.outside_c,
+        effective_c=eff,
         air_c=air,
         plant_c=air - plant_off,
         heat_w=heat,

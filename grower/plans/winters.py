@@ -45,6 +45,7 @@ class Winter:
     months: tuple[Month, ...]
     hours_not_held: float
     mean_outside_c: float
+    mean_effective_outside_c: float  # outside air, sky and deep ground as one [°C]
     min_outside_c: float
     min_air_c: float
     peak_w: float
@@ -129,6 +130,7 @@ def season(
         months=out_months,
         hours_not_held=float(run.step_s[below].sum() / 3600.0),
         mean_outside_c=float(np.average(run.outside_c[:-1], weights=run.step_s)),
+        mean_effective_outside_c=float(np.average(run.effective_c[:-1], weights=run.step_s)),
         min_outside_c=float(run.outside_c.min()),
         min_air_c=float(run.air_c.min()),
         peak_w=float(run.heat_w.max()),

@@ -30,6 +30,7 @@ def _winter_json(w: Winter) -> dict[str, Any]:
         "cost": w.cost,
         "hours_not_held": w.hours_not_held,
         "mean_outside_c": w.mean_outside_c,
+        "mean_effective_outside_c": w.mean_effective_outside_c,
         "min_outside_c": w.min_outside_c,
         "min_air_c": w.min_air_c,
         "peak_w": w.peak_w,
