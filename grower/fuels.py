@@ -15,7 +15,7 @@ U.S. Energy Information Administration, "Units and calculators explained" and "E
 conversion calculators" (propane, natural gas, heating oil). UConn IPM, J. Bartok (2013),
 "Comparing fuel costs". Manitoba Hydro, "Types of unit heaters". OSHA 29 CFR 1910.110
 (LP-gas containers). NIST SP 811 (unit definitions). The safety cautions, with their
-sources, are in `grower.safety` (``cautions`` stays importable from here).
+sources, are in `grower.safety`.
 """
 
 from __future__ import annotations
@@ -31,8 +31,6 @@ from typing import Any
 import numpy as np
 
 from grower.errors import InputError, did_you_mean
-from grower.safety import M2_PER_IN2 as M2_PER_IN2  # re-exported: cautions used to live here
-from grower.safety import cautions as cautions
 from grower.units import (
     J_PER_BTU,
     J_PER_KWH,

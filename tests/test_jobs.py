@@ -396,17 +396,7 @@ def test_stock_bad_input(capsys):
     assert "below" in line
 
 
-# ---------------------------------------------------------------- every command
-
-
-@pytest.mark.parametrize("command", ["tonight", "size", "stock", "winters", "house", "crops"])
-def test_every_command_has_help(capsys, command):
-    with pytest.raises(SystemExit) as exit_:
-        main([command, "--help"])
-    assert exit_.value.code == 0
-    out = capsys.readouterr().out
-    assert "--json" in out and "--units" in out
-    assert len(out.splitlines()) > 5
+# (every command's help: tests/test_cli.py, derived from the parser)
 
 
 # ---------------------------------------------------------------- live forecast, loopback

@@ -50,8 +50,7 @@ def choose_threshold(args: argparse.Namespace):
         raise InputError("cannot be negative", where="--margin")
     if not args.crop:
         return None, None, None, override
-    book = crops.load_crops(args.crops_dir)
-    crop, stage = book.resolve(args.crop)
+    crop, stage = crops.load_crop(args.crop, args.crops_dir)
     return crop, stage, crops.select_threshold(stage, margin, override), override
 
 

@@ -54,9 +54,8 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from grower import house
-    from grower.cli import EXIT_ALERT
     from grower.commands._options import choose_threshold, get_forecast, start_time
-    from grower.errors import InputError
+    from grower.errors import EXIT_ALERT, InputError
     from grower.plans import tonight
     from grower.report import common
     from grower.report import tonight as report

@@ -13,7 +13,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from typing import Any
 
-from grower import fuels, network, sky, vaporisation
+from grower import fuels, network, safety, sky, vaporisation
 from grower.house import House
 from grower.units import W_PER_BTU_H
 
@@ -269,7 +269,7 @@ def size(
         combustion_air_in2=air,
         installed_output_w=installed,
         installed_holds=(installed >= loss) if house.heaters else None,
-        cautions=fuels.cautions(fuel, appliance, inp),
+        cautions=safety.cautions(fuel, appliance, inp),
         notes=tuple(notes),
         vapour=vaporisation.house_check(
             house, replace(source, input_w=inp), design_outside_c, design_fill_pct=30.0

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from grower import fuels, vaporisation
+from grower import fuels, safety, vaporisation
 from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
@@ -525,5 +525,5 @@ def stock(
         forecast_attribution=forecast.attribution,
         forecast_age_s=forecast.age_s,
         forecast_warnings=tuple(forecast.warnings),
-        cautions=fuels.cautions(fuel, heat.appliance_key, heat.input_w or (peak / eff or None)),
+        cautions=safety.cautions(fuel, heat.appliance_key, heat.input_w or (peak / eff or None)),
     )

@@ -19,7 +19,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from grower import fuels, solver, vaporisation
+from grower import fuels, safety, solver, vaporisation
 from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
@@ -333,7 +333,7 @@ def tonight(
 
     cautions: tuple[str, ...] = ()
     if verdict.crossing_time is not None or check is not None:
-        cautions = fuels.cautions(fuel, appliance, hold_peak_w / eff if hold_peak_w > 0 else None)
+        cautions = safety.cautions(fuel, appliance, hold_peak_w / eff if hold_peak_w > 0 else None)
 
     local = [when(t) for t in b.times]
     return TonightResult(

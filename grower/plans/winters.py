@@ -17,7 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from grower import fuels
+from grower import fuels, safety
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import stock as st
@@ -214,5 +214,5 @@ def winters(
         source=source or seasons[0].source,
         attribution=seasons[0].attribution,
         assumptions=tuple(dict.fromkeys(notes)),
-        cautions=fuels.cautions(heat.fuel, heat.appliance_key, peak_in or None),
+        cautions=safety.cautions(heat.fuel, heat.appliance_key, peak_in or None),
     )
