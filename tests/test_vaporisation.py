@@ -16,6 +16,7 @@ from hypothesis import strategies as st
 
 from grower import fuels, vaporisation
 from grower.units import W_PER_BTU_H, f_to_c
+from tests.conftest import ROOT
 
 # (pounds of propane, °F, printed Btu/h) — a sample across the printed table
 PRINTED_100LB = [
@@ -141,3 +142,58 @@ def test_every_container_size_has_a_basis():
     assert names <= set(table.sizes)
     for size in table.sizes.values():
         assert size.basis in ("from memory", "common practice") or len(size.basis) > 20
+
+
+def _house_with_cylinders(tmp_path, fill: str) -> str:
+    text = (ROOT / "examples" / "gable-house.toml").read_text(encoding="utf-8")
+    text = text.replace('on_hand = "900 L"', f'on_hand = "2 100-lb cylinders"\nfill = "{fill}"')
+    path = tmp_path / "cylinders.toml"
+    path.write_text(text, encoding="utf-8")
+    return str(path)
+
+
+def _json(capsys, *argv):
+    import json
+
+    from grower.cli import main
+
+    code = main([*argv, "--json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    return json.loads(out)
+
+
+def test_tonight_and_size_check_the_house_files_cylinders(tmp_path, capsys):
+    path = _house_with_cylinders(tmp_path, "30%")
+    night = _json(
+        capsys,
+        "tonight",
+        path,
+        "--crop",
+        "lettuce",
+        "--forecast",
+        str(ROOT / "examples" / "forecast-cold-night.csv"),
+    )
+    v = night["vaporisation"]
+    assert v["checked"] and v["count"] == 2 and v["share_full"] < 0.3  # the night burns some
+    again = vaporisation.supply("100-lb cylinder", 2, v["share_full"], v["outside_c"])
+    assert night["vaporisation_w"] == pytest.approx(again.capacity_w)
+    assert night["vaporisation_short"] == (night["vaporisation_w"] < v["input_w"])
+    size = _json(capsys, "size", path, "--outside", "-20C", "--hold", "5C")
+    # size checks the heater it recommends, at the house file's fill
+    assert size["vaporisation"]["input_w"] == pytest.approx(size["recommended_input_w"])
+    assert size["vaporisation"]["share_full"] == pytest.approx(0.3)
+    assert size["vaporisation_short"] is True
+
+
+def test_natural_gas_house_says_outside_the_check(capsys):
+    d = _json(
+        capsys,
+        "size",
+        str(ROOT / "examples" / "glass-range.toml"),
+        "--outside",
+        "-20C",
+        "--hold",
+        "5C",
+    )
+    assert d["vaporisation_w"] is None and "outside" in d["vaporisation"]["reason"]

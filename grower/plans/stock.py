@@ -82,6 +82,7 @@ class Shortfall:
     at: dt.datetime | None
     hours: float | None = None
     value: float | None = None  # crop: min plant °C; heater: min air °C; vapour: W
+    extra_w: float | None = None  # heater: more output that would hold the coldest hour
 
 
 @dataclass(frozen=True)
@@ -353,8 +354,10 @@ def crop_check(run: tr.Run, crop: str, alarm_c: float) -> CropCheck:
     )
 
 
-def shortfalls(run, crop, runs_out, lasts, vap) -> tuple[Shortfall, ...]:
-    """What falls short, worst first: the crop, the heater, the fuel, the vapour."""
+def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall, ...]:
+    """What falls short, worst first: the crop, the heater, the fuel, the vapour.
+
+    `extra_w`: the output the heater lacks (an unlimited heater's peak less its own)."""
     out = []
     if crop is not None and crop.first_at is not None:
         out.append(Shortfall("crop", crop.first_at, crop.hours_below, crop.min_plant_c))
@@ -367,6 +370,7 @@ def shortfalls(run, crop, runs_out, lasts, vap) -> tuple[Shortfall, ...]:
                 when(run.times[k]),
                 float(run.step_s[below].sum() / 3600.0),
                 float(run.air_c.min()),
+                extra_w,
             )
         )
     if runs_out is not None:
@@ -374,6 +378,18 @@ def shortfalls(run, crop, runs_out, lasts, vap) -> tuple[Shortfall, ...]:
     if vap.applies and vap.short:
         out.append(Shortfall("vapour", vap.at, None, vap.supply.capacity_w))
     return tuple(out)
+
+
+def _holding_peak(run: tr.Run, settle_s: float = 3600.0) -> float:
+    """Peak heat [W] outside the hour after each raise of the setpoint (the morning
+    warm-up an unlimited heater does at once is left out: that is a choice of how fast
+    to warm up, not what holds the house)."""
+    t = hm.epoch_s(run.times)
+    raises = t[1:-1][np.diff(run.setpoint_c) > 0]
+    keep = np.ones(t.size, dtype=bool)
+    for r in raises:
+        keep &= ~((t >= r) & (t < r + settle_s))
+    return float(run.heat_w[keep].max()) if keep.any() else float(run.heat_w.max())
 
 
 # ---------------------------------------------------------------- the plan
@@ -457,6 +473,21 @@ def stock(
         notes.append(note)
     peak = float(run.heat_w.max())
     below = run.air_c[:-1] < run.setpoint_c - HELD_TOL_K
+    extra = None
+    if below.any() and heat.heater_output_w is not None:
+        # the same forecast with an unlimited heater: its peak is the output that holds
+        unlimited = tr.simulate(
+            house,
+            forecast,
+            start,
+            end,
+            setpoint_c=setpoint_c,
+            night_setpoint_c=night_set,
+            q_max_w=math.inf,
+            kind=kind,
+            use_calibration=use_calibration,
+        )
+        extra = max(_holding_peak(unlimited) - heat.heater_output_w, 0.0) or None
     return StockResult(
         house_name=house.name,
         house_path=house.path,
@@ -487,7 +518,7 @@ def stock(
         order=the_order,
         vapour=vap,
         crop=crop_result,
-        shortfalls=shortfalls(run, crop_result, runs_out, lasts, vap),
+        shortfalls=shortfalls(run, crop_result, runs_out, lasts, vap, extra),
         n_runs=run.n_runs,
         assumptions=tuple(notes),
         forecast_source=forecast.source,

@@ -89,7 +89,13 @@ def stock_json(r: StockResult) -> dict[str, Any]:
             "min_plant_c": r.crop.min_plant_c,
         },
         "shortfalls": [
-            {"kind": f.kind, "at": iso(f.at), "hours": f.hours, "value": f.value}
+            {
+                "kind": f.kind,
+                "at": iso(f.at),
+                "hours": f.hours,
+                "value": f.value,
+                "extra_w": f.extra_w,
+            }
             for f in r.shortfalls
         ],
         "thermostat_runs": r.n_runs,
@@ -129,6 +135,12 @@ def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
         return (
             f"The heater is too small: it cannot hold the setpoint for {f.hours:.1f} h, from "
             f"{_when(f.at)}; the air falls to {T(f.value)}."
+            + (
+                f" About {vapour.power(f.extra_w, system)} more output would hold it through "
+                "the coldest hour."
+                if f.extra_w
+                else ""
+            )
         )
     if f.kind == "fuel":
         return (
@@ -139,13 +151,15 @@ def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
     return "Not enough vapour: " + line
 
 
-def _order_line(o: Order, unit: str) -> str:
+def _order_line(o: Order, unit: str, r_start) -> str:
     amount = f"{o.amount:,.0f} {unit}"
     refill = f"the {o.reserve_pct:.0f} % refill level"
     lead = f" with {o.lead_time_days:g} days' delivery" if o.lead_time_days else ""
     if o.order_by is None:
         return "No order needed: the house burns no fuel at this rate."
     if o.order_now:
+        if o.reserve_at is not None and o.reserve_at <= r_start:
+            return f"Order now: the fuel is already at or below {refill}; {amount} fills it up."
         return f"Order now{lead}: the fuel reaches {refill} {_when(o.reserve_at)}; {amount} fills it up."
     est = " (past the forecast's end, at its mean rate)" if o.extrapolated else ""
     return (
@@ -182,7 +196,11 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
             text += f" (about {left / r.energy_kwh * span:,.1f} more days at this rate)"
         plain(console, text + ".", None if r.shortfalls else "green")
     if r.order is not None:
-        plain(console, _order_line(r.order, r.order.unit), "bold" if r.order.order_now else None)
+        plain(
+            console,
+            _order_line(r.order, r.order.unit, r.start),
+            "bold" if r.order.order_now else None,
+        )
     if r.crop is not None and r.crop.first_at is None:
         plain(
             console,

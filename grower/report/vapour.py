@@ -35,7 +35,7 @@ def sentence(check: VapourCheck, system: UnitSystem) -> tuple[str, bool]:
     when = f" ({check.at:%a %d %b %H:%M})" if check.at is not None else ""
     est = " (extrapolated beyond the printed table)" if s.extrapolated else ""
     head = (
-        f"{what.capitalize()} at {level} give about {power(s.capacity_w, system)} of vapour "
+        f"{what.capitalize()} at {level} {'gives' if s.count == 1 else 'give'} about {power(s.capacity_w, system)} of vapour "
         f"at {temp}{when}{est}; the heater needs {power(check.input_w, system)}"
     )
     if not check.short:
