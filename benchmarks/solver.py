@@ -118,6 +118,102 @@ def ivp_member(net, t, u, x0, th, off, method, rtol, atol, restart):
     return np.array(xs), hit[0] if hit else math.nan
 
 
+def numpy_loop_night(net, t, u, x0, th, off):
+    """The plain reference: a vectorised numpy loop over the steps, all members at once.
+
+    Each step is the exact first-order-hold step ``x1 = Phi x0 + Ga u0 + Gb (u1 - u0)`` of
+    Van Loan's block exponential (computed once), for all members in three small matrix
+    products. After the loop, at the same accuracy as `grower.solver.analyse`: the first
+    crossing of ``T_air - off = th`` by four Newton steps on the exact solution inside the
+    step where the grid changes sign, the minimum by four Newton steps on the derivative
+    in the steps beside the grid minimum, and the hours below from the roots in every
+    step that changes sign (Newton again). Dips below the threshold within one step whose
+    ends are both above it are not looked for (grower does look for them).
+    """
+    a, b = net.state_matrix, net.input_matrix[:, : net.n_boundaries]
+    n, h = net.n_nodes, t[1] - t[0]
+    phi, ga, gb = _aug_blocks(a, b, h)
+    ua = np.ascontiguousarray(np.moveaxis(u, 1, 0))  # (N, M, m)
+    du = np.diff(ua, axis=0)
+    x = np.empty((t.size, u.shape[0], n))
+    x[0] = x0
+    pt, gat, gbt = phi.T, ga.T, gb.T
+    for k in range(t.size - 1):
+        x[k + 1] = x[k] @ pt + ua[k] @ gat + du[k] @ gbt
+    # the exact solution inside a step, for Newton: modes of the same A
+    lam, vec = np.linalg.eig(a)
+    lam, vec = lam.real, vec.real
+    w = np.linalg.inv(vec)
+    bm = w @ b
+    v0 = vec[0]
+
+    def inside(mi, ki, s):  # plant less threshold, and its first two s-derivatives
+        z0 = x[ki, mi] @ w.T
+        beta = ua[ki, mi] @ bm.T
+        gam = du[ki, mi] @ bm.T / h
+        ls = lam * s[:, None]
+        p1 = np.expm1(ls) / lam
+        z = np.exp(ls) * z0 + p1 * beta + (p1 - s[:, None]) / lam * gam
+        dz = lam * z + beta + gam * s[:, None]
+        return z @ v0 - off - th, dz @ v0, (lam * dz + gam) @ v0
+
+    def newton(mi, ki, s, deriv):
+        for _ in range(4):
+            f, d1, d2 = inside(mi, ki, s)
+            s = np.clip(s - (d1 / d2 if deriv else f / d1), 0.0, h)
+        return s
+
+    g = x[:, :, 0].T - off - th  # (M, N)
+    ar = np.arange(g.shape[0])
+    sign = (g[:, :-1] > 0) != (g[:, 1:] > 0)
+    mi, ki = np.nonzero(sign)
+    roots = newton(mi, ki, h * g[mi, ki] / (g[mi, ki] - g[mi, ki + 1]), False)
+    down = g[mi, ki] > 0
+    below = h * ((g[:, :-1] <= 0) & (g[:, 1:] <= 0)).sum(axis=1)
+    np.add.at(below, mi, np.where(down, h - roots, roots))
+    first = np.full(g.shape[0], np.nan)
+    fd = np.flatnonzero(down)
+    fd = fd[np.unique(mi[fd], return_index=True)[1]]  # the first downward root per member
+    first[mi[fd]] = t[ki[fd]] + roots[fd]
+    first[g[:, 0] <= 0] = t[0]
+    km = np.argmin(g, axis=1)
+    _, d1, _ = inside(ar, np.minimum(km, t.size - 2), np.zeros(ar.size))
+    step = np.where((d1 < 0) & (km < t.size - 1) | (km == 0), km, km - 1)
+    step = np.minimum(step, t.size - 2)
+    sm = newton(ar, step, np.full(ar.size, 0.5 * h), True)
+    gm, _, _ = inside(ar, step, sm)
+    gmin = np.minimum(gm, g[ar, km])
+    return np.moveaxis(x, 0, 1), first, gmin + th, below / 3600.0
+
+
+def ivp_vectorised_night(net, t, u, x0, th, off):
+    """`solve_ivp` (RK45, rtol = atol = 1e-6) once on all members stacked, with a right-hand
+    side vectorised over the members; crossing, minimum and hours below from its output
+    on the grid (linear between samples), the accuracy RK45 at 1e-6 allows anyway."""
+    a, b = net.state_matrix, net.input_matrix[:, : net.n_boundaries]
+    mm, n, h = u.shape[0], net.n_nodes, t[1] - t[0]
+    du = np.diff(u, axis=1) / h
+
+    def rhs(tt, y):
+        k = min(int((tt - t[0]) / h), t.size - 2)
+        uu = u[:, k] + du[:, k] * (tt - t[k])
+        return (y.reshape(mm, n) @ a.T + uu @ b.T).ravel()
+
+    sol = solve_ivp(rhs, (t[0], t[-1]), np.ravel(x0), method="RK45", rtol=1e-6, atol=1e-6, t_eval=t)
+    x = sol.y.reshape(mm, n, -1).transpose(0, 2, 1)
+    g = x[:, :, 0] - off - th
+    ga, gb = g[:, :-1], g[:, 1:]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(ga > 0, ga / (ga - gb), 1.0 - ga / (ga - gb))
+    cross = (ga > 0) & (gb <= 0)
+    below = h * np.where((ga <= 0) & (gb <= 0), 1.0, np.where((ga > 0) != (gb > 0), 1 - frac, 0))
+    hit = cross.any(axis=1)
+    k = np.argmax(cross, axis=1)
+    ar = np.arange(mm)
+    first = np.where(hit, t[k] + h * ga[ar, k] / (ga[ar, k] - gb[ar, k]), np.nan)
+    return x, first, g.min(axis=1) + th, below.sum(axis=1) / 3600.0
+
+
 def bench_ensemble(members: int, subset: int, rng: np.random.Generator) -> dict:
     net = house()
     t, u, x0 = night_ensemble(members, rng)
@@ -149,6 +245,24 @@ def bench_ensemble(members: int, subset: int, rng: np.random.Generator) -> dict:
         abs(r[1] - cr.time_s[i]) if not math.isnan(r[1]) else 0.0
         for r, i in zip(tight, sel[:3], strict=True)
     )
+    # the same night by a plain numpy loop and by one vectorised solve_ivp, timed the same way
+    loop = numpy_loop_night(net, t, u, x0, th, off)
+    t_loop = best_of(lambda: numpy_loop_night(net, t, u, x0, th, off), 5)
+    ivp = ivp_vectorised_night(net, t, u, x0, th, off)
+    t_ivp = best_of(lambda: ivp_vectorised_night(net, t, u, x0, th, off), 2)
+
+    def diffs(res):
+        x, first, gmin, below = res
+        both = ~(np.isnan(first) | np.isnan(cr.time_s))
+        return {
+            "max_temp_diff_k": float(np.abs(x - tr.temps_c).max()),
+            "max_crossing_diff_s": float(np.abs(first - cr.time_s)[both].max()),
+            "crossed_same": bool(np.array_equal(np.isnan(first), np.isnan(cr.time_s))),
+            "max_min_diff_k": float(np.abs(gmin - cr.min_c).max()),
+            "max_hours_below_diff_h": float(np.abs(below - cr.hours_below).max()),
+        }
+
+    tight_loop = max(np.abs(r[0] - loop[0][i]).max() for r, i in zip(tight, sel[:3], strict=True))
     return {
         "members": members,
         "steps": t.size - 1,
@@ -161,6 +275,13 @@ def bench_ensemble(members: int, subset: int, rng: np.random.Generator) -> dict:
         "reference_max_crossing_error_s": float(err_x),
         "ours_vs_rtol1e-12_max_temp_diff_k": float(ours_t),
         "ours_vs_rtol1e-12_max_crossing_diff_s": float(ours_x),
+        "numpy_loop_s": t_loop,
+        "speedup_vs_numpy_loop": t_loop / t_ours,
+        "numpy_loop_vs_rtol1e-12_max_temp_diff_k": float(tight_loop),
+        "numpy_loop_vs_ours": diffs(loop),
+        "solve_ivp_vectorised_s": t_ivp,
+        "speedup_vs_solve_ivp_vectorised": t_ivp / t_ours,
+        "solve_ivp_vectorised_vs_ours": diffs(ivp),
     }
 
 

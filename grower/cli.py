@@ -5,7 +5,7 @@ Each subcommand lives in ``grower/commands/<name>.py`` with two functions:
 gives every command ``--json`` and ``--units``), and ``run(args) -> int`` does the work.
 Errors in the user's input are `grower.errors.InputError`; they are printed here, as one
 line on stderr, and the exit status is 2. Exit status 3 is reserved for
-``--alert-status`` (damage expected); 0 is success.
+``--alert-status`` (damage expected); 0 is success. The codes are in `grower.errors`.
 """
 
 from __future__ import annotations
@@ -17,15 +17,23 @@ import sys
 import warnings
 from collections.abc import Sequence
 
-from grower import __version__
-from grower.errors import InputError, InputNote, InputWarning
+from grower.errors import EXIT_INPUT, EXIT_OK, InputError, InputNote, InputWarning
 
 #: subcommands, in the order `grower --help` lists them
-COMMANDS = ("tonight", "size", "stock", "house", "crops", "fit")
+COMMANDS = ("tonight", "size", "stock", "winters", "house", "crops", "fit")
 
-EXIT_OK = 0
-EXIT_INPUT = 2
-EXIT_ALERT = 3
+
+class _Version(argparse.Action):
+    """``--version``: the installed package's version, looked up only when asked for."""
+
+    def __init__(self, option_strings: Sequence[str], dest: str, **kwargs: object) -> None:
+        super().__init__(option_strings, dest, nargs=0, help="show the version and exit")
+
+    def __call__(self, parser, namespace, values, option_string=None):  # type: ignore[no-untyped-def]
+        from grower import __version__
+
+        print(f"grower {__version__}")
+        parser.exit()
 
 
 class Parser(argparse.ArgumentParser):
@@ -63,7 +71,7 @@ def build_parser() -> argparse.ArgumentParser:
             "risk, backup heater sizing and fuel stock for a cold snap."
         ),
     )
-    parser.add_argument("--version", action="version", version=f"grower {__version__}")
+    parser.add_argument("--version", action=_Version)
     subparsers = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
     common = common_parser()
     for name in COMMANDS:

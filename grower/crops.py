@@ -4,8 +4,8 @@ Crops are data: one TOML file per crop (format in ``crops/README.md``). The ship
 are read first, then the user's own from ``<user config dir>/crops`` and from a directory
 given with ``--crops-dir``; a user file whose ``name`` matches an earlier crop replaces it
 and records which file it overrode. Every temperature is stored in the unit its source
-printed and converted to °C when a file is parsed (`grower.cropfile`, whose ``parse_crop``
-is importable from here too); every value carries its basis.
+printed and converted to °C when a file is parsed (`grower.cropfile.parse_crop`); every
+value carries its basis. `load_crop` looks up one crop and parses only its shipped file.
 
 The alarm threshold for a stage is its damage temperature plus a safety margin
 (`DEFAULT_MARGIN_K`, common practice, no source), unless the grower sets one. Chilling is
@@ -30,7 +30,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass, replace
 from importlib.resources.abc import Traversable
 from pathlib import Path
-from typing import Any, Literal
+from typing import Literal
 
 import platformdirs
 
@@ -240,21 +240,6 @@ def _build_index(crops: Iterable[Crop]) -> dict[str, Crop]:
     return index
 
 
-# ---------------------------------------------------------------- parsing one file
-
-
-def __getattr__(name: str) -> Any:
-    """``grower.crops.parse_crop``: the parser lives in `grower.cropfile`.
-
-    Imported on first use, because `grower.cropfile` imports this module's types.
-    """
-    if name == "parse_crop":
-        from grower.cropfile import parse_crop
-
-        return parse_crop
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-
-
 # ---------------------------------------------------------------- directories
 
 
@@ -303,6 +288,20 @@ def _shipped(directory: str) -> tuple[Crop, ...]:
     return tuple(_read_dir(root, "shipped"))
 
 
+def _layers(
+    crops_dir: str | Path | None, user_dir: str | Path | None | bool
+) -> list[tuple[Path, bool]]:
+    """The user's crop directories in the order they apply, each with "must exist"."""
+    layers: list[tuple[Path, bool]] = []
+    if user_dir is True:
+        layers.append((user_crops_dir(), False))
+    elif user_dir:
+        layers.append((Path(user_dir), False))
+    if crops_dir is not None:
+        layers.append((Path(crops_dir), True))
+    return layers
+
+
 def load_crops(
     crops_dir: str | Path | None = None, *, user_dir: str | Path | None | bool = True
 ) -> CropBook:
@@ -323,14 +322,7 @@ def load_crops(
         ``overrides`` names the file it replaced).
     """
     merged: dict[str, Crop] = {_key(c.name): c for c in _shipped(str(shipped_crops_dir()))}
-    layers: list[tuple[Path, bool]] = []
-    if user_dir is True:
-        layers.append((user_crops_dir(), False))
-    elif user_dir:
-        layers.append((Path(user_dir), False))
-    if crops_dir is not None:
-        layers.append((Path(crops_dir), True))
-    for directory, required in layers:
+    for directory, required in _layers(crops_dir, user_dir):
         if not directory.exists():
             if required:
                 raise InputError(f'"{directory}": no such directory', where="--crops-dir")
@@ -345,6 +337,58 @@ def load_crops(
     book = CropBook(tuple(sorted(merged.values(), key=lambda c: c.name)))
     _ = book._index  # alias clashes are reported at load time
     return book
+
+
+def _raw_names(text: str) -> tuple[str, ...] | None:
+    """The name and aliases a crop file declares, read from its top-level keys (before the
+    first table) without parsing or validating the rest (None when that part is not TOML
+    of the expected shape; the full parse says why)."""
+    import tomllib
+
+    head = re.split(r"^\s*\[", text, maxsplit=1, flags=re.MULTILINE)[0]  # top-level keys only
+    try:
+        doc = tomllib.loads(head)
+    except tomllib.TOMLDecodeError:
+        return None
+    name, aliases = doc.get("name"), doc.get("aliases", [])
+    if not isinstance(name, str) or not isinstance(aliases, list):
+        return None
+    if not all(isinstance(a, str) for a in aliases):
+        return None
+    return (name, *aliases)
+
+
+def load_crop(
+    spec: str, crops_dir: str | Path | None = None, *, user_dir: str | Path | None | bool = True
+) -> tuple[Crop, Stage]:
+    """``"crop:stage"`` → (crop, stage), as ``load_crops(crops_dir, user_dir=...).resolve``
+    gives it, parsing only the one shipped file that names the crop.
+
+    The user's own files are read and checked in full, as `load_crops` does (they are few
+    and written by hand); the shipped ones are only scanned for their names. Anything
+    unusual (an unknown name, a shipped file that does not scan) falls back to
+    `load_crops`, so the errors and suggestions are the same.
+    """
+    from grower.cropfile import parse_crop  # grower.cropfile builds this module's types
+
+    name = spec.partition(":")[0]
+    key = _key(name)
+    root = shipped_crops_dir()
+    shipped = None
+    if root.is_dir():
+        for file in sorted(root.iterdir(), key=lambda f: f.name):
+            if not (file.name.endswith(".toml") and file.is_file()):
+                continue
+            names = _raw_names(file.read_bytes().decode("utf-8", errors="replace"))
+            if names is None:
+                return load_crops(crops_dir, user_dir=user_dir).resolve(spec)
+            if key in {_key(n) for n in names}:
+                shipped = file
+                break
+    if shipped is None or any(d.exists() or req for d, req in _layers(crops_dir, user_dir)):
+        return load_crops(crops_dir, user_dir=user_dir).resolve(spec)
+    crop = parse_crop(shipped.read_bytes().decode("utf-8"), str(shipped), origin="shipped")
+    return crop, crop.stage(spec.partition(":")[2] or None)
 
 
 def find_crop(name: str, book: CropBook | None = None) -> Crop:

@@ -4,12 +4,21 @@ Every mistake in what the user gave us (a house file, a forecast, a crop name, a
 command-line value, an unreachable forecast service) is raised as `InputError` with a
 one-line message that says *what* is wrong and *where*. The command line prints it as
 ``Error: <message>`` on stderr and exits with status 2; nothing else is printed.
+
+The exit statuses live here too, so commands and tests need not import the command line.
 """
 
 from __future__ import annotations
 
 import difflib
 from collections.abc import Iterable
+
+#: the command did its job (or the crop is safe)
+EXIT_OK = 0
+#: bad input: one line on stderr says what and where
+EXIT_INPUT = 2
+#: ``tonight --alert-status``: damage expected
+EXIT_ALERT = 3
 
 
 class InputError(ValueError):

@@ -18,31 +18,26 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from grower import covers, geometry, limits
+from grower import covers, geometry, limits, thermal
 from grower.errors import InputError, did_you_mean, warn
 from grower.site import Site
 from grower.units import parse_quantity
 
 #: floor kinds: volumetric heat capacity of the top layer [J m-3 K-1], thermal
-#: conductivity [W m-1 K-1], and the basis of both.
+#: conductivity [W m-1 K-1], and the basis of both (the table: grower/data/floors.toml)
 FLOORS: dict[str, tuple[float, float, str]] = {
-    # moist soil 2.0–2.4 MJ/m³·K (de Vries 1963 form 1.92·x_min + 2.51·x_org + 4.18·θ); conductivity
-    # of moist loam ≈ 1.2 W/m·K (from memory)
-    "soil": (2.2e6, 1.2, "heat capacity: de Vries (1963) form; conductivity from memory"),
-    "gravel": (1.6e6, 0.9, "from memory"),
-    "concrete": (2.0e6, 1.4, "from memory (ρ ≈ 2300 kg/m³, c ≈ 880 J/kg·K)"),
-    "sand": (1.5e6, 0.6, "from memory (dry sand)"),
+    f.key: (
+        f.heat_capacity_j_m3k,
+        f.conductivity_w_mk,
+        f"heat capacity: {f.basis['heat_capacity']}; conductivity: {f.basis['conductivity']}",
+    )
+    for f in thermal.floors().values()
 }
 
-#: specific heat of thermal-mass materials [J kg-1 K-1]
+#: specific heat of thermal-mass materials [J kg-1 K-1] and its basis (grower/data/mass.toml)
 MASS_MATERIALS: dict[str, tuple[float, str]] = {
-    # liquid water near 5–10 °C: 4.19 kJ/kg·K (IAPWS-95 formulation, value from memory)
-    "water": (4190.0, "IAPWS-95, from memory"),
-    "concrete": (880.0, "from memory"),
-    "stone": (800.0, "from memory"),
-    "steel": (490.0, "from memory"),
-    "wood": (1600.0, "from memory"),
-    "soil": (1100.0, "from memory (moist soil, per kg)"),
+    m.key: (m.specific_heat_j_kgk, m.basis["specific_heat"])
+    for m in thermal.mass_materials().values()
 }
 SOLID_DENSITY_KG_M3 = 2000.0
 WATER_DENSITY_KG_M3 = 1000.0  # near 4–10 °C, within 0.03 % (common practice, no source)
@@ -81,7 +76,13 @@ SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
     },
     "curtain": {"kind": ("text", True), "closed_at_night": ("bool", False)},
     "control": {"vent_temperature": ("temperature", False)},
-    "stock": {"fuel": ("text", False), "on_hand": ("text", False), "price": ("number", False)},
+    "stock": {
+        "fuel": ("text", False),
+        "on_hand": ("text", False),
+        "fill": ("text", False),  # "30%": a tank's gauge reading, a cylinder's share of full
+        "withdrawal": ("text", False),  # "vapour" (default) or "liquid" (with a vaporiser)
+        "price": ("number", False),
+    },
 }
 LIST_SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
     "mass": {
@@ -574,6 +575,8 @@ def _curtain(table: Mapping[str, Any] | None, at) -> Curtain | None:
 
 def _stock(table: Mapping[str, Any], at) -> dict[str, Any]:
     stock = _section(table, SCHEMA["stock"], at("stock"))
+    if stock.get("withdrawal", "vapour") not in ("vapour", "vapor", "liquid"):
+        raise InputError('must be "vapour" or "liquid"', where=at("stock.withdrawal"))
     if "price" in stock and stock["price"] < 0:
         raise InputError(
             f"{stock['price']:g} is a negative price (zero or more)", where=at("stock.price")

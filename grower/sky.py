@@ -26,7 +26,11 @@ Cloud correction (our choice, documented)
     same authors. ``model="unsworth-monteith"`` gives Unsworth & Monteith (1975),
     ``ε = (1 − 0.84·c)·ε₀ + 0.84·c``, the same form with k = 0.84. Published cloud
     terms differ a lot (low cloud is nearly black, cirrus nearly transparent); with no
-    cloud data the caller passes c = 0 (clear), the cautious side, and says so.
+    cloud data the caller passes c = 0 (clear), the cautious side, and says so. Where
+    the forecast says how much of the cloud is low (``low_cloud_fraction``), that part
+    counts with the factor of a 0.5 km base, ``exp(−0.5/8.2) = 0.941``: a full low
+    overcast then sits within about 1 K of the air, where the 2 km factor left it 4–5 K
+    below. Cloud of unknown height keeps the 2 km factor: the colder, cautious sky.
 
 Emissivity is capped at 1 so that the sky is never warmer than the air.
 
@@ -69,6 +73,18 @@ SWINBANK_ROUNDED = 0.0552
 CLOUD_FACTOR_ONE_LAYER = 0.784
 #: Unsworth & Monteith (1975) cloud factor
 CLOUD_FACTOR_UNSWORTH_MONTEITH = 0.84
+#: base height of low cloud (stratus, stratocumulus) taken for the low-cloud term [km]:
+#: low-cloud bases lie below 2 km, stratus often a few hundred metres (WMO International
+#: Cloud Atlas classes; the 0.5 km figure is common practice, no source)
+LOW_CLOUD_BASE_KM = 0.5
+#: scale height of the cloud-base factor exp(−z/8.2 km) of Martin & Berdahl (1984) [km]
+#: (from memory, as for `CLOUD_FACTOR_ONE_LAYER`)
+CLOUD_BASE_SCALE_KM = 8.2
+#: the factor for low cloud: exp(−0.5/8.2) = 0.941; a full low overcast puts the sky
+#: within about 1 K of the air, as the base-height corrections do (Kimball, Idso & Aase
+#: 1982, Water Resour. Res. 18(4):931–936, put a low overcast within 1–2 K of the air —
+#: from memory)
+CLOUD_FACTOR_LOW = float(np.exp(-LOW_CLOUD_BASE_KM / CLOUD_BASE_SCALE_KM))
 
 CloudModel = Literal["one-layer", "unsworth-monteith"]
 _CLOUD_FACTORS: dict[str, float] = {
@@ -163,6 +179,7 @@ def cloudy_emissivity(
     cloud_fraction: ArrayLike,
     *,
     model: CloudModel = "one-layer",
+    low_cloud_fraction: ArrayLike | None = None,
 ) -> NDArray[np.float64]:
     """Sky emissivity under partial cloud: ``ε = ε₀ + (1 − ε₀)·k·c``.
 
@@ -174,7 +191,11 @@ def cloudy_emissivity(
         Fraction of the sky covered by cloud, c [0–1] (cloud cover % / 100; tenths / 10).
     model : {"one-layer", "unsworth-monteith"}
         k = 0.784 (one layer, black cloud base at 2 km; Martin & Berdahl 1984) or
-        k = 0.84 (Unsworth & Monteith 1975).
+        k = 0.84 (Unsworth & Monteith 1975), for cloud of unknown height.
+    low_cloud_fraction : array_like, optional
+        The part of `cloud_fraction` that is low cloud [0–1]: it counts with the factor
+        of a base at 0.5 km, `CLOUD_FACTOR_LOW` = 0.941, the rest with `model`'s k.
+        ``ε = ε₀ + (1 − ε₀)·(k_low·c_low + k·(c − c_low))``.
 
     Returns
     -------
@@ -192,7 +213,13 @@ def cloudy_emissivity(
     if np.any((cloud < 0.0) | (cloud > 1.0)):
         raise ValueError("cloud_fraction must be within 0…1 (a fraction, not a percentage)")
     eps0 = np.minimum(np.asarray(clear_emissivity, dtype=float), 1.0)
-    return eps0 + (1.0 - eps0) * _CLOUD_FACTORS[model] * cloud
+    if low_cloud_fraction is None:
+        return eps0 + (1.0 - eps0) * _CLOUD_FACTORS[model] * cloud
+    low = np.asarray(low_cloud_fraction, dtype=float)
+    if np.any((low < 0.0) | (low > 1.0)):
+        raise ValueError("low_cloud_fraction must be within 0…1")
+    low = np.minimum(low, cloud)
+    return eps0 + (1.0 - eps0) * (CLOUD_FACTOR_LOW * low + _CLOUD_FACTORS[model] * (cloud - low))
 
 
 def sky_temperature_from_emissivity(
@@ -220,6 +247,7 @@ def sky_emissivity(
     hour: ArrayLike | None = None,
     pressure_hpa: ArrayLike | None = None,
     cloud_model: CloudModel = "one-layer",
+    low_cloud_fraction: ArrayLike | None = None,
 ) -> NDArray[np.float64]:
     """Effective sky emissivity [1], capped at 1.
 
@@ -242,7 +270,9 @@ def sky_emissivity(
     eps0 = np.minimum(eps0, 1.0)
     if cloud_fraction is None:
         return np.broadcast_to(eps0, np.broadcast_shapes(eps0.shape, temp.shape)).copy()
-    return cloudy_emissivity(eps0, cloud_fraction, model=cloud_model)
+    return cloudy_emissivity(
+        eps0, cloud_fraction, model=cloud_model, low_cloud_fraction=low_cloud_fraction
+    )
 
 
 def sky_temperature(
@@ -253,6 +283,7 @@ def sky_temperature(
     hour: ArrayLike | None = None,
     pressure_hpa: ArrayLike | None = None,
     cloud_model: CloudModel = "one-layer",
+    low_cloud_fraction: ArrayLike | None = None,
 ) -> NDArray[np.float64]:
     """Effective sky temperature [°C] from air temperature, dew point and cloud.
 
@@ -269,7 +300,9 @@ def sky_temperature(
     pressure_hpa : array_like, optional
         Station pressure [hPa], for the Martin & Berdahl pressure term.
     cloud_model : {"one-layer", "unsworth-monteith"}
-        The cloud correction; see the module notes for the choice.
+        The cloud correction for cloud of unknown height; see the module notes.
+    low_cloud_fraction : array_like, optional
+        Low cloud [0–1], part of `cloud_fraction`: nearly black and warm (base 0.5 km).
 
     Returns
     -------
@@ -288,5 +321,6 @@ def sky_temperature(
         hour=hour,
         pressure_hpa=pressure_hpa,
         cloud_model=cloud_model,
+        low_cloud_fraction=low_cloud_fraction,
     )
     return sky_temperature_from_emissivity(temp_air_c, eps)

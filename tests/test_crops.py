@@ -15,14 +15,15 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from grower.cli import main
+from grower.cropfile import parse_crop
 from grower.crops import (
     BASES,
     DEFAULT_MARGIN_K,
     KINDS,
     CropBook,
     find_crop,
+    load_crop,
     load_crops,
-    parse_crop,
     resolve,
     select_threshold,
     shipped_crops_dir,
@@ -433,6 +434,25 @@ def test_two_user_files_for_one_crop_is_an_error(tmp_path):
     _write(tmp_path, "b.toml", MY_TOMATO)
     with pytest.raises(InputError, match="also defined in"):
         load_crops(tmp_path, user_dir=None)
+
+
+def test_load_crop_finds_what_the_whole_book_finds(book, tmp_path):
+    # the one-file lookup `tonight` and `size` use must agree with the full load for
+    # every name and alias, stage included, and for a user's own file
+    for crop in book.crops:
+        for name in (crop.name, *crop.aliases, crop.name.upper()):
+            got, stage = load_crop(f"{name}:{crop.stages[-1].name}", user_dir=None)
+            assert got == crop and stage == crop.stages[-1]
+    _write(tmp_path / "mine", "tomato.toml", MY_TOMATO)
+    mine, _ = load_crop("tomato", tmp_path / "mine", user_dir=None)
+    assert mine.origin == "user" and mine.overrides is not None
+
+
+def test_load_crop_reports_an_unknown_name_like_the_book(book):
+    with pytest.raises(InputError, match='unknown crop "tomatoe".*did you mean'):
+        load_crop("tomatoe", user_dir=None)
+    with pytest.raises(InputError, match="--crops-dir.*no such directory"):
+        load_crop("tomato", "/nonexistent/crops", user_dir=None)
 
 
 def test_a_missing_crops_dir_is_an_error(tmp_path):

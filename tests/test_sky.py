@@ -146,3 +146,26 @@ def test_misuse_raises_value_error():
         sky.swinbank_emissivity(-300.0)
     with pytest.raises(ValueError, match="model"):
         sky.cloudy_emissivity(0.7, 0.5, model="nonsense")
+
+
+def test_a_low_overcast_sits_within_two_kelvin_of_the_air():
+    # Base-height corrections put a low overcast within about 1–2 K of the air (Kimball,
+    # Idso & Aase 1982, Water Resour. Res. 18(4):931–936 — from memory); cloud of unknown
+    # height keeps the colder 2 km factor, 4–5 K below (the cautious side).
+    for air in (-10.0, 0.0, 10.0):
+        low = float(sky.sky_temperature(air, None, 1.0, low_cloud_fraction=1.0))
+        unknown = float(sky.sky_temperature(air, None, 1.0))
+        assert -2.0 <= low - air < 0.0
+        assert unknown < low
+        assert -5.5 < unknown - air < -3.5
+
+
+def test_low_cloud_counts_only_within_the_total():
+    eps0 = np.array([0.7, 0.7])
+    # a low-cloud share larger than the total is capped at the total
+    assert sky.cloudy_emissivity(eps0, [0.5, 0.5], low_cloud_fraction=[0.5, 0.9])[1] == (
+        pytest.approx(sky.cloudy_emissivity(eps0, [0.5, 0.5], low_cloud_fraction=[0.5, 0.5])[1])
+    )
+    # more of the same cloud low → warmer sky
+    e = sky.cloudy_emissivity(np.full(3, 0.7), np.full(3, 0.8), low_cloud_fraction=[0, 0.4, 0.8])
+    assert e[0] < e[1] < e[2] <= 1.0

@@ -155,8 +155,7 @@ def choose_threshold(args: argparse.Namespace, system: str | None = "metric"):
     limits.check(margin, limits.MARGIN_K, "--margin", shown=args.margin or None)
     if not args.crop:
         return None, None, None, override
-    book = crops.load_crops(args.crops_dir)
-    crop, stage = book.resolve(args.crop)
+    crop, stage = crops.load_crop(args.crop, args.crops_dir)
     return crop, stage, crops.select_threshold(stage, margin, override), override
 
 
@@ -334,5 +333,6 @@ def limit_days(forecast, start, days: int, option: str = "--days"):
     frame = forecast.frame.iloc[first : last + 1]
     if len(frame) < 2:
         return forecast
-    kept = f"{option} {days}: the forecast's {len(index):,} rows cut to the {len(frame):,} of the {days} day(s) from the start"
+    label = f"{option} {days}:" if option == "--days" else option
+    kept = f"{label} the forecast's {len(index):,} rows cut to the {len(frame):,} of the {days} day(s) from the start"
     return dataclasses.replace(forecast, frame=frame, warnings=(*forecast.warnings, kept))

@@ -19,9 +19,10 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
     p.add_argument("files", nargs="+", metavar="FILE", help="house file(s) (TOML)")
     p.add_argument(
         "--wind",
-        default="0 m/s",
+        default="15 mph",
         metavar="V",
-        help="wind speed, e.g. '5 m/s' or '15 mph' (default calm)",
+        help="wind speed, e.g. '5 m/s' or '0 mph' (default 15 mph, the wind the tables' "
+        "U-values hold at; K in calm air is shown beside)",
     )
     p.set_defaults(run=run)
 

@@ -6,6 +6,11 @@ import argparse
 
 from grower.commands._options import add_crop_options, add_forecast_options, temperature
 
+#: a forecast file is run for at most this many days unless --days says otherwise
+FILE_DAYS_DEFAULT = 62
+#: the most days --days takes for a file (a season: `grower winters` runs many)
+FILE_DAYS_MAX = 366
+
 
 def register(subparsers, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
@@ -36,6 +41,25 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         help='fuel on hand, e.g. "320 gal", "900 L", "3 100-lb cylinders"',
     )
     p.add_argument(
+        "--fill",
+        metavar="PCT",
+        help="how full the containers are now, e.g. 30%% (a tank's gauge reading; for "
+        "cylinders the share of a full fill); default full, or [stock] fill",
+    )
+    p.add_argument(
+        "--reserve",
+        metavar="PCT",
+        default="30%",
+        help="refill level to order at, read like --fill (default 30%%; the trade orders at 20–30%%)",
+    )
+    p.add_argument(
+        "--lead-time",
+        type=float,
+        default=0.0,
+        metavar="DAYS",
+        help="days from ordering to delivery (default 0)",
+    )
+    p.add_argument(
         "--price",
         type=float,
         metavar="P",
@@ -49,9 +73,12 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
     p.add_argument(
         "--days",
         type=int,
-        default=16,
+        default=None,
         metavar="N",
-        help="days to plan from the start: of the live forecast or of a file (1–16, default 16)",
+        help=(
+            "days to plan from the start: of the live forecast (1–16, default 16) or of a "
+            "forecast file (1–366, default the file's, up to 62)"
+        ),
     )
     p.add_argument(
         "--model",
@@ -84,8 +111,11 @@ def run(args: argparse.Namespace) -> int:
     from grower.report import common
     from grower.report import stock as report
 
-    if not 1 <= args.days <= 16:
-        raise InputError(f"{args.days} must be within 1–16", where="--days")
+    if args.days is not None:
+        top = FILE_DAYS_MAX if args.forecast else 16
+        if not 1 <= args.days <= top:
+            what = "a forecast file" if args.forecast else "the live forecast"
+            raise InputError(f"{args.days} must be within 1–{top} for {what}", where="--days")
     if args.low:
         raise InputError(
             "a cold spell needs a multi-day forecast: give --forecast FILE or use the live forecast",
@@ -114,11 +144,29 @@ def run(args: argparse.Namespace) -> int:
                     f"{value:.1f} °C is below the alarm temperature of {what}, {alarm:.1f} °C",
                     where=option,
                 )
-    if args.price is not None and not args.price >= 0:
+    if args.price is not None and not 0 <= args.price < float("inf"):
         raise InputError("must be zero or more", where="--price")
-    forecast = get_forecast(args, h, days=args.days)
+    if not 0 <= args.lead_time <= 365:
+        raise InputError(f"{args.lead_time:g} days must be within 0–365", where="--lead-time")
+    from grower import fuels
+
+    reserve = fuels.parse_fill(args.reserve, "--reserve")
+    crop_alarm = None
+    if alarm is not None:
+        label = f"{crop.name} ({stage.name})" if crop else "your --threshold"
+        crop_alarm = (label, alarm)
+    forecast = get_forecast(args, h, days=args.days or 16)
     start = start_time(args, h, forecast)
-    forecast = limit_days(forecast, start, args.days)  # a file too: linear in its rows
+    # a file too: at most --days (else FILE_DAYS_DEFAULT) days are run, so a file of
+    # years of hours costs one read, not a long simulation
+    forecast = limit_days(
+        forecast,
+        start,
+        args.days or FILE_DAYS_DEFAULT,
+        "--days"
+        if args.days
+        else f"{FILE_DAYS_DEFAULT} days, a file's default (--days up to {FILE_DAYS_MAX}):",
+    )
 
     progress = None
     bar = None
@@ -140,11 +188,15 @@ def run(args: argparse.Namespace) -> int:
             night_setpoint_c=night,
             fuel_name=args.fuel,
             on_hand_text=args.on_hand,
+            fill_text=args.fill,
             price=args.price,
             unit=args.fuel_unit,
             kind=args.model,
             start=start,
             use_calibration=not args.no_calibration,
+            reserve_pct=reserve,
+            lead_time_days=args.lead_time,
+            crop=crop_alarm,
             progress=progress,
         )
     finally:

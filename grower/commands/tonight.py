@@ -54,7 +54,6 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from grower import house, limits
-    from grower.cli import EXIT_ALERT
     from grower.commands._options import (
         check_house,
         choose_threshold,
@@ -63,7 +62,7 @@ def run(args: argparse.Namespace) -> int:
         reading_system,
         start_time,
     )
-    from grower.errors import InputError
+    from grower.errors import EXIT_ALERT, InputError
     from grower.plans import tonight
     from grower.report import common
     from grower.report import tonight as report

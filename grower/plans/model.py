@@ -41,10 +41,11 @@ class Model:
     kind: ModelKind
     conductances: Conductances
     capacities: Capacities
-    k_w_per_k: float  # K = K_c + K_r (after calibration)
-    k_conduction_w_per_k: float
-    k_sky_w_per_k: float
-    c_j_per_k: float  # lumped total (after calibration)
+    k_w_per_k: float  # K to T_eff: outside air, sky excess (lumped: and deep ground)
+    k_conduction_w_per_k: float  # the part of K that ends at the outside air
+    k_sky_w_per_k: float  # the part that ends at the sky (the clear night's excess)
+    c_j_per_k: float  # two-node: all of C; lumped: the one node's (after calibration)
+    k_ground_w_per_k: float  # lumped: the node's path to the deep ground; two-node: 0 (on the mass)
     calibrated: bool
     network: object  # grower.solver.Network
 
@@ -106,7 +107,7 @@ def calibration_ratio(house: House, use: bool = True) -> float | None:
     cal = calibration_of(house, use)
     if cal is None:
         return None
-    return cal["k_w_per_k"] / network.describe(house).k_w_per_k
+    return cal["k_w_per_k"] / network.describe(house).calm.total_w_per_k
 
 
 def calibrated_heater_output(house: House, use: bool = True) -> float | None:
@@ -130,17 +131,19 @@ def build(
 ) -> Model:
     """Conductances, capacities and the solver network of `house`.
 
-    Two-node: the air node (air, light structure, canopy) conducts to the outside air
-    through K_c (cover, air exchange, perimeter) and to the mass node through h·A; the
-    mass node (floor active layer, water, benches) radiates to the sky through K_r and
-    conducts to the deep ground through k/d·A. It is the floor and the crop, not the
-    air, that see the sky: with K_r on the air node the air ran 2–3 K below the outside
-    air all night, where measured plastic tunnels end the night on average 1.3 °C above
-    it (Savage 1980, *Agrochemophysica* 12:5–13). Lumped: one node holding all of C, to
-    outside air and sky together, i.e. K = K_c + K_r to T_eff (the handbook model; the
-    deep ground is left out). A calibration in the house file replaces K and C; in the two-node model
-    every conductance is scaled by K_fit/K and every capacity by C_fit/C, and the air–mass
-    coupling further by a two-node fit's ``coupling_scale``.
+    Two-node (see `grower.network`): the air node (air, light structure, canopy) loses
+    K_c − K_fs − K_cs to the outside air and K_cs (the cover faces' excess) to the sky,
+    and is coupled to the mass node through g; the mass node (floor active layer, water,
+    benches) radiates K_r to the sky through the cover and conducts k/d·A to the deep
+    ground. It is the floor and the crop, not the air, that see the sky: with K_r on the
+    air node the air ran 2–3 K below the outside air all night, where measured plastic
+    tunnels end the night on average 1.3 °C above it (Savage 1980, *Agrochemophysica*
+    12:5–13). Lumped: `grower.network.lumped_reduction` of the same network, one node to
+    outside air, sky and deep ground. A calibration in the house file replaces K and C;
+    every conductance is scaled by K_fit/K and every capacity by C_fit/C, and the
+    air–mass coupling further by a two-node fit's ``coupling_scale``.
+
+    `air_temp_c` is about the outside air: it linearises the cover faces' radiation.
     """
     from grower import solver
 
@@ -148,36 +151,52 @@ def build(
         house,
         wind_m_s=wind_m_s,
         curtain_closed=curtain_closed,
-        air_temp_c=air_temp_c,
         mean_radiant_temp_c=mean_radiant_temp_c,
+        cover_temp_c=air_temp_c,
     )
     caps = network.capacities(house, rho_cp_j_m3k=cond.rho_cp_j_m3k)
-    k_c, k_r = cond.conduction_w_per_k, cond.sky_w_per_k
-    c_total = caps.total_j_per_k
     cal = calibration_of(house, use_calibration, kind)
     k_scale = c_scale = 1.0
-    if cal:
-        k_scale = cal["k_w_per_k"] / (k_c + k_r)
-        c_scale = cal["c_j_per_k"] / c_total
-    k_c, k_r = k_c * k_scale, k_r * k_scale
     if kind == "lumped":
+        red = network.lumped_reduction(cond, caps)
+        if cal:
+            k_scale = cal["k_w_per_k"] / (
+                red.outside_w_per_k + red.sky_w_per_k + red.deep_ground_w_per_k
+            )
+            c_scale = cal["c_j_per_k"] / red.capacitance_j_per_k
+        k_out, k_sky = red.outside_w_per_k * k_scale, red.sky_w_per_k * k_scale
         net = solver.Network(
-            capacitance_j_per_k=np.array([c_total * c_scale]),
+            capacitance_j_per_k=np.array([red.capacitance_j_per_k * c_scale]),
             coupling_w_per_k=np.zeros((1, 1)),
-            boundary_w_per_k=np.array([[k_c, k_r, 0.0]]),
+            boundary_w_per_k=np.array([[k_out, k_sky, red.deep_ground_w_per_k * k_scale]]),
             node_names=("air",),
             boundary_names=BOUNDARIES,
         )
+        c_model = red.capacitance_j_per_k * c_scale
+        k_ground = red.deep_ground_w_per_k * k_scale
     else:
+        if cal:
+            k_scale = cal["k_w_per_k"] / cond.total_w_per_k
+            c_scale = cal["c_j_per_k"] / caps.total_j_per_k
+        k_out = cond.outside_w_per_k * k_scale
+        k_sky = cond.sky_w_per_k * k_scale
         g = caps.air_mass_w_per_k * k_scale * (cal.get("coupling_scale", 1.0) if cal else 1.0)
         net = solver.Network(
             capacitance_j_per_k=np.array([caps.air_j_per_k, caps.mass_j_per_k]) * c_scale,
             coupling_w_per_k=np.array([[0.0, g], [g, 0.0]]),
-            boundary_w_per_k=np.array([[k_c, 0.0, 0.0], [0.0, k_r, caps.ground_w_per_k * k_scale]]),
+            boundary_w_per_k=np.array(
+                [
+                    [k_out, cond.cover_sky_w_per_k * k_scale, 0.0],
+                    [0.0, cond.floor_sky_w_per_k * k_scale, caps.ground_w_per_k * k_scale],
+                ]
+            ),
             node_names=("air", "mass"),
             boundary_names=BOUNDARIES,
         )
-    return Model(kind, cond, caps, k_c + k_r, k_c, k_r, c_total * c_scale, cal is not None, net)
+        c_model = caps.total_j_per_k * c_scale
+        k_ground = 0.0
+    k_total = k_out + k_sky + k_ground
+    return Model(kind, cond, caps, k_total, k_out, k_sky, c_model, k_ground, cal is not None, net)
 
 
 @dataclass(frozen=True)
@@ -211,8 +230,18 @@ class Boundary:
         """The same night `delta_k` warmer (negative: colder) outside and in the sky."""
         out = self.outside_c + delta_k
         skyc = self.sky_c + delta_k
-        eff = network.effective_outside(model.k_conduction_w_per_k, model.k_sky_w_per_k, out, skyc)
+        eff = effective_temperature(model, out, skyc)
         return replace(self, outside_c=out, sky_c=skyc, effective_c=eff)
+
+
+def effective_temperature(model: Model, outside_c, sky_c) -> np.ndarray:
+    """T_eff [°C]: the mean of the temperatures the air node loses heat to, weighted by
+    their conductances (outside air, sky; and the deep ground in the lumped model)."""
+    out = np.asarray(outside_c, dtype=float)
+    num = model.k_conduction_w_per_k * out + model.k_sky_w_per_k * np.asarray(sky_c, dtype=float)
+    if model.k_ground_w_per_k > 0:
+        num = num + model.k_ground_w_per_k * model.capacities.deep_ground_c
+    return num / model.k_w_per_k
 
 
 def grid(
@@ -251,9 +280,7 @@ def boundary(
     w = weather.prepare_boundary(
         forecast, at_s - at_s[0], start=times[0], pressure_hpa=pressure_hpa
     )
-    eff = network.effective_outside(
-        model.k_conduction_w_per_k, model.k_sky_w_per_k, w.temperature_c, w.sky_c
-    )
+    eff = effective_temperature(model, w.temperature_c, w.sky_c)
     sw = w.shortwave_w_m2
     sun = sw * house.roof_material.solar_transmittance * house.floor_area_m2 * SUN_SENSIBLE_FRACTION
     cloud = w.cloud_fraction if not w.assumed_clear else np.full(len(at_s), np.nan)
@@ -278,14 +305,28 @@ def plant_offset(
 ) -> np.ndarray:
     """How far leaves run below the air [K]: 2 K × clear share × cover IR share, at night.
 
-    See `LEAF_BELOW_AIR_CLEAR_K`. A closed energy curtain blocks most of the sky.
+    See `LEAF_BELOW_AIR_CLEAR_K`. The cover's share is the one the network uses (with its
+    inside condensate, `grower.network.CONDENSATION_LW_FACTOR`); a closed energy curtain
+    blocks most of the sky.
     """
-    tau = house.roof_material.longwave_transmittance
+    tau = house.roof_material.longwave_transmittance * network.CONDENSATION_LW_FACTOR
     if house.curtain and model.conductances.curtain_closed:
         tau *= house.curtain.curtain.longwave_transmittance
     clear = 1.0 - np.clip(cloud_fraction, 0.0, 1.0)
     night = shortwave_w_m2 < DAYLIGHT_W_M2
     return np.where(night, LEAF_BELOW_AIR_CLEAR_K * clear * tau, 0.0)
+
+
+def initial_state(model: Model, air_c: float, mass_c: float) -> np.ndarray:
+    """The solver's starting node temperatures from the air's and the mass's [°C].
+
+    Two-node: both as given. Lumped: the one node starts at the air's temperature; the
+    mass's own reading has no node to go to (the lumped model cannot use a soil reading,
+    which is one reason the two-node model is the default).
+    """
+    if model.kind == "lumped":
+        return np.array([air_c], dtype=float)
+    return np.array([air_c, mass_c], dtype=float)
 
 
 def quasi_steady_air(
@@ -298,10 +339,11 @@ def quasi_steady_air(
     the two-node model would, so that the two models start alike.
     """
     if model.kind == "lumped":
-        k_c = model.k_conduction_w_per_k
+        c = model.conductances
+        h = np.array([c.outside_w_per_k, c.cover_sky_w_per_k, 0.0])
         g = model.capacities.air_mass_w_per_k
-        num = k_c * float(boundary_c[0, 0]) + float(gains_w[0, 0]) + g * mass_c
-        return num / (k_c + g)
+        num = float(h @ boundary_c[0]) + float(gains_w[0, 0]) + g * mass_c
+        return num / (float(h.sum()) + g)
     net = model.network
     h = np.asarray(net.boundary_w_per_k, dtype=float)[0]
     g = float(np.asarray(net.coupling_w_per_k)[0, 1])

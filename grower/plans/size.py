@@ -11,9 +11,10 @@ ignored: they help for a few hours, not through a long cold night.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from typing import Any
 
-from grower import fuels, network, sky
-from grower.house import House, _at
+from grower import fuels, network, safety, sky, vaporisation
+from grower.house import House
 from grower.units import W_PER_BTU_H
 
 #: heater output over the design heat loss (common practice, no source: sizing methods
@@ -63,9 +64,10 @@ class SizeResult:
     k_w_per_k: float
     k_conduction_w_per_k: float
     k_sky_w_per_k: float
-    heat_loss_w: float
-    conduction_loss_w: float
-    sky_loss_w: float
+    heat_loss_w: float  # the design heat loss: handbook + wind + sky allowances
+    handbook_loss_w: float  # the trade's figure (tables' U, air exchange, perimeter)
+    wind_allowance_w: float  # the design wind against the tables' 15 mph (may be < 0)
+    sky_allowance_w: float  # the clear sky's excess below the outside air
     curtain_saving_w: float | None  # less heat with the curtain drawn, if there is one
     safety_factor: float
     recommended_output_w: float
@@ -80,6 +82,24 @@ class SizeResult:
     installed_holds: bool | None
     cautions: tuple[str, ...]
     notes: tuple[str, ...]
+    vapour: Any = None  # grower.vaporisation.VapourCheck for the recommended input
+
+
+@dataclass(frozen=True)
+class DesignLoss:
+    """The steady heat loss at the design condition [W], and its parts."""
+
+    conductances: network.Conductances
+    sky_c: float
+    effective_outside_c: float
+    handbook_w: float  # Σ U·A·ΔT (tables as published) + air exchange + perimeter
+    wind_w: float  # what the design wind adds to (or takes from) the handbook figure
+    sky_w: float  # what the clear sky adds: K_s·(T_out − T_sky)
+    k_ratio: float
+
+    @property
+    def total_w(self) -> float:
+        return self.handbook_w + self.wind_w + self.sky_w
 
 
 def design_heat_loss(
@@ -90,37 +110,35 @@ def design_heat_loss(
     *,
     curtain_closed: bool,
     k_ratio: float = 1.0,
-) -> tuple[network.Conductances, float, float, float]:
-    """K, T_sky, T_eff and Q = K·(T_hold − T_eff) at the design condition.
+) -> DesignLoss:
+    """Q = K_c·(T_hold − T_out) + K_s·(T_out − T_sky) at the design condition.
 
-    `k_ratio` scales every conductance (a calibration's K_fit / K_geometry).
+    The steady state of the two-node network with the deep ground left out (it helps for
+    hours, not through a long cold night): the trade's conductance at the design wind
+    times the difference to outside air, plus the clear sky's excess below the outside
+    air (see `grower.network`). `k_ratio` scales every conductance (a calibration).
     """
     t_sky = float(sky.swinbank_sky_temperature(design_outside_c))
     cond = network.conductances(
         house,
         wind_m_s=wind_m_s,
         curtain_closed=curtain_closed,
-        air_temp_c=design_outside_c,
         mean_radiant_temp_c=(hold_c + t_sky) / 2.0,
+        cover_temp_c=design_outside_c,
     )
-    if k_ratio != 1.0:
-        cond = replace(
-            cond,
-            surfaces=tuple(
-                replace(x, u_w_m2k=x.u_w_m2k * k_ratio, ua_w_per_k=x.ua_w_per_k * k_ratio)
-                for x in cond.surfaces
-            ),
-            cover_w_per_k=cond.cover_w_per_k * k_ratio,
-            infiltration_w_per_k=cond.infiltration_w_per_k * k_ratio,
-            perimeter_w_per_k=cond.perimeter_w_per_k * k_ratio,
-            sky_w_per_k=cond.sky_w_per_k * k_ratio,
-        )
-    t_eff = float(
-        network.effective_outside(
-            cond.conduction_w_per_k, cond.sky_w_per_k, design_outside_c, t_sky
-        )
+    dt = hold_c - design_outside_c
+    k_c, k_s = cond.conduction_w_per_k * k_ratio, cond.sky_w_per_k * k_ratio
+    handbook = network.handbook_conductance(house) * dt
+    t_eff = float(network.effective_outside(k_c - k_s, k_s, design_outside_c, t_sky))
+    return DesignLoss(
+        conductances=cond,
+        sky_c=t_sky,
+        effective_outside_c=t_eff,
+        handbook_w=handbook,
+        wind_w=k_c * dt - handbook,
+        sky_w=k_s * (design_outside_c - t_sky),
+        k_ratio=k_ratio,
     )
-    return cond, t_sky, t_eff, cond.total_w_per_k * (hold_c - t_eff)
 
 
 def combustion_air_openings(input_w: float) -> dict[str, float]:
@@ -183,34 +201,36 @@ def size(
     from grower.plans import model as hm
 
     ratio = hm.calibration_ratio(house, use_calibration) or 1.0
-    cond, t_sky, t_eff, loss = design_heat_loss(
+    design = design_heat_loss(
         house, design_outside_c, hold_c, wind_m_s, curtain_closed=False, k_ratio=ratio
     )
+    cond = design.conductances
     saving = None
     if house.curtain:
-        _, _, _, loss_closed = design_heat_loss(
+        closed = design_heat_loss(
             house, design_outside_c, hold_c, wind_m_s, curtain_closed=True, k_ratio=ratio
         )
-        saving = loss - loss_closed
-    loss = max(loss, 0.0)
-    fuel_key = fuel_name or (house.heaters[0].fuel if house.heaters else "propane")
-    fuel = _at(fuels.get_fuel, fuel_key, "--fuel")
-    if appliance_name is None and house.heaters and house.heaters[0].fuel == fuel.name:
-        appliance_name = house.heaters[0].appliance
-    appliance = _at(fuels.appliance_for, fuel, "--appliance", appliance_name)
+        saving = design.total_w - closed.total_w
+    loss = max(design.total_w, 0.0)
+    source = fuels.heat_source(house, fuel_name, appliance_name)
+    fuel, appliance = source.fuel, source.appliance
     output = loss * safety_factor
-    inp = output / appliance.efficiency
+    inp = output / source.efficiency
     per_hour = fuels.fuel_per_hour(inp, fuel)
     electric = fuel.name == "electricity"
-    units = unit_choices(inp, electric, appliance.efficiency, loss)
+    units = unit_choices(inp, electric, source.efficiency, loss)
     air = {} if electric else combustion_air_openings(inp)
     installed = house.heater_output_w
     notes = [
-        "clear night sky at the design temperature (Swinbank 1963, no dew point)",
-        "heat stored in soil and water ignored (it helps for hours, not a whole cold night)",
-        "U-values and air exchange raised for wind above 15 mph (6.7 m/s)"
-        if wind_m_s > network.WIND_REFERENCE_M_S
-        else "U-values are handbook winter values; wind at or below 15 mph adds nothing",
+        "the handbook figure is Σ U·A·ΔT with the tables' U-values (which hold at a 15 mph "
+        "wind) + air exchange + perimeter, as heating bulletins size it",
+        "clear night sky at the design temperature (Swinbank 1963, no dew point): the "
+        "U-values already count radiation to surroundings at the outside air temperature; "
+        "grower adds only the sky's excess below it",
+        "heat stored in soil and water and heat from the deep ground ignored (they help for "
+        "hours, not a whole cold night)",
+        "outside films at the design wind: stronger wind than 15 mph (6.7 m/s) adds, calmer "
+        "takes away; air exchange raised above 15 mph",
     ]
     if house.curtain:
         notes.append("energy curtain taken as open (cautious); drawn, it saves the amount shown")
@@ -228,18 +248,19 @@ def size(
         hold_c=hold_c,
         hold_basis=hold_basis,
         wind_m_s=wind_m_s,
-        sky_c=t_sky,
-        effective_outside_c=t_eff,
-        k_w_per_k=cond.total_w_per_k,
-        k_conduction_w_per_k=cond.conduction_w_per_k,
-        k_sky_w_per_k=cond.sky_w_per_k,
+        sky_c=design.sky_c,
+        effective_outside_c=design.effective_outside_c,
+        k_w_per_k=cond.total_w_per_k * ratio,
+        k_conduction_w_per_k=cond.outside_w_per_k * ratio,
+        k_sky_w_per_k=cond.sky_w_per_k * ratio,
         heat_loss_w=loss,
-        conduction_loss_w=max(cond.conduction_w_per_k * (hold_c - design_outside_c), 0.0),
-        sky_loss_w=max(cond.sky_w_per_k * (hold_c - t_sky), 0.0),
+        handbook_loss_w=max(design.handbook_w, 0.0),
+        wind_allowance_w=design.wind_w,
+        sky_allowance_w=max(design.sky_w, 0.0),
         curtain_saving_w=saving,
         safety_factor=safety_factor,
         recommended_output_w=output,
-        efficiency=appliance.efficiency,
+        efficiency=source.efficiency,
         appliance=appliance.label,
         recommended_input_w=inp,
         fuel=fuel,
@@ -248,6 +269,9 @@ def size(
         combustion_air_in2=air,
         installed_output_w=installed,
         installed_holds=(installed >= loss) if house.heaters else None,
-        cautions=fuels.cautions(fuel, appliance, inp),
+        cautions=safety.cautions(fuel, appliance, inp),
         notes=tuple(notes),
+        vapour=vaporisation.house_check(
+            house, replace(source, input_w=inp), design_outside_c, design_fill_pct=30.0
+        ),
     )

@@ -39,7 +39,12 @@ def house_json(s: HouseSummary) -> dict[str, Any]:
         "air_changes_per_hour": k.air_changes_per_hour,
         "perimeter_w_per_k": k.perimeter_w_per_k,
         "sky_w_per_k": k.sky_w_per_k,
+        "floor_sky_w_per_k": k.floor_sky_w_per_k,
+        "cover_sky_w_per_k": k.cover_sky_w_per_k,
         "conduction_w_per_k": k.conduction_w_per_k,
+        "handbook_k_w_per_k": s.handbook_w_per_k,
+        "calm_k_w_per_k": s.calm.total_w_per_k,
+        "time_scales_h": dict(zip(("air", "mass"), s.time_scales_h, strict=True)),
         "curtain_closed": k.curtain_closed,
         "wind_m_s": k.wind_m_s,
         "capacity_j_per_k": {
@@ -117,14 +122,6 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
         "",
         k.perimeter_w_per_k,
     )
-    tau = h.roof_material.longwave_transmittance
-    row(
-        "sky radiation",
-        f"clear sky, roof passes {tau:.0%} IR",
-        _num(show_area(h.floor_area_m2, system).value),
-        "",
-        k.sky_w_per_k,
-    )
     table.add_section()
     table.add_row(
         "[bold]total K[/bold]",
@@ -143,7 +140,8 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
     cap.add_column("MJ/K", justify="right")
     cap.add_row("air, structure and canopy (air node)", f"{c.air_j_per_k / 1e6:.2f}")
     cap.add_row(
-        f"floor, top {10:d} cm of {h.floor_kind} (mass node)", f"{c.soil_j_per_k / 1e6:.2f}"
+        f"floor, top {c.active_layer_m * 100:.0f} cm of {h.floor_kind} (mass node)",
+        f"{c.soil_j_per_k / 1e6:.2f}",
     )
     if c.water_j_per_k:
         cap.add_row("water (mass node)", f"{c.water_j_per_k / 1e6:.2f}")
@@ -158,8 +156,14 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
         f"{_num(c.ground_w_per_k)} W/K at {deep.text(0)}"
         + (" (assumed; set \\[floor] deep_ground_temperature)" if c.deep_ground_assumed else "")
     )
+    tau = h.roof_material.longwave_transmittance
+    fast, slow = s.time_scales_h
     console.print(
-        "Calm, clear night. U-values are handbook values at winter design wind; "
-        "they are raised above it (--wind)."
+        f"At {k.wind_m_s:.1f} m/s wind (the tables' U-values hold at 15 mph); in calm air K = "
+        f"{_num(show_conductance(s.calm.total_w_per_k, system).value)} {ua_unit}. "
+        f"A clear night adds {_num(show_conductance(k.sky_w_per_k, system).value)} {ua_unit} per "
+        f"{'°F' if system == 'us' else 'kelvin'} of sky below the outside air (roof passes "
+        f"{tau:.0%} of thermal IR; cover faces {_num(show_conductance(k.cover_sky_w_per_k, system).value)}). "
+        f"The air settles in {fast * 60:.0f} min, the floor and water in {slow:.1f} h."
     )
     console.print()

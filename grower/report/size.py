@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from grower.plans.size import SizeResult
+from grower.report import vapour as vapour_report
 from grower.report.common import plain, render_cautions
 from grower.units import (
     W_PER_BTU_H,
@@ -29,8 +30,9 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "k_conduction_w_per_k": r.k_conduction_w_per_k,
         "k_sky_w_per_k": r.k_sky_w_per_k,
         "heat_loss_w": r.heat_loss_w,
-        "conduction_loss_w": r.conduction_loss_w,
-        "sky_loss_w": r.sky_loss_w,
+        "handbook_loss_w": r.handbook_loss_w,
+        "wind_allowance_w": r.wind_allowance_w,
+        "sky_allowance_w": r.sky_allowance_w,
         "curtain_saving_w": r.curtain_saving_w,
         "safety_factor": r.safety_factor,
         "recommended_output_w": r.recommended_output_w,
@@ -59,6 +61,7 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "installed_holds": r.installed_holds,
         "notes": list(r.notes),
         "cautions": list(r.cautions),
+        **({} if r.vapour is None else vapour_report.fields(r.vapour)),
     }
 
 
@@ -89,14 +92,18 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     table.add_column(style="dim")
     table.add_column(justify="right")
     table.add_row(
-        "loss to the outside air (cover, air exchange, perimeter)",
-        power_text(r.conduction_loss_w, system),
+        "handbook heat loss (Σ U·A·ΔT + air exchange + perimeter)",
+        power_text(r.handbook_loss_w, system),
     )
-    table.add_row("loss by radiation to the clear sky", power_text(r.sky_loss_w, system))
+    sign = "+" if r.wind_allowance_w >= 0 else "−"
     table.add_row(
-        f"design heat loss  K·(T_hold − T_eff), K = {r.k_w_per_k:,.0f} W/K, T_eff = {t(r.effective_outside_c)}",
-        f"[bold]{power_text(r.heat_loss_w, system)}[/bold]",
+        f"{sign} wind {show_speed(r.wind_m_s, system).text(0)} against the tables' 15 mph",
+        power_text(abs(r.wind_allowance_w), system),
     )
+    table.add_row(
+        f"+ clear sky at {t(r.sky_c)}, below the outside air", power_text(r.sky_allowance_w, system)
+    )
+    table.add_row("= design heat loss", f"[bold]{power_text(r.heat_loss_w, system)}[/bold]")
     table.add_row(
         f"× safety factor {r.safety_factor:g}", power_text(r.recommended_output_w, system)
     )
@@ -145,6 +152,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
             f"Installed heat: {power_text(r.installed_output_w, system)} output — {verdict} "
             f"(design loss {power_text(r.heat_loss_w, system)})."
         )
+    vapour_report.render(console, r.vapour, system)
     console.print()
     for n in r.notes:
         plain(console, f"· {n}", "dim")

@@ -32,16 +32,18 @@ The thermostat is the one nonlinearity. Modes (per member): ``FLOAT`` (heater of
 by a heater power in ``[0, q_max_w]``), ``VENT`` (air held at the vent temperature, excess
 heat removed). While a mode holds, a run of whole steps is a linear recurrence, computed
 for many steps at once; a step in which the mode changes is split at the exact switching
-instants (in Python floats where only one member switches there: numpy's per-call
-overhead would dominate). Setpoint and vent temperature are piecewise constant, the value
-at a step's start.
+instants (in Python floats: numpy's per-call overhead would dominate on such tiny
+arrays). Members are independent, so an ensemble runs the same machine per member.
+Setpoint and vent temperature are piecewise constant, the value at a step's start.
 
-Modules: `network` (the network, its modal decomposition), `stepping` (phi functions,
-step tables, recurrences), `problem` (input validation, modal forcing), `explin` and
-`scalar` (the exact solution inside a step: roots and extrema, for arrays and for one
-member), `results`, `freefloat`, `analysis` (crossings, minima, hours below), `modes`,
-`runs` (the thermostat's mode machine; `serial` runs few members one at a time, `split`
-splits switching steps for many at once), `control` (`thermostat`, `hold`).
+Reading order: `network` (the network and its public modal solution, `Modes`),
+`stepping` (phi functions, step tables, the recurrence of whole steps), `problem` (input
+validation, modal forcing), `freefloat` (the free run: one recurrence per mode),
+`explin` (the exact solution inside a step as arrays: roots and extrema), `analysis`
+(crossings, minima, hours below), then the thermostat: `modes` (the four modes), `runs`
+(a run's inputs and results), `serial` (the one mode machine, a member at a time: strides
+of whole steps in one mode) and `scalar` (the steps in which the mode changes, split at
+the exact instants), `control` (`thermostat`, `hold`). `results` holds the dataclasses.
 A raise of the setpoint with an unlimited heater, or a vent temperature below the air,
 moves the air node at once (an impulse of heat or of vent removal, counted in the
 energies; temperatures are stored as the value just before such a jump).
@@ -68,7 +70,7 @@ from .analysis import analyse
 from .control import hold, thermostat
 from .freefloat import first_crossing, free_float
 from .modes import FLOAT, FULL, HOLD, MODE_NAMES, VENT
-from .network import Network, lumped
+from .network import Modes, Network, lumped, modal_decomposition
 from .results import Crossing, HoldResult, Switches, Trajectory
 
 __all__ = [
@@ -79,6 +81,7 @@ __all__ = [
     "VENT",
     "Crossing",
     "HoldResult",
+    "Modes",
     "Network",
     "Switches",
     "Trajectory",
@@ -87,5 +90,6 @@ __all__ = [
     "free_float",
     "hold",
     "lumped",
+    "modal_decomposition",
     "thermostat",
 ]

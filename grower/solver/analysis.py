@@ -59,7 +59,7 @@ def _pieces(tr: Trajectory) -> _Pieces:
 
 def _float_el(tr, member, step, s0, w, x0, q, weight, g0, e1):  # type: ignore[no-untyped-def]
     """_ExpLin of ``weight . z`` for float pieces (full network, heater q)."""
-    prob, full = tr.problem, tr.network._full
+    prob, full = tr.problem, tr.network.modes
     m = tr.network.n_boundaries
     bk = prob.bt[:, member % prob.bt.shape[1], step].T
     db = prob.bt[:, member % prob.bt.shape[1], step + 1].T - bk
@@ -71,7 +71,7 @@ def _float_el(tr, member, step, s0, w, x0, q, weight, g0, e1):  # type: ignore[n
 
 def _clamp_el(tr, member, step, s0, w, x0, tc, weight, g0, e1):  # type: ignore[no-untyped-def]
     """_ExpLin of ``weight . z_red`` for pieces with the air held at tc."""
-    prob, red = tr.problem, tr.network._red
+    prob, red = tr.problem, tr.network.held_modes
     m = tr.network.n_boundaries
     bk = prob.brt[:, member % prob.brt.shape[1], step].T
     db = prob.brt[:, member % prob.brt.shape[1], step + 1].T - bk
@@ -151,7 +151,7 @@ def analyse(
     h = prob.h
     pcs = _pieces(tr)
     doff = np.diff(off, axis=1) / h  # (Mo, N-1)
-    full = net._full  # type: ignore[attr-defined]
+    full = net.modes
     m = net.n_boundaries
     # whole steps in a float mode: bound the curvature, analyse the doubtful ones
     mode = tr.mode
@@ -169,23 +169,31 @@ def analyse(
         if tr.modal_z is not None
         else np.tensordot(full.w, np.moveaxis(tr.temps_c, -1, 0), axes=([1], [0]))
     )
+    # g'' at a step's start, mode by mode: lam (lam z + b) + (b[k+1] - b[k]) / h, written
+    # as lam^2 z + (lam - 1/h) b[k] + b[k+1] / h (no array of differences), into two
+    # scratch arrays: fresh big temporaries cost more than the arithmetic
     bound = np.zeros((mm, nt - 1))
+    k2 = np.empty((mm, nt - 1))
+    tmp = np.empty((mm, nt - 1))
+    ih = 1.0 / h
     for i, lam in enumerate(full.lam):
-        k2 = lam * zt[i, :, :-1]
-        k2 += prob.bt[i, :, :-1]
+        bi = prob.bt[i]
+        np.multiply(zt[i, :, :-1], lam * lam, out=k2)
+        np.multiply(bi[:, :-1], lam - ih, out=tmp)
+        k2 += tmp
+        np.multiply(bi[:, 1:], ih, out=tmp)
+        k2 += tmp
         if ctl:
-            k2 += qstep * full.bm[i, m]
-        k2 *= lam
-        k2 += prob.dbt[i] / h
+            k2 += qstep * (lam * full.bm[i, m])
         np.abs(k2, out=k2)
         k2 *= abs(full.v[0, i])
         bound += k2
     bound *= h**2 / 8
     if ctl:
         bound[~flo] = 0.0
-    lob = np.minimum(ga, gb)
+    lob = np.minimum(ga, gb, out=k2)
     lob -= bound
-    hib = np.maximum(ga, gb)
+    hib = np.maximum(ga, gb, out=tmp)
     hib += bound
     is_below = hib < 0
     unsure = lob <= 0
@@ -196,7 +204,7 @@ def analyse(
         is_below &= ~pcs.split
         unsure &= ~pcs.split
         deep &= flo
-    below += is_below @ h
+    below += np.count_nonzero(is_below, axis=1) * h[0] if prob.uniform else (is_below * h).sum(1)
     hit = is_below.any(axis=1)
     first[hit] = np.minimum(first[hit], t[np.argmax(is_below[hit], axis=1)])
     mi, ki = np.nonzero(unsure | deep)

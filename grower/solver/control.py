@@ -127,8 +127,8 @@ def _peak_power(tr: Trajectory) -> tuple[np.ndarray, np.ndarray]:
     prob, net = tr.problem, tr.network
     mm = tr.n_members
     t, h = tr.times_s, prob.h
-    red = net._red  # type: ignore[attr-defined]
-    wq, gsum = net._wq, net._gsum  # type: ignore[attr-defined]
+    red = net.held_modes
+    wq, gsum = net.held_power_weights, net.held_power_sum_w_per_k
     sp = np.broadcast_to(tr.control.setpoint_c, (mm, t.size))  # type: ignore[union-attr]
     hw = tr.heat_w
     k = np.argmax(hw, axis=1)

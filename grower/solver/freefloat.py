@@ -14,9 +14,9 @@ import numpy as np
 
 from .analysis import analyse
 from .network import Network
-from .problem import _problem, _project, _series
+from .problem import _problem, _series
 from .results import Trajectory, _no_switches
-from .stepping import _recur1
+from .stepping import recurrence
 
 
 def free_float(
@@ -51,13 +51,16 @@ def free_float(
     """
     prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w)
     mm, nt = prob.n_members, prob.times_s.size
-    full, tab = network._full, prob.full  # type: ignore[attr-defined]
+    full, tab = network.modes, prob.full
     z0 = prob.initial_c @ full.w.T  # (Mi, r)
-    z = np.empty((full.lam.size, mm, nt))
-    for i in range(full.lam.size):
-        f = tab.f1[:, i] * prob.bt[i, :, :-1] + tab.f2[:, i] * prob.dbt[i]
-        z[i] = _recur1(tab.e[:, i], prob.uniform, f, z0[:, i], mm)
-    temps = _project(full.v, np.moveaxis(z, 0, -1))  # (n, M, N)
+    # f = f1 b[k] + f2 (b[k+1] - b[k]), written without the difference array
+    bt = prob.bt
+    f = (tab.f1 - tab.f2).T[:, None, :] * bt[:, :, :-1]
+    f += tab.f2.T[:, None, :] * bt[:, :, 1:]
+    if f.shape[1] != mm:  # shared forcing, member-specific start
+        f = np.broadcast_to(f, (f.shape[0], mm, nt - 1))
+    z = recurrence(tab.e, prob.uniform, f, np.broadcast_to(z0.T, (full.lam.size, mm)))
+    temps = np.tensordot(full.v, z, axes=([1], [0]))  # (n, M, N)
     temps[:, :, 0] = np.broadcast_to(prob.initial_c, (mm, network.n_nodes)).T
     temps = np.moveaxis(temps, 0, -1)
     if heat_w is None:

@@ -25,17 +25,20 @@ class _Problem:
     uniform: bool
     full: _Table
     bt: np.ndarray  # (r, Mu, N) modal forcing of (U, P), mode axis first
-    dbt: np.ndarray  # (r, Mu, N-1) its step increments
     unique_h: np.ndarray  # distinct step lengths [s]
     kind: np.ndarray  # (N-1,) index of each step's length in unique_h
 
     @cached_property
+    def dbt(self) -> np.ndarray:  # (r, Mu, N-1) step increments of the modal forcing
+        return np.diff(self.bt, axis=2)
+
+    @cached_property
     def red(self) -> _Table:  # step table of the network with the air held
-        return _table(self.network._red.lam, self.unique_h, self.kind)  # type: ignore[attr-defined]
+        return _table(self.network.held_modes.lam, self.unique_h, self.kind)
 
     @cached_property
     def brt(self) -> np.ndarray:  # (n-1, Mu, N) reduced modal forcing of (U, P_1..)
-        red, m = self.network._red, self.network.n_boundaries  # type: ignore[attr-defined]
+        red, m = self.network.held_modes, self.network.n_boundaries
         u, p = self.boundary_c, self.gains_w
         return _project(red.bm[:, :m], u) + _project(red.bm[:, m + 1 :], p[:, :, 1:])
 
@@ -139,7 +142,7 @@ def _problem(
     hq = np.round(steps / quantum) * quantum
     hu, kind = np.unique(hq, return_inverse=True)
     hu = np.maximum(hu, np.finfo(float).tiny)
-    full = network._full  # type: ignore[attr-defined]
+    full = network.modes
     bt = _project(full.bm[:, :m], u) + _project(full.bm[:, m:], p)
     return _Problem(
         network,
@@ -152,7 +155,6 @@ def _problem(
         hu.size == 1,
         _table(full.lam, hu, kind),
         bt,
-        np.diff(bt, axis=2),
         hu,
         kind,
     )

@@ -78,7 +78,7 @@ class Trajectory:
     def temp_integral_c_s(self) -> np.ndarray:
         """(M, N-1, n) exact integral of each node temperature over each step [degC s]."""
         if self.tint is None:
-            p, full = self.problem, self.network._full  # type: ignore[attr-defined]
+            p, full = self.problem, self.network.modes
             z, t = self.modal_z, p.full  # z: (r, M, N)
             iz = (
                 t.f1.T[:, None] * z[:, :, :-1]

@@ -1,4 +1,4 @@
-"""A step with switches for one member in plain Python floats (the same rules as `split`).
+"""A step with switches for one member in plain Python floats: the mode rules.
 
 Inside a step a watched quantity (the air less a limit, or the held power less a limit)
 is ``g(s) = g0 + b1 s + sum_i a_i expm1(lam_i s)``, the exact solution of the mode
@@ -166,7 +166,8 @@ def _first_root(
 
 
 class _ScalarStep:
-    """`_Run._exact` for one member in Python floats: the same rules, step by step."""
+    """The mode machine inside one step of one member, in Python floats: the modes, the
+    switching instants (first roots on the exact solution), the jumps at a step's start."""
 
     def __init__(self, run: _Run) -> None:
         self.run = run
@@ -179,23 +180,10 @@ class _ScalarStep:
         self.tolq = run.tolq
         self.il, self.ilr = [1.0 / x for x in self.lam], [1.0 / x for x in self.lr]
 
-    def _inputs(self, k: int, i: int, pack: np.ndarray | None) -> None:
-        """Step k's inputs for member i, from the run's arrays or from ``pack``, whose row
-        k is (h, b (r), db (r), b_held (r'), db_held (r'), qb, dqb, setpoint, vent)."""
-        rn = self.run
-        self.qm = float(rn.q[i])
-        if pack is None:
-            ctl = rn.ctl
-
-            def row(a: np.ndarray) -> np.ndarray:
-                return a[i if a.shape[0] > 1 else 0, k]
-
-            self.h = float(rn.p.h[k])
-            self.bk, self.dbk = row(rn.b).tolist(), row(rn.db).tolist()
-            self.brk, self.dbrk = row(rn.bru).tolist(), row(rn.dbr).tolist()
-            self.qbk, self.dqbk = float(row(rn.p.qb)), float(row(rn.dqb))
-            self.sp, self.vt = float(row(ctl.setpoint_c)), float(row(ctl.vent_c))
-            return
+    def inputs(self, k: int, i: int, pack: np.ndarray) -> None:
+        """Step k's inputs for member i from ``pack``, whose row k is (h, b (r), db (r),
+        b_held (r'), db_held (r'), qb, dqb, setpoint, vent)."""
+        self.qm = float(self.run.q[i])
         v = pack[k].tolist()
         rf, rr = len(self.lam), len(self.lr)
         self.h = v[0]
@@ -221,7 +209,7 @@ class _ScalarStep:
         beta = [b + g * s + c * tc for b, g, c in zip(self.brk, gam, self.bc, strict=True)]
         return self.lr, z, beta, gam, tc, self.wq, self.ilr
 
-    def _qreq(self, s: float, x: list[float], tc: float) -> tuple[float, float]:
+    def qreq(self, s: float, x: list[float], tc: float) -> tuple[float, float]:
         """Heater power that holds the air at tc from state x at offset s, and its rate."""
         frac = s / self.h
         xr = x[1:]
@@ -235,7 +223,7 @@ class _ScalarStep:
             dq += wi * (la * zi + bi + di * frac + ci * tc)
         return q, dq
 
-    def _classify(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
+    def classify(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
         tol, sp, vt, qm = _TOL_K, self.sp, self.vt, self.qm
         x = list(x)
         ta, jh, jv = x[0], 0.0, 0.0
@@ -253,7 +241,7 @@ class _ScalarStep:
         at_v = not at_s and abs(ta - vt) <= tol
         if at_s or at_v:
             tc = sp if at_s else vt
-            q, dq = self._qreq(s, [tc, *x[1:]], tc)
+            q, dq = self.qreq(s, [tc, *x[1:]], tc)
             t0, tm = abs(q) <= self.tolq, abs(q - qm) <= self.tolq
             vent_ok = q < -self.tolq or (t0 and dq < 0)
             if at_s:
@@ -352,21 +340,20 @@ class _ScalarStep:
         k: int,
         i: int,
         x: list[float],
-        pack: np.ndarray | None = None,
-        out: list | None = None,
+        pack: np.ndarray,
+        out: list,
         pre=None,
     ) -> tuple[list[float], int]:
         """Step k of member i from node temperatures x; returns the state at its end.
 
-        ``pack``: the member's inputs (see `_inputs`), else they are read from the run.
-        The step's results go to the run's arrays, or with ``out`` are appended to it as
-        ``(k, mode, heat_w, vent_w, heat_j, vent_j, temp_integral, end state)``. ``pre``:
-        `_classify` of x at the step's start, with step k's inputs already loaded.
+        ``pack``: the member's inputs (see `inputs`). The step's results are appended to
+        ``out`` as ``(k, mode, heat_w, vent_w, heat_j, vent_j, temp_integral, end state)``.
+        ``pre``: `classify` of x at the step's start, with step k's inputs already loaded.
         """
         rn = self.run
         if pre is None:
-            self._inputs(k, i, pack)
-            pre = self._classify(0.0, x, start=True)
+            self.inputs(k, i, pack)
+            pre = self.classify(0.0, x, start=True)
         x, md, heat, vent, eh, ev = pre
         md0 = md
         if eh > 0 or ev > 0:
@@ -382,15 +369,9 @@ class _ScalarStep:
             s, x = s + w, x1
             if dt == _inf:
                 break
-            x, md, _, _, _, _ = self._classify(s, x, start=False)
+            x, md, _, _, _, _ = self.classify(s, x, start=False)
             rn.scalar_events.append((i, k, s, md, x))
         else:
             raise RuntimeError(f"thermostat: more than {_MAX_SWITCHES} switches in step {k}")
-        if out is not None:
-            out.append((k, md0, heat, vent, eh, ev, ti, x))
-        else:
-            rn.mode[i, k], rn.heat_w[i, k], rn.vent_w[i, k] = md0, heat, vent
-            rn.step_heat[i, k], rn.step_vent[i, k] = eh, ev
-            rn.tint[i, k] = ti
-            rn.temps[i, k + 1] = x
+        out.append((k, md0, heat, vent, eh, ev, ti, x))
         return x, md

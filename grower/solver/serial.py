@@ -1,7 +1,6 @@
 """The thermostat for one member at a time: long strides of whole steps, stored at the end.
 
-For few members the vectorised rounds of `runs` spend most of their time in numpy's
-per-call overhead. Here each mode gets, once per member, its particular solution over the
+Each mode gets, once per member, its particular solution over the
 whole horizon (from a zero modal state) and the limits its watched value must keep, with
 the curvature bound of that solution already taken off. A run of whole steps in one mode
 is then that solution plus the decay of the state's deviation from it, ``z_j = zb_j +
@@ -89,7 +88,7 @@ class _Serial:
         self.exact: list[tuple] = []  # the exactly split steps, see `_ScalarStep.step`
 
     def _pack(self) -> np.ndarray:
-        """The inputs of every step, one row a step, as `_ScalarStep._inputs` reads them."""
+        """The inputs of every step, one row a step, as `_ScalarStep.inputs` reads them."""
         rows = (
             self.rn.p.h[None],
             self.bf[:, :-1],
@@ -236,7 +235,7 @@ class _Serial:
         jumps, a run in that mode starts there; otherwise the step is split exactly.
         """
         rn, i, last = self.rn, self.i, self.nt - 1
-        sc = rn._scalar
+        sc = rn.scalar
         pack, exact = self._pack(), self.exact
         x, md, k = rn.temps[i, 0].tolist(), -1, 0
         nl, typical, fresh = 16, 16.0, False
@@ -271,8 +270,8 @@ class _Serial:
                 break
             pre = None
             if not fresh:
-                sc._inputs(k, i, pack)
-                pre = sc._classify(0.0, x, start=True)
+                sc.inputs(k, i, pack)
+                pre = sc.classify(0.0, x, start=True)
                 if pre[1] != md and pre[4] == 0 and pre[5] == 0:
                     x, md, fresh = pre[0], pre[1], True
                     continue
@@ -281,9 +280,9 @@ class _Serial:
             fresh = False
         self._store()
         # heater and vent output at the last grid point: the final mode, just before it
-        sc._inputs(last - 1, i, pack)
+        sc.inputs(last - 1, i, pack)
         if md in (HOLD, VENT):
-            q, _ = sc._qreq(sc.h, x, sc.sp if md == HOLD else sc.vt)
+            q, _ = sc.qreq(sc.h, x, sc.sp if md == HOLD else sc.vt)
             rn.heat_w[i, -1], rn.vent_w[i, -1] = (q, 0.0) if md == HOLD else (0.0, -q)
         else:
             rn.heat_w[i, -1], rn.vent_w[i, -1] = (self.qm if md == FULL else 0.0), 0.0

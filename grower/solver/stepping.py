@@ -20,7 +20,6 @@ from dataclasses import dataclass
 from math import factorial
 
 import numpy as np
-from scipy.signal import lfilter
 
 _RF = np.array([1.0 / factorial(j) for j in range(24)])
 _RF_LIST = _RF.tolist()  # Python floats: numpy scalars are slow one at a time
@@ -85,30 +84,87 @@ def _recur1(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray, mm: int
         np.cumprod(e, out=decay[1:])
         np.add(zp, decay * np.reshape(z0, (-1, 1)), out=out)
         return out
-    if uniform:
-        a = float(e[0])
-        zi = a * np.broadcast_to(z0, (mm,))[:, None]
-        out[:, 1:] = lfilter([1.0], [1.0, -a], f, axis=1, zi=zi)[0]
+    out[:, 1:] = _scan(np.asarray(e, dtype=float), uniform, f, np.broadcast_to(z0, (mm,)))
+    return out
+
+
+#: a block of the scan spans at most this much decay, ``-sum log e`` (e^-500 ~ 7e-218), so
+#: that ``1/prod e`` stays far from overflow; a single step's factor is floored at e^-100,
+#: below which ``e z`` is lost in the round-off of ``f`` anyway
+_BLOCK_DECAY = 500.0
+_STEP_DECAY = 100.0
+
+
+def _scan(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.ndarray:
+    """``z[k+1] = e[k] z[k] + f[k]`` for all k at once, without a Python loop over steps.
+
+    Inside a block starting at step s, ``z[k+1] = P[k] (z[s] + sum_{j=s..k} f[j] / P[j])``
+    with ``P[k] = prod_{j=s..k} e[j]``: one cumulative sum per block. Blocks end before
+    the decay ``P`` passes e^-500, so the scaled terms cannot overflow; each term's
+    rounding is carried by the same ``P[k]`` that damps it, so the result is as accurate
+    as stepping one step at a time (the partial sums grow geometrically; their rounding
+    is a few units in the last place of ``z``).
+    """
+    k1 = f.shape[1]
+    le = -np.log(np.maximum(e, math.exp(-_STEP_DECAY)))  # >= 0 per step
+    cum = le[0] * np.arange(1, k1 + 1) if uniform else np.cumsum(le)
+    out = np.empty(f.shape)
+    z = np.array(z0, dtype=float)
+    s = 0
+    while s < k1:
+        base = cum[s - 1] if s else 0.0
+        t = max(s + 1, int(np.searchsorted(cum, base + _BLOCK_DECAY, side="right")))
+        c = cum[s:t] - base
+        p, q = np.exp(-c), np.exp(c)
+        blk = np.cumsum(f[:, s:t] * q, axis=1)
+        blk += z[:, None]
+        blk *= p
+        out[:, s:t] = blk
+        z = blk[:, -1]
+        s = t
+    return out
+
+
+#: from this many members on, `recurrence` steps all of them at once, step by step
+_MANY = 32
+
+
+def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.ndarray:
+    """``z[k+1] = e[k] z[k] + f[k]`` for every mode and member: the runs of whole steps.
+
+    Parameters
+    ----------
+    e : (N-1, r) step decays ``exp(lam h)`` of each mode
+    uniform : all steps have one length (``e`` is the same on every row)
+    f : (r, M, N-1) forcing of each step (from `_table`'s ``f1``, ``f2``)
+    z0 : (r, M) or (r, 1) modal state at the first grid time
+
+    Returns
+    -------
+    (r, M, N) modal state at the grid times
+
+    For many members the steps are taken one after another, each for all modes and
+    members at once (two array operations a step, as in a plain stepping loop); for few
+    members a step-by-step loop would be all Python overhead, and each mode's recurrence is
+    the blocked cumulative sum of `_scan` instead. Both are the same arithmetic to
+    round-off.
+    """
+    r, mm, k1 = f.shape
+    if mm < _MANY:
+        out = np.empty((r, mm, k1 + 1))
+        for i in range(r):
+            out[i] = _recur1(e[:, i], uniform, f[i], z0[i], mm)
         return out
-    ff = np.array(f)
-    ff[:, 0] += e[0] * z0
-    aa = np.array(e, dtype=float)
-    d = 1
-    while d < k1:  # Hillis-Steele scan of the affine maps z -> a z + f
-        ff[:, d:] = ff[:, d:] + aa[d:] * ff[:, :-d]
-        aa[d:] = aa[d:] * aa[:-d]
-        d *= 2
-    out[:, 1:] = ff
-    return out
-
-
-def _recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.ndarray:
-    """``z[k+1] = e[k] z[k] + f[k]`` for f (M, N-1, r), z0 (M, r) -> z (M, N, r)."""
-    mm, k1, r = f.shape
-    out = np.empty((mm, k1 + 1, r))
-    for i in range(r):
-        out[:, :, i] = _recur1(e[:, i], uniform, f[:, :, i], z0[:, i], mm)
-    return out
+    ft = np.ascontiguousarray(f.transpose(2, 0, 1))  # (N-1, r, M): a step is a row
+    zt = np.empty((k1 + 1, r, mm))
+    zt[0] = z0
+    ek = np.ascontiguousarray(e)[:, :, None]
+    mul, add = np.multiply, np.add
+    for k in range(k1):
+        row = zt[k + 1]
+        mul(zt[k], ek[k], out=row)
+        add(row, ft[k], out=row)
+    return np.ascontiguousarray(zt.transpose(1, 2, 0))
 
 
 def _sphi(x: float) -> tuple[float, float, float, float]:

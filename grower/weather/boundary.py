@@ -122,6 +122,10 @@ def prepare_boundary(
 
     temp, dew = column("temperature_c", np.nan), column("dew_point_c", np.nan)
     cloud = column("cloud_cover_pct", 0.0) / 100.0
+    low = column("cloud_cover_low_pct", np.nan) / 100.0
+    low = None if not np.isfinite(low).any() else np.clip(np.nan_to_num(low, nan=0.0), 0.0, 1.0)
+    if low is not None:
+        cloud = np.maximum(cloud, low)  # low cloud is part of the total
     hour = None
     if hour_term:
         offsets = forecast.frame["utc_offset_s"].to_numpy(dtype=float)
@@ -134,6 +138,7 @@ def prepare_boundary(
         hour=hour,
         pressure_hpa=pressure_hpa,
         cloud_model=cloud_model,
+        low_cloud_fraction=low,
     )
     return Boundary(
         start=_index(np.array([t0]), forecast.frame.index.tz)[0],

@@ -36,6 +36,7 @@ _CSV_COLUMNS: dict[str, tuple[str, Callable[[NDArray[np.float64]], NDArray[np.fl
     "dew_point_c": ("dew_point_c", lambda v: v, "°C"),
     "dew_point_f": ("dew_point_c", f_to_c, "°F"),
     "cloud_cover_pct": ("cloud_cover_pct", lambda v: v, "%"),
+    "cloud_cover_low_pct": ("cloud_cover_low_pct", lambda v: v, "%"),
     "wind_speed_m_s": ("wind_speed_m_s", lambda v: v, "m/s"),
     "wind_speed_mph": ("wind_speed_m_s", lambda v: v * M_S_PER_MPH, "mph"),
     "wind_speed_km_h": ("wind_speed_m_s", lambda v: v / 3.6, "km/h"),
@@ -236,6 +237,10 @@ def _check_fahrenheit(values, label_unit, where: str) -> None:
 CELSIUS_MEDIAN_WARN_C = 30.0
 #: the solar constant [W m-2] (Kopp & Lean 2011, Geophys. Res. Lett. 38:L01706)
 SOLAR_CONSTANT_W_M2 = 1361.0
+#: slack on the sun's elevation [°] and on the irradiance [W m-2] before sun in a file
+#: is called impossible (see `_check_sun`; common practice, no source)
+SUN_SLACK_DEG = 30.0
+SUN_OFFSET_W_M2 = 100.0
 
 
 def solar_elevation_deg(utc_s, latitude_deg: float, longitude_deg: float):
@@ -285,10 +290,12 @@ def _check_sun(
     utc_s, shortwave, site: Site, where: str, column: str = "column shortwave_w_m2"
 ) -> None:
     """Refuse sun the sky cannot give: more than the solar constant on a horizontal
-    surface with the sun 15° higher than it is (an hour of slack for a clock an hour
-    out) plus 50 W/m² of sensor offset and diffuse light."""
+    surface with the sun `SUN_SLACK_DEG` higher than it is (about two hours of the sun's
+    motion: slack for a clock an hour or two out, hour means and crude synthetic days)
+    plus `SUN_OFFSET_W_M2` of sensor offset and twilight. Sun at midnight fails."""
     elevation = solar_elevation_deg(utc_s, site.latitude_deg, site.longitude_deg)
-    ceiling = SOLAR_CONSTANT_W_M2 * np.clip(np.sin(np.radians(elevation + 15.0)), 0, 1) + 50.0
+    lifted = np.clip(np.sin(np.radians(elevation + SUN_SLACK_DEG)), 0, 1)
+    ceiling = SOLAR_CONSTANT_W_M2 * lifted + SUN_OFFSET_W_M2
     bad = np.flatnonzero(np.isfinite(shortwave) & (shortwave > ceiling))
     if bad.size:
         i = int(bad[0])

@@ -25,12 +25,20 @@ from numpy.typing import NDArray
 from grower.errors import InputError
 
 #: the frame's variables, SI-ish units in the names
-COLUMNS = ("temperature_c", "dew_point_c", "cloud_cover_pct", "wind_speed_m_s", "shortwave_w_m2")
+COLUMNS = (
+    "temperature_c",
+    "dew_point_c",
+    "cloud_cover_pct",
+    "cloud_cover_low_pct",
+    "wind_speed_m_s",
+    "shortwave_w_m2",
+)
 #: accepted range of each variable (inclusive) after conversion to the column's unit
 RANGES: dict[str, tuple[float, float]] = {
     "temperature_c": (-60.0, 60.0),
     "dew_point_c": (-60.0, 60.0),
     "cloud_cover_pct": (0.0, 100.0),
+    "cloud_cover_low_pct": (0.0, 100.0),
     "wind_speed_m_s": (0.0, np.inf),
     "shortwave_w_m2": (0.0, 1400.0),
 }
@@ -42,6 +50,7 @@ _UNIT_LABEL = {
     "temperature_c": "°C",
     "dew_point_c": "°C",
     "cloud_cover_pct": "%",
+    "cloud_cover_low_pct": "%",
     "wind_speed_m_s": "m/s",
     "shortwave_w_m2": "W/m²",
 }
@@ -152,6 +161,14 @@ def assumptions(forecast: Forecast) -> tuple[str, ...]:
     notes = []
     if forecast.assumed_clear:
         notes.append("no cloud cover given: clear sky assumed (the cautious side)")
+    elif (
+        "cloud_cover_low_pct" not in forecast.given
+        and np.nanmax(forecast.values("cloud_cover_pct")) > 0.0
+    ):
+        notes.append(
+            "cloud height not given: cloud taken with its base at 2 km, an overcast about "
+            "4 K colder than low stratus (the cautious side)"
+        )
     if "dew_point_c" not in forecast.given:
         notes.append(
             "no dew point given: sky temperature from air temperature alone (Swinbank 1963)"

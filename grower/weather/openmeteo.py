@@ -54,6 +54,8 @@ _OPEN_METEO_VARS = {
     "wind_speed_10m": "wind_speed_m_s",
     "shortwave_radiation": "shortwave_w_m2",
 }
+#: asked for too, used when the answer carries it (the sky under low cloud is warmer)
+_OPTIONAL_VARS = {"cloud_cover_low": "cloud_cover_low_pct"}
 
 
 def forecast_url() -> str:
@@ -129,7 +131,7 @@ def fetch_openmeteo(
     params = {
         "latitude": f"{site.latitude_deg:.4f}",
         "longitude": f"{site.longitude_deg:.4f}",
-        "hourly": ",".join(_OPEN_METEO_VARS),
+        "hourly": ",".join([*_OPEN_METEO_VARS, *_OPTIONAL_VARS]),
         "timezone": "auto",
         "forecast_days": str(days),
         "wind_speed_unit": "ms",
@@ -252,7 +254,8 @@ def parse_openmeteo(
             f"hourly_units is a JSON {type(units).__name__}, not an object of units", where=where
         )
     values: dict[str, NDArray[np.float64]] = {}
-    for var, col in _OPEN_METEO_VARS.items():
+    present = {v: c for v, c in _OPTIONAL_VARS.items() if isinstance(hourly.get(v), list)}
+    for var, col in {**_OPEN_METEO_VARS, **present}.items():
         series = hourly.get(var)
         if not isinstance(series, list):
             raise InputError(f"the answer has no hourly.{var}", where=where)
@@ -268,6 +271,8 @@ def parse_openmeteo(
             raise InputError(
                 f"hourly.{var} holds a value that is not a number", where=where
             ) from None
+        if var in present and np.isnan(numbers).any():
+            continue  # an optional variable with gaps is left out, not repaired
         if np.isnan(numbers).all():
             raise InputError(f"hourly.{var} has no values", where=where)
         values[col] = _convert_unit(numbers, units.get(var), var, where)
@@ -301,7 +306,7 @@ def parse_openmeteo(
         np.full(utc_s.size, int(offset)),
         values,
         label=labels.__getitem__,
-        name={c: v for v, c in _OPEN_METEO_VARS.items()},
+        name={c: v for v, c in {**_OPEN_METEO_VARS, **present}.items() if c in values},
         raw=lambda c, i: f"{raw[c][i]:g} {_UNIT_LABEL[c]}",
         where=where,
     )
@@ -366,6 +371,7 @@ _EXPECTED = {
     "temperature_2m": "°C",
     "dew_point_2m": "°C",
     "cloud_cover": "%",
+    "cloud_cover_low": "%",
     "wind_speed_10m": "m/s",
     "shortwave_radiation": "W/m²",
 }
