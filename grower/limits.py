@@ -283,8 +283,9 @@ def check(
     if isinstance(value, float) and math.isnan(value):
         raise InputError("is not a number", where=where)
     given = f'"{shown}"' if shown is not None else _num(float(value)) + _unit_suffix(bound.unit)
-    if shown is not None and convert is None:
-        given += f" ({_num(float(value))}{_unit_suffix(bound.unit)})"
+    si = f"{_num(float(value))}{_unit_suffix(bound.unit)}"
+    if shown is not None and convert is None and shown.replace(" ", "") != si.replace(" ", ""):
+        given += f" ({si})"
     if not bound.lo <= value <= bound.hi:
         rng = convert(bound.lo, bound.hi) if convert else _range(bound.lo, bound.hi, bound.unit)
         raise InputError(

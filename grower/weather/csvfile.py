@@ -156,6 +156,8 @@ def read_forecast_csv(
     _check_fahrenheit(values, label_unit, where)
     if site is not None and "shortwave_w_m2" in values:
         _check_sun(utc_s, values["shortwave_w_m2"], site, where)
+    elif "shortwave_w_m2" in values:
+        _warn_night_sun(utc_s, offsets, values["shortwave_w_m2"], where)
     if zone is not None:
         tz, tz_name = zone, zone_name
         offsets = _zone_offsets(utc_s, zone)
@@ -304,6 +306,25 @@ def _check_sun(
             f"{column}: {shortwave[i]:g} W/m² at {when}, when the sun is "
             f"{abs(elevation[i]):.0f}° {'below' if elevation[i] < 0 else 'above'} the site's "
             f"horizon (at most {ceiling[i]:.0f} W/m² then): are the times in the right zone?",
+            where=where,
+        )
+
+
+#: with no site to place the sun: strong sun between 23:00 and 03:59 on the file's
+#: clock is warned about [W m-2] (the midnight sun of the polar summer stays low, under
+#: ~150 W/m²; common practice, no source)
+NIGHT_SUN_WARN_W_M2 = 300.0
+
+
+def _warn_night_sun(utc_s, offsets, shortwave, where: str) -> None:
+    local_h = ((np.asarray(utc_s) + np.asarray(offsets)) % 86400.0) // 3600.0
+    night = (local_h >= 23) | (local_h < 4)
+    bad = np.flatnonzero(night & np.isfinite(shortwave) & (shortwave > NIGHT_SUN_WARN_W_M2))
+    if bad.size:
+        i = int(bad[0])
+        warn(
+            f"column shortwave_w_m2: {shortwave[i]:g} W/m² at {int(local_h[i]):02d}:00 on the "
+            "file's clock: are the times in the right zone? (add a [site] to check the sun)",
             where=where,
         )
 
