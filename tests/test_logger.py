@@ -420,3 +420,27 @@ def test_years_outside_1900_2200_are_refused(tmp_path):
 def test_a_device_is_refused_before_reading():
     with pytest.raises(InputError, match="not a regular file"):
         read_logger_csv("/dev/zero")
+
+
+@pytest.mark.parametrize("zone_name", ["America/Toronto", "Australia/Lord_Howe", "Europe/Berlin"])
+def test_fast_localisation_agrees_with_zoneinfo_row_by_row(zone_name):
+    """Across both clock changes of 2026 (Lord Howe's is half an hour), every 7 minutes:
+    the quarter-hour lookup gives what zoneinfo gives row by row (reference: the
+    standard library's zoneinfo, fold=0 on the first pass of a repeated hour)."""
+    from zoneinfo import ZoneInfo
+
+    from grower.logger.times import _localize_fast
+
+    zone = ZoneInfo(zone_name)
+    utc0 = [
+        dt.datetime(2026, m, d, tzinfo=dt.UTC)
+        for m, d in ((3, 27), (4, 3), (10, 23), (10, 30), (11, 1))
+    ]
+    instants = sorted(
+        {u + dt.timedelta(minutes=7 * i) for u in utc0 for i in range(0, 3 * 24 * 60 // 7)}
+    )
+    local = [u.astimezone(zone) for u in instants]
+    naive = [t.replace(tzinfo=None) for t in local]
+    utc, offs = _localize_fast(naive, zone, zone_name, np.arange(len(naive)), "time", "test")
+    assert utc == pytest.approx([u.timestamp() for u in instants], abs=1e-6)
+    assert list(offs) == [int(t.utcoffset().total_seconds()) for t in local]

@@ -184,20 +184,46 @@ def _to_utc(
         zone = ZoneInfo(zone_name)
     except (ZoneInfoNotFoundError, ValueError):
         raise InputError(f'unknown time zone "{zone_name}"', where=where) from None
-    utc, offs, previous = [], [], -np.inf
-    for t, n in zip(times, lines, strict=True):
+    return (*_localize_fast(times, zone, zone_name, lines, col, where), zone_name)
+
+
+#: clock changes fall on whole quarter hours: within one, a zone's offsets are fixed
+_QUARTER_S = 900
+
+
+def _localize_fast(times, zone, zone_name, lines, col, where):
+    """Naive clock times in `zone` → (UTC seconds, offsets), linear in the rows.
+
+    The zone is asked once per quarter hour the record touches (clock changes fall on
+    quarter hours), not once per row; only rows in the autumn's repeated hour are
+    walked one by one: the first pass is daylight time, a repeat standard time. A
+    clock time the spring change skips is an error naming its line.
+    """
+    naive_s = np.array(times, dtype="datetime64[us]").astype(np.int64) / 1e6
+    keys, inverse = np.unique(np.floor(naive_s / _QUARTER_S).astype(np.int64), return_inverse=True)
+    early_off = np.empty(keys.size)
+    late_off = np.empty(keys.size)
+    exists = np.empty(keys.size, dtype=bool)
+    epoch = dt.datetime(1970, 1, 1)
+    for j, k in enumerate(keys):
+        t = epoch + dt.timedelta(seconds=int(k) * _QUARTER_S)
         early, late = t.replace(tzinfo=zone, fold=0), t.replace(tzinfo=zone, fold=1)
-        if early.astimezone(dt.UTC).astimezone(zone).replace(tzinfo=None) != t:
-            raise InputError(
-                f"line {n}, column {col}: {t:%Y-%m-%d %H:%M} does not exist in {zone_name} "
-                "(the clocks spring forward); fix the row or write UTC offsets",
-                where=where,
-            )
-        # the autumn's repeated hour: the first pass is daylight time, a repeat standard
-        chosen = (
-            early if early.timestamp() > previous or early.utcoffset() == late.utcoffset() else late
+        early_off[j] = early.utcoffset().total_seconds()
+        late_off[j] = late.utcoffset().total_seconds()
+        exists[j] = early.astimezone(dt.UTC).astimezone(zone).replace(tzinfo=None) == t
+    bad = np.flatnonzero(~exists[inverse])
+    if bad.size:
+        i = int(bad[0])
+        raise InputError(
+            f"line {lines[i]}, column {col}: {times[i]:%Y-%m-%d %H:%M} does not exist in "
+            f"{zone_name} (the clocks spring forward); fix the row or write UTC offsets",
+            where=where,
         )
-        previous = chosen.timestamp()
-        utc.append(previous)
-        offs.append(int(chosen.utcoffset().total_seconds()))
-    return np.array(utc), np.array(offs), zone_name
+    off_e, off_l = early_off[inverse], late_off[inverse]
+    utc = naive_s - off_e
+    offs = off_e.copy()
+    for i in np.flatnonzero(off_e != off_l):  # the repeated hour, in order
+        previous = utc[i - 1] if i > 0 else -np.inf
+        if naive_s[i] - off_e[i] <= previous:
+            utc[i], offs[i] = naive_s[i] - off_l[i], off_l[i]
+    return utc, offs.astype(np.int64)
