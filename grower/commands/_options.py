@@ -88,7 +88,8 @@ def temperature(
     value = parse_temperature(text, where=option, bare=unit)
     if bare:
         note(
-            f"{text} read as {text} °{unit} ({why}); write {text}C or {text}F to say", where=option
+            f"{text} read as {text} °{unit} ({why}; write {text}C or {text}F to be explicit)",
+            where=option,
         )
     if bound is not None:
         tail = text.strip().lower()
@@ -129,7 +130,8 @@ def difference(
     if bare:
         shown = "°F" if unit == "F" else "K"
         note(
-            f"{text} read as {text} {shown} ({why}); write {text}K or {text}F to say", where=option
+            f"{text} read as {text} {shown} ({why}; write {text}K or {text}F to be explicit)",
+            where=option,
         )
     if bound is not None:
         limits.check(value, bound, option, shown=text)
