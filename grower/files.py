@@ -13,6 +13,8 @@ The limits are generous bounds on real files, documented in the README:
 
 from __future__ import annotations
 
+import contextlib
+import gc
 import os
 import stat
 
@@ -90,3 +92,21 @@ def read_text(
         return data.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise InputError(f"not a {what} file (UTF-8 expected)", where=where) from None
+
+
+@contextlib.contextmanager
+def no_gc():
+    """Pause the cyclic garbage collector while a reader builds millions of small rows.
+
+    Lists of cells hold no reference cycles, but each allocation counts towards the
+    collector's thresholds, and its repeated full passes over the growing row list make
+    a long file's read grow faster than its length. Reference counting still frees
+    everything as usual.
+    """
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()

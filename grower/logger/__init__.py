@@ -167,8 +167,14 @@ def read_logger_csv(
     InputError
         One line naming the file, the line and the column, for anything unreadable.
     """
-    where = os.fspath(path)
-    notes: list[str] = []
+    from grower import files
+
+    with files.no_gc():
+        return _read(path, os.fspath(path), [], timezone, columns, day_first)
+
+
+def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> LoggerRecord:
+    """`read_logger_csv`'s work (see there)."""
     text = _decode(path, where, notes)
     lines = text[: 1 << 16].splitlines()  # the head is enough to find the separator
     if not text.strip():

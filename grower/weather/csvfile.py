@@ -79,7 +79,8 @@ def read_forecast_csv(
     try:
         reader = csv.reader(io.StringIO(text, newline=""))
         header = next(reader, None)
-        rows = [(reader.line_num, row) for row in reader if any(cell.strip() for cell in row)]
+        with files.no_gc():
+            rows = [(reader.line_num, row) for row in reader if any(c.strip() for c in row)]
     except csv.Error as exc:
         raise InputError(f"not a readable CSV file ({exc})", where=where) from None
     if not header or not any(h.strip() for h in header):
