@@ -581,6 +581,8 @@ def _stock(table: Mapping[str, Any], at) -> dict[str, Any]:
         raise InputError(
             f"{stock['price']:g} is a negative price (zero or more)", where=at("stock.price")
         )
+    if "price" in stock:
+        limits.check(stock["price"], limits.PRICE, at("stock.price"))
     return stock
 
 

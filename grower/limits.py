@@ -241,6 +241,15 @@ HEATER_W = Bound(
     "(common practice, no source)",
     "heater power",
 )
+PRICE = Bound(
+    0.0,
+    1.0e6,
+    0.0,
+    1.0e6,
+    "",
+    "no currency prices a unit of fuel above a million (common practice, no source)",
+    "price per unit of fuel",
+)
 #: installed heat per m² of floor above this is unusual [W m-2]: cold-climate designs
 #: run 100–400 W/m² (common practice, no source)
 HEATER_USUAL_W_PER_M2 = 1000.0

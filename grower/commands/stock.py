@@ -146,6 +146,10 @@ def run(args: argparse.Namespace) -> int:
                 )
     if args.price is not None and not 0 <= args.price < float("inf"):
         raise InputError("must be zero or more", where="--price")
+    if args.price is not None:
+        from grower import limits
+
+        limits.check(args.price, limits.PRICE, "--price")
     if not 0 <= args.lead_time <= 365:
         raise InputError(f"{args.lead_time:g} days must be within 0–365", where="--lead-time")
     from grower import fuels

@@ -92,6 +92,10 @@ def run(args: argparse.Namespace) -> int:
         raise InputError(f"{args.season_days} must be within 7–366", where="--season-days")
     if args.price is not None and not 0 <= args.price < math.inf:
         raise InputError("must be zero or more", where="--price")
+    if args.price is not None:
+        from grower import limits
+
+        limits.check(args.price, limits.PRICE, "--price")
     h = house.read(args.house)
     system = reading_system(args, [h])  # bare numbers are read in the report's units
     check_house(h, use_calibration=not getattr(args, "no_calibration", False))
