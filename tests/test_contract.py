@@ -509,6 +509,39 @@ def test_stock_with_a_forecast_file(tmp_path, data):
     assert_contract(argv, [h, f], json_out=True)
 
 
+@st.composite
+def history_text(draw, calm: bool = False) -> str:
+    """Hourly weather history for `winters`: 9 days from 1 November 2025 (good), or a
+    hostile forecast file."""
+    if not calm and draw(st.booleans()):
+        return draw(forecast_text())
+    base = draw(st.floats(-20, 5))
+    t0 = dt.datetime(2025, 11, 1, tzinfo=dt.timezone(dt.timedelta(hours=-4)))
+    rows = ["time,temperature_c"]
+    for i in range(24 * 9):
+        t = t0 + dt.timedelta(hours=i)
+        rows.append(
+            f"{t.isoformat(timespec='minutes')},{base + 5 * math.sin(i / 24 * 2 * math.pi):.1f}"
+        )
+    return "\n".join(rows) + "\n"
+
+
+@SETTINGS
+@given(data=st.data())
+def test_winters_with_a_history_file(tmp_path, data):
+    data = Inputs(data)
+    h = _write(tmp_path, "h.toml", data.house())
+    f = _write(tmp_path, "w.csv", data.draw(history_text(data.calm)))
+    setpoint = data.pick(st.sampled_from(["10C", "50F", "8"]), TEMPERATURE_ARG)
+    days = data.pick(st.sampled_from(["7", "8"]), st.sampled_from(["0", "6", "400", "x"]))
+    argv = ["winters", str(h), "--setpoint", setpoint, "--history", str(f), "--json"]
+    argv += ["--season-start", "11-01", "--season-days", days, "--winters", "1"]
+    argv += ["--fuel", "propane"]
+    price = data.pick(st.sampled_from([None, "0.85"]), st.sampled_from(["-1", "nan", "1e300"]))
+    argv += ["--price", price] if price else []
+    assert_contract(argv, [h, f], json_out=True)
+
+
 @SETTINGS
 @given(data=st.data(), as_json=st.booleans())
 def test_fit(tmp_path, data, as_json):
