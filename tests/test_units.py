@@ -8,7 +8,6 @@ pint's plain ``therm`` is the EC therm (10⁵ × 1055.056 J), so the therm is ch
 
 from __future__ import annotations
 
-import pint
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -26,8 +25,7 @@ from grower.units import (
     show_u_value,
 )
 
-UREG = pint.UnitRegistry()
-Q_ = UREG.Quantity
+from .reference_units import Q_, UREG
 
 
 def si(value: float, unit: str, to: str) -> float:
