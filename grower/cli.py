@@ -19,7 +19,7 @@ from collections.abc import Sequence
 from grower.errors import EXIT_INPUT, EXIT_OK, InputError
 
 #: subcommands, in the order `grower --help` lists them
-COMMANDS = ("tonight", "size", "stock", "house", "crops", "fit")
+COMMANDS = ("tonight", "size", "stock", "winters", "house", "crops", "fit")
 
 
 class _Version(argparse.Action):

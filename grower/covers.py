@@ -53,6 +53,8 @@ _MATERIAL_NUMBERS = {
     "longwave_transmittance": "longwave_transmittance",
     "solar_transmittance": "solar_transmittance",
 }
+#: numbers a material row may carry, and the dataclass field each fills
+_OPTIONAL_MATERIAL_NUMBERS = {"outer_emissivity": "outer_emissivity"}
 _CURTAIN_NUMBERS = {
     "saving_fraction": "saving_fraction",
     "longwave_transmittance": "longwave_transmittance",
@@ -64,6 +66,7 @@ USER_FIELDS = (
     "u",
     "longwave_transmittance",
     "solar_transmittance",
+    "outer_emissivity",
     "basis",
     "source",
 )
@@ -84,11 +87,15 @@ class Material:
     kind : str
         ``"glazing"`` or ``"opaque"``.
     u_w_m2k : float
-        Overall heat-transfer coefficient in calm air [W m-2 K-1].
+        Overall heat-transfer coefficient, surface films included, at the 15 mph winter
+        design wind the tables hold at [W m-2 K-1] (see `grower.network`).
     longwave_transmittance : float
         Thermal-IR transmittance [1].
     solar_transmittance : float
         Solar transmittance [1].
+    outer_emissivity : float or None
+        Long-wave emissivity of the outer face [1], which radiates to the sky; None: taken
+        as 1 − longwave_transmittance, at most 0.9 (`grower.network`).
     basis : Mapping[str, str]
         Per field (``"u_w_m2k"``, ``"longwave_transmittance"``, ``"solar_transmittance"``):
         ``"source: ..."``, ``"from memory"``, ``"common practice"``, ``"derived: ..."``,
@@ -109,6 +116,7 @@ class Material:
     basis: Mapping[str, str]
     user_defined: bool = False
     notes: Mapping[str, str] = field(default_factory=dict)
+    outer_emissivity: float | None = None
 
 
 @dataclass(frozen=True)
@@ -208,12 +216,17 @@ def _shipped_number(entry: Any, *, unit_needed: bool, where: str) -> tuple[float
 
 
 def _shipped_row(
-    row: Any, numbers: Mapping[str, str], extra: tuple[str, ...], where: str
+    row: Any,
+    numbers: Mapping[str, str],
+    extra: tuple[str, ...],
+    where: str,
+    optional: Mapping[str, str] | None = None,
 ) -> tuple[dict[str, Any], dict[str, float], dict[str, str], dict[str, str]]:
     """Check one row's fields; return (extra text fields, numbers in SI, basis, notes)."""
     if not isinstance(row, Mapping):
         raise InputError("must be a table", where=where)
-    allowed = (*extra, *numbers)
+    optional = optional or {}
+    allowed = (*extra, *numbers, *optional)
     for name in row:
         if name not in allowed:
             raise InputError(
@@ -227,8 +240,10 @@ def _shipped_row(
     values: dict[str, float] = {}
     basis: dict[str, str] = {}
     notes: dict[str, str] = {}
-    for toml_name, attr in numbers.items():
+    for toml_name, attr in {**numbers, **optional}.items():
         if toml_name not in row:
+            if toml_name in optional:
+                continue
             raise InputError("missing", where=f"{where}.{toml_name}")
         value, why, note = _shipped_number(
             row[toml_name], unit_needed=toml_name == "u", where=f"{where}.{toml_name}"
@@ -252,7 +267,9 @@ def _shipped_materials() -> dict[str, Material]:
         out: dict[str, Material] = {}
         for key, row in table["materials"].items():
             w = _where(where, "materials", key)
-            texts, values, basis, notes = _shipped_row(row, _MATERIAL_NUMBERS, ("label", "kind"), w)
+            texts, values, basis, notes = _shipped_row(
+                row, _MATERIAL_NUMBERS, ("label", "kind"), w, _OPTIONAL_MATERIAL_NUMBERS
+            )
             material = Material(
                 key=key,
                 label=texts["label"],
@@ -262,6 +279,7 @@ def _shipped_materials() -> dict[str, Material]:
                 solar_transmittance=values["solar_transmittance"],
                 basis=basis,
                 notes=notes,
+                outer_emissivity=values.get("outer_emissivity"),
             )
             _check_material(material, w)
             out[key] = material
@@ -278,6 +296,8 @@ def _check_material(material: Material, where: str) -> None:
             where=f"{where}.kind",
         )
     _check_u(material.u_w_m2k, f"{where}.u")
+    if material.outer_emissivity is not None:
+        _check_fraction(material.outer_emissivity, "outer_emissivity", f"{where}.outer_emissivity")
     for name in ("longwave_transmittance", "solar_transmittance"):
         _check_fraction(getattr(material, name), name, f"{where}.{name}")
         if material.kind == "opaque" and getattr(material, name) != 0.0:
@@ -373,8 +393,22 @@ def _user_material(key: str, row: Any, where: str) -> Material:
                     f'{name} {value:g} but kind = "opaque"; an opaque wall passes no radiation',
                     where=f"{here}.{name}",
                 )
+    eps = None
+    if "outer_emissivity" in row:
+        w = f"{here}.outer_emissivity"
+        eps = _check_fraction(
+            parse_quantity(row["outer_emissivity"], "fraction", where=w), "outer_emissivity", w
+        )
+        basis["outer_emissivity"] = f"user: {why}"
     return Material(
-        key=key, label=label, kind=kind, u_w_m2k=u, basis=basis, user_defined=True, **fractions
+        key=key,
+        label=label,
+        kind=kind,
+        u_w_m2k=u,
+        basis=basis,
+        user_defined=True,
+        outer_emissivity=eps,
+        **fractions,
     )
 
 
@@ -392,7 +426,8 @@ def load_materials(
         A house file's ``[materials]`` table: ``{key: {field: value}}``. Fields:
         ``u`` (a number in W/m²·K, or text with a unit, "1.1 Btu/h·ft²·°F"),
         ``longwave_transmittance`` and ``solar_transmittance`` (0 to 1, or "74 %"; both
-        required for a glazing, 0 by default for ``kind = "opaque"``), ``kind``
+        required for a glazing, 0 by default for ``kind = "opaque"``), optional
+        ``outer_emissivity`` (0 to 1: the outer face's long-wave emissivity), ``kind``
         (``"glazing"``, the default, or ``"opaque"``), ``label`` (default: the key) and
         ``basis`` or ``source`` (required: where the numbers come from). A user key equal
         to a shipped key replaces the shipped material.

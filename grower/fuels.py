@@ -197,12 +197,20 @@ class FuelRate:
 
 @dataclass(frozen=True)
 class FuelStock:
-    """Fuel on hand: ``amount`` [unit] and its heating value content [J]."""
+    """Fuel on hand: ``amount`` [unit] and its heating value content [J].
+
+    Given in containers ("2 100-lb cylinders"), ``container`` and ``count`` say what holds
+    it, ``capacity`` is what they hold full [unit] and ``share_full`` how full they are.
+    """
 
     amount: float
     unit: str
     energy_j: float
     text: str = ""
+    container: Container | None = None
+    count: float | None = None
+    capacity: float | None = None
+    share_full: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -532,6 +540,137 @@ def parse_amount(text: object, fuel: str | Fuel, where: str = "fuel on hand") ->
         names = {_key(n) for n in (c.name, *c.aliases)}
         if wanted in names or (wanted.endswith("s") and wanted[:-1] in names):
             amount = number * c.content
-            return FuelStock(amount, c.unit, amount * fuel.heating_value_j_per_unit, text)
+            return FuelStock(
+                amount, c.unit, amount * fuel.heating_value_j_per_unit, text, c, number, amount
+            )
     pu = fuel.purchase_unit(unit_text, where=where)
     return FuelStock(number, pu.name, number * pu.j_per_unit, text)
+
+
+def parse_fill(text: object, where: str = "--fill") -> float:
+    """A fill level ("30%", "30 %", "30") → percent [0–100]; `InputError` otherwise."""
+    if isinstance(text, int | float) and not isinstance(text, bool):
+        value = float(text)
+    elif isinstance(text, str):
+        m = re.fullmatch(r"\s*([-+]?\d+(?:[.,]\d*)?)\s*(%|percent|pct)?\s*", text)
+        if not m:
+            raise InputError(f'"{text}" is not a fill level (e.g. "30%")', where=where)
+        value = float(m.group(1).replace(",", "."))
+    else:
+        raise InputError(f'{text!r} is not a fill level (e.g. "30%")', where=where)
+    if not 0.0 <= value <= 100.0:
+        raise InputError(f"{value:g} % must be within 0–100 %", where=where)
+    return value
+
+
+def with_fill(
+    stock: FuelStock, fuel: str | Fuel, percent: float, where: str = "--fill"
+) -> FuelStock:
+    """The containers of `stock` at a fill of `percent`.
+
+    For a tank that is the gauge reading, the percent of its volume (a full tank reads
+    80 %, its fill fraction); for a cylinder, which has no gauge, the share of a full
+    fill by weight (30 % of a 100-lb cylinder is 30 lb).
+    """
+    fuel = get_fuel(fuel)
+    c = stock.container
+    if c is None or stock.capacity is None:
+        raise InputError(
+            f'a fill level needs the containers: give the fuel on hand as e.g. "1 500-gal tank", '
+            f'not "{stock.text}"',
+            where=where,
+        )
+    if c.fill_fraction is not None:
+        full_pct = 100.0 * c.fill_fraction.value
+        if percent > 95.0:
+            raise InputError(
+                f"a tank gauge reads at most about 95 %, not {percent:g} %", where=where
+            )
+        share = percent / full_pct
+    else:
+        share = percent / 100.0
+    amount = stock.capacity * share
+    return FuelStock(
+        amount,
+        stock.unit,
+        amount * fuel.j_per(stock.unit),
+        stock.text,
+        c,
+        stock.count,
+        stock.capacity,
+        share,
+    )
+
+
+# ---------------------------------------------------------------- which heater burns what
+
+
+@dataclass(frozen=True)
+class HeatSource:
+    """The fuel and appliance a plan uses for a house, and the efficiency it burns at.
+
+    ``installed`` is True when it is the house's own heater; ``input_w`` is then the
+    nameplate input of the house's heaters [W] (None without a heater).
+    """
+
+    fuel: Fuel
+    appliance: Appliance
+    efficiency: float
+    installed: bool
+    input_w: float | None
+    notes: tuple[str, ...] = ()
+
+
+def heat_source(
+    house: Any,
+    fuel_name: str | None = None,
+    appliance_name: str | None = None,
+    *,
+    fuel_where: str = "--fuel",
+    appliance_where: str = "--appliance",
+) -> HeatSource:
+    """The one rule for which fuel and appliance a house uses (tonight, stock, size).
+
+    Fuel: `fuel_name` if given, else the installed heater's, else the house file's
+    ``[stock] fuel``, else propane (said in the notes). Appliance and efficiency: the
+    installed heater's (its ``efficiency`` from the house file, else its appliance's)
+    when it burns that fuel and no other appliance is asked for; else the appliance asked
+    for, or the fuel's usual one, at the table's efficiency (said in the notes when the
+    house has a heater of another kind).
+    """
+    heaters = tuple(getattr(house, "heaters", ()) or ())
+    heater = heaters[0] if heaters else None
+    stock = getattr(house, "stock", None) or {}
+    notes: list[str] = []
+    key = fuel_name or (heater.fuel if heater else None) or stock.get("fuel")
+    try:
+        fuel = get_fuel(key or "propane")
+    except InputError as exc:
+        raise InputError(str(exc).split(": ", 1)[-1], where=fuel_where) from None
+    same = heater is not None and heater.fuel == fuel.name
+    wanted = appliance_name
+    if same and (
+        wanted is None or _key(wanted) == _key(heater.appliance or fuel.default_appliance)
+    ):
+        appliance = get_appliance(heater.appliance or fuel.default_appliance)
+        input_w = sum(h.input_w for h in heaters if h.fuel == fuel.name)
+        return HeatSource(fuel, appliance, float(heater.efficiency), True, input_w)
+    try:
+        appliance = appliance_for(fuel, wanted)
+    except InputError as exc:
+        raise InputError(str(exc).split(": ", 1)[-1], where=appliance_where) from None
+    if heater is None:
+        if key is None:
+            notes.append(f"no heater in the house file: propane in a {appliance.label} assumed")
+        else:
+            notes.append(f"no heater in the house file: a {appliance.label} assumed")
+    elif not same:
+        notes.append(
+            f"{fuel.label} differs from the installed heater's fuel: a {appliance.label} at "
+            f"{appliance.efficiency:.0%} is assumed"
+        )
+    else:
+        notes.append(
+            f"a {appliance.label} at {appliance.efficiency:.0%} instead of the installed heater"
+        )
+    return HeatSource(fuel, appliance, appliance.efficiency, False, None, tuple(notes))

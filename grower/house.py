@@ -76,7 +76,13 @@ SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
     },
     "curtain": {"kind": ("text", True), "closed_at_night": ("bool", False)},
     "control": {"vent_temperature": ("temperature", False)},
-    "stock": {"fuel": ("text", False), "on_hand": ("text", False), "price": ("number", False)},
+    "stock": {
+        "fuel": ("text", False),
+        "on_hand": ("text", False),
+        "fill": ("text", False),  # "30%": a tank's gauge reading, a cylinder's share of full
+        "withdrawal": ("text", False),  # "vapour" (default) or "liquid" (with a vaporiser)
+        "price": ("number", False),
+    },
 }
 LIST_SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
     "mass": {
@@ -401,6 +407,8 @@ def from_mapping(doc: Mapping[str, Any], *, source: str = "house") -> House:
 
     ctl = _section(doc.get("control", {}), SCHEMA["control"], at("control"))
     stock = _section(doc.get("stock", {}), SCHEMA["stock"], at("stock"))
+    if stock.get("withdrawal", "vapour") not in ("vapour", "vapor", "liquid"):
+        raise InputError('must be "vapour" or "liquid"', where=at("stock.withdrawal"))
     calibration = doc.get("calibration", {})
     if not isinstance(calibration, Mapping):
         raise InputError("must be a table", where=at("calibration"))

@@ -285,8 +285,9 @@ def air_mass_coupling(house: House, longwave_transmittance: float | None = None)
 
 
 def _cover_emissivity(longwave_transmittance: float) -> float:
-    """Long-wave emissivity of a cover's outer face: 1 − τ_lw, reflectance neglected, at
-    most 0.9 (Kirchhoff's law; glass ≈ 0.9 — common practice, no source)."""
+    """Long-wave emissivity of a cover's outer face where its table gives none: 1 − τ_lw,
+    reflectance neglected, at most 0.9 (Kirchhoff's law; most building materials are near
+    0.9 — common practice, no source)."""
     return min(max(1.0 - longwave_transmittance, 0.0), 0.9)
 
 
@@ -329,7 +330,9 @@ def conductances(
     losses = []
     for s, w in zip(house.surfaces, weights, strict=True):
         through = k_fs * w / total_weight / s.area_m2 if total_weight > 0 and s.area_m2 > 0 else 0.0
-        eps_face = _cover_emissivity(s.material.longwave_transmittance)
+        eps_face = s.material.outer_emissivity
+        if eps_face is None:
+            eps_face = _cover_emissivity(s.material.longwave_transmittance)
         h_face = radiative_coefficient(eps_face, cover_temp_c)
         u_cond = max(s.material.u_w_m2k - through, 0.05 * s.material.u_w_m2k)
         u_cond = wind_u_value(u_cond, wind_m_s, h_face)

@@ -126,12 +126,12 @@ def cautions(
     if storage:
         out.append(storage)
     if fuel.name == "propane":
-        # No published vaporisation table was found; defer to the supplier.
+        # the vapour check itself is grower.vaporisation (the trade's approximate tables)
         need = f" {btu_h:,.0f} Btu/h" if btu_h is not None else " the heater's input"
         out.append(
             "Cold weather: a propane tank vaporises less gas as it gets colder and emptier; "
-            f"ask the supplier whether the tank can supply{need} on the coldest night (no "
-            "published table was found for this)."
+            "grower's vapour check uses the trade's approximate tables: have the supplier "
+            f"confirm the tank can supply{need} on the coldest night."
         )
     if fuel.name == "electricity":
         if input_w is not None:

@@ -116,6 +116,8 @@ def test_every_material_number_has_a_basis(key):
     assert material.label.strip()
     assert not material.user_defined
     fields = {"u_w_m2k", "longwave_transmittance", "solar_transmittance"}
+    if material.outer_emissivity is not None:
+        fields.add("outer_emissivity")
     assert set(material.basis) == fields
     for name, basis in material.basis.items():
         assert _valid_basis(basis), (key, name, basis)
@@ -136,6 +138,11 @@ def test_material_values_are_physically_sane(key):
         assert m.solar_transmittance == 0.0
     else:
         assert m.solar_transmittance > 0.5  # a glazing lets the sun in
+    if m.outer_emissivity is not None:
+        # Kirchhoff: what the face emits it absorbs, and what passes is not absorbed
+        assert 0.0 < m.outer_emissivity <= 1.0 - m.longwave_transmittance + 1e-9 or (
+            "over-glass" in key or "double" in key  # the outer face is one layer of the stack
+        )
 
 
 @pytest.mark.parametrize(

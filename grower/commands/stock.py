@@ -36,6 +36,25 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         help='fuel on hand, e.g. "320 gal", "900 L", "3 100-lb cylinders"',
     )
     p.add_argument(
+        "--fill",
+        metavar="PCT",
+        help="how full the containers are now, e.g. 30%% (a tank's gauge reading; for "
+        "cylinders the share of a full fill); default full, or [stock] fill",
+    )
+    p.add_argument(
+        "--reserve",
+        metavar="PCT",
+        default="30%",
+        help="refill level to order at, read like --fill (default 30%%; the trade orders at 20–30%%)",
+    )
+    p.add_argument(
+        "--lead-time",
+        type=float,
+        default=0.0,
+        metavar="DAYS",
+        help="days from ordering to delivery (default 0)",
+    )
+    p.add_argument(
         "--price",
         type=float,
         metavar="P",
@@ -103,6 +122,15 @@ def run(args: argparse.Namespace) -> int:
                 )
     if args.price is not None and not args.price >= 0:
         raise InputError("must be zero or more", where="--price")
+    if not 0 <= args.lead_time <= 365:
+        raise InputError(f"{args.lead_time:g} days must be within 0–365", where="--lead-time")
+    from grower import fuels
+
+    reserve = fuels.parse_fill(args.reserve, "--reserve")
+    crop_alarm = None
+    if alarm is not None:
+        label = f"{crop.name} ({stage.name})" if crop else "your --threshold"
+        crop_alarm = (label, alarm)
     forecast = get_forecast(args, h, days=args.days)
     start = start_time(args, h, forecast)
 
@@ -126,11 +154,15 @@ def run(args: argparse.Namespace) -> int:
             night_setpoint_c=night,
             fuel_name=args.fuel,
             on_hand_text=args.on_hand,
+            fill_text=args.fill,
             price=args.price,
             unit=args.fuel_unit,
             kind=args.model,
             start=start,
             use_calibration=not args.no_calibration,
+            reserve_pct=reserve,
+            lead_time_days=args.lead_time,
+            crop=crop_alarm,
             progress=progress,
         )
     finally:

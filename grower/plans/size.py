@@ -10,10 +10,11 @@ ignored: they help for a few hours, not through a long cold night.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from typing import Any
 
-from grower import fuels, network, safety, sky
-from grower.house import House, _at
+from grower import fuels, network, safety, sky, vaporisation
+from grower.house import House
 from grower.units import W_PER_BTU_H
 
 #: heater output over the design heat loss (common practice, no source: sizing methods
@@ -81,6 +82,7 @@ class SizeResult:
     installed_holds: bool | None
     cautions: tuple[str, ...]
     notes: tuple[str, ...]
+    vapour: Any = None  # grower.vaporisation.VapourCheck for the recommended input
 
 
 @dataclass(frozen=True)
@@ -210,16 +212,13 @@ def size(
         )
         saving = design.total_w - closed.total_w
     loss = max(design.total_w, 0.0)
-    fuel_key = fuel_name or (house.heaters[0].fuel if house.heaters else "propane")
-    fuel = _at(fuels.get_fuel, fuel_key, "--fuel")
-    if appliance_name is None and house.heaters and house.heaters[0].fuel == fuel.name:
-        appliance_name = house.heaters[0].appliance
-    appliance = _at(fuels.appliance_for, fuel, "--appliance", appliance_name)
+    source = fuels.heat_source(house, fuel_name, appliance_name)
+    fuel, appliance = source.fuel, source.appliance
     output = loss * safety_factor
-    inp = output / appliance.efficiency
+    inp = output / source.efficiency
     per_hour = fuels.fuel_per_hour(inp, fuel)
     electric = fuel.name == "electricity"
-    units = unit_choices(inp, electric, appliance.efficiency, loss)
+    units = unit_choices(inp, electric, source.efficiency, loss)
     air = {} if electric else combustion_air_openings(inp)
     installed = house.heater_output_w
     notes = [
@@ -261,7 +260,7 @@ def size(
         curtain_saving_w=saving,
         safety_factor=safety_factor,
         recommended_output_w=output,
-        efficiency=appliance.efficiency,
+        efficiency=source.efficiency,
         appliance=appliance.label,
         recommended_input_w=inp,
         fuel=fuel,
@@ -272,4 +271,7 @@ def size(
         installed_holds=(installed >= loss) if house.heaters else None,
         cautions=safety.cautions(fuel, appliance, inp),
         notes=tuple(notes),
+        vapour=vaporisation.house_check(
+            house, replace(source, input_w=inp), design_outside_c, design_fill_pct=30.0
+        ),
     )

@@ -1,11 +1,18 @@
-"""`stock`: the fuel a forecast cold spell burns, and when the fuel on hand runs out.
+"""`stock`: the fuel a forecast cold spell burns, when the fuel on hand runs out, when to
+order, whether the containers can vaporise what the heater draws, and what falls short.
 
-The house is run through the whole forecast with a thermostat heater (the installed
-one, or unlimited when the house file has none) holding the day setpoint from sunrise
-to sunset and the night setpoint otherwise; sun warms it by day and above the vent
-temperature ventilation removes the surplus instead of storing it in the soil. An
-energy curtain is drawn from sunset to sunrise. Each day and each night is its own
-segment, with the conductances at that segment's mean wind; the state carries over.
+The house runs through the whole forecast on its thermostat (`plans.thermostat_run`).
+The steps, each a function of its own: the span of the forecast used, the heat source
+(`grower.fuels.heat_source`, the rule tonight and size use too), the fuel on hand and
+its fill, the run, the days, the run-out time, the order-by date, the vapour check, the
+crop check, and the shortfalls the report opens with.
+
+Order-by date: the day the fuel reaches the refill level (``reserve``, a tank gauge
+reading or a share of a full cylinder; the trade orders at 20–30 %, and 30 % — the
+earlier date — is the default: common practice, no source) less the delivery lead
+time; the amount is what fills the containers again to full (a tank to 80 %, the
+filling limit in fuels.toml). Past the forecast's end the date is extrapolated at the
+forecast's mean rate and marked so.
 """
 
 from __future__ import annotations
@@ -18,15 +25,17 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from grower import fuels, safety
+from grower import fuels, safety, vaporisation
 from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
-from grower.plans import runs
+from grower.plans import thermostat_run as tr
 from grower.plans.tonight import when
 
-#: solver grid step [s]; the run-out time is placed inside a step by its energy
-STEP_S = 600.0
+#: refill level when none is given [%]: the cautious end of the trade's 20–30 %
+DEFAULT_RESERVE_PCT = 30.0
+#: air below the setpoint by more than this counts as not held [K]
+HELD_TOL_K = 0.05
 
 
 @dataclass(frozen=True)
@@ -38,6 +47,52 @@ class Day:
     min_air_c: float
     hours_below_setpoint: float
     vented_kwh: float
+
+
+@dataclass(frozen=True)
+class Order:
+    """When to order and how much (amounts in the stock's unit)."""
+
+    reserve_pct: float
+    lead_time_days: float
+    reserve_amount: float  # the refill level
+    reserve_at: dt.datetime | None  # when the fuel reaches it
+    order_by: dt.date | None
+    order_now: bool  # the order-by date is today or already past
+    amount: float  # fills the containers to full from the refill level
+    unit: str
+    extrapolated: bool  # reserve_at lies past the forecast, at its mean rate
+    capacity_known: bool  # False: no containers given, the stock taken as full
+
+
+@dataclass(frozen=True)
+class CropCheck:
+    crop: str
+    alarm_c: float
+    first_at: dt.datetime | None  # first time the plants are below the alarm
+    hours_below: float
+    min_plant_c: float
+
+
+@dataclass(frozen=True)
+class Shortfall:
+    """One thing that falls short: ``kind`` is "crop", "heater", "fuel" or "vapour"."""
+
+    kind: str
+    at: dt.datetime | None
+    hours: float | None = None
+    value: float | None = None  # crop: min plant °C; heater: min air °C; vapour: W
+    extra_w: float | None = None  # heater: more output that would hold the coldest hour
+
+
+@dataclass(frozen=True)
+class Heating:
+    fuel: fuels.Fuel
+    appliance: str  # its label
+    appliance_key: str
+    efficiency: float
+    heater_output_w: float | None  # None: unlimited
+    input_w: float | None  # the installed heaters' nameplate input [W]
 
 
 @dataclass(frozen=True)
@@ -66,7 +121,13 @@ class StockResult:
     price: float | None
     cost: float | None
     hours_below_setpoint: float
+    min_air_c: float
     peak_w: float
+    order: Order | None
+    vapour: vaporisation.VapourCheck
+    crop: CropCheck | None
+    shortfalls: tuple[Shortfall, ...]
+    n_runs: int
     assumptions: tuple[str, ...]
     forecast_source: str
     forecast_attribution: str | None
@@ -75,52 +136,11 @@ class StockResult:
     cautions: tuple[str, ...]
 
 
-def segments(
-    house: House, start: pd.Timestamp, end: pd.Timestamp
-) -> list[tuple[pd.Timestamp, pd.Timestamp, bool]]:
-    """(from, to, is_night) between sunrises and sunsets (one segment without a site)."""
-    if house.site is None:
-        return [(start, end, True)]
-    from grower import diurnal
-
-    rises, sets = diurnal.sun_events(
-        house.site.latitude_deg, house.site.longitude_deg, start.timestamp(), end.timestamp()
-    )
-    events = sorted([(t, "rise") for t in rises] + [(t, "set") for t in sets])
-    t0, t1 = start.timestamp(), end.timestamp()
-    # night at the start when the last event before it was a sunset
-    night = next((kind == "set" for t, kind in reversed(events) if t <= t0), True)
-    out: list[tuple[pd.Timestamp, pd.Timestamp, bool]] = []
-    cut = start
-    for t, kind in events:
-        if t0 < t < t1:
-            ts = pd.Timestamp(t, unit="s", tz="UTC").tz_convert(start.tz)
-            out.append((cut, ts, night))
-            cut, night = ts, kind == "set"
-    out.append((cut, end, night))
-    return out
+# ---------------------------------------------------------------- steps
 
 
-def stock(
-    house: House,
-    forecast,
-    *,
-    setpoint_c: float,
-    night_setpoint_c: float | None,
-    fuel_name: str | None = None,
-    on_hand_text: str | None = None,
-    price: float | None = None,
-    unit: str | None = None,
-    kind: hm.ModelKind = "two-node",
-    start: pd.Timestamp | None = None,
-    now: pd.Timestamp | None = None,
-    use_calibration: bool = True,
-    progress: Callable[[int, int], None] | None = None,
-) -> StockResult:
-    """Fuel for `house` through `forecast`; see the module docstring."""
-    from grower import weather
-
-    night_set = setpoint_c if night_setpoint_c is None else night_setpoint_c
+def span(forecast, start, now) -> tuple[pd.Timestamp, pd.Timestamp, list[str]]:
+    """The stretch of the forecast to run: from now (or its start) to its end."""
     now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
     first, last = forecast.start, forecast.end
     notes: list[str] = []
@@ -132,29 +152,19 @@ def stock(
             raise InputError(
                 f"the forecast ends at {last.isoformat()}, before now", where=forecast.source
             )
-    end = last
-    if (end - start).total_seconds() < 6 * 3600:
+    if (last - start).total_seconds() < 6 * 3600:
         raise InputError(
             "the forecast covers less than 6 hours from the start", where=forecast.source
         )
+    return start, last, notes
 
-    # fuel and appliance
-    heater = house.heaters[0] if house.heaters else None
-    fuel_key = fuel_name or house.stock.get("fuel") or (heater.fuel if heater else None)
-    if fuel_key is None:
-        raise InputError(
-            "which fuel? give --fuel (the house file has no heater or [stock] fuel)", where="--fuel"
-        )
-    fuel = fuels.get_fuel(fuel_key)
-    if heater is not None and heater.fuel == fuel.name:
-        eff, appliance = heater.efficiency, heater.appliance or fuel.default_appliance
-    else:
-        appliance = fuel.default_appliance
-        eff = fuels.get_appliance(appliance).efficiency
-        if heater is not None:
-            notes.append(
-                f"--fuel {fuel.name} differs from the installed heater's; a {appliance} is assumed"
-            )
+
+def heating(
+    house: House, fuel_name: str | None, use_calibration: bool
+) -> tuple[Heating, list[str]]:
+    """Fuel, appliance and heater limit, by `fuels.heat_source` (the one rule)."""
+    src = fuels.heat_source(house, fuel_name)
+    notes = list(src.notes)
     q_max = house.heater_output_w if house.heaters else math.inf
     measured = hm.calibrated_heater_output(house, use_calibration) if house.heaters else None
     if measured is not None:
@@ -162,153 +172,358 @@ def stock(
         notes.append(f"heater output {q_max / 1e3:.1f} kW as measured by grower fit")
     if not house.heaters:
         notes.append("no heater in the house file: an unlimited heater holds the setpoints")
+    out = None if math.isinf(q_max) else q_max
+    heat = Heating(
+        src.fuel, src.appliance.label, src.appliance.name, src.efficiency, out, src.input_w
+    )
+    return heat, notes
 
-    on_hand_src = on_hand_text if on_hand_text is not None else house.stock.get("on_hand")
-    on_hand = fuels.parse_amount(on_hand_src, fuel, where="--on-hand") if on_hand_src else None
-    out_unit = unit or (on_hand.unit if on_hand else fuel.unit)
+
+def on_hand(
+    house: House, fuel: fuels.Fuel, text: str | None, fill: str | None
+) -> fuels.FuelStock | None:
+    """The fuel on hand (--on-hand, else [stock] on_hand) at its fill (--fill, [stock] fill)."""
+    where = "--on-hand" if text is not None else f"{house.path}: stock.on_hand"
+    src = text if text is not None else house.stock.get("on_hand")
+    if fill is None and text is None:
+        fill = house.stock.get("fill")
+        fill_where = f"{house.path}: stock.fill"
+    else:
+        fill_where = "--fill"
+    if not src:
+        if fill is not None:
+            raise InputError("a fill level needs the fuel on hand (--on-hand)", where=fill_where)
+        return None
+    stock = fuels.parse_amount(src, fuel, where=where)
+    if fill is not None:
+        stock = fuels.with_fill(stock, fuel, fuels.parse_fill(fill, fill_where), fill_where)
+    return stock
+
+
+def daily(run: tr.Run, j_per_unit: float, eff: float, price: float | None) -> tuple[Day, ...]:
+    """Heat, fuel, cost, coldest air and hours not held per local day."""
+    dates, idx = tr.local_days(run)
+    nd = len(dates)
+    heat = np.bincount(idx, run.step_heat_j, nd)
+    vent = np.bincount(idx, run.step_vent_j, nd)
+    below = run.air_c[:-1] < run.setpoint_c - HELD_TOL_K
+    hours = np.bincount(idx, np.where(below, run.step_s, 0.0), nd) / 3600.0
+    first = np.flatnonzero(np.diff(np.concatenate([[-1], idx])))
+    cold = np.minimum.reduceat(run.air_c[:-1], first)
+    out = []
+    for i, date in enumerate(dates):
+        amount = heat[i] / (j_per_unit * eff)
+        out.append(
+            Day(
+                date=date,
+                heat_kwh=heat[i] / 3.6e6,
+                fuel_amount=amount,
+                cost=None if price is None else amount * price,
+                min_air_c=float(cold[i]),
+                hours_below_setpoint=float(hours[i]),
+                vented_kwh=vent[i] / 3.6e6,
+            )
+        )
+    return tuple(out)
+
+
+def fuel_left_j(run: tr.Run, stock: fuels.FuelStock, eff: float) -> np.ndarray:
+    """Fuel energy left at each grid time [J] (negative once it has run out)."""
+    burned = np.concatenate([[0.0], np.cumsum(run.step_heat_j)]) / eff
+    return stock.energy_j - burned
+
+
+def time_of_level(run: tr.Run, left_j: np.ndarray, level_j: float) -> pd.Timestamp | None:
+    """First time the fuel left falls to `level_j`, inside the step where it does."""
+    k = int(np.argmax(left_j <= level_j)) if np.any(left_j <= level_j) else -1
+    if k < 0:
+        return None
+    if k == 0:
+        return run.times[0]
+    drop = left_j[k - 1] - left_j[k]
+    frac = (left_j[k - 1] - level_j) / drop if drop > 0 else 0.0
+    return run.times[k - 1] + pd.Timedelta(seconds=float(frac * run.step_s[k - 1]))
+
+
+def order(
+    run: tr.Run,
+    stock: fuels.FuelStock,
+    fuel: fuels.Fuel,
+    eff: float,
+    reserve_pct: float,
+    lead_time_days: float,
+    start: pd.Timestamp,
+) -> Order:
+    """The order-by date and amount (module docstring)."""
+    j_per = fuel.j_per(stock.unit)
+    known = stock.capacity is not None and stock.container is not None
+    full = stock.capacity if known else stock.amount
+    if known and stock.container.fill_fraction is not None:
+        share = reserve_pct / (100.0 * stock.container.fill_fraction.value)
+    else:
+        share = reserve_pct / 100.0
+    level = full * share
+    left = fuel_left_j(run, stock, eff)
+    at = time_of_level(run, left, level * j_per)
+    extrapolated = False
+    if at is None:
+        seconds = float(run.step_s.sum())
+        rate = (left[0] - left[-1]) / seconds if seconds > 0 else 0.0
+        if rate > 0:
+            at = run.times[-1] + pd.Timedelta(seconds=float((left[-1] - level * j_per) / rate))
+            extrapolated = True
+    by = None
+    now = False
+    if at is not None:
+        day = (at - pd.Timedelta(days=lead_time_days)).date()
+        now = day <= start.date()
+        by = max(day, start.date())
+    return Order(
+        reserve_pct=reserve_pct,
+        lead_time_days=lead_time_days,
+        reserve_amount=level,
+        reserve_at=None if at is None else when(at),
+        order_by=by,
+        order_now=now,
+        amount=full - level,
+        unit=stock.unit,
+        extrapolated=extrapolated,
+        capacity_known=known,
+    )
+
+
+def vapour(
+    run: tr.Run,
+    heat: Heating,
+    stock: fuels.FuelStock | None,
+    withdrawal: str,
+    runs_out: pd.Timestamp | None,
+) -> vaporisation.VapourCheck:
+    """The containers' vapour on the day's coldest heated hour that gives least, at the
+    fill they will have then, against the heaters' input (the unlimited one's peak)."""
+    peak_in = float(run.heat_w.max()) / heat.efficiency
+    input_w = heat.input_w if heat.input_w else peak_in
+    first = vaporisation.check(
+        heat.fuel.name, stock, input_w, float(run.outside_c.min()), 1.0, withdrawal=withdrawal
+    )
+    if not first.applies:
+        return first
+    left = fuel_left_j(run, stock, heat.efficiency)
+    share = (
+        stock.share_full * np.clip(left / stock.energy_j, 0.0, 1.0)
+        if stock.energy_j > 0
+        else 0 * left
+    )
+    firing = run.heat_w > 0
+    if runs_out is not None:
+        firing &= hm.epoch_s(run.times) < runs_out.timestamp()
+    if not firing.any():
+        firing = np.ones_like(firing)
+    dates, idx = tr.local_days(run)
+    idx = np.append(idx, idx[-1])
+    worst = None
+    for d in range(len(dates)):
+        sel = np.flatnonzero((idx == d) & firing)
+        if sel.size == 0:
+            continue
+        k = sel[np.argmin(run.outside_c[sel])]
+        c = vaporisation.check(
+            heat.fuel.name,
+            stock,
+            input_w,
+            float(run.outside_c[k]),
+            float(share[k]),
+            withdrawal=withdrawal,
+            at=when(run.times[k]),
+        )
+        if worst is None or c.supply.capacity_w < worst.supply.capacity_w:
+            worst = c
+    return worst or first
+
+
+def crop_check(run: tr.Run, crop: str, alarm_c: float) -> CropCheck:
+    """Plants (air less the leaf offset) against the crop's alarm temperature."""
+    below = run.plant_c[:-1] < alarm_c
+    first = int(np.argmax(below)) if below.any() else None
+    return CropCheck(
+        crop=crop,
+        alarm_c=alarm_c,
+        first_at=None if first is None else when(run.times[first]),
+        hours_below=float(run.step_s[below].sum() / 3600.0),
+        min_plant_c=float(run.plant_c.min()),
+    )
+
+
+def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall, ...]:
+    """What falls short, worst first: the crop, the heater, the fuel, the vapour.
+
+    `extra_w`: the output the heater lacks (an unlimited heater's peak less its own)."""
+    out = []
+    if crop is not None and crop.first_at is not None:
+        out.append(Shortfall("crop", crop.first_at, crop.hours_below, crop.min_plant_c))
+    below = run.air_c[:-1] < run.setpoint_c - HELD_TOL_K
+    if below.any():
+        k = int(np.argmax(below))
+        out.append(
+            Shortfall(
+                "heater",
+                when(run.times[k]),
+                float(run.step_s[below].sum() / 3600.0),
+                float(run.air_c.min()),
+                extra_w,
+            )
+        )
+    if runs_out is not None:
+        out.append(Shortfall("fuel", runs_out, None, lasts))
+    if vap.applies and vap.short:
+        out.append(Shortfall("vapour", vap.at, None, vap.supply.capacity_w))
+    return tuple(out)
+
+
+def _holding_peak(run: tr.Run, settle_s: float = 3600.0) -> float:
+    """Peak heat [W] outside the hour after each raise of the setpoint (the morning
+    warm-up an unlimited heater does at once is left out: that is a choice of how fast
+    to warm up, not what holds the house)."""
+    t = hm.epoch_s(run.times)
+    raises = t[1:-1][np.diff(run.setpoint_c) > 0]
+    keep = np.ones(t.size, dtype=bool)
+    for r in raises:
+        keep &= ~((t >= r) & (t < r + settle_s))
+    return float(run.heat_w[keep].max()) if keep.any() else float(run.heat_w.max())
+
+
+# ---------------------------------------------------------------- the plan
+
+
+def stock(
+    house: House,
+    forecast,
+    *,
+    setpoint_c: float,
+    night_setpoint_c: float | None,
+    fuel_name: str | None = None,
+    on_hand_text: str | None = None,
+    fill_text: str | None = None,
+    price: float | None = None,
+    unit: str | None = None,
+    kind: hm.ModelKind = "two-node",
+    start: pd.Timestamp | None = None,
+    now: pd.Timestamp | None = None,
+    use_calibration: bool = True,
+    reserve_pct: float = DEFAULT_RESERVE_PCT,
+    lead_time_days: float = 0.0,
+    crop: tuple[str, float] | None = None,
+    progress: Callable[[int, int], None] | None = None,
+) -> StockResult:
+    """Fuel for `house` through `forecast`; see the module docstring.
+
+    `crop` is (label, alarm temperature [°C]) to check the plants against.
+    """
+    from grower import weather
+
+    night_set = setpoint_c if night_setpoint_c is None else night_setpoint_c
+    start, end, notes = span(forecast, start, now)
+    heat, more = heating(house, fuel_name, use_calibration)
+    notes += more
+    fuel, eff = heat.fuel, heat.efficiency
+    stock_ = on_hand(house, fuel, on_hand_text, fill_text)
+    out_unit = unit or (stock_.unit if stock_ else fuel.unit)
     if price is None and house.stock.get("price") is not None and on_hand_text is None:
         price = float(house.stock["price"])
 
-    segs = segments(house, start, end)
-    pressure = house.site.pressure_hpa if house.site else None
-    vent = house.vent_temperature_c
-    curtain_nightly = bool(house.curtain and house.curtain.closed_at_night)
-    times_all: list[pd.DatetimeIndex] = []
-    heat_steps: list[np.ndarray] = []
-    vent_steps: list[np.ndarray] = []
-    air_all: list[np.ndarray] = []
-    set_all: list[np.ndarray] = []
-    power_all: list[np.ndarray] = []
-    x = None
-    model_used = None
-    frame = forecast.frame
-    for i, (a, b, night) in enumerate(segs):
-        if progress:
-            progress(i, len(segs))
-        times = hm.grid(a, b, frame.index, STEP_S)
-        window = frame[
-            (frame.index >= a - pd.Timedelta(hours=1)) & (frame.index <= b + pd.Timedelta(hours=1))
-        ]
-        wind = (
-            float(np.nanmean(window["wind_speed_m_s"]))
-            if "wind_speed_m_s" in forecast.given
-            else 0.0
-        )
-        mean_out = float(window["temperature_c"].mean())
-        mdl = hm.build(
-            house,
-            kind=kind,
-            wind_m_s=wind,
-            curtain_closed=curtain_nightly and night,
-            mean_radiant_temp_c=mean_out - 5.0,
-            air_temp_c=mean_out,
-            use_calibration=use_calibration,
-        )
-        model_used = model_used or mdl
-        bnd = hm.boundary(house, mdl, forecast, times, pressure_hpa=pressure)
-        bc = bnd.solver_boundary(mdl)
-        gains = bnd.solver_gains(mdl)
-        sp = night_set if night else setpoint_c
-        if x is None:
-            # start in balance with a house held at its setpoint: air at the setpoint,
-            # the mass at its steady state with the air there (common practice, no source)
-            x = runs.held_steady_state(mdl, bc[0], gains[0], sp)
-            notes.append("the house is taken to start at its setpoint, the soil in balance with it")
-        setpoints = np.full(len(times), sp)
-        res = runs.thermostat(mdl, bnd.times_s, bc, x, setpoints, q_max, gains, vent)
-        x = res.temps_c[0, -1]
-        times_all.append(times)
-        heat_steps.append(res.step_heat_j[0])
-        vent_steps.append(res.step_vent_j[0])
-        air_all.append(res.air_c[0])
-        set_all.append(setpoints)
-        power_all.append(res.heat_w[0])
-    if progress:
-        progress(len(segs), len(segs))
-
-    # stitch: step energies are per step; attribute each to its start time's local date
-    starts = (
-        pd.DatetimeIndex(np.concatenate([t[:-1].as_unit("ns").asi8 for t in times_all]))
-        .tz_localize("UTC")
-        .tz_convert(start.tz)
+    run = tr.simulate(
+        house,
+        forecast,
+        start,
+        end,
+        setpoint_c=setpoint_c,
+        night_setpoint_c=night_set,
+        q_max_w=math.inf if heat.heater_output_w is None else heat.heater_output_w,
+        kind=kind,
+        use_calibration=use_calibration,
+        progress=progress,
     )
-    ends_ = (
-        pd.DatetimeIndex(np.concatenate([t[1:].as_unit("ns").asi8 for t in times_all]))
-        .tz_localize("UTC")
-        .tz_convert(start.tz)
-    )
-    step_j = np.concatenate(heat_steps)
-    vent_j = np.concatenate(vent_steps)
-    air = np.concatenate([a[:-1] for a in air_all])
-    sp_steps = np.concatenate([s[:-1] for s in set_all])
-    dur = (ends_.as_unit("ns").asi8 - starts.as_unit("ns").asi8) / 1e9
-    below = air < sp_steps - 0.05
-    j_per = fuel.j_per(out_unit)
-    days = []
-    for date in sorted(set(starts.date)):
-        sel = starts.date == date
-        e = float(step_j[sel].sum())
-        amount = e / (j_per * eff)
-        days.append(
-            Day(
-                date=date,
-                heat_kwh=e / 3.6e6,
-                fuel_amount=amount,
-                cost=None if price is None else amount * price,
-                min_air_c=float(air[sel].min()),
-                hours_below_setpoint=float(dur[sel][below[sel]].sum() / 3600.0),
-                vented_kwh=float(vent_j[sel].sum() / 3.6e6),
-            )
-        )
-    total_j = float(step_j.sum())
+    notes += run.notes
+    days = daily(run, fuel.j_per(out_unit), eff, price)
+    total_j = run.energy_j
     amount = fuels.fuel_amount(total_j, fuel, eff, out_unit)
-    runs_out = None
-    lasts = None
-    if on_hand is not None:
-        need_j = on_hand.energy_j * eff  # heat the stock delivers
-        cum = np.cumsum(step_j)
-        k = int(np.searchsorted(cum, need_j))
-        if k < len(cum):
-            before = cum[k - 1] if k > 0 else 0.0
-            frac = (need_j - before) / step_j[k] if step_j[k] > 0 else 0.0
-            t_out = starts[k] + pd.Timedelta(seconds=float(frac * dur[k]))
+
+    runs_out = lasts = None
+    the_order = None
+    if stock_ is not None:
+        t_out = time_of_level(run, fuel_left_j(run, stock_, eff), 0.0)
+        if t_out is not None and stock_.energy_j < total_j / eff:
             runs_out = when(t_out)
             lasts = (t_out - start).total_seconds() / 86400.0
+        the_order = order(run, stock_, fuel, eff, reserve_pct, lead_time_days, start)
+        if not the_order.capacity_known:
+            notes.append(
+                "the containers are not given: the refill level is taken as a share of the "
+                "fuel on hand"
+            )
+    withdrawal = str(house.stock.get("withdrawal", "vapour"))
+    vap = vapour(
+        run, heat, stock_, withdrawal, None if runs_out is None else pd.Timestamp(runs_out)
+    )
+    crop_result = crop_check(run, *crop) if crop else None
+
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)
     if note:
         notes.append(note)
-    peak = float(max(p.max() for p in power_all))
+    peak = float(run.heat_w.max())
+    below = run.air_c[:-1] < run.setpoint_c - HELD_TOL_K
+    extra = None
+    if below.any() and heat.heater_output_w is not None:
+        # the same forecast with an unlimited heater: its peak is the output that holds
+        unlimited = tr.simulate(
+            house,
+            forecast,
+            start,
+            end,
+            setpoint_c=setpoint_c,
+            night_setpoint_c=night_set,
+            q_max_w=math.inf,
+            kind=kind,
+            use_calibration=use_calibration,
+        )
+        extra = max(_holding_peak(unlimited) - heat.heater_output_w, 0.0) or None
     return StockResult(
         house_name=house.name,
         house_path=house.path,
         model=kind,
-        calibrated=bool(model_used and model_used.calibrated),
-        k_w_per_k=model_used.k_w_per_k,
-        c_j_per_k=model_used.c_j_per_k,
+        calibrated=run.model.calibrated,
+        k_w_per_k=run.model.k_w_per_k,
+        c_j_per_k=run.model.c_j_per_k,
         setpoint_c=setpoint_c,
         night_setpoint_c=night_set,
-        vent_c=vent,
-        heater_output_w=None if math.isinf(q_max) else q_max,
+        vent_c=house.vent_temperature_c,
+        heater_output_w=heat.heater_output_w,
         start=when(start),
         end=when(end),
-        days=tuple(days),
+        days=days,
         energy_kwh=total_j / 3.6e6,
         fuel=amount,
         fuel_label=fuel.label,
-        appliance=fuels.get_appliance(appliance).label,
-        on_hand=on_hand,
+        appliance=heat.appliance,
+        on_hand=stock_,
         runs_out_at=runs_out,
         lasts_days=lasts,
         containers=fuels.containers_needed(amount, fuel),
         price=price,
         cost=None if price is None else float(amount.amount) * price,
-        hours_below_setpoint=float(dur[below].sum() / 3600.0),
+        hours_below_setpoint=float(run.step_s[below].sum() / 3600.0),
+        min_air_c=float(run.air_c.min()),
         peak_w=peak,
+        order=the_order,
+        vapour=vap,
+        crop=crop_result,
+        shortfalls=shortfalls(run, crop_result, runs_out, lasts, vap, extra),
+        n_runs=run.n_runs,
         assumptions=tuple(notes),
         forecast_source=forecast.source,
         forecast_attribution=forecast.attribution,
         forecast_age_s=forecast.age_s,
         forecast_warnings=tuple(forecast.warnings),
-        cautions=safety.cautions(fuel, appliance, (peak / eff) if peak > 0 else None),
+        cautions=safety.cautions(fuel, heat.appliance_key, heat.input_w or (peak / eff or None)),
     )

@@ -14,11 +14,12 @@ from __future__ import annotations
 
 import datetime as dt
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from grower import fuels, safety, solver
+from grower import fuels, safety, solver, vaporisation
 from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
@@ -120,6 +121,7 @@ class TonightResult:
     plant_c: np.ndarray
     colder_air_c: np.ndarray
     cautions: tuple[str, ...]
+    vapour: Any = None  # grower.vaporisation.VapourCheck at the night's coldest hour
 
     @property
     def safe(self) -> bool:
@@ -290,19 +292,9 @@ def tonight(
     setpoint = threshold_c + b.plant_offset_k
     held = runs.hold(mdl, b.times_s, bc, x0, setpoint, gains)
     hold_peak_w, hold_j = float(held.peak_w[0]), float(held.energy_j[0])
-    if house.heaters:
-        heater = house.heaters[0]
-        fuel = fuels.get_fuel(heater.fuel)
-        eff = heater.efficiency
-        appliance = heater.appliance or fuel.default_appliance
-    else:
-        fuel = fuels.get_fuel("propane")
-        appliance = fuel.default_appliance
-        eff = fuels.get_appliance(appliance).efficiency
-        assumptions.append(
-            "no heater in the house file: fuel shown for propane in a "
-            + fuels.get_appliance(appliance).label
-        )
+    source = fuels.heat_source(house)
+    fuel, appliance, eff = source.fuel, source.appliance.name, source.efficiency
+    assumptions.extend(source.notes)
     # in the unit the grower buys it in, when the house file says so ([stock] on_hand)
     unit = None
     if house.stock.get("on_hand") and fuels.get_fuel(house.stock.get("fuel") or fuel.name) == fuel:
@@ -389,4 +381,11 @@ def tonight(
         plant_c=air[0] - b.plant_offset_k,
         colder_air_c=air[1],
         cautions=cautions,
+        vapour=vaporisation.house_check(
+            house,
+            source,
+            float(b.outside_c.min()),
+            burned_j=hold_j / eff,
+            at=local[int(np.argmin(b.outside_c))],
+        ),
     )

@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from grower.plans.size import SizeResult
+from grower.report import vapour as vapour_report
 from grower.report.common import plain, render_cautions
 from grower.units import (
     W_PER_BTU_H,
@@ -60,6 +61,7 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "installed_holds": r.installed_holds,
         "notes": list(r.notes),
         "cautions": list(r.cautions),
+        **({} if r.vapour is None else vapour_report.fields(r.vapour)),
     }
 
 
@@ -150,6 +152,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
             f"Installed heat: {power_text(r.installed_output_w, system)} output — {verdict} "
             f"(design loss {power_text(r.heat_loss_w, system)})."
         )
+    vapour_report.render(console, r.vapour, system)
     console.print()
     for n in r.notes:
         plain(console, f"· {n}", "dim")

@@ -4,9 +4,10 @@ from __future__ import annotations
 
 from typing import Any
 
-from grower.plans.stock import StockResult
+from grower.plans.stock import Order, Shortfall, StockResult
+from grower.report import vapour
 from grower.report.common import iso, plain, render_cautions
-from grower.units import W_PER_BTU_H, UnitSystem, show_temperature
+from grower.units import J_PER_THERM, UnitSystem, show_temperature
 
 
 def stock_json(r: StockResult) -> dict[str, Any]:
@@ -36,7 +37,14 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         },
         "on_hand": None
         if r.on_hand is None
-        else {"amount": r.on_hand.amount, "unit": r.on_hand.unit, "energy_j": r.on_hand.energy_j},
+        else {
+            "amount": r.on_hand.amount,
+            "unit": r.on_hand.unit,
+            "energy_j": r.on_hand.energy_j,
+            "container": None if r.on_hand.container is None else r.on_hand.container.name,
+            "count": r.on_hand.count,
+            "share_full": r.on_hand.share_full,
+        },
         "runs_out_at": iso(r.runs_out_at),
         "lasts_days": r.lasts_days,
         "price": r.price,
@@ -64,8 +72,100 @@ def stock_json(r: StockResult) -> dict[str, Any]:
             "age_s": r.forecast_age_s,
             "warnings": list(r.forecast_warnings),
         },
+        "min_air_c": r.min_air_c,
+        "order_by": None
+        if r.order is None or r.order.order_by is None
+        else r.order.order_by.isoformat(),
+        "order_amount": None if r.order is None else r.order.amount,
+        "order": None if r.order is None else _order_json(r.order),
+        **vapour.fields(r.vapour),
+        "crop": None
+        if r.crop is None
+        else {
+            "crop": r.crop.crop,
+            "alarm_c": r.crop.alarm_c,
+            "first_below_at": iso(r.crop.first_at),
+            "hours_below": r.crop.hours_below,
+            "min_plant_c": r.crop.min_plant_c,
+        },
+        "shortfalls": [
+            {
+                "kind": f.kind,
+                "at": iso(f.at),
+                "hours": f.hours,
+                "value": f.value,
+                "extra_w": f.extra_w,
+            }
+            for f in r.shortfalls
+        ],
+        "thermostat_runs": r.n_runs,
         "cautions": list(r.cautions),
     }
+
+
+def _order_json(o: Order) -> dict[str, Any]:
+    return {
+        "reserve_pct": o.reserve_pct,
+        "lead_time_days": o.lead_time_days,
+        "reserve_amount": o.reserve_amount,
+        "reserve_at": iso(o.reserve_at),
+        "order_by": None if o.order_by is None else o.order_by.isoformat(),
+        "order_now": o.order_now,
+        "amount": o.amount,
+        "unit": o.unit,
+        "extrapolated": o.extrapolated,
+        "capacity_known": o.capacity_known,
+    }
+
+
+def _when(t) -> str:
+    return f"{t:%a %d %b %H:%M}"
+
+
+def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
+    """One plain sentence for a shortfall, in the report's words."""
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    if f.kind == "crop":
+        c = r.crop
+        return (
+            f"Crop alarm reached: the plants ({c.crop}) fall below {T(c.alarm_c)} from "
+            f"{_when(f.at)}, {f.hours:.1f} h in all, to {T(f.value)}; raise the setpoint or add heat."
+        )
+    if f.kind == "heater":
+        return (
+            f"The heater is too small: it cannot hold the setpoint for {f.hours:.1f} h, from "
+            f"{_when(f.at)}; the air falls to {T(f.value)}."
+            + (
+                f" About {vapour.power(f.extra_w, system)} more output would hold it through "
+                "the coldest hour."
+                if f.extra_w
+                else ""
+            )
+        )
+    if f.kind == "fuel":
+        return (
+            f"The fuel runs out {_when(f.at)}, {f.value:.1f} days from the start, before the "
+            f"forecast ends; order more now."
+        )
+    line, _ = vapour.sentence(r.vapour, system)
+    return "Not enough vapour: " + line
+
+
+def _order_line(o: Order, unit: str, r_start) -> str:
+    amount = f"{o.amount:,.0f} {unit}"
+    refill = f"the {o.reserve_pct:.0f} % refill level"
+    lead = f" with {o.lead_time_days:g} days' delivery" if o.lead_time_days else ""
+    if o.order_by is None:
+        return "No order needed: the house burns no fuel at this rate."
+    if o.order_now:
+        if o.reserve_at is not None and o.reserve_at <= r_start:
+            return f"Order now: the fuel is already at or below {refill}; {amount} fills it up."
+        return f"Order now{lead}: the fuel reaches {refill} {_when(o.reserve_at)}; {amount} fills it up."
+    est = " (past the forecast's end, at its mean rate)" if o.extrapolated else ""
+    return (
+        f"Order by {o.order_by:%a %d %b}{lead}: the fuel reaches {refill} {_when(o.reserve_at)}"
+        f"{est}; {amount} fills it up."
+    )
 
 
 def render_stock(console, r: StockResult, system: UnitSystem) -> None:
@@ -75,53 +175,68 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     unit = r.fuel.unit
     amount = float(r.fuel.amount)
     span = (r.end - r.start).total_seconds() / 86400.0
+    # shortfalls first: nothing reassuring is printed above them
+    for f in r.shortfalls:
+        plain(
+            console,
+            shortfall_line(f, r, system),
+            "bold red" if f.kind != "heater" else "bold yellow",
+        )
     head = (
-        f"[bold]{r.house_name}[/bold]: [bold]{amount:,.1f} {unit}[/bold] of {r.fuel_label} over "
-        f"{span:.1f} days ({r.start:%a %d %b %H:%M} to {r.end:%a %d %b %H:%M})"
+        f"{r.house_name}: {amount:,.1f} {unit} of {r.fuel_label} over {span:.1f} days "
+        f"({_when(r.start)} to {_when(r.end)})"
     )
     if r.cost is not None:
         head += f", cost {r.cost:,.2f}"
-    console.print(head)
-    if r.on_hand is not None:
-        if r.runs_out_at is not None:
-            console.print(
-                f"[bold red]The {r.on_hand.amount:,.0f} {r.on_hand.unit} on hand runs out "
-                f"{r.runs_out_at:%a %d %b at %H:%M}[/bold red] — {r.lasts_days:.1f} days from the start"
-            )
-        else:
-            left = r.on_hand.energy_j * r.fuel.efficiency / 3.6e6 - r.energy_kwh
-            console.print(
-                f"[green]The {r.on_hand.amount:,.0f} {r.on_hand.unit} on hand lasts the forecast[/green] "
-                f"(about {left / r.energy_kwh * span:,.1f} more days at this rate)"
-                if r.energy_kwh > 0
-                else "[green]The fuel on hand lasts the forecast.[/green]"
-            )
+    plain(console, head, "bold")
+    if r.on_hand is not None and r.runs_out_at is None:
+        left = r.on_hand.energy_j * r.fuel.efficiency / 3.6e6 - r.energy_kwh
+        text = f"The {r.on_hand.amount:,.0f} {r.on_hand.unit} on hand lasts the forecast"
+        if r.energy_kwh > 0:
+            text += f" (about {left / r.energy_kwh * span:,.1f} more days at this rate)"
+        plain(console, text + ".", None if r.shortfalls else "green")
+    if r.order is not None:
+        plain(
+            console,
+            _order_line(r.order, r.order.unit, r.start),
+            "bold" if r.order.order_now else None,
+        )
+    if r.crop is not None and r.crop.first_at is None:
+        plain(
+            console,
+            f"The plants ({r.crop.crop}) stay above {T(r.crop.alarm_c)}: coldest {T(r.crop.min_plant_c)}.",
+            None if r.shortfalls else "green",
+        )
+    if not (r.vapour.applies and r.vapour.short):
+        line, _ = vapour.sentence(r.vapour, system)
+        plain(console, line, "dim" if not r.vapour.applies else None)
     setp = T(r.setpoint_c) + (
         "" if r.night_setpoint_c == r.setpoint_c else f" by day, {T(r.night_setpoint_c)} at night"
     )
     heater = (
         "unlimited heater"
         if r.heater_output_w is None
-        else f"heater {r.heater_output_w / 1e3:,.1f} kW output"
+        else f"heater {vapour.power(r.heater_output_w, system)} output"
     )
-    console.print(
-        f"[dim]setpoint {setp}; vent above {T(r.vent_c)}; {heater}, {r.appliance} {r.fuel.efficiency:.0%}[/dim]"
+    plain(
+        console,
+        f"setpoint {setp}; vent above {T(r.vent_c)}; {heater}, {r.appliance} {r.fuel.efficiency:.0%}",
+        "dim",
     )
-    if r.hours_below_setpoint > 0.05:
-        console.print(
-            f"[bold yellow]The heater cannot hold the setpoint for {r.hours_below_setpoint:.1f} h[/bold yellow]"
-        )
     console.print()
+    us = system == "us"
+    heat_label = "heat therm" if us else "heat kWh"
+    heat_of = (lambda kwh: kwh * 3.6e6 / J_PER_THERM) if us else (lambda kwh: kwh)  # noqa: E731
     table = Table()
-    table.add_column("day")
-    table.add_column("heat kWh", justify="right")
+    table.add_column("day", no_wrap=True)
+    table.add_column(heat_label, justify="right")
     table.add_column(f"fuel {unit}", justify="right")
     if r.price is not None:
         table.add_column("cost", justify="right")
     table.add_column("coldest air", justify="right")
-    table.add_column("below setpoint", justify="right")
+    table.add_column("not held", justify="right")
     for d in r.days:
-        row = [d.date.strftime("%a %d %b"), f"{d.heat_kwh:,.0f}", f"{d.fuel_amount:,.1f}"]
+        row = [d.date.strftime("%a %d %b"), f"{heat_of(d.heat_kwh):,.0f}", f"{d.fuel_amount:,.1f}"]
         if r.price is not None:
             row.append(f"{d.cost:,.2f}")
         row += [
@@ -132,7 +247,7 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     table.add_section()
     total = [
         "[bold]total[/bold]",
-        f"[bold]{r.energy_kwh:,.0f}[/bold]",
+        f"[bold]{heat_of(r.energy_kwh):,.0f}[/bold]",
         f"[bold]{amount:,.1f}[/bold]",
     ]
     if r.price is not None:
@@ -142,8 +257,8 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     console.print(table)
     if r.containers:
         parts = [f"{c.count} × {c.container.name}" for c in r.containers]
-        console.print("That is " + ", or ".join(parts) + ".")
-    console.print(f"Peak heat {r.peak_w / 1e3:,.1f} kW ({r.peak_w / W_PER_BTU_H:,.0f} Btu/h).")
+        plain(console, "That is " + ", or ".join(parts) + ".")
+    plain(console, f"Peak heat {vapour.power(r.peak_w, system)}.")
     console.print()
     src = f"Forecast: {r.forecast_source}"
     if r.forecast_age_s is not None:

@@ -7,6 +7,7 @@ from typing import Any
 
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict
 from grower.report import chart
+from grower.report import vapour as vapour_report
 from grower.report.common import iso, plain, render_cautions
 from grower.units import W_PER_BTU_H, UnitSystem, show_temperature, show_temperature_difference
 
@@ -87,6 +88,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
             "warnings": list(r.forecast_warnings),
         },
         "cautions": list(r.cautions),
+        **({} if r.vapour is None else vapour_report.fields(r.vapour)),
         "series": [
             {
                 "time": iso(t),
@@ -259,6 +261,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     )
     chart.render(console, rows)
     console.print()
+    vapour_report.render(console, r.vapour, system)
     src = f"Forecast: {r.forecast_source}"
     if r.forecast_issued_at:
         src += f", issued {r.forecast_issued_at:%d %b %H:%M}"

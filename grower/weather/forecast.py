@@ -161,7 +161,10 @@ def assumptions(forecast: Forecast) -> tuple[str, ...]:
     notes = []
     if forecast.assumed_clear:
         notes.append("no cloud cover given: clear sky assumed (the cautious side)")
-    elif "cloud_cover_low_pct" not in forecast.given:
+    elif (
+        "cloud_cover_low_pct" not in forecast.given
+        and np.nanmax(forecast.values("cloud_cover_pct")) > 0.0
+    ):
         notes.append(
             "cloud height not given: cloud taken with its base at 2 km, an overcast about "
             "4 K colder than low stratus (the cautious side)"

@@ -1,0 +1,234 @@
+"""The assembled model against the outside world: an independent integration of the
+network's equations, measured unheated tunnels, and the trade's heat-loss method."""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+
+import numpy as np
+import pint
+import pytest
+from scipy.integrate import solve_ivp
+
+from grower import house, network
+from grower.cli import main
+from grower.plans import model as hm
+from grower.plans import runs
+
+from .conftest import EXAMPLES
+
+UREG = pint.UnitRegistry()
+
+
+def _run_json(capsys, *argv: str) -> dict:
+    code = main([*argv, "--json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    return json.loads(out)
+
+
+def _constant_night(tmp_path, *, temp_c=-5.0, dew_c=-8.0, cloud=0, wind=1.0, hours=20) -> str:
+    lines = ["time,temperature_c,dew_point_c,cloud_cover_pct,wind_speed_m_s,shortwave_w_m2"]
+    for h in range(hours):
+        day, hour = divmod(16 + h, 24)
+        lines.append(f"2026-12-{3 + day:02d}T{hour:02d}:00-05:00,{temp_c},{dew_c},{cloud},{wind},0")
+    path = tmp_path / "night.csv"
+    path.write_text("\n".join(lines) + "\n")
+    return str(path)
+
+
+def _odes(cond: network.Conductances, caps: network.Capacities, t_out, t_sky):
+    """The two-node equations as `grower.network`'s docstring writes them, by hand;
+    `t_sky` a function of time [s]."""
+    g, k_g = caps.air_mass_w_per_k, caps.ground_w_per_k
+
+    def rhs(t, x):
+        t_a, t_m = x
+        t_s = t_sky(t)
+        q_a = (
+            cond.outside_w_per_k * (t_out - t_a)
+            + cond.cover_sky_w_per_k * (t_s - t_a)
+            + g * (t_m - t_a)
+        )
+        q_m = (
+            g * (t_a - t_m)
+            + cond.floor_sky_w_per_k * (t_s - t_m)
+            + k_g * (caps.deep_ground_c - t_m)
+        )
+        return [q_a / caps.air_j_per_k, q_m / caps.mass_j_per_k]
+
+    return rhs
+
+
+def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
+    # An independent integration (scipy's RK45 at rtol 1e-10) of the network's equations,
+    # written here from the conductances and capacities, on a constant clear night: the
+    # crossing time that `tonight` reports (to the second) and the peak heat to hold.
+    path = _constant_night(tmp_path)
+    d = _run_json(
+        capsys,
+        "tonight",
+        str(EXAMPLES / "gable-house.toml"),
+        "--threshold",
+        "1C",
+        "--forecast",
+        path,
+        "--inside-now",
+        "8C",
+        "--soil-now",
+        "9C",
+        "--start",
+        "2026-12-03T16:00",
+    )
+    h = house.read(EXAMPLES / "gable-house.toml")
+    mdl = hm.build(h, wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
+    # the sky the run used, from its effective temperature (the hour term of Martin &
+    # Berdahl moves it through the night), linear between the series' times
+    k_o, k_s = mdl.k_conduction_w_per_k, mdl.k_sky_w_per_k
+    start = dt.datetime.fromisoformat(d["start"])
+    ts = np.array(
+        [(dt.datetime.fromisoformat(r["time"]) - start).total_seconds() for r in d["series"]]
+    )
+    skies = np.array(
+        [(r["effective_outside_c"] * (k_o + k_s) - k_o * -5.0) / k_s for r in d["series"]]
+    )
+    offset = d["series"][5]["air_c"] - d["series"][5]["plant_c"]
+    t_alarm_air = d["threshold_c"] + offset
+    rhs = _odes(mdl.conductances, mdl.capacities, -5.0, lambda t: np.interp(t, ts, skies))
+
+    def crossing(_t, x):
+        return x[0] - t_alarm_air
+
+    crossing.terminal, crossing.direction = True, -1
+    sol = solve_ivp(rhs, (0, 20 * 3600), [8.0, 9.0], events=crossing, rtol=1e-10, atol=1e-10)
+    got = (dt.datetime.fromisoformat(d["crossing_time"]) - start).total_seconds()
+    assert got == pytest.approx(float(sol.t_events[0][0]), abs=1.0)  # printed to the second
+
+    # hold: the air held at the alarm, the mass floats; the heat is the air's balance
+    g = mdl.capacities.air_mass_w_per_k
+
+    def mass_only(_t, x):
+        return [rhs(_t, [t_alarm_air, x[0]])[1]]
+
+    end = (dt.datetime.fromisoformat(d["series"][-1]["time"]) - start).total_seconds()
+    m = solve_ivp(mass_only, (0, end), [9.0], rtol=1e-10, atol=1e-10, dense_output=True)
+    tt = np.linspace(0, end, 2001)
+    t_m = m.sol(tt)[0]
+    c = mdl.conductances
+    q = (
+        c.outside_w_per_k * (t_alarm_air + 5.0)
+        + c.cover_sky_w_per_k * (t_alarm_air - np.interp(tt, ts, skies))
+        + g * (t_alarm_air - t_m)
+    )
+    # the sky is rebuilt from the printed series (interpolated between its times) and the
+    # peak taken on 2,001 points: 0.2 %
+    assert d["hold_peak_w"] == pytest.approx(max(q.max(), 0.0), rel=2e-3)
+
+
+def _unheated_minimum(name: str, kind: str, x0_balanced: bool, forecast: str):
+    h = house.read(EXAMPLES / f"{name}.toml")
+    from grower import weather
+
+    fc = weather.read_forecast_csv(forecast, site=h.site)
+    fr = fc.frame
+    times = hm.grid(fr.index[0], fr.index[-1], fr.index, 600.0)
+    wind = float(np.nanmean(fr["wind_speed_m_s"]))
+    mean_out = float(fr["temperature_c"].mean())
+    out = {}
+    for k in ("two-node", "lumped"):
+        m = hm.build(
+            h, kind=k, wind_m_s=wind, mean_radiant_temp_c=mean_out - 5, air_temp_c=mean_out
+        )
+        b = hm.boundary(h, m, fc, times)
+        bc, gains = b.solver_boundary(m), b.solver_gains(m)
+        out[k] = (m, b, bc, gains)
+    m2, b, bc2, g2 = out["two-node"]
+    if x0_balanced:
+        net = m2.network
+        lap = (
+            np.diag(net.coupling_w_per_k.sum(1) + net.boundary_w_per_k.sum(1))
+            - net.coupling_w_per_k
+        )
+        x0 = np.linalg.solve(lap, net.boundary_w_per_k @ bc2[0] + g2[0])
+    else:
+        soil = m2.capacities.deep_ground_c
+        x0 = np.array([hm.quasi_steady_air(m2, bc2, g2, soil), soil])
+    m, b, bc, gains = out[kind]
+    x = x0 if kind == "two-node" else x0[:1]
+    tr = runs.free_float(m, b.times_s, bc[None], x[None], gains)
+    night = b.sun_w <= 0.0
+    return tr.air_c[0], b.outside_c, night
+
+
+def test_unheated_single_poly_tunnel_clear_night_against_measurements():
+    # Unheated plastic tunnels on clear nights: colder than outside until condensate forms
+    # on the film, night minima on average 1.3 K above outside (Savage 1980,
+    # Agrochemophysica 12:5–13, abstract). The band of about −1…+3 K around outside for
+    # the night minimum in unheated plastic tunnels is from memory (not read in a source
+    # here). The example tunnel (single poly) on the example's clear, calm, dry night (dew
+    # point −3 °C, the coldest case such a band covers), with the soil at the deep-ground
+    # temperature, must fall in it.
+    air, outside, _ = _unheated_minimum(
+        "hoop-tunnel", "two-node", False, str(EXAMPLES / "forecast-cold-night.csv")
+    )
+    gap = air.min() - outside.min()
+    assert -1.0 <= gap <= 3.0, gap
+
+
+@pytest.mark.parametrize("name", ["hoop-tunnel", "gable-house", "glass-range"])
+def test_lumped_and_two_node_within_a_kelvin_on_unheated_nights(name):
+    # The two models of one house, from the same state in balance with the evening, on the
+    # example clear night: the coldest air of the night within 1 K, and every hour of the
+    # dark within 1.6 K (after sunrise the one-node model lags the sun by design).
+    a2, outside, night = _unheated_minimum(
+        name, "two-node", True, str(EXAMPLES / "forecast-cold-night.csv")
+    )
+    a1, _, _ = _unheated_minimum(name, "lumped", True, str(EXAMPLES / "forecast-cold-night.csv"))
+    assert abs(a2.min() - a1.min()) <= 1.0
+    # in the early evening the one node (air and the mass's share together) lags the
+    # two-node air, which drops in minutes: within 1.6 K, the gap closing by morning
+    gap = np.abs(a2[night] - a1[night])
+    assert gap.max() <= 1.6 and gap[-1] <= 1.0
+
+
+def test_size_handbook_figure_is_the_trades_hand_method(capsys, tmp_path):
+    # A 30 × 100 ft double-poly gable house, 8 ft walls, 14 ft ridge, 1 air change per
+    # hour, held at 60 °F at −10 °F: by hand in the trade's US units (Rutgers NJAES,
+    # "Greenhouse Energy Efficiency (Heating)": structural + infiltration + perimeter),
+    # U = 0.7 Btu/h·ft²·°F for double poly (eXtension "Glazing Materials": 0.6–0.7 for any
+    # double layer; the table row grower ships), 0.018 Btu/ft³·°F per air change (derived,
+    # ρ = 1.2 kg/m³, c_p = 1006 J/kg·K) and F = 0.8 Btu/h·ft·°F (ASHRAE / ASAE EP406 as
+    # recalled — from memory). The geometry is exact for a gable: roof 2 × 100 × √(15² + 6²).
+    text = (
+        '[house]\nname = "hand"\nshape = "gable"\nwidth = "30 ft"\nlength = "100 ft"\n'
+        'sidewall_height = "8 ft"\nridge_height = "14 ft"\nbays = 1\n\n[cover]\n'
+        'roof = "double-poly"\nsides = "double-poly"\nends = "double-poly"\n\n'
+        "[air]\nchanges_per_hour = 1.0\n"
+    )
+    path = tmp_path / "hand.toml"
+    path.write_text(text)
+    d = _run_json(
+        capsys, "size", str(path), "--outside", "-10F", "--hold", "60F", "--wind", "15mph"
+    )
+    roof = 2 * 100 * (15**2 + 6**2) ** 0.5
+    sides = 2 * 100 * 8
+    ends = 2 * (30 * 8 + 0.5 * 30 * 6)
+    volume = 30 * 100 * 8 + 0.5 * 30 * 6 * 100
+    dt_f = 70.0
+    h = house.read(path)
+    u = h.surfaces[0].material.u_w_m2k
+    u_btu = UREG.Quantity(u, "W/(m**2 * delta_degC)").to("Btu/(hour * foot**2 * delta_degF)").m
+    assert u_btu == pytest.approx(0.7, abs=0.005)  # the shipped row, as published
+    by_hand = u_btu * (roof + sides + ends) * dt_f + 0.018 * volume * dt_f + 0.8 * 260 * dt_f
+    got = UREG.Quantity(d["handbook_loss_w"], "W").to("Btu/hour").m
+    # the 0.018 figure is printed to 2 significant digits (0.0181 from the same ρ·c_p, and
+    # grower uses standard air at 1.204 kg/m³): within 1 %
+    assert got == pytest.approx(by_hand, rel=0.01)
+    # at the tables' 15 mph nothing is added for wind; the clear sky adds its excess only
+    assert d["wind_allowance_w"] == pytest.approx(0.0, abs=1e-6 * d["handbook_loss_w"])
+    assert d["heat_loss_w"] == pytest.approx(d["handbook_loss_w"] + d["sky_allowance_w"])
+    # a clear night's extra on a double film: IR-blocking film saves 30–35 % on a clear
+    # night (REFERENCES: Bartok) — the sky's part of the loss is less than that
+    assert 0.0 < d["sky_allowance_w"] < 0.35 * d["heat_loss_w"]
+    assert d["recommended_output_w"] == pytest.approx(1.2 * d["heat_loss_w"])

@@ -1,0 +1,326 @@
+"""`stock`: the run, the order-by date, the shortfalls, the crop and the vapour check.
+
+Expectations come from hand calculations on the run's own numbers (a constant cold snap
+holds a constant heat, so fuel falls in a straight line) and from the published tables
+the fuel and vapour modules carry (named in tests/test_vaporisation.py).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+from rich.console import Console
+
+from grower import fuels, house
+from grower.cli import main
+from grower.plans import stock as plan
+from grower.report import stock as report
+from tests.conftest import MINIMAL, write_house
+
+SNAP = "examples/forecast-cold-snap.csv"
+
+
+def run_json(capsys, *argv: str) -> dict:
+    code = main([*argv, "--json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    return json.loads(out)
+
+
+def constant_forecast(path, temp_c: float, days: int, start="2026-12-01T00:00-05:00") -> str:
+    t = pd.date_range(start, periods=days * 24 + 1, freq="h")
+    rows = ["time,temperature_c,dew_point_c,cloud_cover_pct,wind_speed_m_s,shortwave_w_m2"]
+    rows += [f"{x.isoformat(timespec='minutes')},{temp_c},{temp_c - 1},100,0,0" for x in t]
+    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    return str(path)
+
+
+def test_order_by_on_a_constant_cold_snap(tmp_path, capsys):
+    # no [site] (no day and night), no heater (unlimited), the lumped model, a constant
+    # −10 °C with no sun: the house held at 10 °C burns at one steady rate all along
+    h = write_house(tmp_path, MINIMAL + '\n[stock]\nfuel = "propane"\n')
+    fc = constant_forecast(tmp_path / "snap.csv", -10.0, 20)
+    d = run_json(
+        capsys,
+        "stock",
+        str(h),
+        "--setpoint",
+        "10C",
+        "--forecast",
+        fc,
+        "--model",
+        "lumped",
+        "--on-hand",
+        "1 500-gal tank",
+        "--fill",
+        "60%",
+        "--reserve",
+        "30%",
+        "--lead-time",
+        "2",
+        "--start",
+        "2026-12-01T00:00-05:00",
+    )
+    span_days = 20.0
+    per_day = d["fuel"]["amount"] / span_days  # gal/day, steady
+    full_days = [x["fuel_amount"] for x in d["days"][1:-1]]
+    assert np.allclose(full_days, per_day, rtol=1e-3), "a constant snap burns evenly"
+    # by hand: a 500-gal tank holds 400 gal at the 80 % filling limit; its gauge at 60 %
+    # is 300 gal and the refill level (30 % on the gauge) 150 gal
+    assert d["on_hand"]["amount"] == pytest.approx(300.0)
+    # by hand from the daily totals: the day on which 150 gal have burned, and the
+    # share of that day (the Berdahl–Martin sky carries a small diurnal term, so the
+    # heat varies by about ±0.2 % over a day: a few minutes on the reserve time)
+    burned = np.cumsum([x["fuel_amount"] for x in d["days"]])
+    k = int(np.searchsorted(burned, 150.0))
+    before = burned[k - 1] if k else 0.0
+    reach_days = k + (150.0 - before) / d["days"][k]["fuel_amount"]
+    reserve_at = dt.datetime(2026, 12, 1, tzinfo=dt.timezone(dt.timedelta(hours=-5)))
+    reserve_at += dt.timedelta(days=reach_days)
+    assert dt.datetime.fromisoformat(d["order"]["reserve_at"]) == pytest.approx(
+        reserve_at, abs=dt.timedelta(minutes=5)
+    )
+    assert d["order_by"] == (reserve_at - dt.timedelta(days=2)).date().isoformat()
+    assert d["order_amount"] == pytest.approx(400.0 - 150.0)
+    assert d["order"]["unit"] == "gal" and not d["order"]["extrapolated"]
+    assert d["thermostat_runs"] == 1
+
+
+def test_order_by_past_the_forecast_is_extrapolated(tmp_path, capsys):
+    h = write_house(tmp_path, MINIMAL + '\n[stock]\nfuel = "propane"\n')
+    fc = constant_forecast(tmp_path / "snap.csv", -10.0, 3)
+    d = run_json(
+        capsys,
+        "stock",
+        str(h),
+        "--setpoint",
+        "10C",
+        "--forecast",
+        fc,
+        "--model",
+        "lumped",
+        "--on-hand",
+        "1 1000-gal tank",
+        "--fill",
+        "80%",
+        "--start",
+        "2026-12-01T00:00-05:00",
+    )
+    per_day = d["fuel"]["amount"] / 3.0
+    # 800 gal on hand, refill level 30 % of 1,000 gal = 300 gal
+    reach = dt.datetime.fromisoformat(d["order"]["reserve_at"])
+    start = dt.datetime.fromisoformat(d["start"])
+    # past the end at the forecast's mean rate: exactly linear by construction
+    assert (reach - start).total_seconds() / 86400 == pytest.approx(500.0 / per_day, rel=1e-5)
+    assert d["order"]["extrapolated"]
+
+
+def test_heater_too_small_opens_the_report_never_a_green_line_above(capsys):
+    args = [
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "10C",
+        "--night-setpoint",
+        "5C",
+        "--forecast",
+        SNAP,
+        "--on-hand",
+        "900 L",
+    ]
+    d = run_json(capsys, *args)
+    kinds = [s["kind"] for s in d["shortfalls"]]
+    assert kinds[0] == "heater" and d["hours_below_setpoint"] > 1
+    assert d["shortfalls"][0]["value"] == pytest.approx(d["min_air_c"])
+    h = house.read("examples/gable-house.toml")
+    from grower import weather
+
+    r = plan.stock(
+        h,
+        weather.read_forecast_csv(SNAP, site=h.site),
+        setpoint_c=10.0,
+        night_setpoint_c=5.0,
+        on_hand_text="900 L",
+    )
+    con = Console(record=True, width=60, color_system=None)
+    report.render_stock(con, r, "metric")
+    text = con.export_text()
+    first = text.strip().splitlines()[0]
+    assert first.startswith("The heater is too small")
+    assert text.index("too small") < text.index("lasts the forecast")
+
+
+def test_fuel_runs_out_is_a_shortfall(capsys):
+    d = run_json(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "8C",
+        "--forecast",
+        SNAP,
+        "--on-hand",
+        "20 gal",
+    )
+    fuel = [s for s in d["shortfalls"] if s["kind"] == "fuel"]
+    assert fuel and fuel[0]["at"] == d["runs_out_at"]
+    assert d["order"]["order_now"]
+
+
+def test_crop_is_checked_when_given(capsys):
+    d = run_json(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "10C",
+        "--night-setpoint",
+        "5C",
+        "--forecast",
+        SNAP,
+        "--threshold",
+        "1C",
+    )
+    c = d["crop"]
+    assert c is not None and c["alarm_c"] == pytest.approx(1.0)
+    # the air falls to about −2 °C (the heater is too small): the plants go below 1 °C
+    assert c["min_plant_c"] < 1.0 and c["first_below_at"] is not None
+    assert d["shortfalls"][0]["kind"] == "crop"
+    held = run_json(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "10C",
+        "--forecast",
+        SNAP,
+        "--threshold",
+        "-10C",
+    )
+    assert held["crop"]["first_below_at"] is None
+    assert all(s["kind"] != "crop" for s in held["shortfalls"])
+
+
+def test_vapour_check_from_two_cylinders(capsys, tmp_path):
+    d = run_json(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "10C",
+        "--forecast",
+        SNAP,
+        "--on-hand",
+        "2 100-lb cylinders",
+        "--fill",
+        "30%",
+    )
+    v = d["vaporisation"]
+    assert v["checked"] and v["container"] == "100-lb cylinder" and v["count"] == 2
+    # the heater's nameplate input is 100,000 Btu/h (house file)
+    assert v["input_w"] == pytest.approx(100_000 * 1055.05585262 / 3600)
+    from grower import vaporisation
+
+    again = vaporisation.supply("100-lb cylinder", 2, v["share_full"], v["outside_c"])
+    assert d["vaporisation_w"] == pytest.approx(again.capacity_w)
+    assert d["vaporisation_short"] == (d["vaporisation_w"] < v["input_w"])
+    assert v["share_full"] <= 0.3  # the fill falls as the fuel burns
+    if d["vaporisation_short"]:
+        assert any(s["kind"] == "vapour" for s in d["shortfalls"])
+
+
+def test_vapour_not_checked_for_natural_gas(capsys):
+    d = run_json(
+        capsys, "stock", "examples/glass-range.toml", "--setpoint", "5C", "--forecast", SNAP
+    )
+    assert d["vaporisation_w"] is None and d["vaporisation_short"] is None
+    assert "natural-gas" in d["vaporisation"]["reason"]
+
+
+def test_one_run_without_curtain_and_one_per_curtain_change(capsys):
+    d = run_json(
+        capsys,
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "10C",
+        "--night-setpoint",
+        "5C",
+        "--forecast",
+        SNAP,
+    )
+    assert d["thermostat_runs"] == 1, "day and night setpoints run in one thermostat run"
+    g = run_json(
+        capsys, "stock", "examples/glass-range.toml", "--setpoint", "5C", "--forecast", SNAP
+    )
+    # the glass range draws its curtain at night: one run per drawing and opening
+    assert 5 <= g["thermostat_runs"] <= 12
+
+
+def test_fill_needs_containers(capsys):
+    code = main(
+        [
+            "stock",
+            "examples/gable-house.toml",
+            "--setpoint",
+            "8C",
+            "--forecast",
+            SNAP,
+            "--on-hand",
+            "900 L",
+            "--fill",
+            "30%",
+        ]
+    )
+    _, err = capsys.readouterr()
+    assert code == 2 and err.startswith("Error: --fill") and "containers" in err
+    code = main(
+        [
+            "stock",
+            "examples/gable-house.toml",
+            "--setpoint",
+            "8C",
+            "--forecast",
+            SNAP,
+            "--on-hand",
+            "1 500-gal tank",
+            "--fill",
+            "lots",
+        ]
+    )
+    _, err = capsys.readouterr()
+    assert code == 2 and "--fill" in err and "Traceback" not in err
+
+
+def test_heat_source_one_rule_for_three_plans(tmp_path, capsys):
+    text = MINIMAL + (
+        '\n[[heater]]\nfuel = "propane"\nappliance = "unit-heater-condensing"\n'
+        'input = "60000 BTU/h"\nefficiency = 0.95\n'
+    )
+    h = write_house(tmp_path, text)
+    src = fuels.heat_source(house.read(h))
+    assert (
+        src.efficiency == 0.95 and src.installed and src.appliance.name == "unit-heater-condensing"
+    )
+    size = run_json(capsys, "size", str(h), "--outside", "-20C", "--hold", "5C")
+    assert size["efficiency"] == 0.95
+    fc = constant_forecast(tmp_path / "c.csv", -5.0, 1)
+    st = run_json(
+        capsys,
+        "stock",
+        str(h),
+        "--setpoint",
+        "5C",
+        "--forecast",
+        fc,
+        "--start",
+        "2026-12-01T00:00-05:00",
+    )
+    assert st["fuel"]["efficiency"] == 0.95
+    # another fuel than the installed heater's: its usual appliance, said so
+    other = fuels.heat_source(house.read(h), "heating-oil")
+    assert other.appliance.name == "boiler" and not other.installed and other.notes
