@@ -19,7 +19,6 @@ import re
 import tomllib
 from importlib import resources
 
-import pint
 import pytest
 
 from grower import covers
@@ -34,8 +33,8 @@ from grower.covers import (
 )
 from grower.errors import InputError
 
-UREG = pint.UnitRegistry()
-Q_ = UREG.Quantity
+from .reference_units import Q_, UREG
+
 #: 1 Btu/h·ft²·°F in W/m²·K by pint (International Table Btu, °F as a difference)
 BTU_U_IN_SI = Q_(1, "Btu_it/(hour*foot**2*delta_degF)").to("W/(m**2*K)").magnitude
 
@@ -54,7 +53,7 @@ RAW_CURTAINS = _raw("curtains.toml")["curtains"]
 
 def _btu_to_si(u_btu: float) -> float:
     """Btu/(h·ft²·°F) → W/(m²·K) by pint, independent of grower.units."""
-    q = pint.UnitRegistry().Quantity(u_btu, "Btu/(hour * foot**2 * delta_degF)")
+    q = UREG.Quantity(u_btu, "Btu/(hour * foot**2 * delta_degF)")
     return q.to("W/(m**2 * delta_degC)").magnitude
 
 

@@ -9,7 +9,6 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-import pint
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -31,7 +30,7 @@ from grower.crops import (
 )
 from grower.errors import InputError
 
-UREG = pint.UnitRegistry()
+from .reference_units import UREG
 
 
 def f_to_c_pint(temp_f: float) -> float:

@@ -10,7 +10,6 @@ from __future__ import annotations
 import math
 
 import numpy as np
-import pint
 import pytest
 
 from grower.errors import InputError
@@ -28,7 +27,8 @@ from grower.fuels import (
 )
 from grower.units import J_PER_BTU, W_PER_BTU_H
 
-UREG = pint.UnitRegistry()
+from .reference_units import UREG
+
 MMBTU_J = 1e6 * J_PER_BTU
 # pint's Btu is 1055.056 J, the International Table Btu rounded (grower uses 1055.05585262):
 # conversions through Btu agree with pint to a few parts in 10⁷.

@@ -11,13 +11,13 @@ import datetime as dt
 from pathlib import Path
 
 import numpy as np
-import pint
 import pytest
 
 from grower.errors import InputError
 from grower.logger import read_logger_csv
 
-ureg = pint.UnitRegistry()
+from .reference_units import UREG as ureg
+
 TORONTO = "America/Toronto"
 
 

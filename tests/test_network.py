@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import numpy as np
-import pint
 import psychrolib
 import pytest
 
@@ -11,8 +10,7 @@ from grower import house, network
 from grower.units import M3_PER_FT3, W_PER_BTU_H
 
 from .conftest import MINIMAL, write_house
-
-UREG = pint.UnitRegistry()
+from .reference_units import UREG
 
 
 def test_rho_cp_is_standard_air_against_psychrolib():

@@ -8,7 +8,6 @@ pint's plain ``therm`` is the EC therm (10⁵ × 1055.056 J), so the therm is ch
 
 from __future__ import annotations
 
-import pint
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -26,8 +25,7 @@ from grower.units import (
     show_u_value,
 )
 
-UREG = pint.UnitRegistry()
-Q_ = UREG.Quantity
+from .reference_units import Q_, UREG
 
 
 def si(value: float, unit: str, to: str) -> float:
@@ -277,7 +275,7 @@ def test_unicode_minus():
 )
 def test_prefix_case_is_meaning_checked_against_pint(text, kind, pint_text):
     # reference: pint's unit registry (SI prefixes m = 1e-3, M = 1e6, k = 1e3)
-    expected = pint.UnitRegistry().Quantity(pint_text).to_base_units().magnitude
+    expected = Q_(pint_text).to_base_units().magnitude
     assert units.parse_quantity(text, kind) == pytest.approx(expected, rel=1e-12)
 
 

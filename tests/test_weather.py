@@ -18,7 +18,6 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 import pandas as pd
-import pint
 import pytest
 from pytest_httpserver import HTTPServer
 
@@ -26,13 +25,14 @@ from grower import sky, weather
 from grower.errors import InputError
 from grower.site import Site
 
+from .reference_units import UREG as ureg
+
 DATA = Path(__file__).parent / "data"
 EXAMPLES = Path(__file__).parent.parent / "examples"
 TORONTO = ZoneInfo("America/Toronto")
 FARM = Site(44.3, -76.5, 93.0, "America/Toronto", "invented farm")
 NEW_YORK = Site(40.71, -74.01, 10.0, "America/New_York", "invented plot")
 HEADER = "time,temperature_c,dew_point_c,cloud_cover_pct,wind_speed_m_s,shortwave_w_m2"
-ureg = pint.UnitRegistry()
 
 #: what the example files and recorded answers give: everything but the low-cloud share
 _WITHOUT_LOW_CLOUD = tuple(c for c in weather.COLUMNS if c != "cloud_cover_low_pct")
