@@ -405,8 +405,8 @@ def _shape(table: Mapping[str, Any], at) -> _Shape:
     return _Shape(h["name"], shape, width, length, eave, ridge, bays)
 
 
-def _shown(parsed: Mapping[str, Any], table: Mapping[str, Any], key: str) -> str | None:
-    """The file's own text for a value given with a unit, for messages."""
+def _shown(_parsed: Mapping[str, Any], table: Mapping[str, Any], key: str) -> str | None:
+    """The file's own text for `key` when it was given as text ("9 mm"), for messages."""
     raw = table.get(key)
     return raw if isinstance(raw, str) else None
 
@@ -434,12 +434,15 @@ def _surfaces(doc, shape: _Shape, env, source: str, at) -> tuple[Surface, ...]:
         knee_material = covers.get_material(
             kw["material"], materials, where=at("knee_wall.material")
         )
+        limits.check(knee_material.u_w_m2k, limits.U_VALUE, at("knee_wall.material"))
         walls = side_area / shape.eave_m if shape.eave_m > 0 else 0.0  # exposed side length
         knee_sides = walls * kh
         knee_ends = 2.0 * shape.bays * shape.width_m * kh if kw.get("ends", True) else 0.0
         side_area -= knee_sides
         end_area -= knee_ends
         knee_area = knee_sides + knee_ends
+    for key, material in (("roof", roof), ("sides", sides), ("ends", ends)):
+        limits.check(material.u_w_m2k, limits.U_VALUE, at(f"cover.{key}") + f" ({material.key})")
     surfaces = [
         Surface("roof", env.roof_m2, roof),
         Surface("side walls", side_area, sides),

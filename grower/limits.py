@@ -241,6 +241,16 @@ HEATER_W = Bound(
     "(common practice, no source)",
     "heater power",
 )
+U_VALUE = Bound(
+    0.05,
+    10.0,
+    0.1,
+    8.0,
+    "W/m²·K",
+    "the best insulated opaque panels reach about 0.1 W/m²·K and single glass in wind about "
+    "7 (common practice, no source)",
+    "cover U-value",
+)
 PRICE = Bound(
     0.0,
     1.0e6,
