@@ -570,3 +570,36 @@ def test_watchdog_catches_a_hang(monkeypatch):
     monkeypatch.setattr(grower.cli, "_run", lambda args: time.sleep(5))
     rc, _, _ = run_cli(["crops"], limit_s=0.2)
     assert isinstance(rc, str) and rc.startswith("hang")
+
+
+@SETTINGS
+@given(data=st.data())
+def test_fit_write_changes_only_the_calibration_table(tmp_path, data):
+    """`fit --write`: exit 2 with the file as it was, or exit 0 with only [calibration]
+    changed, the file still a valid house file, and the original kept as the backup."""
+    import tempfile
+    import tomllib
+
+    from grower import house as house_module
+
+    data = Inputs(data)
+    tmp_path = Path(tempfile.mkdtemp(dir=tmp_path))  # a fresh folder for each example
+    h = _write(tmp_path, "h.toml", data.house())
+    log = _write(tmp_path, "log.csv", data.record())
+    before = h.read_bytes()
+    argv = ["fit", str(h), "--log", str(log), "--write", "--json"]
+    rc, out, err = run_cli(argv)
+    _event(f"exit {rc}")
+    assert rc in (0, 2), (rc, err)
+    if rc == 2:
+        assert h.read_bytes() == before and err.strip().splitlines()[-1].startswith("Error: ")
+        assert not [p for p in tmp_path.iterdir() if p.name.endswith((".bak", ".tmp"))]
+        return
+    old = tomllib.loads(before.decode("utf-8-sig"))
+    new = tomllib.loads(h.read_bytes().decode("utf-8-sig"))
+    old.pop("calibration", None)
+    assert new.pop("calibration")["k_w_per_k"] > 0
+    assert new == old
+    house_module.read(h)
+    assert (tmp_path / "h.toml.bak").read_bytes() == before
+    assert json.loads(out)["written"]["backup"].endswith("h.toml.bak")
