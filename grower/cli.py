@@ -4,8 +4,9 @@ Each subcommand lives in ``grower/commands/<name>.py`` with two functions:
 ``register(subparsers, common)`` adds its parser (``common`` is the parent parser that
 gives every command ``--json`` and ``--units``), and ``run(args) -> int`` does the work.
 Errors in the user's input are `grower.errors.InputError`; they are printed here, as one
-line on stderr, and the exit status is 2. Exit status 3 is reserved for
-``--alert-status`` (damage expected); 0 is success. The codes are in `grower.errors`.
+line on stderr, and the exit status is 2. ``tonight --alert-status`` exits 3 when action
+is needed and the installed heater holds, 4 when damage is expected even with the
+installed heat; 0 is success (or safe). The codes are in `grower.errors`.
 """
 
 from __future__ import annotations

@@ -17,8 +17,11 @@ from collections.abc import Iterable
 EXIT_OK = 0
 #: bad input: one line on stderr says what and where
 EXIT_INPUT = 2
-#: ``tonight --alert-status``: damage expected
-EXIT_ALERT = 3
+#: ``tonight --alert-status``: action needed tonight, and the installed heater holds the alarm
+EXIT_ACTION = 3
+#: ``tonight --alert-status``: damage expected even with the installed heat (too small, none
+#: installed, or the plants are below the alarm already and the heater cannot bring them back)
+EXIT_DAMAGE = 4
 
 
 class InputError(ValueError):

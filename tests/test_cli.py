@@ -62,8 +62,14 @@ def test_version_is_the_installed_metadata(capsys):
 
 
 def test_exit_codes_are_fixed():
-    # DESIGN "Outputs": 0 done, 2 bad input, 3 damage expected (--alert-status)
-    assert (errors.EXIT_OK, errors.EXIT_INPUT, errors.EXIT_ALERT) == (0, 2, 3)
+    # DESIGN "Outputs": 0 done, 2 bad input; --alert-status graded: 3 action needed and the
+    # equipment holds, 4 damage expected even with the installed heat (issue 12)
+    assert (errors.EXIT_OK, errors.EXIT_INPUT, errors.EXIT_ACTION, errors.EXIT_DAMAGE) == (
+        0,
+        2,
+        3,
+        4,
+    )
 
 
 LIGHT = [

@@ -2,7 +2,7 @@
 
 For every command, whatever the house file, forecast, logger record or arguments:
 
-- exit 0 (or 3, `tonight --alert-status` with damage expected) with a report or a JSON
+- exit 0 (or 3/4, `tonight --alert-status` with action needed/damage expected) with a report or a JSON
   document whose numbers are finite and sane; or
 - exit 2 with exactly one ``Error: …`` line on stderr (``Warning:`` and ``Note:`` lines
   may come before it) and nothing on stdout;
@@ -138,7 +138,7 @@ def assert_contract(
         assert lines[-1] == errors[0], (argv, err)
         assert out == "", (argv, out)
     else:
-        assert rc in (0, 3), (argv, rc, err)
+        assert rc in (0, 3, 4), (argv, rc, err)
         assert all(line.startswith(("Warning: ", "Note: ")) for line in lines), (argv, err)
         assert out.strip(), argv
         if json_out:

@@ -154,8 +154,17 @@ def test_tonight_verdict_is_first_line(capsys):
     out = capsys.readouterr().out
     assert code == 0
     first = out.splitlines()[0]
-    assert first.startswith(("FROST", "SAFE"))
+    assert first.startswith(
+        (
+            "NO ACTION",
+            "HEAT NEEDED",
+            "HEATER TOO SMALL",
+            "BELOW THE ALARM NOW",
+            "NO HEATER FOR TONIGHT",
+        )
+    )
     assert "Lane tunnel" in first
+    assert "\nWith no heat: " in out  # the no-heat outcome follows the action
 
 
 def _constant_forecast(tmp_path, temp_c: float = -5.0, hours: int = 30) -> str:
@@ -236,8 +245,26 @@ def test_alert_status_exit_codes(capsys, tmp_path):
             "--alert-status",
         ]
     )
-    capsys.readouterr()
-    assert code == 3
+    out = capsys.readouterr().out
+    # the tunnel has no heater: damage expected even with the installed heat (none)
+    assert code == 4, out
+    assert out.startswith("NO HEATER FOR TONIGHT Lane tunnel")
+    code = main(
+        [
+            "tonight",
+            "examples/gable-house.toml",
+            "--crop",
+            "tomato",
+            "--forecast",
+            NIGHT,
+            "--alert-status",
+        ]
+    )
+    out = capsys.readouterr().out
+    # the gable house's heater holds the alarm: action needed, the equipment holds
+    assert code == 3, out
+    assert out.startswith("HEAT NEEDED Propagation house: heat from")
+    assert "to spare" in out.split("With no heat")[0]
     warm = _constant_forecast(tmp_path, temp_c=15.0)
     code = main(
         [
@@ -256,7 +283,7 @@ def test_alert_status_exit_codes(capsys, tmp_path):
     )
     out = capsys.readouterr().out
     assert code == 0, out
-    assert out.startswith("SAFE")
+    assert out.startswith("NO ACTION")
 
 
 def test_tonight_bad_input(capsys, tmp_path):
@@ -455,4 +482,5 @@ def test_already_below_at_start_says_so(capsys, tmp_path):
     )
     out = capsys.readouterr().out
     assert code == 0
-    assert "already at or below" in out.splitlines()[0]
+    assert out.startswith("BELOW THE ALARM NOW Lane tunnel")
+    assert "at or below" in out.splitlines()[0]

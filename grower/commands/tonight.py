@@ -19,8 +19,9 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
             "hours after sunrise."
         ),
         epilog=(
-            "Exit status: 0 done (and, with --alert-status, safe); 2 bad input; "
-            "3 with --alert-status when damage is expected in any house."
+            "Exit status: 0 done (and, with --alert-status, safe); 2 bad input; with "
+            "--alert-status, 3 when action is needed and the installed heater holds the alarm, "
+            "4 when damage is expected even with the installed heat (the worst house counts)."
         ),
     )
     p.add_argument("houses", nargs="+", metavar="HOUSE", help="house file(s) (TOML)")
@@ -44,7 +45,8 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
     p.add_argument(
         "--alert-status",
         action="store_true",
-        help="exit with status 3 when damage is expected (0 when safe), for cron jobs",
+        help="graded exit status for cron jobs: 0 safe, 3 heat needed and the heater holds, "
+        "4 damage expected even with the installed heat",
     )
     p.add_argument(
         "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
@@ -62,7 +64,7 @@ def run(args: argparse.Namespace) -> int:
         reading_system,
         start_time,
     )
-    from grower.errors import EXIT_ALERT, InputError
+    from grower.errors import EXIT_OK, InputError
     from grower.plans import tonight
     from grower.report import common
     from grower.report import tonight as report
@@ -128,6 +130,6 @@ def run(args: argparse.Namespace) -> int:
             report.render_summary(out, results, system)
         else:
             report.render_tonight(out, results[0], system)
-    if args.alert_status and any(not r.safe for r in results):
-        return EXIT_ALERT
-    return 0
+    if args.alert_status:
+        return max((r.exit_status for r in results), default=EXIT_OK)
+    return EXIT_OK

@@ -63,6 +63,7 @@ class HeaterCheck:
     min_plant_c: float
     min_time: dt.datetime
     energy_kwh: float
+    fuel: fuels.FuelAmount | None = None  # the night's fuel for energy_kwh, as the hold's fuel
 
 
 @dataclass(frozen=True)
@@ -126,6 +127,39 @@ class TonightResult:
     @property
     def safe(self) -> bool:
         return self.verdict.crossing_time is None
+
+    @property
+    def below_now(self) -> bool:
+        """The plants are at or below the alarm at the start of the night."""
+        c = self.verdict.crossing_time
+        return c is not None and (c - self.start).total_seconds() < 1.0
+
+    @property
+    def action(self) -> str:
+        """What to do, for the house as equipped: one of `ACTIONS`.
+
+        ``none`` (no heat needed), ``heat`` (heat needed and the installed heater holds
+        the alarm), ``short`` (heat needed and the installed heater, or none, cannot hold
+        it), ``below`` (the plants are at the alarm already).
+        """
+        if self.safe:
+            return "none"
+        if self.below_now:
+            return "below"
+        if self.heater is not None and self.heater.holds:
+            return "heat"
+        return "short"
+
+    @property
+    def exit_status(self) -> int:
+        """``--alert-status``: 0 safe, 3 action needed and the heater holds, 4 damage expected."""
+        from grower.errors import EXIT_ACTION, EXIT_DAMAGE, EXIT_OK
+
+        if self.safe:
+            return EXIT_OK
+        if self.heater is not None and self.heater.holds:
+            return EXIT_ACTION
+        return EXIT_DAMAGE
 
 
 def night_window(
@@ -321,6 +355,7 @@ def tonight(
             min_plant_c=float(c.min_c[0]),
             min_time=_at(b, c.min_time_s[0]),
             energy_kwh=float(run.heat_j[0]) / 3.6e6,
+            fuel=fuels.fuel_amount(float(run.heat_j[0]), fuel, eff, unit),
         )
 
     chill = None

@@ -17,6 +17,9 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
     return {
         "house": r.house_name,
         "file": r.house_path,
+        # what to do for the house as equipped: none | heat | short | below
+        "action": r.action,
+        "alert_status": r.exit_status,
         "model": r.model,
         "calibrated": r.calibrated,
         "k_w_per_k": r.k_w_per_k,
@@ -129,32 +132,94 @@ def _what(r: TonightResult) -> str:
     return f"{r.crop} ({r.stage})" if r.crop else "the plants"
 
 
+#: line 1's words, ours: what to do tonight for the house as equipped
+ACTION_WORDS = {
+    "none": ("NO ACTION", "bold green"),
+    "heat": ("HEAT NEEDED", "bold yellow"),
+    "short": ("HEATER TOO SMALL", "bold red"),
+    "below": ("BELOW THE ALARM NOW", "bold red"),
+    "unheated": ("NO HEATER FOR TONIGHT", "bold red"),
+}
+
+
+def action_line(r: TonightResult, system: UnitSystem) -> str:
+    """Line 1: what to do and by when, for the house as equipped."""
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    word, style = ACTION_WORDS["unheated" if r.action == "short" and r.heater is None else r.action]
+    head = f"[{style}]{word}[/{style}] [bold]{r.house_name}[/bold]: "
+    v, h = r.verdict, r.heater
+    if r.action == "none":
+        return head + f"{_what(r)} stays above {T(r.threshold_c)} tonight with no heat"
+    if r.action == "heat":
+        margin = _power(h.output_w - r.hold_peak_w, system)
+        fuel = (
+            f"; about {h.fuel.amount:,.1f} {h.fuel.unit} of {r.hold_fuel_label} tonight"
+            if h.fuel
+            else ""
+        )
+        return (
+            head + f"heat from [bold]{_clock(v.crossing_time, r.start)}[/bold]; the installed "
+            f"heater holds {T(r.threshold_c)} with {margin} to spare{fuel}"
+        )
+    if r.action == "below":
+        tail = (
+            "the installed heater brings it back"
+            if h is not None and h.holds
+            else "heat it now"
+            + (f"; at full output the plants reach {T(h.min_plant_c)}" if h else "")
+        )
+        return head + f"{_what(r)} is at or below {T(r.threshold_c)} already — {tail}"
+    if h is None:
+        return (
+            head + f"no heater installed; {_what(r)} reaches {T(r.threshold_c)} at "
+            f"[bold]{_clock(v.crossing_time, r.start)}[/bold]; "
+            f"{_power(r.hold_peak_w, system)} holds it"
+        )
+    more = max(r.hold_peak_w - h.output_w, 0.0)
+    need = f"; needs {_power(more, system)} more" if more > 0 else "; heat earlier or add heat"
+    return (
+        head + f"at full output the plants reach [bold]{T(h.min_plant_c)}[/bold] at "
+        f"{_clock(h.min_time, r.start)}{need}"
+    )
+
+
 def verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None = None) -> str:
-    """The first line: safe, or when the crop reaches its alarm temperature."""
+    """Line 2: the outcome with no heat (heater failure, power cut, unheated tunnel)."""
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     v = r.verdict
     now = now or dt.datetime.now(r.start.tzinfo)
     if v.crossing_time is None:
         return (
-            f"[bold green]SAFE[/bold green] [bold]{r.house_name}[/bold]: {_what(r)} stays above "
-            f"{T(r.threshold_c)} tonight with no heat — coldest plants {T(v.min_plant_c)} at "
-            f"{_clock(v.min_time, r.start)}"
+            f"With no heat: coldest plants {T(v.min_plant_c)} at "
+            f"{_clock(v.min_time, r.start)}, above the alarm {T(r.threshold_c)}"
         )
-    if (v.crossing_time - r.start).total_seconds() < 1.0:
-        start_air = (
-            "assumed" if any(a.startswith("inside air assumed") for a in r.assumptions) else "given"
-        )
+    if r.below_now:
+        start_air = "assumed" if _air_assumed(r) else "given"
         return (
-            f"[bold red]FROST[/bold red] [bold]{r.house_name}[/bold]: {_what(r)} is already at or "
-            f"below [bold]{T(r.threshold_c)}[/bold] at the start ({_clock(r.start, r.start)}; inside "
-            f"air {start_air} at {T(r.initial_air_c)}) — heat it now"
+            f"With no heat: at or below {T(r.threshold_c)} at the start "
+            f"({_clock(r.start, r.start)}; inside air {start_air} at {T(r.initial_air_c)})"
         )
     ref = now if abs((r.start - now).total_seconds()) < 600 else r.start
     rel = "from now" if ref is now else f"after the start ({_clock(r.start, r.start)})"
     return (
-        f"[bold red]FROST[/bold red] [bold]{r.house_name}[/bold]: {_what(r)} reaches "
-        f"[bold]{T(r.threshold_c)}[/bold] at [bold]{_clock(v.crossing_time, r.start)}[/bold], "
-        f"{_span((v.crossing_time - ref).total_seconds())} {rel}, with no heat"
+        f"With no heat: {_what(r)} reaches {T(r.threshold_c)} at "
+        f"{_clock(v.crossing_time, r.start)}, "
+        f"{_span((v.crossing_time - ref).total_seconds())} {rel}; coldest plants "
+        f"{T(v.min_plant_c)}"
+    )
+
+
+def _air_assumed(r: TonightResult) -> bool:
+    return any(a.startswith("inside air assumed") for a in r.assumptions)
+
+
+def reading_line(r: TonightResult) -> str | None:
+    """When the start was assumed, which reading would change the answer."""
+    if r.safe or not _air_assumed(r):
+        return None
+    return (
+        "The inside air at the start was assumed: a reading (--inside-now, --soil-now) "
+        "can change this answer."
     )
 
 
@@ -186,7 +251,11 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    console.print(action_line(r, system))
     console.print(verdict_line(r, system))
+    reading = reading_line(r)
+    if reading:
+        plain(console, reading, "yellow")
     plain(console, f"{alarm_text(r, system)}", "dim")
     console.print()
     v = r.verdict
@@ -285,6 +354,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     order = sorted(
         results,
         key=lambda r: (
+            -r.exit_status,
             r.safe,
             r.verdict.crossing_time.timestamp() if r.verdict.crossing_time else 0.0,
             r.verdict.min_plant_c - r.threshold_c,
@@ -292,6 +362,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     )
     frost = [r for r in order if not r.safe]
     if frost:
+        console.print(action_line(frost[0], system))
         console.print(verdict_line(frost[0], system))
         if len(frost) > 1:
             console.print(
@@ -299,7 +370,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
             )
     else:
         console.print(
-            f"[bold green]SAFE[/bold green]: all {len(results)} houses stay above the alarm tonight with no heat"
+            f"[bold green]NO ACTION[/bold green]: all {len(results)} houses stay above the alarm tonight with no heat"
         )
     table = Table()
     table.add_column("house")
