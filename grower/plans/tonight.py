@@ -424,3 +424,54 @@ def tonight(
             at=local[int(np.argmin(b.outside_c))],
         ),
     )
+
+
+@dataclass(frozen=True)
+class TripWire:
+    """When to look again, and the inside-air reading that means the alarm will be reached.
+
+    ``air_c`` is the air at ``time`` on the night that just touches the alarm, for the
+    forecast shifted uniformly by ``shift_k`` (negative: colder than forecast). The network
+    is linear, so a uniform shift of the outside temperature moves the air by
+    ``shift_k·g(t)``, with g the response the `colder` run measured; the shift that makes
+    the coldest plants equal the alarm is found by bisection.
+    """
+
+    time: dt.datetime
+    air_c: float
+    shift_k: float
+
+
+def trip_wire(r: TonightResult) -> TripWire | None:
+    """The check-again time and reading for `r`, or None when the alarm is reached now.
+
+    The time is halfway from the start to the crossing (or, on a safe night, to the
+    coldest hour), on the quarter hour and at least 30 min after the start.
+    """
+    air, plant = np.asarray(r.air_c, float), np.asarray(r.plant_c, float)
+    if r.below_now or len(air) < 2 or r.colder_by_k <= 0:
+        return None
+    g = (air - np.asarray(r.colder_air_c, float)) / r.colder_by_k  # K of air per K colder
+    g = np.clip(g, 0.0, None)
+
+    def lowest(shift: float) -> float:  # coldest plants with the outside shift K colder
+        return float(np.min(plant - shift * g))
+
+    lo, hi = -30.0, 30.0
+    if not lowest(lo) >= r.threshold_c >= lowest(hi):
+        return None
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        lo, hi = (mid, hi) if lowest(mid) >= r.threshold_c else (lo, mid)
+    shift = 0.5 * (lo + hi)
+    target = r.verdict.crossing_time or r.verdict.min_time
+    span = (target - r.start).total_seconds()
+    if span < 3600.0:
+        return None
+    at = r.start + dt.timedelta(seconds=max(1800.0, span / 2))
+    at = at.replace(second=0, microsecond=0)
+    at -= dt.timedelta(minutes=at.minute % 15)
+    secs = np.array([(t - r.start).total_seconds() for t in r.times])
+    x = (at - r.start).total_seconds()
+    air_at = float(np.interp(x, secs, air - shift * g))
+    return TripWire(time=at, air_c=air_at, shift_k=-shift)

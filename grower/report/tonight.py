@@ -5,7 +5,7 @@ from __future__ import annotations
 import datetime as dt
 from typing import Any
 
-from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict
+from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wire
 from grower.report import chart
 from grower.report import vapour as vapour_report
 from grower.report.common import iso, plain, render_cautions
@@ -20,6 +20,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         # what to do for the house as equipped: none | heat | short | below
         "action": r.action,
         "alert_status": r.exit_status,
+        "check_again": _trip_json(r),
         "model": r.model,
         "calibrated": r.calibrated,
         "k_w_per_k": r.k_w_per_k,
@@ -105,6 +106,13 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
             )
         ],
     }
+
+
+def _trip_json(r: TonightResult) -> dict[str, Any] | None:
+    w = trip_wire(r)
+    if w is None:
+        return None
+    return {"time": iso(w.time), "air_below_c": w.air_c, "forecast_shift_k": w.shift_k}
 
 
 def by_urgency(docs: list[dict[str, Any]]) -> list[dict[str, Any]]:
@@ -209,6 +217,22 @@ def verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None =
     )
 
 
+def trip_wire_line(r: TonightResult, system: UnitSystem) -> str | None:
+    """ "Check again at 22:00: if the inside air is below 3.0 °C then, …"."""
+    w = trip_wire(r)
+    if w is None:
+        return None
+    T = show_temperature(w.air_c, system).text(1)
+    act = (
+        "make sure the heater is on"
+        if r.heater is not None and r.heater.holds
+        else "light the heater or cover the crop"
+        if r.heater is not None
+        else "heat or cover the crop"
+    )
+    return f"Check again at {_clock(w.time, r.start)}: if the inside air is below {T} then, {act}."
+
+
 def _air_assumed(r: TonightResult) -> bool:
     return any(a.startswith("inside air assumed") for a in r.assumptions)
 
@@ -253,9 +277,9 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     console.print(action_line(r, system))
     console.print(verdict_line(r, system))
-    reading = reading_line(r)
-    if reading:
-        plain(console, reading, "yellow")
+    for line in (trip_wire_line(r, system), reading_line(r)):
+        if line:
+            plain(console, line, "yellow")
     plain(console, f"{alarm_text(r, system)}", "dim")
     console.print()
     v = r.verdict

@@ -1,0 +1,55 @@
+"""The check-again time and trip-wire reading (issue 12), checked on the model itself."""
+
+from __future__ import annotations
+
+import csv
+import json
+
+import pytest
+
+from grower.cli import main
+
+NIGHT = "examples/forecast-cold-night.csv"
+
+
+def _tonight(capsys, forecast: str, *extra: str) -> dict:
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", forecast]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", "8C", "--soil-now", "9C", "--json"]
+    assert main([*argv, *extra]) == 0
+    return json.loads(capsys.readouterr().out)
+
+
+def _shifted(tmp_path, shift_k: float) -> str:
+    with open(NIGHT, newline="") as f:
+        rows = list(csv.DictReader(f))
+    out = tmp_path / "shifted.csv"
+    with open(out, "w", newline="") as f:
+        w = csv.DictWriter(f, fieldnames=list(rows[0]))
+        w.writeheader()
+        for row in rows:
+            for key in ("temperature_c", "dew_point_c"):
+                row[key] = f"{float(row[key]) + shift_k:.6f}"
+            w.writerow(row)
+    return str(out)
+
+
+def test_trip_wire_is_the_night_that_just_touches_the_alarm(capsys, tmp_path):
+    doc = _tonight(capsys, NIGHT)
+    trip = doc["check_again"]
+    assert doc["crossing_time"] is not None and trip is not None
+    assert doc["series"][0]["time"] < trip["time"] < doc["crossing_time"]
+    # Independent check: run the whole model again (file reader, sky, network, solver) on
+    # the forecast with air and dew point shifted by the trip wire's shift. The network is
+    # linear, but the sky temperature is not quite (the emissivity and the σT⁴ linearisation
+    # move with the temperatures), so the shifted night touches the alarm within a few
+    # tenths of a kelvin rather than exactly (without the dew point shifted it was 0.5 K off).
+    again = _tonight(capsys, _shifted(tmp_path, trip["forecast_shift_k"]))
+    assert again["min_plant_c"] == pytest.approx(doc["threshold_c"], abs=0.3)
+    at = next(p for p in again["series"] if p["time"] >= trip["time"])
+    # the series is hourly: the reading at the check time lies on the shifted night's air
+    assert abs(at["air_c"] - trip["air_below_c"]) < 1.5
+
+
+def test_no_trip_wire_when_below_the_alarm_now(capsys):
+    doc = _tonight(capsys, NIGHT, "--inside-now", "-6C")
+    assert doc["action"] == "below" and doc["check_again"] is None
