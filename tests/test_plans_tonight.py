@@ -53,3 +53,21 @@ def test_trip_wire_is_the_night_that_just_touches_the_alarm(capsys, tmp_path):
 def test_no_trip_wire_when_below_the_alarm_now(capsys):
     doc = _tonight(capsys, NIGHT, "--inside-now", "-6C")
     assert doc["action"] == "below" and doc["check_again"] is None
+
+
+def test_brief_at_60_columns_keeps_numbers_with_units(capsys, monkeypatch):
+    import re
+
+    monkeypatch.setenv("COLUMNS", "60")
+    argv = ["tonight", "examples/hoop-tunnel.toml", "examples/gable-house.toml"]
+    argv += ["--crop", "kale", "--forecast", NIGHT, "--brief", "--units", "us"]
+    assert main(argv) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0].startswith("NO HEATER FOR TONIGHT Lane tunnel")
+    assert not any(line.startswith(("air ", "house ", "K =")) for line in lines)  # no table
+    assert all(len(line) <= 60 for line in lines)
+    unit = re.compile(r"^(°F|°C|K\b|kW|Btu/h|h\b|min\b|L\b|gal\b|therm)")
+    for above, below in zip(lines, lines[1:], strict=False):
+        # a line that ends in a number is never followed by that number's unit
+        assert not (re.search(r"\d$", above) and unit.match(below)), (above, below)
+    assert "\u00a0" not in "".join(lines)

@@ -41,6 +41,11 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         metavar="DT",
         help="also show the night this much colder (default 2 K)",
     )
+    p.add_argument(
+        "--brief",
+        action="store_true",
+        help="print only the verdict lines: what to do, and the night with no heat",
+    )
     p.add_argument("--plot", metavar="FILE", help="write the chart as an image (.png or .svg)")
     p.add_argument(
         "--alert-status",
@@ -126,7 +131,9 @@ def run(args: argparse.Namespace) -> int:
     else:
         out = common.console()
         system = common.unit_system(args.units, houses[0].units)
-        if len(results) > 1:
+        if args.brief:
+            report.render_brief(out, results, system)
+        elif len(results) > 1:
             report.render_summary(out, results, system)
         else:
             report.render_tonight(out, results[0], system)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import datetime as dt
+import re
 from typing import Any
 
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wire
@@ -128,7 +129,7 @@ def by_urgency(docs: list[dict[str, Any]]) -> list[dict[str, Any]]:
 def _span(seconds: float) -> str:
     minutes = int(round(seconds / 60.0))
     h, m = divmod(minutes, 60)
-    return f"{h} h {m:02d} min" if h else f"{m} min"
+    return f"{h}\u00a0h\u00a0{m:02d}\u00a0min" if h else f"{m}\u00a0min"  # never split
 
 
 def _clock(t: dt.datetime, start: dt.datetime) -> str:
@@ -150,8 +151,46 @@ ACTION_WORDS = {
 }
 
 
+_NUMBER_UNIT = re.compile(r"(\d) (?=°|K\b|kW|Btu|h\b|min\b|L\b|gal\b|therm|W\b|kWh)")
+
+
+def keep_units(text: str) -> str:
+    """No-break spaces between a number and its unit, so wrapping never splits them."""
+    return _NUMBER_UNIT.sub("\\1\u00a0", text)
+
+
+def print_line(console, markup: str) -> None:
+    """Print `markup`, wrapped at ordinary spaces only: a number keeps its unit.
+
+    Rich wraps at any whitespace, the no-break space included, so the breaks are chosen
+    here and each piece is printed unwrapped (no-break spaces shown as spaces).
+    """
+    from rich.text import Text
+
+    text = Text.from_markup(markup)
+    plain_text, width = text.plain, max(console.width, 20)
+    cuts, start, last_space = [], 0, None
+    for i, ch in enumerate(plain_text):
+        if ch == " ":
+            last_space = i
+        if i - start >= width and last_space is not None and last_space > start:
+            cuts.append(last_space + 1)
+            start, last_space = last_space + 1, None
+    for piece in text.divide(cuts):
+        piece.rstrip()
+        console.print(
+            Text(piece.plain.replace("\u00a0", " "), spans=piece.spans, style=piece.style),
+            no_wrap=True,
+            crop=False,
+        )
+
+
 def action_line(r: TonightResult, system: UnitSystem) -> str:
     """Line 1: what to do and by when, for the house as equipped."""
+    return keep_units(_action_line(r, system))
+
+
+def _action_line(r: TonightResult, system: UnitSystem) -> str:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     word, style = ACTION_WORDS["unheated" if r.action == "short" and r.heater is None else r.action]
     head = f"[{style}]{word}[/{style}] [bold]{r.house_name}[/bold]: "
@@ -193,6 +232,10 @@ def action_line(r: TonightResult, system: UnitSystem) -> str:
 
 def verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None = None) -> str:
     """Line 2: the outcome with no heat (heater failure, power cut, unheated tunnel)."""
+    return keep_units(_verdict_line(r, system, now))
+
+
+def _verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None = None) -> str:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     v = r.verdict
     now = now or dt.datetime.now(r.start.tzinfo)
@@ -230,7 +273,9 @@ def trip_wire_line(r: TonightResult, system: UnitSystem) -> str | None:
         if r.heater is not None
         else "heat or cover the crop"
     )
-    return f"Check again at {_clock(w.time, r.start)}: if the inside air is below {T} then, {act}."
+    return keep_units(
+        f"Check again at {_clock(w.time, r.start)}: if the inside air is below {T} then, {act}."
+    )
 
 
 def _air_assumed(r: TonightResult) -> bool:
@@ -260,7 +305,9 @@ def alarm_text(r: TonightResult, system: UnitSystem) -> str:
 
 
 def _power(w: float, system: UnitSystem) -> str:
-    kw, btu = f"{w / 1e3:,.1f} kW", f"{w / W_PER_BTU_H:,.0f} Btu/h"
+    """A heater power as the trade quotes it: nearest 0.1 kW, nearest 1,000 Btu/h."""
+    btu_h = round(w / W_PER_BTU_H, -3)
+    kw, btu = f"{w / 1e3:,.1f} kW", f"{btu_h:,.0f} Btu/h"
     return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
 
 
@@ -275,11 +322,11 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
-    console.print(action_line(r, system))
-    console.print(verdict_line(r, system))
+    print_line(console, action_line(r, system))
+    print_line(console, verdict_line(r, system))
     for line in (trip_wire_line(r, system), reading_line(r)):
         if line:
-            plain(console, line, "yellow")
+            print_line(console, f"[yellow]{line}[/yellow]")
     plain(console, f"{alarm_text(r, system)}", "dim")
     console.print()
     v = r.verdict
@@ -342,9 +389,10 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     rows = chart.layout(
         list(r.times),
         [
-            chart.Series("outside", conv(r.outside_c), "·", "blue"),
-            chart.Series("effective outside", conv(r.effective_outside_c), "∙", "cyan"),
-            chart.Series("air", conv(r.air_c), "•", "green"),
+            # symbols told apart at a glance, in any font (issue 12: · ∙ • were not)
+            chart.Series("outside", conv(r.outside_c), "-", "blue"),
+            chart.Series("effective outside", conv(r.effective_outside_c), ":", "cyan"),
+            chart.Series("air", conv(r.air_c), "o", "green"),
             chart.Series("plants", conv(r.plant_c), "*", "bold yellow"),
         ],
         threshold=conv(r.threshold_c),
@@ -370,6 +418,17 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     render_cautions(console, r.cautions)
 
 
+def render_brief(console, results: list[TonightResult], system: UnitSystem) -> None:
+    """`--brief`: the verdict lines of each house, most urgent first."""
+    order = sorted(results, key=lambda r: (-r.exit_status, r.safe))
+    for r in order:
+        print_line(console, action_line(r, system))
+        print_line(console, verdict_line(r, system))
+        for line in (trip_wire_line(r, system), reading_line(r)):
+            if line:
+                print_line(console, f"[yellow]{line}[/yellow]")
+
+
 def render_summary(console, results: list[TonightResult], system: UnitSystem) -> None:
     """Several houses: one table, most urgent first."""
     from rich.table import Table
@@ -386,8 +445,8 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     )
     frost = [r for r in order if not r.safe]
     if frost:
-        console.print(action_line(frost[0], system))
-        console.print(verdict_line(frost[0], system))
+        print_line(console, action_line(frost[0], system))
+        print_line(console, verdict_line(frost[0], system))
         if len(frost) > 1:
             console.print(
                 f"[bold red]{len(frost)} of {len(results)} houses reach the alarm tonight with no heat[/bold red]"
