@@ -429,21 +429,29 @@ def render_brief(console, results: list[TonightResult], system: UnitSystem) -> N
                 print_line(console, f"[yellow]{line}[/yellow]")
 
 
+#: a margin below this shows yellow, not green: within the model's own uncertainty
+#: (common practice, no source: the crops' alarm margin is 1 K)
+CLOSE_MARGIN_K = 1.0
+
+
+def margin_k(r: TonightResult) -> float:
+    """Coldest plants above the alarm with no heat [K] (negative: below it)."""
+    return r.verdict.min_plant_c - r.threshold_c
+
+
+def _margin_text(margin_k: float, system: UnitSystem) -> str:
+    text = show_temperature_difference(round(margin_k, 2) + 0.0, system).text(1)
+    style = "red" if margin_k < 0 else "yellow" if margin_k < CLOSE_MARGIN_K else "green"
+    return f"[{style}]{text}[/{style}]"
+
+
 def render_summary(console, results: list[TonightResult], system: UnitSystem) -> None:
     """Several houses: one table, most urgent first."""
     from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
-    order = sorted(
-        results,
-        key=lambda r: (
-            -r.exit_status,
-            r.safe,
-            r.verdict.crossing_time.timestamp() if r.verdict.crossing_time else 0.0,
-            r.verdict.min_plant_c - r.threshold_c,
-        ),
-    )
-    frost = [r for r in order if not r.safe]
+    order = sorted(results, key=lambda r: (margin_k(r), -r.exit_status))
+    frost = sorted((r for r in order if not r.safe), key=lambda r: -r.exit_status)
     if frost:
         print_line(console, action_line(frost[0], system))
         print_line(console, verdict_line(frost[0], system))
@@ -455,13 +463,20 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
         console.print(
             f"[bold green]NO ACTION[/bold green]: all {len(results)} houses stay above the alarm tonight with no heat"
         )
-    table = Table()
-    table.add_column("house")
-    table.add_column("alarm", justify="right")
-    table.add_column("reaches it", justify="right")
-    table.add_column("coldest plants", justify="right")
-    table.add_column("heat to hold", justify="right")
-    table.add_column("installed heater")
+    from rich import box
+
+    narrow = console.width < 90
+    table = Table(
+        box=box.SIMPLE_HEAD if narrow else box.HEAVY_HEAD,
+        pad_edge=not narrow,
+        padding=(0, 1) if not narrow else (0, 0, 0, 1),
+    )
+    table.add_column("house", min_width=10, overflow="fold")
+    table.add_column("reaches", justify="right", no_wrap=True)
+    table.add_column("coldest", justify="right", no_wrap=True)
+    table.add_column("to hold", justify="right", no_wrap=True)
+    table.add_column("heater")
+    table.add_column("margin", justify="right", no_wrap=True)
     for r in order:
         when = (
             "[green]no[/green]"
@@ -475,13 +490,20 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
         )
         table.add_row(
             r.house_name,
-            T(r.threshold_c),
             when,
             T(r.verdict.min_plant_c),
-            _power(r.hold_peak_w, system),
+            _power(r.hold_peak_w, system).split(" (")[0],  # the report's system only
             heater,
+            _margin_text(margin_k(r), system),
         )
     console.print(table)
+    plain(
+        console,
+        f"alarm {T(order[0].threshold_c)} ({order[0].threshold_basis}); coldest: plants with "
+        "no heat; to hold: peak heat that holds the alarm; margin: coldest plants above the "
+        "alarm with no heat, smallest first",
+        "dim",
+    )
     for r in order:
         for w in r.forecast_warnings:
             plain(console, f"! {r.house_name}: {w}", "yellow")
