@@ -97,12 +97,27 @@ def sun_events(
     first = dt.datetime.fromtimestamp(start_s, solar).date() - dt.timedelta(days=1)
     last = dt.datetime.fromtimestamp(end_s, solar).date() + dt.timedelta(days=1)
     observer = Observer(latitude=latitude_deg, longitude=longitude_deg, elevation=0.0)
+
+    def event(find, day: dt.date) -> float:
+        try:
+            return find(observer, day, tzinfo=solar).timestamp()
+        except ValueError:
+            # astral returns one event per UTC date, so one whose UTC date has another
+            # just after midnight is never returned (at -41°, 110° E the 2026-07-18
+            # sunrise is 23:59:40 UTC on 07-17, the 07-17 one 00:00:20 UTC): take the
+            # mean of the days either side, exact to the seconds by which the time of an
+            # event changes its daily drift. A polar day or night fails there too.
+            one = dt.timedelta(days=1)
+            before = find(observer, day - one, tzinfo=solar).timestamp()
+            after = find(observer, day + one, tzinfo=solar).timestamp()
+            return 0.5 * (before + after)
+
     rises, sets = [], []
     day = first
     while day <= last:
         try:
-            rises.append(sunrise(observer, day, tzinfo=solar).timestamp())
-            sets.append(sunset(observer, day, tzinfo=solar).timestamp())
+            rises.append(event(sunrise, day))
+            sets.append(event(sunset, day))
         except ValueError as exc:
             raise InputError(
                 f"no sunrise or sunset at latitude {latitude_deg:g}° on {day.isoformat()} "

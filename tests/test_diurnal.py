@@ -150,3 +150,17 @@ def test_outside_the_days_given_is_a_value_error():
         diurnal.diurnal_temperature(fall[0], rise, fall, 3.0, -6.0)
     with pytest.raises(ValueError, match="alternate"):
         diurnal.diurnal_temperature(fall[0], fall, rise, -6.0, 3.0)
+
+
+def test_sunrise_at_utc_midnight_is_found():
+    # astral 3 cannot place a sunrise that falls at 23:59 UTC when asked on the solar
+    # clock (the case hypothesis found at -41°, 110° E on 2026-07-18); the events either
+    # side are a day apart, within the minute or two the sunrise moves a day in July
+    # (astral's own answers for 07-17 and 07-19 on the solar clock, 07:00 and 06:59)
+    import datetime as dt
+
+    start = dt.datetime(2026, 7, 17, 12, tzinfo=dt.UTC).timestamp()
+    rise, fall = diurnal.sun_events(-41.0, 110.0, start, start + 86400.0)
+    gaps = np.diff(rise)
+    assert np.all(np.abs(gaps - 86400.0) < 180.0)
+    assert np.all(rise[:-1] < fall[:-1]) and np.all(fall[:-1] < rise[1:])
