@@ -17,7 +17,7 @@ COLOURS = {
     "outside": "#0072B2",
     "effective outside": "#56B4E9",
     "air": "#009E73",
-    "plant": "#E69F00",
+    "plants": "#E69F00",
     "air, colder night": "#CC79A7",
 }
 
@@ -59,10 +59,12 @@ def write_plot(
     fig, ax = plt.subplots(figsize=(9, 4.5), dpi=110)
     for label, values in series.items():
         ax.plot(
-            times, values, label=label, color=COLOURS.get(label), lw=2 if label == "plant" else 1.4
+            times, values, label=label, color=COLOURS.get(label), lw=2 if label == "plants" else 1.4
         )
     if threshold is not None:
-        ax.axhline(threshold, color="#D55E00", ls="--", lw=1.2, label="threshold")
+        ax.axhline(
+            threshold, color="#D55E00", ls="--", lw=1.2, label="alarm"
+        )  # the text report's word
     if crossing is not None:
         ax.axvline(crossing, color="#D55E00", lw=1, alpha=0.6)
         if threshold is not None:

@@ -525,7 +525,7 @@ def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
             "outside": conv(r.outside_c),
             "effective outside": conv(r.effective_outside_c),
             "air": conv(r.air_c),
-            "plant": conv(r.plant_c),
+            "plants": conv(r.plant_c),
             "air, colder night": conv(r.colder_air_c),
         },
         threshold=conv(r.threshold_c),
