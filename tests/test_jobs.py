@@ -234,33 +234,15 @@ def test_tonight_several_houses_most_urgent_first(capsys):
 
 
 def test_alert_status_exit_codes(capsys, tmp_path):
-    code = main(
-        [
-            "tonight",
-            "examples/hoop-tunnel.toml",
-            "--crop",
-            "tomato",
-            "--forecast",
-            NIGHT,
-            "--alert-status",
-        ]
-    )
-    out = capsys.readouterr().out
+    def alert(house: str) -> tuple[int, str]:
+        code = main(["tonight", house, "--crop", "tomato", "--forecast", NIGHT, "--alert-status"])
+        return code, capsys.readouterr().out
+
+    code, out = alert("examples/hoop-tunnel.toml")
     # the tunnel has no heater: damage expected even with the installed heat (none)
     assert code == 4, out
     assert out.startswith("NO HEATER FOR TONIGHT Lane tunnel")
-    code = main(
-        [
-            "tonight",
-            "examples/gable-house.toml",
-            "--crop",
-            "tomato",
-            "--forecast",
-            NIGHT,
-            "--alert-status",
-        ]
-    )
-    out = capsys.readouterr().out
+    code, out = alert("examples/gable-house.toml")
     # the gable house's heater holds the alarm: action needed, the equipment holds
     assert code == 3, out
     assert out.startswith("HEAT NEEDED Propagation house: heat from")
