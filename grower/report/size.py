@@ -66,9 +66,13 @@ def size_json(r: SizeResult) -> dict[str, Any]:
 
 
 def power_text(watts: float, system: UnitSystem) -> str:
-    """ "47.1 kW (160,700 Btu/h)", the system's unit first."""
+    """ "47.1 kW (161,000 Btu/h)", the system's unit first.
+
+    Rounded as the trade quotes heaters: to 0.1 kW and to the nearest 1,000 Btu/h
+    (common practice, no source). `tonight` and `size` both print powers through here.
+    """
     kw = f"{watts / 1e3:,.1f} kW"
-    btu = f"{watts / W_PER_BTU_H:,.0f} Btu/h"
+    btu = f"{round(watts / W_PER_BTU_H, -3):,.0f} Btu/h"
     return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
 
 

@@ -10,7 +10,7 @@ from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wir
 from grower.report import chart
 from grower.report import vapour as vapour_report
 from grower.report.common import iso, plain, render_cautions
-from grower.units import W_PER_BTU_H, UnitSystem, show_temperature, show_temperature_difference
+from grower.units import UnitSystem, show_temperature, show_temperature_difference
 
 
 def tonight_json(r: TonightResult) -> dict[str, Any]:
@@ -305,10 +305,9 @@ def alarm_text(r: TonightResult, system: UnitSystem) -> str:
 
 
 def _power(w: float, system: UnitSystem) -> str:
-    """A heater power as the trade quotes it: nearest 0.1 kW, nearest 1,000 Btu/h."""
-    btu_h = round(w / W_PER_BTU_H, -3)
-    kw, btu = f"{w / 1e3:,.1f} kW", f"{btu_h:,.0f} Btu/h"
-    return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
+    from grower.report.size import power_text
+
+    return power_text(w, system)
 
 
 def _verdict_text(v: Verdict, r: TonightResult, system: UnitSystem) -> str:
