@@ -9,6 +9,7 @@ from __future__ import annotations
 import datetime as dt
 import json
 import math
+from pathlib import Path
 
 import pytest
 
@@ -466,3 +467,27 @@ def test_already_below_at_start_says_so(capsys, tmp_path):
     assert code == 0
     assert out.startswith("BELOW THE ALARM NOW Lane tunnel")
     assert "at or below" in out.splitlines()[0]
+
+
+@pytest.mark.parametrize("factor", [0.34, 0.8, 1.5])
+def test_size_never_shrinks_the_heater_on_a_fitted_k(capsys, tmp_path, factor):
+    # A fitted K below the geometry's applied to the design night undersizes the heater
+    # (a fit of 0.34× recommended 34.7 kW for a house losing 62.5 kW); a fit may raise the
+    # heater, never lower it below the handbook-based figure (common practice, no source:
+    # size for the worse of two estimates).
+    argv = ("--outside", "-20C", "--hold", "10C")
+    plain = run_json(capsys, "size", "examples/gable-house.toml", *argv)
+    calm = run_json(capsys, "house", "examples/gable-house.toml")["calm_k_w_per_k"]
+    text = Path("examples/gable-house.toml").read_text(encoding="utf-8")
+    fitted = tmp_path / "fitted.toml"
+    fitted.write_text(
+        text + f"\n[calibration]\nk_w_per_k = {calm * factor}\nc_j_per_k = 9.0e7\n",
+        encoding="utf-8",
+    )
+    d = run_json(capsys, "size", str(fitted), *argv)
+    if factor < 1:
+        assert d["heat_loss_w"] == pytest.approx(plain["heat_loss_w"], rel=1e-9)
+        assert any("not sized below the handbook" in n for n in d["notes"])
+    else:
+        assert d["heat_loss_w"] == pytest.approx(plain["heat_loss_w"] * factor, rel=1e-6)
+    assert d["recommended_output_w"] >= plain["recommended_output_w"] * (1 - 1e-9)

@@ -185,6 +185,18 @@ def unit_choices(
     return tuple(out)
 
 
+def sizing_ratio(fitted_ratio: float) -> float:
+    """The calibration factor a heater is sized with: a fit may raise K, never lower it.
+
+    A fitted K below the geometry's most often means the record's nights were cloudier
+    (or its sky share smaller) than the fit assumed, not a tighter house; applied to the
+    design night it undersizes the heater, the unsafe direction. Sizing therefore keeps
+    the geometry's K in that case and says so (common practice, no source: size for the
+    worse of two estimates).
+    """
+    return max(float(fitted_ratio), 1.0)
+
+
 def size(
     house: House,
     *,
@@ -200,7 +212,8 @@ def size(
     """Size a heater for `house` to hold `hold_c` at `design_outside_c` and `wind_m_s`."""
     from grower.plans import model as hm
 
-    ratio = hm.calibration_ratio(house, use_calibration) or 1.0
+    fitted_ratio = hm.calibration_ratio(house, use_calibration) or 1.0
+    ratio = sizing_ratio(fitted_ratio)
     design = design_heat_loss(
         house, design_outside_c, hold_c, wind_m_s, curtain_closed=False, k_ratio=ratio
     )
@@ -238,6 +251,14 @@ def size(
         notes.append(
             f"every conductance × {ratio:.2f}: the house file's [calibration] (grower fit) "
             "against the geometry's K on a calm clear night"
+        )
+    elif fitted_ratio < 1.0:
+        notes.append(
+            f"the house file's [calibration] K is × {fitted_ratio:.2f} the geometry's on a "
+            "calm clear night; "
+            "a heater is not sized below the handbook figure on a fit (the fit cannot yet "
+            "tell conduction from the sky's share on a record without cloud): the "
+            "geometry's K is used"
         )
     elif house.calibration and not use_calibration:
         notes.append("the house file's [calibration] is ignored (--no-calibration)")
