@@ -45,7 +45,7 @@ def cautions(
             # Purdue Extension, "Greenhouse heating checklist": 1 in² inlet per 1,000 Btu/h.
             inlet = btu_h / 1000.0
             text = (
-                f"Combustion air: a {btu_h:,.0f} Btu/h heater needs a fresh-air inlet of at "
+                f"Combustion air: a {round(btu_h, -3):,.0f} Btu/h heater needs a fresh-air inlet of at "
                 f"least {inlet:,.0f} in² ({inlet * M2_PER_IN2 * 1e4:,.0f} cm²), 1 in² per "
                 "1,000 Btu/h of input (Purdue Extension, Greenhouse heating checklist)."
             )

@@ -144,7 +144,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     if r.combustion_air_in2:
         a = r.combustion_air_in2
         console.print(
-            f"Combustion air for {r.recommended_input_w / W_PER_BTU_H:,.0f} Btu/h input: "
+            f"Combustion air for {power_text(r.recommended_input_w, system)} input: "
             f"[bold]{a['rule_of_thumb_in2']:,.0f} in²[/bold] ({a['rule_of_thumb_in2'] * 6.4516:,.0f} cm²) "
             "of free inlet area (1 in² per 1,000 Btu/h); by the fuel gas code, "
             f"{a['outdoor_vertical_duct_in2']:,.0f} in² from outdoors through vertical ducts or "
