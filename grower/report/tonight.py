@@ -282,10 +282,17 @@ def _air_assumed(r: TonightResult) -> bool:
     return any(a.startswith("inside air assumed") for a in r.assumptions)
 
 
-def reading_line(r: TonightResult) -> str | None:
+def reading_line(r: TonightResult, system: UnitSystem | None = None) -> str | None:
     """When the start was assumed, which reading would change the answer."""
     if r.safe or not _air_assumed(r):
         return None
+    if r.below_now and system is not None:
+        T = show_temperature(r.initial_air_c, system).text(1)
+        return keep_units(
+            f"The inside air now was assumed ({T}), not read: read a thermometer at the "
+            "plants; if they are above the alarm, rerun with --inside-now for tonight's "
+            "answer."
+        )
     return (
         "The inside air at the start was assumed: a reading (--inside-now, --soil-now) "
         "can change this answer."
@@ -323,7 +330,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     print_line(console, action_line(r, system))
     print_line(console, verdict_line(r, system))
-    for line in (trip_wire_line(r, system), reading_line(r)):
+    for line in (trip_wire_line(r, system), reading_line(r, system)):
         if line:
             print_line(console, f"[yellow]{line}[/yellow]")
     plain(console, f"{alarm_text(r, system)}", "dim")
@@ -423,7 +430,7 @@ def render_brief(console, results: list[TonightResult], system: UnitSystem) -> N
     for r in order:
         print_line(console, action_line(r, system))
         print_line(console, verdict_line(r, system))
-        for line in (trip_wire_line(r, system), reading_line(r)):
+        for line in (trip_wire_line(r, system), reading_line(r, system)):
             if line:
                 print_line(console, f"[yellow]{line}[/yellow]")
 
