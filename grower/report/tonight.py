@@ -301,14 +301,21 @@ def reading_line(r: TonightResult, system: UnitSystem | None = None) -> str | No
 
 def alarm_text(r: TonightResult, system: UnitSystem) -> str:
     """ "alarm 31.8 °F = damage 30.0 °F + 1.8 °F margin — strawberry (…): source"."""
+    return alarm_words(r.threshold_c, r.damage_c, r.margin_k, r.threshold_basis, system)
+
+
+def alarm_words(
+    alarm_c: float, damage_c: float | None, margin_k: float, basis: str, system: UnitSystem
+) -> str:
+    """The alarm, how it is made up and its source, in `system` (tonight and stock)."""
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
-    text = f"alarm {T(r.threshold_c)}"
-    if r.damage_c is not None and r.margin_k:
-        margin = show_temperature_difference(r.margin_k, system).text(1)
-        text += f" = damage {T(r.damage_c)} + {margin} margin"
-    elif r.damage_c is not None:
-        text += f" (damage {T(r.damage_c)})"
-    return f"{text} — {r.threshold_basis}"
+    text = f"alarm {T(alarm_c)}"
+    if damage_c is not None and margin_k:
+        margin = show_temperature_difference(margin_k, system).text(1)
+        text += f" = damage {T(damage_c)} + {margin} margin"
+    elif damage_c is not None:
+        text += f" (damage {T(damage_c)})"
+    return f"{text} — {basis}" if basis else text
 
 
 def _power(w: float, system: UnitSystem) -> str:
