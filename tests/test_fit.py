@@ -645,13 +645,15 @@ def test_cli_json(capsys):
         str(EXAMPLES / "gable-house.toml"),
         "--log",
         str(EXAMPLES / "logger-gable-house.csv"),
-        "--model",
-        "lumped",
         "--json",
     ]
     assert main(args) == 0
     doc = json.loads(capsys.readouterr().out)
-    assert doc["model"] == "lumped"
+    assert doc["model"] == "two-node"
+    # judged against the sensor: the two-node fit is within twice the record's own noise
+    assert 0.05 < doc["noise_k"] < 0.5 and doc["quality"] == "good"
+    assert doc["rms_to_noise"] == pytest.approx(doc["rms_k"] / doc["noise_k"])
+    assert -1.0 <= doc["residual_lag1"] <= 1.0
     names = [p["name"] for p in doc["parameters"]]
     assert names[:3] == ["k_w_per_k", "c_j_per_k", "time_constant_h"]
     for p in doc["parameters"]:
@@ -659,7 +661,21 @@ def test_cli_json(capsys):
     assert set(doc["ratios"]) >= {"k_w_per_k", "c_j_per_k"}
     assert doc["n_samples"] == sum(s["rows"] for s in doc["segments"]) == len(doc["series"])
     assert len(doc["segments"]) == 4 and doc["rms_k"] > 0
-    assert doc["written"] is None and doc["calibration"]["model"] == "lumped"
+    assert doc["written"] is None and doc["calibration"]["model"] == "two-node"
+
+
+def test_cli_one_node_fit_of_a_two_node_record_is_refused(capsys):
+    """The example house has a floor and water barrels; one node misses the record by
+    more than five times the sensor's noise, and the one line says what to do."""
+    args = [
+        "fit",
+        str(EXAMPLES / "gable-house.toml"),
+        "--log",
+        str(EXAMPLES / "logger-gable-house.csv"),
+    ]
+    assert main([*args, "--model", "lumped"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "\n" not in err and "times the sensor's noise" in err and "--model auto" in err
 
 
 def test_cli_write_then_tonight_uses_it(tmp_path, capsys):
