@@ -133,12 +133,15 @@ def synth(
     first: str = "18:00",
     sun_peak: float | None = None,
     sun_factor: float = 1.0,
+    sky: float = 1.0,
 ):
     """Write a synthetic record; return its path and the true values.
 
     The true house is the geometry's network (at the record's mean outside temperature,
     as the fit builds it) with conductances × k, the air–mass coupling × g more and
     capacities × c; solve_ivp integrates it row to row, the heater held between rows.
+    `sky` multiplies the conductance to the sky alone (a house whose sky share differs
+    from the geometry's).
     """
     rng = np.random.default_rng(seed)
     h = house.read(house_path)
@@ -154,10 +157,12 @@ def synth(
         use_calibration=False,
     )
     n0 = geo.network
+    to_boundary = np.array(n0.boundary_w_per_k) * k
+    to_boundary[:, list(n0.boundary_names).index("sky")] *= sky
     net = solver.Network(
         np.array(n0.capacitance_j_per_k) * c,
         np.array(n0.coupling_w_per_k) * k * g,
-        np.array(n0.boundary_w_per_k) * k,
+        to_boundary,
         n0.node_names,
         n0.boundary_names,
     )
@@ -363,6 +368,79 @@ def test_with_days_fits_the_sun_gain_factor(tmp_path):
     s = day.chosen.get("sun_factor")
     assert s.status == "fitted" and s.geometry == 1.0
     _within(day, truth, ["sun_factor", "time_constant_h"])
+
+
+# ------------------------------------------------------------------ against the sensor
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_noise_is_read_from_the_record_and_a_true_model_is_accepted(tmp_path, seed):
+    """0.1 K white noise on three nights with the heater power logged: the estimate from
+    the record's second differences is within 20 % of 0.1 K (its spread on 200 differences
+    is about 10 %: checked on pure noise), and the true model's fit is judged good."""
+    hp = _house(tmp_path)
+    geo_k = hm.build(house.read(hp), kind="lumped", use_calibration=False).k_w_per_k
+    log, _ = synth(
+        tmp_path, hp, k=1.1, c=0.9, nights=3, noise=0.1, heater="power", q_w=6.0 * geo_k, seed=seed
+    )
+    r = _fit(hp, log, model="lumped")
+    assert r.noise_k == pytest.approx(0.1, rel=0.2)
+    assert r.quality == "good" and r.noise_ratio < 2.0
+    assert abs(r.residual_lag1) < 0.3  # the true model leaves white residuals
+
+
+def _with_unlogged_heat(log: Path, lift_k: float) -> None:
+    """Lift three hours of the middle of the record by `lift_k` (heat the record does not
+    log: a space heater nobody wrote down)."""
+    frame = pd.read_csv(log)
+    mid = len(frame) // 2
+    frame.loc[mid - 18 : mid, "inside_c"] += lift_k
+    frame.to_csv(log, index=False)
+
+
+def test_a_house_with_half_the_geometrys_sky_share_is_marked_rough(tmp_path):
+    """The geometry's sky share imposed on a house with half of it biases K low (about 20 %
+    here); the residual shows it — about 2.3 times the noise, in long waves — and the
+    fit says so rather than passing as good."""
+    hp = _house(tmp_path, heater_w=9000.0)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, sky=0.5, heater="state", q_w=9000.0, seed=0)
+    r = _fit(hp, log, model="lumped")
+    assert r.noise_k == pytest.approx(0.1, rel=0.2)
+    assert r.quality == "rough" and r.rough and r.noise_ratio > 2.0
+    assert r.residual_lag1 > 0.5
+
+
+def test_unlogged_heat_is_rough_and_not_written_without_keep_rough(tmp_path, capsys):
+    hp = _house(tmp_path)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, seed=1)
+    _with_unlogged_heat(log, 0.8)
+    r = _fit(hp, log, model="lumped")
+    assert r.quality == "rough"
+    before = hp.read_bytes()
+    args = ["fit", str(hp), "--log", str(log), "--model", "lumped"]
+    assert main([*args, "--write"]) == 2
+    cap = capsys.readouterr()
+    err = cap.err.strip()
+    assert "\n" not in err and "not written: the fit is rough" in err and "--keep-rough" in err
+    assert hp.read_bytes() == before and not hp.with_suffix(".toml.bak").exists()
+    assert main([*args, "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["quality"] == "rough" and doc["rms_to_noise"] > 2.0
+    assert main([*args]) == 0
+    assert "ROUGH" in capsys.readouterr().out
+    assert main([*args, "--write", "--keep-rough", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["written"] is not None
+    assert "[calibration]" in hp.read_text(encoding="utf-8")
+
+
+def test_a_heater_left_out_of_the_record_is_refused(tmp_path):
+    """Three nights, the middle one heated, the heater column dropped: the residual is five
+    times the noise, and the refusal says to log the heater."""
+    hp = _house(tmp_path)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, heater="state", q_w=8000.0, seed=0)
+    pd.read_csv(log).drop(columns=["heater"]).to_csv(log, index=False)
+    with pytest.raises(InputError, match="times the sensor's noise.*heater's power"):
+        _fit(hp, log, model="lumped")
 
 
 # ------------------------------------------------------------------ refusals
