@@ -9,6 +9,7 @@ known factors, then adding logger noise. Every house and record here is invented
 from __future__ import annotations
 
 import datetime as dt
+import importlib
 import json
 import os
 from pathlib import Path
@@ -19,6 +20,7 @@ import pandas as pd
 import pytest
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
+from scipy import special
 from scipy.integrate import solve_ivp
 
 from grower import house, solver
@@ -408,6 +410,26 @@ def test_a_house_with_half_the_geometrys_sky_share_is_marked_rough(tmp_path):
     assert r.noise_k == pytest.approx(0.1, rel=0.2)
     assert r.quality == "rough" and r.rough and r.noise_ratio > 2.0
     assert r.residual_lag1 > 0.5
+
+
+def test_intervals_widen_for_residuals_that_run_in_waves(tmp_path, monkeypatch):
+    """The sky-share record's residuals have lag-1 autocorrelation near 0.8: the half-widths
+    grow by √((1 + ρ)/(1 − ρ)) (about 3) over the independent-error ones, times the ratio of
+    Student's t on the effective degrees of freedom to t on n − p."""
+    est = importlib.import_module("grower.fit.estimate")  # the package exports the function
+    hp = _house(tmp_path, heater_w=9000.0)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, sky=0.5, heater="state", q_w=9000.0, seed=0)
+    wide = _fit(hp, log, model="lumped")
+    rho = wide.residual_lag1
+    assert rho > 0.5
+    monkeypatch.setattr(est, "MAX_LAG1", 0.0)  # no widening
+    narrow = _fit(hp, log, model="lumped")
+    ratio = wide.chosen.get("k_w_per_k").half_width / narrow.chosen.get("k_w_per_k").half_width
+    inflation = (1 + rho) / (1 - rho)
+    n, p = wide.chosen.n_residuals, wide.chosen.n_free
+    t_wide = special.stdtrit(int(n / inflation) - p, 0.975)  # Student's t, effective dof
+    t_narrow = special.stdtrit(n - p, 0.975)
+    assert ratio == pytest.approx(np.sqrt(inflation) * t_wide / t_narrow, rel=0.01)
 
 
 def test_unlogged_heat_is_rough_and_not_written_without_keep_rough(tmp_path, capsys):

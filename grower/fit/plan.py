@@ -195,9 +195,6 @@ def fit_house(
             + (" (or let the two-node model try: --model auto)" if model == "lumped" else ""),
             where=where,
         )
-    lag1 = sensor.lag1_autocorrelation(
-        [y - s.inside_c for y, s in zip(chosen.fitted_c, data.segments, strict=True)]
-    )
 
     rows = data.rows
     seg_of = np.concatenate([np.full(s.rows.size, i) for i, s in enumerate(data.segments)])
@@ -226,7 +223,7 @@ def fit_house(
         fit_date=today or dt.date.today(),
         noise_k=noise,
         quality=quality,
-        residual_lag1=lag1,
+        residual_lag1=chosen.residual_lag1,
     )
 
 

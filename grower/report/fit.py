@@ -21,8 +21,8 @@ from grower.units import (
 
 INTERVAL_NOTE = (
     "95 % intervals are the linearised ones (covariance s²(JᵀJ)⁻¹ at the optimum, Student's "
-    "t); they hold for independent errors — a model error that runs in long waves makes them "
-    "too narrow"
+    "t), widened for the residuals' lag-1 autocorrelation ρ by (1 + ρ)/(1 − ρ) on the "
+    "effective sample size; a model error that runs in long waves still makes them too narrow"
 )
 NOISE_NOTE = (
     "sensor noise from the record's own scatter: 1.4826·MAD of the second differences of the "
@@ -203,7 +203,8 @@ def judgement(r: FitResult) -> list[str]:
         )
     if np.isfinite(r.residual_lag1):
         wave = (
-            " — the misfit runs in long waves: the intervals are too narrow"
+            " — the misfit runs in long waves: the intervals are widened for it, and may "
+            "still be too narrow"
             if r.residual_lag1 > HIGH_LAG1
             else ""
         )
