@@ -181,7 +181,12 @@ def headline(r: FitResult, system: UnitSystem) -> str:
     return f"{part(k, 'K')}, {part(c, 'C')}, C/K = [bold]{tau.value:.1f} h[/bold]"
 
 
-def judgement(r: FitResult) -> list[str]:
+def _dk(delta_k: float, system: UnitSystem) -> str:
+    """A temperature difference in display units."""
+    return f"{delta_k * 1.8:.2f} °F" if system == "us" else f"{delta_k:.2f} K"
+
+
+def judgement(r: FitResult, system: UnitSystem = "metric") -> list[str]:
     """The fit against the sensor: noise, ratio, quality, residual autocorrelation."""
     out = []
     if np.isfinite(r.noise_k):
@@ -191,7 +196,7 @@ def judgement(r: FitResult) -> list[str]:
             else "[green]good[/green]: the residual is within twice the sensor's noise"
         )
         out.append(
-            f"Sensor noise (from the record's scatter): {r.noise_k:.2f} K; residual "
+            f"Sensor noise (from the record's scatter): {_dk(r.noise_k, system)}; residual "
             f"{r.noise_ratio:.1f} × noise — {verdict}"
         )
     else:
@@ -229,6 +234,11 @@ def render_fit(
         + f"); outside: {r.outside_source}"
     )
     console.print(headline(r, system))
+    if r.rough:
+        console.print(
+            f"[bold red]ROUGH fit[/bold red]: the model misses the record by "
+            f"{r.noise_ratio:.1f} × the sensor's noise; use these values with care"
+        )
     table = Table()
     table.add_column("")
     table.add_column("fitted", justify="right", no_wrap=True)
@@ -246,10 +256,10 @@ def render_fit(
     console.print(table)
     console.print(f"Model: {r.choice}")
     console.print(
-        f"Residual: [bold]{f.rms_k:.2f} K RMS[/bold] over {f.n_residuals} samples "
+        f"Residual: [bold]{_dk(f.rms_k, system)} RMS[/bold] over {f.n_residuals} samples "
         f"({f.n_free} fitted values)"
     )
-    for line in judgement(r):
+    for line in judgement(r, system):
         console.print(line)
     if r.other is not None and r.other.refusal is None:
         o = r.other
