@@ -98,7 +98,7 @@ def lag1_autocorrelation(residuals: Sequence[np.ndarray]) -> float:
 
 
 def quality(rms_k: float, noise_k: float, max_rms_k: float) -> str:
-    """ "good", "rough" or "refused": the residual RMS against the sensor noise.
+    """The verdict on a residual RMS against the sensor noise: good, rough or refused.
 
     Refused above `REFUSE_RATIO` × noise or above `max_rms_k` outright; rough above
     `ROUGH_RATIO` × noise. The noise is floored at `NOISE_FLOOR_K`; an unknown noise (NaN)

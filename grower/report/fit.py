@@ -186,7 +186,7 @@ def _dk(delta_k: float, system: UnitSystem) -> str:
     return f"{delta_k * 1.8:.2f} °F" if system == "us" else f"{delta_k:.2f} K"
 
 
-def judgement(r: FitResult, system: UnitSystem = "metric") -> list[str]:
+def judgement(r: FitResult, system: UnitSystem = "metric", written: bool = False) -> list[str]:
     """The fit against the sensor: noise, ratio, quality, residual autocorrelation."""
     out = []
     if np.isfinite(r.noise_k):
@@ -201,7 +201,9 @@ def judgement(r: FitResult, system: UnitSystem = "metric") -> list[str]:
         )
     else:
         out.append("Sensor noise: too few rows to estimate it")
-    if r.rough:
+    if r.rough and written:
+        out.append("[red]Stored although rough (--keep-rough).[/red]")
+    elif r.rough:
         out.append(
             "[red]A rough fit is not stored by --write (add --keep-rough to store it); "
             "log the heater's power or on/off state and the cloud cover or sun.[/red]"
@@ -259,7 +261,7 @@ def render_fit(
         f"Residual: [bold]{_dk(f.rms_k, system)} RMS[/bold] over {f.n_residuals} samples "
         f"({f.n_free} fitted values)"
     )
-    for line in judgement(r, system):
+    for line in judgement(r, system, bool(written)):
         console.print(line)
     if r.other is not None and r.other.refusal is None:
         o = r.other
