@@ -27,13 +27,40 @@ if TYPE_CHECKING:
 M2_PER_IN2 = 0.0254**2
 
 
+#: the cautions that apply on the night itself, by their opening word; the rest (venting,
+#: fuel storage, vapour supply, gas piping) are for the installation and `grower size`
+TONIGHT = ("Combustion air", "Unvented heater", "Carbon monoxide", "Electrical load", "Power cuts")
+
+
 def cautions(
-    fuel: str | Fuel, appliance: str | Appliance | None = None, input_w: float | None = None
+    fuel: str | Fuel,
+    appliance: str | Appliance | None = None,
+    input_w: float | None = None,
+    *,
+    short: bool = False,
 ) -> tuple[str, ...]:
-    """Short safety cautions for heating with `fuel` on `appliance` at `input_w` [W].
+    """Safety cautions for heating with `fuel` on `appliance` at `input_w` [W].
 
     Each names its source; the last defers to local codes and licensed installers.
+    ``short``: only those that apply on the night itself (`TONIGHT`), the combustion-air
+    one without the fuel gas code's duct sizes, and a last line pointing to `grower size`
+    for the complete set.
     """
+    every = _cautions(fuel, appliance, input_w)
+    if not short:
+        return every
+    out = [c.split(" The fuel gas code")[0] for c in every if c.startswith(TONIGHT)]
+    out.append(
+        "The installation's cautions (venting, fuel storage and supply, codes) are in "
+        "`grower size`; follow local codes and have a licensed installer fit and test any "
+        "heater."
+    )
+    return tuple(out)
+
+
+def _cautions(
+    fuel: str | Fuel, appliance: str | Appliance | None, input_w: float | None
+) -> tuple[str, ...]:
     from grower.fuels import appliance_for, get_fuel  # grower.fuels imports this module
 
     fuel = get_fuel(fuel)
@@ -127,7 +154,7 @@ def cautions(
         out.append(storage)
     if fuel.name == "propane":
         # the vapour check itself is grower.vaporisation (the trade's approximate tables)
-        need = f" {btu_h:,.0f} Btu/h" if btu_h is not None else " the heater's input"
+        need = f" {round(btu_h, -3):,.0f} Btu/h" if btu_h is not None else " the heater's input"
         out.append(
             "Cold weather: a propane tank vaporises less gas as it gets colder and emptier; "
             "grower's vapour check uses the trade's approximate tables: have the supplier "

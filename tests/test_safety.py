@@ -70,3 +70,30 @@ def test_safety_imports_on_its_own():
         "import grower.fuels as f; assert not hasattr(f, 'cautions')"
     )
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+def test_the_short_set_keeps_the_nights_cautions_and_points_to_size():
+    full = cautions("propane", "unit-heater-vented", 100_000 * W_PER_BTU_H)
+    short = cautions("propane", "unit-heater-vented", 100_000 * W_PER_BTU_H, short=True)
+    assert len(short) < len(full)
+    heads = [c.split(":")[0] for c in short[:-1]]
+    assert heads == ["Combustion air", "Carbon monoxide"]
+    # the opening stays (Purdue Extension: 1 in² per 1,000 Btu/h), the duct sizes go to size
+    assert "100 in²" in short[0] and "fuel gas code" not in short[0]
+    assert "grower size" in short[-1] and "licensed installer" in short[-1]
+    # an unvented heater's warning is never dropped from the short set
+    unvented = " ".join(cautions("kerosene", "unvented", 20_000.0, short=True))
+    assert "Unvented heater" in unvented
+
+
+def test_tonight_cautions_quote_the_installed_nameplate(capsys):
+    import json
+
+    from grower.cli import main
+
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato"]
+    argv += ["--forecast", "examples/forecast-cold-night.csv", "--json"]
+    assert main(argv) == 0
+    text = " ".join(json.loads(capsys.readouterr().out)["cautions"])
+    # examples/gable-house.toml: a 100,000 Btu/h (input) unit heater
+    assert "a 100,000 Btu/h heater" in text and "grower size" in text

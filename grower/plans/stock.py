@@ -572,5 +572,7 @@ def stock(
         forecast_attribution=forecast.attribution,
         forecast_age_s=forecast.age_s,
         forecast_warnings=tuple(forecast.warnings),
-        cautions=safety.cautions(fuel, heat.appliance_key, heat.input_w or (peak / eff or None)),
+        cautions=safety.cautions(
+            fuel, heat.appliance_key, heat.input_w or (peak / eff or None), short=True
+        ),
     )

@@ -368,7 +368,11 @@ def tonight(
 
     cautions: tuple[str, ...] = ()
     if verdict.crossing_time is not None or check is not None:
-        cautions = safety.cautions(fuel, appliance, hold_peak_w / eff if hold_peak_w > 0 else None)
+        # the installed nameplate when there is one (the opening serves the heater as
+        # fitted), else the input that would hold tonight's alarm
+        nameplate = source.input_w if source.installed else None
+        need = hold_peak_w / eff if hold_peak_w > 0 else None
+        cautions = safety.cautions(fuel, appliance, nameplate or need, short=True)
 
     local = [when(t) for t in b.times]
     return TonightResult(
