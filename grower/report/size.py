@@ -7,8 +7,8 @@ from typing import Any
 from grower.plans.size import SizeResult
 from grower.report import vapour as vapour_report
 from grower.report.common import plain, render_cautions
+from grower.report.quantities import power_text
 from grower.units import (
-    W_PER_BTU_H,
     UnitSystem,
     show_speed,
     show_temperature,
@@ -63,17 +63,6 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "cautions": list(r.cautions),
         **({} if r.vapour is None else vapour_report.fields(r.vapour)),
     }
-
-
-def power_text(watts: float, system: UnitSystem) -> str:
-    """ "47.1 kW (161,000 Btu/h)", the system's unit first.
-
-    Rounded as the trade quotes heaters: to 0.1 kW and to the nearest 1,000 Btu/h
-    (common practice, no source). `tonight` and `size` both print powers through here.
-    """
-    kw = f"{watts / 1e3:,.1f} kW"
-    btu = f"{round(watts / W_PER_BTU_H, -3):,.0f} Btu/h"
-    return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
 
 
 def render_size(console, r: SizeResult, system: UnitSystem) -> None:
