@@ -22,8 +22,9 @@ J_K_PER_BTU_F = J_PER_BTU * 1.8
 _US_FUEL_UNITS = {"L": ("gal",), "kg": ("lb",), "m3": ("therm", "ft3"), "GJ": ("therm",)}
 
 
-def power_text(watts: float, system: UnitSystem) -> str:
-    """A heater's power: "47.1 kW (161,000 Btu/h)" in SI, "161,000 Btu/h" in US units.
+def power_text(watts: float, system: UnitSystem, *, with_btu: bool = True) -> str:
+    """A heater's power: "47.1 kW (161,000 Btu/h)" in SI ("47.1 kW" without `with_btu`),
+    "161,000 Btu/h" in US units.
 
     Rounded as the trade quotes heaters: to 0.1 kW and to the nearest 1,000 Btu/h
     (common practice, no source).
@@ -31,7 +32,8 @@ def power_text(watts: float, system: UnitSystem) -> str:
     btu = f"{round(watts / W_PER_BTU_H, -3):,.0f} Btu/h"
     if system == "us":
         return btu
-    return f"{watts / 1e3:,.1f} kW ({btu})"
+    kw = f"{watts / 1e3:,.1f} kW"
+    return f"{kw} ({btu})" if with_btu else kw
 
 
 def energy_text(joules: float, system: UnitSystem) -> str:
