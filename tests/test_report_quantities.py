@@ -76,16 +76,9 @@ def test_kilograms_print_as_pounds_and_cubic_metres_of_gas_as_therms():
 
 # ------------------------------------------------ the screens, one unit system each
 
-_TONIGHT = [
-    "tonight",
-    "examples/gable-house.toml",
-    "--crop",
-    "tomato",
-    "--forecast",
-    "examples/forecast-cold-night.csv",
-]
-_STOCK = ["stock", "examples/gable-house.toml", "--setpoint", "50F"]
-_STOCK += ["--forecast", "examples/forecast-cold-night.csv"]
+_FORECAST = "--forecast examples/forecast-cold-night.csv"
+_TONIGHT = f"tonight examples/gable-house.toml --crop tomato {_FORECAST}".split()
+_STOCK = f"stock examples/gable-house.toml --setpoint 50F {_FORECAST}".split()
 
 
 @pytest.mark.parametrize(
