@@ -9,6 +9,7 @@ known factors, then adding logger noise. Every house and record here is invented
 from __future__ import annotations
 
 import datetime as dt
+import importlib
 import json
 import os
 from pathlib import Path
@@ -19,6 +20,7 @@ import pandas as pd
 import pytest
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
+from scipy import special
 from scipy.integrate import solve_ivp
 
 from grower import house, solver
@@ -133,12 +135,15 @@ def synth(
     first: str = "18:00",
     sun_peak: float | None = None,
     sun_factor: float = 1.0,
+    sky: float = 1.0,
 ):
     """Write a synthetic record; return its path and the true values.
 
     The true house is the geometry's network (at the record's mean outside temperature,
     as the fit builds it) with conductances × k, the air–mass coupling × g more and
     capacities × c; solve_ivp integrates it row to row, the heater held between rows.
+    `sky` multiplies the conductance to the sky alone (a house whose sky share differs
+    from the geometry's).
     """
     rng = np.random.default_rng(seed)
     h = house.read(house_path)
@@ -154,10 +159,12 @@ def synth(
         use_calibration=False,
     )
     n0 = geo.network
+    to_boundary = np.array(n0.boundary_w_per_k) * k
+    to_boundary[:, list(n0.boundary_names).index("sky")] *= sky
     net = solver.Network(
         np.array(n0.capacitance_j_per_k) * c,
         np.array(n0.coupling_w_per_k) * k * g,
-        np.array(n0.boundary_w_per_k) * k,
+        to_boundary,
         n0.node_names,
         n0.boundary_names,
     )
@@ -363,6 +370,99 @@ def test_with_days_fits_the_sun_gain_factor(tmp_path):
     s = day.chosen.get("sun_factor")
     assert s.status == "fitted" and s.geometry == 1.0
     _within(day, truth, ["sun_factor", "time_constant_h"])
+
+
+# ------------------------------------------------------------------ against the sensor
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_noise_is_read_from_the_record_and_a_true_model_is_accepted(tmp_path, seed):
+    """0.1 K white noise on three nights with the heater power logged: the estimate from
+    the record's second differences is within 20 % of 0.1 K (its spread on 200 differences
+    is about 10 %: checked on pure noise), and the true model's fit is judged good."""
+    hp = _house(tmp_path)
+    geo_k = hm.build(house.read(hp), kind="lumped", use_calibration=False).k_w_per_k
+    log, _ = synth(
+        tmp_path, hp, k=1.1, c=0.9, nights=3, noise=0.1, heater="power", q_w=6.0 * geo_k, seed=seed
+    )
+    r = _fit(hp, log, model="lumped")
+    assert r.noise_k == pytest.approx(0.1, rel=0.2)
+    assert r.quality == "good" and r.noise_ratio < 2.0
+    assert abs(r.residual_lag1) < 0.3  # the true model leaves white residuals
+
+
+def _with_unlogged_heat(log: Path, lift_k: float) -> None:
+    """Lift three hours of the middle of the record by `lift_k` (heat the record does not
+    log: a space heater nobody wrote down)."""
+    frame = pd.read_csv(log)
+    mid = len(frame) // 2
+    frame.loc[mid - 18 : mid, "inside_c"] += lift_k
+    frame.to_csv(log, index=False)
+
+
+def test_a_house_with_half_the_geometrys_sky_share_is_marked_rough(tmp_path):
+    """The geometry's sky share imposed on a house with half of it biases K low (about 20 %
+    here); the residual shows it — about 2.3 times the noise, in long waves — and the
+    fit says so rather than passing as good."""
+    hp = _house(tmp_path, heater_w=9000.0)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, sky=0.5, heater="state", q_w=9000.0, seed=0)
+    r = _fit(hp, log, model="lumped")
+    assert r.noise_k == pytest.approx(0.1, rel=0.2)
+    assert r.quality == "rough" and r.rough and r.noise_ratio > 2.0
+    assert r.residual_lag1 > 0.5
+
+
+def test_intervals_widen_for_residuals_that_run_in_waves(tmp_path, monkeypatch):
+    """The sky-share record's residuals have lag-1 autocorrelation near 0.8: the half-widths
+    grow by √((1 + ρ)/(1 − ρ)) (about 3) over the independent-error ones, times the ratio of
+    Student's t on the effective degrees of freedom to t on n − p."""
+    est = importlib.import_module("grower.fit.estimate")  # the package exports the function
+    hp = _house(tmp_path, heater_w=9000.0)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, sky=0.5, heater="state", q_w=9000.0, seed=0)
+    wide = _fit(hp, log, model="lumped")
+    rho = wide.residual_lag1
+    assert rho > 0.5
+    monkeypatch.setattr(est, "MAX_LAG1", 0.0)  # no widening
+    narrow = _fit(hp, log, model="lumped")
+    ratio = wide.chosen.get("k_w_per_k").half_width / narrow.chosen.get("k_w_per_k").half_width
+    inflation = (1 + rho) / (1 - rho)
+    n, p = wide.chosen.n_residuals, wide.chosen.n_free
+    t_wide = special.stdtrit(int(n / inflation) - p, 0.975)  # Student's t, effective dof
+    t_narrow = special.stdtrit(n - p, 0.975)
+    assert ratio == pytest.approx(np.sqrt(inflation) * t_wide / t_narrow, rel=0.01)
+
+
+def test_unlogged_heat_is_rough_and_not_written_without_keep_rough(tmp_path, capsys):
+    hp = _house(tmp_path)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, seed=1)
+    _with_unlogged_heat(log, 0.8)
+    r = _fit(hp, log, model="lumped")
+    assert r.quality == "rough"
+    before = hp.read_bytes()
+    args = ["fit", str(hp), "--log", str(log), "--model", "lumped"]
+    assert main([*args, "--write"]) == 2
+    cap = capsys.readouterr()
+    err = cap.err.strip()
+    assert "\n" not in err and "not written: the fit is rough" in err and "--keep-rough" in err
+    assert hp.read_bytes() == before and not hp.with_suffix(".toml.bak").exists()
+    assert main([*args, "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["quality"] == "rough" and doc["rms_to_noise"] > 2.0
+    assert main([*args]) == 0
+    assert "ROUGH" in capsys.readouterr().out
+    assert main([*args, "--write", "--keep-rough"]) == 0
+    assert "Stored although rough" in capsys.readouterr().out
+    assert "[calibration]" in hp.read_text(encoding="utf-8")
+
+
+def test_a_heater_left_out_of_the_record_is_refused(tmp_path):
+    """Three nights, the middle one heated, the heater column dropped: the residual is five
+    times the noise, and the refusal says to log the heater."""
+    hp = _house(tmp_path)
+    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, heater="state", q_w=8000.0, seed=0)
+    pd.read_csv(log).drop(columns=["heater"]).to_csv(log, index=False)
+    with pytest.raises(InputError, match="times the sensor's noise.*heater's power"):
+        _fit(hp, log, model="lumped")
 
 
 # ------------------------------------------------------------------ refusals
@@ -645,13 +745,15 @@ def test_cli_json(capsys):
         str(EXAMPLES / "gable-house.toml"),
         "--log",
         str(EXAMPLES / "logger-gable-house.csv"),
-        "--model",
-        "lumped",
         "--json",
     ]
     assert main(args) == 0
     doc = json.loads(capsys.readouterr().out)
-    assert doc["model"] == "lumped"
+    assert doc["model"] == "two-node"
+    # judged against the sensor: the two-node fit is within twice the record's own noise
+    assert 0.05 < doc["noise_k"] < 0.5 and doc["quality"] == "good"
+    assert doc["rms_to_noise"] == pytest.approx(doc["rms_k"] / doc["noise_k"])
+    assert -1.0 <= doc["residual_lag1"] <= 1.0
     names = [p["name"] for p in doc["parameters"]]
     assert names[:3] == ["k_w_per_k", "c_j_per_k", "time_constant_h"]
     for p in doc["parameters"]:
@@ -659,7 +761,21 @@ def test_cli_json(capsys):
     assert set(doc["ratios"]) >= {"k_w_per_k", "c_j_per_k"}
     assert doc["n_samples"] == sum(s["rows"] for s in doc["segments"]) == len(doc["series"])
     assert len(doc["segments"]) == 4 and doc["rms_k"] > 0
-    assert doc["written"] is None and doc["calibration"]["model"] == "lumped"
+    assert doc["written"] is None and doc["calibration"]["model"] == "two-node"
+
+
+def test_cli_one_node_fit_of_a_two_node_record_is_refused(capsys):
+    """The example house has a floor and water barrels; one node misses the record by
+    more than five times the sensor's noise, and the one line says what to do."""
+    args = [
+        "fit",
+        str(EXAMPLES / "gable-house.toml"),
+        "--log",
+        str(EXAMPLES / "logger-gable-house.csv"),
+    ]
+    assert main([*args, "--model", "lumped"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "\n" not in err and "times the sensor's noise" in err and "--model auto" in err
 
 
 def test_cli_write_then_tonight_uses_it(tmp_path, capsys):

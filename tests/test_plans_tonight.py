@@ -71,3 +71,15 @@ def test_brief_at_60_columns_keeps_numbers_with_units(capsys, monkeypatch):
         # a line that ends in a number is never followed by that number's unit
         assert not (re.search(r"\d$", above) and unit.match(below)), (above, below)
     assert "\u00a0" not in "".join(lines)
+
+
+def test_an_assumed_start_below_the_alarm_asks_for_a_reading(capsys):
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--soil-now", "-8C", "--brief"]
+    main(argv)
+    out = " ".join(capsys.readouterr().out.split())
+    assert out.startswith("BELOW THE ALARM NOW")
+    # the verdict rests on an assumption: the next line says which reading changes it
+    assert "assumed (-3.9 °C), not read" in out and "--inside-now" in out
+    main([*argv, "--inside-now", "-6C"])  # read, not assumed: no such line
+    assert "not read" not in capsys.readouterr().out

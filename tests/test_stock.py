@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -324,3 +325,87 @@ def test_heat_source_one_rule_for_three_plans(tmp_path, capsys):
     # another fuel than the installed heater's: its usual appliance, said so
     other = fuels.heat_source(house.read(h), "heating-oil")
     assert other.appliance.name == "boiler" and not other.installed and other.notes
+
+
+def _big_heater_house(tmp_path) -> str:
+    """The example house with a heater four times its own (400,000 Btu/h input)."""
+    text = Path("examples/gable-house.toml").read_text(encoding="utf-8")
+    assert 'input = "100000 BTU/h"' in text
+    return str(write_house(tmp_path, text.replace("100000 BTU/h", "400000 BTU/h")))
+
+
+def test_no_shortfall_opens_with_the_stock_lasting(tmp_path, capsys):
+    # a heater four times the example's holds the cold snap: no shortfall, and the
+    # morning warm-up from the night to the day setpoint is not one either
+    path = _big_heater_house(tmp_path)
+    args = ["stock", path, "--setpoint", "10C", "--night-setpoint", "5C", "--forecast", SNAP]
+    d = run_json(capsys, *args, "--crop", "tomato")
+    assert d["shortfalls"] == [] and d["hours_below_setpoint"] == 0
+    assert d["crop"]["reached"] is False and d["crop"]["min_plant_c"] > d["crop"]["alarm_c"]
+    assert main([*args, "--crop", "tomato"]) == 0
+    out = capsys.readouterr().out
+    assert out.splitlines()[0].startswith("The 900 L on hand lasts the forecast")
+    assert "Crop alarm not reached — tomato (fruiting)" in out
+    # no fuel on hand given ([stock] on_hand taken out): the verdict is the heater's
+    text = Path(path).read_text(encoding="utf-8").replace('on_hand = "900 L"\n', "")
+    bare = write_house(tmp_path, text, "bare.toml")
+    assert main(["stock", str(bare), *args[2:]]) == 0
+    first = capsys.readouterr().out.splitlines()[0]
+    assert first.startswith("No shortfall: the heater holds the setpoints")
+
+
+def test_crop_alarm_against_scipy_on_the_lumped_model(tmp_path, capsys):
+    # a steady −10 °C overcast calm night, no site, the lumped model and a heater too
+    # small to hold 10 °C: the air decays from the setpoint towards T_eff + Q/K. The
+    # same first-order balance C·dT/dt = K·(T_eff − T) + Q is integrated here by scipy's
+    # solve_ivp (an independent solver), with the run's own K, C and effective outside
+    # temperature, and the crossing of a 2 °C alarm found by its event finder
+    from scipy.integrate import solve_ivp
+
+    from grower import weather
+    from grower.plans import thermostat_run as tr
+
+    heater = (
+        '\n[[heater]]\nname = "small"\nfuel = "propane"\n'
+        'appliance = "unit-heater-power-vented"\ninput = "60000 BTU/h"\n'
+    )
+    path = write_house(tmp_path, MINIMAL + heater)
+    fc = constant_forecast(tmp_path / "snap.csv", -10.0, 3)
+    start = "2026-12-01T00:00-05:00"
+    args = ["stock", str(path), "--setpoint", "10C", "--forecast", fc, "--model", "lumped"]
+    d = run_json(capsys, *args, "--threshold", "2C", "--start", start)
+    k, c, q = d["k_w_per_k"], d["c_j_per_k"], d["heater_output_w"]
+    h = house.read(str(path))
+    f = weather.read_forecast_csv(fc, site=h.site)
+    t0 = pd.Timestamp(start)
+    run = tr.simulate(
+        h, f, t0, f.end, setpoint_c=10.0, night_setpoint_c=10.0, q_max_w=q, kind="lumped"
+    )
+    assert np.allclose(run.air_c, run.plant_c)  # overcast: no leaf offset
+    ts = (run.times - t0).total_seconds().to_numpy()
+
+    def rhs(t, y):
+        return [(k * (np.interp(t, ts, run.effective_c) - y[0]) + q) / c]
+
+    def cross(t, y):
+        return y[0] - 2.0
+
+    cross.terminal = False
+    sol = solve_ivp(rhs, (0.0, ts[-1]), [10.0], events=cross, rtol=1e-9, atol=1e-9)
+    assert sol.t_events[0].size == 1
+    t_cross = float(sol.t_events[0][0])
+    first = dt.datetime.fromisoformat(d["crop"]["first_below_at"])
+    step = float(run.step_s.max())
+    # the report names the first grid time below the alarm: within one step after it
+    lag = (first - t0.to_pydatetime()).total_seconds() - t_cross
+    assert 0.0 <= lag <= step + 1.0
+    assert d["crop"]["hours_below"] == pytest.approx((ts[-1] - t_cross) / 3600.0, abs=step / 3600)
+    assert d["crop"]["min_plant_c"] == pytest.approx(float(sol.y[0].min()), abs=0.005)
+    # and it is the first shortfall, the heater's second, with the same coldest value
+    kinds = [s["kind"] for s in d["shortfalls"]]
+    assert kinds == ["crop", "heater"]
+    assert d["shortfalls"][0]["min_c"] == pytest.approx(d["crop"]["min_plant_c"])
+    assert d["shortfalls"][0]["to"] == d["crop"]["last_below_at"] == d["end"]
+    assert main([*args, "--threshold", "2C", "--start", start]) == 0
+    first_line = capsys.readouterr().out.splitlines()[0]
+    assert first_line.startswith("Crop alarm reached — your --threshold")

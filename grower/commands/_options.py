@@ -161,6 +161,17 @@ def choose_threshold(args: argparse.Namespace, system: str | None = "metric"):
     return crop, stage, crops.select_threshold(stage, margin, override), override
 
 
+def alarm_basis(crop, stage, choice, override: float | None) -> tuple[float | None, str]:
+    """The alarm [°C] and the words for where it comes from, as `choose_threshold` gave
+    them (the one rule for tonight and stock)."""
+    if choice is not None:
+        basis = f"{crop.name} ({stage.name}): {choice.basis}"
+        if override is not None:
+            basis = f"your --threshold; {basis}"
+        return choice.alarm_c, basis
+    return override, "your --threshold"
+
+
 def speed(text: str, option: str) -> float:
     from grower import limits
     from grower.units import parse_quantity

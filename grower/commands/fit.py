@@ -72,6 +72,14 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         action="store_true",
         help="store the fit in the house file's [calibration] (comments kept, backup made)",
     )
+    p.add_argument(
+        "--keep-rough",
+        action="store_true",
+        help=(
+            "let --write store a rough fit (residual more than twice the sensor's noise); "
+            "without it such a fit is shown but not stored"
+        ),
+    )
     p.set_defaults(run=run)
 
 
@@ -96,7 +104,8 @@ def columns_option(values: list[str]) -> dict[str, str]:
 
 def run(args: argparse.Namespace) -> int:
     from grower import house, logger, weather
-    from grower.fit import fit_house, write_calibration
+    from grower.errors import InputError
+    from grower.fit import fit_house, sensor, write_calibration
     from grower.report import common
     from grower.report import fit as report
 
@@ -116,6 +125,13 @@ def run(args: argparse.Namespace) -> int:
         with_days=args.with_days,
         anchor=args.anchor,
     )
+    if args.write and result.rough and not args.keep_rough:
+        raise InputError(
+            f"not written: the fit is rough (residual {result.chosen.rms_k:.2f} K RMS, "
+            f"{result.noise_ratio:.1f} times the sensor's noise of {result.noise_k:.2f} K); "
+            f"{sensor.LOG_MORE}, or add --keep-rough to store it anyway",
+            where=args.house,
+        )
     backup = write_calibration(args.house, result) if args.write else None
     written = None if backup is None else {"file": args.house, "backup": str(backup)}
     if args.json:

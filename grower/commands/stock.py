@@ -99,6 +99,7 @@ def run(args: argparse.Namespace) -> int:
 
     from grower import house
     from grower.commands._options import (
+        alarm_basis,
         check_house,
         choose_threshold,
         get_forecast,
@@ -157,8 +158,14 @@ def run(args: argparse.Namespace) -> int:
     reserve = fuels.parse_fill(args.reserve, "--reserve")
     crop_alarm = None
     if alarm is not None:
-        label = f"{crop.name} ({stage.name})" if crop else "your --threshold"
-        crop_alarm = (label, alarm)
+        _, basis = alarm_basis(crop, stage, choice, override)
+        crop_alarm = stock.CropAlarm(
+            label=f"{crop.name} ({stage.name})" if crop else "your --threshold",
+            alarm_c=alarm,
+            damage_c=choice.damage_c if choice else None,
+            margin_k=choice.margin_k if choice else 0.0,
+            basis=basis,
+        )
     forecast = get_forecast(args, h, days=args.days or 16)
     start = start_time(args, h, forecast)
     # a file too: at most --days (else FILE_DAYS_DEFAULT) days are run, so a file of

@@ -62,6 +62,7 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     from grower import house, limits
     from grower.commands._options import (
+        alarm_basis,
         check_house,
         choose_threshold,
         difference,
@@ -95,13 +96,7 @@ def run(args: argparse.Namespace) -> int:
     for h in houses:
         forecast = get_forecast(args, h)
         start = start_time(args, h, forecast)
-        if choice is not None:
-            alarm = choice.alarm_c
-            basis = f"{crop.name} ({stage.name}): {choice.basis}"
-            if override is not None:
-                basis = f"your --threshold; {basis}"
-        else:
-            alarm, basis = override, "your --threshold"
+        alarm, basis = alarm_basis(crop, stage, choice, override)
         results.append(
             tonight.tonight(
                 h,

@@ -22,8 +22,12 @@ heater's lift Q/K, not K itself. One absolute heat flow sets the scale (the *anc
 
 Confidence intervals are the linearised ones: covariance ``s² (JᵀJ)⁻¹`` with J the
 Jacobian at the optimum (central differences) and ``s²`` the residual variance, 95 %
-with Student's t on n − p degrees of freedom; derived values by the delta method. They
-assume independent errors; a model error that runs in long waves makes them too narrow.
+with Student's t on n − p degrees of freedom; derived values by the delta method. For
+errors that are not independent, the residuals' lag-1 autocorrelation ρ (within each
+segment, `grower.fit.sensor.lag1_autocorrelation`) widens them as for AR(1) errors: the
+covariance times (1 + ρ)/(1 − ρ) and n replaced by the effective sample size
+n (1 − ρ)/(1 + ρ) (ρ < 0 is taken as 0). That is an approximation: a model error in long
+waves still leaves them somewhat narrow, which the report's quality verdict flags.
 
 References
 ----------
@@ -32,6 +36,8 @@ Applications*, Wiley, ch. 2 (linear approximation inference regions).
 M. A. Branch, T. F. Coleman and Y. Li (1999), "A subspace, interior, and conjugate
 gradient method for large-scale bound-constrained minimization problems", SIAM J. Sci.
 Comput. 21(1):1-23, doi:10.1137/S1064827595289108 (scipy's "trf" method).
+G. E. P. Box, G. M. Jenkins and G. C. Reinsel (2008), *Time Series Analysis*, 4th ed.,
+Wiley, §2.1.5 (variance of the mean of an AR(1) series, the (1 + ρ)/(1 − ρ) factor).
 H. Akaike (1974), "A new look at the statistical model identification", IEEE Trans.
 Automatic Control 19(6):716-723, doi:10.1109/TAC.1974.1100705.
 """
@@ -42,6 +48,7 @@ import numpy as np
 from scipy import optimize, special
 
 from grower import solver
+from grower.fit import sensor
 from grower.fit.data import FitData
 from grower.fit.results import ADVICE, LABELS, ModelFit, Parameter, SegmentFit
 
@@ -58,6 +65,9 @@ MIN_EIGEN_RATIO = 1e-12
 #: (common practice, no source: logger accuracy ±0.5 K, model error a few tenths)
 MAX_RMS_K = 1.5
 CONFIDENCE = 0.95
+#: the residuals' lag-1 autocorrelation used to widen the intervals is capped here (an
+#: inflation of 39): beyond it the record is one long wave and the fit is refused anyway
+MAX_LAG1 = 0.95
 #: allowed range of each scale factor on the geometry (common practice, no source: far
 #: outside the ±30 % of handbook U-values, so only a wrong record reaches it)
 SCALE_BOUNDS = (0.05, 20.0)
@@ -297,7 +307,15 @@ def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True
         refusal = (
             "the record cannot separate the parameters (near-singular fit): " + ADVICE["c_j_per_k"]
         )
-    cov = np.linalg.pinv(jtj) / np.outer(norms, norms) * s2
+    # residuals that run in waves carry less information than their count: widen the
+    # covariance by the AR(1) variance inflation (1 + ρ)/(1 − ρ) and take the degrees of
+    # freedom from the effective sample size n (1 − ρ)/(1 + ρ)
+    sizes = np.cumsum([s.inside_c.size for s in data.segments])[:-1]
+    lag1 = sensor.lag1_autocorrelation(np.split(r, sizes))
+    rho = min(max(lag1, 0.0), MAX_LAG1) if np.isfinite(lag1) else 0.0
+    inflation = (1.0 + rho) / (1.0 - rho)
+    dof = max(int(n / inflation) - p, 1)
+    cov = np.linalg.pinv(jtj) / np.outer(norms, norms) * s2 * inflation
     sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
     with np.errstate(invalid="ignore", divide="ignore"):
         corr = cov / np.outer(sd, sd)
@@ -408,4 +426,5 @@ def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True
         fitted_c=tuple(sims),
         scales=scales,
         refusal=refusal,
+        residual_lag1=lag1,
     )

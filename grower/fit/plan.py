@@ -17,8 +17,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from grower.errors import InputError
+from grower.fit import sensor
 from grower.fit.data import FitData, prepare
-from grower.fit.estimate import estimate
+from grower.fit.estimate import MAX_RMS_K, estimate
 from grower.fit.results import ModelFit
 from grower.house import House
 from grower.logger import LoggerRecord
@@ -66,6 +67,21 @@ class FitResult:
     outside_c: np.ndarray
     segment_of_row: np.ndarray
     fit_date: dt.date
+    #: the sensor's noise from the record's scatter [K] (`grower.fit.sensor`), NaN if unknown
+    noise_k: float = float("nan")
+    #: "good" or "rough": the residual RMS against the noise (a refused fit is not returned)
+    quality: str = "good"
+    #: lag-1 autocorrelation of the residuals (within segments)
+    residual_lag1: float = float("nan")
+
+    @property
+    def rough(self) -> bool:
+        return self.quality == "rough"
+
+    @property
+    def noise_ratio(self) -> float:
+        """Residual RMS over the sensor noise (floored at `sensor.NOISE_FLOOR_K`)."""
+        return self.chosen.rms_k / max(self.noise_k, sensor.NOISE_FLOOR_K)
 
     @property
     def model(self) -> str:
@@ -169,6 +185,16 @@ def fit_house(
         choice += "; the air–floor coupling is held at the geometry's (too little data to fit it)"
     if chosen.refusal is not None:
         raise InputError(f"cannot fit this record: {chosen.refusal}", where=where)
+    noise = sensor.noise_from_scatter([(s.inside_c, _heater_at_rows(s)) for s in data.segments])
+    quality = sensor.quality(chosen.rms_k, noise, MAX_RMS_K)
+    if quality == "refused":
+        raise InputError(
+            f"cannot fit this record: the model misses it by {chosen.rms_k:.2f} K RMS, "
+            f"{chosen.rms_k / max(noise, sensor.NOISE_FLOOR_K):.1f} times the sensor's noise "
+            f"({noise:.2f} K): {sensor.LOG_MORE}"
+            + (" (or let the two-node model try: --model auto)" if model == "lumped" else ""),
+            where=where,
+        )
 
     rows = data.rows
     seg_of = np.concatenate([np.full(s.rows.size, i) for i, s in enumerate(data.segments)])
@@ -195,4 +221,12 @@ def fit_house(
         outside_c=np.concatenate([s.outside_c for s in data.segments]),
         segment_of_row=seg_of,
         fit_date=today or dt.date.today(),
+        noise_k=noise,
+        quality=quality,
+        residual_lag1=chosen.residual_lag1,
     )
+
+
+def _heater_at_rows(seg) -> np.ndarray | None:
+    h = seg.heater_on if seg.heater_on is not None else seg.heater_w
+    return None if h is None else np.asarray(h)[seg.obs]

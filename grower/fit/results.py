@@ -107,6 +107,8 @@ class ModelFit:
     fitted_c: tuple[np.ndarray, ...]  # per segment, at its rows
     scales: dict[str, float] = field(default_factory=dict)
     refusal: str | None = None
+    #: lag-1 autocorrelation of the residuals, within segments (NaN if too few)
+    residual_lag1: float = float("nan")
 
     def get(self, name: str) -> Parameter | None:
         return next((p for p in self.parameters if p.name == name), None)

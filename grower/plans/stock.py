@@ -36,6 +36,10 @@ from grower.plans.tonight import when
 DEFAULT_RESERVE_PCT = 30.0
 #: air below the setpoint by more than this counts as not held [K]
 HELD_TOL_K = 0.05
+#: after a raise of the setpoint (night to day) the air has this long to warm up before
+#: the new setpoint counts as not held; meanwhile the one before it holds [s]
+#: (common practice, no source: a morning warm-up is a choice of how fast to warm up)
+WARM_UP_S = 3600.0
 
 
 @dataclass(frozen=True)
@@ -66,12 +70,27 @@ class Order:
 
 
 @dataclass(frozen=True)
+class CropAlarm:
+    """The alarm to check the plants against, as `tonight` chooses it."""
+
+    label: str  # "tomato (fruiting)" or "your --threshold"
+    alarm_c: float
+    damage_c: float | None = None
+    margin_k: float = 0.0
+    basis: str = ""  # where the alarm comes from (crop, stage, source)
+
+
+@dataclass(frozen=True)
 class CropCheck:
     crop: str
     alarm_c: float
     first_at: dt.datetime | None  # first time the plants are below the alarm
     hours_below: float
     min_plant_c: float
+    last_at: dt.datetime | None = None  # the end of the last step below the alarm
+    damage_c: float | None = None
+    margin_k: float = 0.0
+    basis: str = ""
 
 
 @dataclass(frozen=True)
@@ -79,10 +98,11 @@ class Shortfall:
     """One thing that falls short: ``kind`` is "crop", "heater", "fuel" or "vapour"."""
 
     kind: str
-    at: dt.datetime | None
+    at: dt.datetime | None  # when it starts
     hours: float | None = None
     value: float | None = None  # crop: min plant °C; heater: min air °C; vapour: W
     extra_w: float | None = None  # heater: more output that would hold the coldest hour
+    until: dt.datetime | None = None  # crop, heater: the end of the last step short
 
 
 @dataclass(frozen=True)
@@ -206,7 +226,7 @@ def daily(run: tr.Run, j_per_unit: float, eff: float, price: float | None) -> tu
     nd = len(dates)
     heat = np.bincount(idx, run.step_heat_j, nd)
     vent = np.bincount(idx, run.step_vent_j, nd)
-    below = run.air_c[:-1] < run.setpoint_c - HELD_TOL_K
+    below = not_held(run)
     hours = np.bincount(idx, np.where(below, run.step_s, 0.0), nd) / 3600.0
     first = np.flatnonzero(np.diff(np.concatenate([[-1], idx])))
     cold = np.minimum.reduceat(run.air_c[:-1], first)
@@ -225,6 +245,16 @@ def daily(run: tr.Run, j_per_unit: float, eff: float, price: float | None) -> tu
             )
         )
     return tuple(out)
+
+
+def not_held(run: tr.Run, warm_up_s: float = WARM_UP_S) -> np.ndarray:
+    """Steps (N − 1) whose air is below the setpoint in force by more than `HELD_TOL_K`;
+    within `warm_up_s` after a raise the setpoint before the raise is the one in force."""
+    level = np.array(run.setpoint_c, dtype=float)
+    t = hm.epoch_s(run.times)[:-1]
+    for k in np.flatnonzero(np.diff(level) > 0) + 1:
+        level[(t >= t[k]) & (t < t[k] + warm_up_s)] = run.setpoint_c[k - 1]
+    return run.air_c[:-1] < level - HELD_TOL_K
 
 
 def fuel_left_j(run: tr.Run, stock: fuels.FuelStock, eff: float) -> np.ndarray:
@@ -341,17 +371,29 @@ def vapour(
     return worst or first
 
 
-def crop_check(run: tr.Run, crop: str, alarm_c: float) -> CropCheck:
+def crop_check(run: tr.Run, crop: str | CropAlarm, alarm_c: float | None = None) -> CropCheck:
     """Plants (air less the leaf offset) against the crop's alarm temperature."""
-    below = run.plant_c[:-1] < alarm_c
+    a = crop if isinstance(crop, CropAlarm) else CropAlarm(crop, float(alarm_c))
+    below = run.plant_c[:-1] < a.alarm_c
     first = int(np.argmax(below)) if below.any() else None
     return CropCheck(
-        crop=crop,
-        alarm_c=alarm_c,
+        crop=a.label,
+        alarm_c=a.alarm_c,
+        damage_c=a.damage_c,
+        margin_k=a.margin_k,
+        basis=a.basis,
         first_at=None if first is None else when(run.times[first]),
         hours_below=float(run.step_s[below].sum() / 3600.0),
         min_plant_c=float(run.plant_c.min()),
+        last_at=_last_end(run, below),
     )
+
+
+def _last_end(run: tr.Run, short: np.ndarray) -> dt.datetime | None:
+    """The end of the last step flagged in `short` (N − 1), or None."""
+    if not short.any():
+        return None
+    return when(run.times[int(np.flatnonzero(short)[-1]) + 1])
 
 
 def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall, ...]:
@@ -360,8 +402,10 @@ def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall
     `extra_w`: the output the heater lacks (an unlimited heater's peak less its own)."""
     out = []
     if crop is not None and crop.first_at is not None:
-        out.append(Shortfall("crop", crop.first_at, crop.hours_below, crop.min_plant_c))
-    below = run.air_c[:-1] < run.setpoint_c - HELD_TOL_K
+        out.append(
+            Shortfall("crop", crop.first_at, crop.hours_below, crop.min_plant_c, until=crop.last_at)
+        )
+    below = not_held(run)
     if below.any():
         k = int(np.argmax(below))
         out.append(
@@ -371,6 +415,7 @@ def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall
                 float(run.step_s[below].sum() / 3600.0),
                 float(run.air_c.min()),
                 extra_w,
+                until=_last_end(run, below),
             )
         )
     if runs_out is not None:
@@ -412,12 +457,12 @@ def stock(
     use_calibration: bool = True,
     reserve_pct: float = DEFAULT_RESERVE_PCT,
     lead_time_days: float = 0.0,
-    crop: tuple[str, float] | None = None,
+    crop: CropAlarm | tuple[str, float] | None = None,
     progress: Callable[[int, int], None] | None = None,
 ) -> StockResult:
     """Fuel for `house` through `forecast`; see the module docstring.
 
-    `crop` is (label, alarm temperature [°C]) to check the plants against.
+    `crop` is the alarm to check the plants against (or a tuple: label, alarm [°C]).
     """
     from grower import weather
 
@@ -465,14 +510,16 @@ def stock(
     vap = vapour(
         run, heat, stock_, withdrawal, None if runs_out is None else pd.Timestamp(runs_out)
     )
-    crop_result = crop_check(run, *crop) if crop else None
+    if isinstance(crop, tuple):
+        crop = CropAlarm(*crop)
+    crop_result = crop_check(run, crop) if crop else None
 
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)
     if note:
         notes.append(note)
     peak = float(run.heat_w.max())
-    below = run.air_c[:-1] < run.setpoint_c - HELD_TOL_K
+    below = not_held(run)
     extra = None
     if below.any() and heat.heater_output_w is not None:
         # the same forecast with an unlimited heater: its peak is the output that holds

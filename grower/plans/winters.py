@@ -105,7 +105,7 @@ def season(
     months = np.array([d.year * 12 + d.month - 1 for d in dates])[idx]
     keys, inv = np.unique(months, return_inverse=True)
     heat_j = np.bincount(inv, run.step_heat_j, keys.size)
-    below = run.air_c[:-1] < run.setpoint_c - st.HELD_TOL_K
+    below = st.not_held(run)
     hours = np.bincount(inv, np.where(below, run.step_s, 0.0), keys.size) / 3600.0
     out_months = tuple(
         Month(

@@ -21,9 +21,16 @@ from grower.units import (
 
 INTERVAL_NOTE = (
     "95 % intervals are the linearised ones (covariance s²(JᵀJ)⁻¹ at the optimum, Student's "
-    "t); they hold for independent errors — a model error that runs in long waves makes them "
-    "too narrow"
+    "t), widened for the residuals' lag-1 autocorrelation ρ by (1 + ρ)/(1 − ρ) on the "
+    "effective sample size; a model error that runs in long waves still makes them too narrow"
 )
+NOISE_NOTE = (
+    "sensor noise from the record's own scatter: 1.4826·MAD of the second differences of the "
+    "inside temperature / √6 (white noise), leaving out rows where the heater switches"
+)
+#: a lag-1 autocorrelation of the residuals above this is called out (common practice, no
+#: source)
+HIGH_LAG1 = 0.5
 SHORT = {
     "k_w_per_k": "K, conductance",
     "c_j_per_k": "C, heat capacity",
@@ -92,6 +99,11 @@ def fit_json(r: FitResult, written: dict[str, str] | None = None) -> dict[str, A
         "confidence": CONFIDENCE,
         "interval": INTERVAL_NOTE,
         "rms_k": f.rms_k,
+        "noise_k": None if not np.isfinite(r.noise_k) else r.noise_k,
+        "noise_method": NOISE_NOTE,
+        "rms_to_noise": None if not np.isfinite(r.noise_k) else r.noise_ratio,
+        "quality": r.quality,
+        "residual_lag1": None if not np.isfinite(r.residual_lag1) else r.residual_lag1,
         "n_samples": r.n_samples,
         "n_record_rows": r.n_record_rows,
         "n_residuals": f.n_residuals,
@@ -169,6 +181,44 @@ def headline(r: FitResult, system: UnitSystem) -> str:
     return f"{part(k, 'K')}, {part(c, 'C')}, C/K = [bold]{tau.value:.1f} h[/bold]"
 
 
+def _dk(delta_k: float, system: UnitSystem) -> str:
+    """A temperature difference in display units."""
+    return f"{delta_k * 1.8:.2f} °F" if system == "us" else f"{delta_k:.2f} K"
+
+
+def judgement(r: FitResult, system: UnitSystem = "metric", written: bool = False) -> list[str]:
+    """The fit against the sensor: noise, ratio, quality, residual autocorrelation."""
+    out = []
+    if np.isfinite(r.noise_k):
+        verdict = (
+            "[bold red]ROUGH[/bold red]: the model misses heat flows the record does not log"
+            if r.rough
+            else "[green]good[/green]: the residual is within twice the sensor's noise"
+        )
+        out.append(
+            f"Sensor noise (from the record's scatter): {_dk(r.noise_k, system)}; residual "
+            f"{r.noise_ratio:.1f} × noise — {verdict}"
+        )
+    else:
+        out.append("Sensor noise: too few rows to estimate it")
+    if r.rough and written:
+        out.append("[red]Stored although rough (--keep-rough).[/red]")
+    elif r.rough:
+        out.append(
+            "[red]A rough fit is not stored by --write (add --keep-rough to store it); "
+            "log the heater's power or on/off state and the cloud cover or sun.[/red]"
+        )
+    if np.isfinite(r.residual_lag1):
+        wave = (
+            " — the misfit runs in long waves: the intervals are widened for it, and may "
+            "still be too narrow"
+            if r.residual_lag1 > HIGH_LAG1
+            else ""
+        )
+        out.append(f"Residual lag-1 autocorrelation: {r.residual_lag1:.2f}{wave}")
+    return out
+
+
 def render_fit(
     console, r: FitResult, system: UnitSystem, written: dict[str, str] | None = None
 ) -> None:
@@ -186,6 +236,11 @@ def render_fit(
         + f"); outside: {r.outside_source}"
     )
     console.print(headline(r, system))
+    if r.rough:
+        console.print(
+            f"[bold red]ROUGH fit[/bold red]: the model misses the record by "
+            f"{r.noise_ratio:.1f} × the sensor's noise; use these values with care"
+        )
     table = Table()
     table.add_column("")
     table.add_column("fitted", justify="right", no_wrap=True)
@@ -203,9 +258,11 @@ def render_fit(
     console.print(table)
     console.print(f"Model: {r.choice}")
     console.print(
-        f"Residual: [bold]{f.rms_k:.2f} K RMS[/bold] over {f.n_residuals} samples "
+        f"Residual: [bold]{_dk(f.rms_k, system)} RMS[/bold] over {f.n_residuals} samples "
         f"({f.n_free} fitted values)"
     )
+    for line in judgement(r, system, bool(written)):
+        console.print(line)
     if r.other is not None and r.other.refusal is None:
         o = r.other
         k, c = o.get("k_w_per_k"), o.get("c_j_per_k")

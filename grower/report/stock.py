@@ -88,11 +88,20 @@ def stock_json(r: StockResult) -> dict[str, Any]:
             "first_below_at": iso(r.crop.first_at),
             "hours_below": r.crop.hours_below,
             "min_plant_c": r.crop.min_plant_c,
+            "last_below_at": iso(r.crop.last_at),
+            "reached": r.crop.first_at is not None,
+            "damage_c": r.crop.damage_c,
+            "margin_k": r.crop.margin_k,
+            "threshold_basis": r.crop.basis,
         },
         "shortfalls": [
             {
                 "kind": f.kind,
                 "at": iso(f.at),
+                "from": iso(f.at),
+                "to": iso(f.until),
+                # the coldest plants (crop) or inside air (heater) [°C]
+                "min_c": f.value if f.kind in ("crop", "heater") else None,
                 "hours": f.hours,
                 "value": f.value,
                 "extra_w": f.extra_w,
@@ -128,14 +137,17 @@ def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     if f.kind == "crop":
         c = r.crop
+        span = f"from {_when(f.at)}" + (f" to {_when(f.until)}" if f.until else "")
         return (
-            f"Crop alarm reached: the plants ({c.crop}) fall below {T(c.alarm_c)} from "
-            f"{_when(f.at)}, {f.hours:.1f} h in all, to {T(f.value)}; raise the setpoint or add heat."
+            f"Crop alarm reached — {c.crop}: the plants fall below {T(c.alarm_c)} "
+            f"{span}, {f.hours:.1f} h in all, down to {T(f.value)}; raise the setpoint "
+            "or add heat."
         )
     if f.kind == "heater":
         return (
             f"The heater is too small: it cannot hold the setpoint for {f.hours:.1f} h, from "
-            f"{_when(f.at)}; the air falls to {T(f.value)}."
+            f"{_when(f.at)}" + (f" to {_when(f.until)}" if f.until else "") + "; the air "
+            f"falls to {T(f.value)}."
             + (
                 f" About {vapour.power(f.extra_w, system)} more output would hold it through "
                 "the coldest hour."
@@ -169,6 +181,18 @@ def _order_line(o: Order, fuel: str, r_start, system: UnitSystem) -> str:
     )
 
 
+def _lasts_line(r: StockResult, span_days: float, system: UnitSystem) -> str | None:
+    """ "The 900 L on hand lasts the forecast (…)", or None (none given, or it runs out)."""
+    if r.on_hand is None or r.runs_out_at is not None:
+        return None
+    left = r.on_hand.energy_j * r.fuel.efficiency / 3.6e6 - r.energy_kwh
+    on_hand = fuel_text(r.on_hand.amount, r.on_hand.unit, r.fuel.fuel, system, digits=0)
+    text = f"The {on_hand} on hand lasts the forecast"
+    if r.energy_kwh > 0:
+        text += f" (about {left / r.energy_kwh * span_days:,.1f} more days at this rate)"
+    return text + "."
+
+
 def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     from rich.table import Table
 
@@ -177,12 +201,20 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     per, unit = fuel_value(1.0, r.fuel.unit, r.fuel.fuel, system)
     amount = float(r.fuel.amount) * per
     span = (r.end - r.start).total_seconds() / 86400.0
-    # shortfalls first: nothing reassuring is printed above them
+    # shortfalls first, worst first: nothing reassuring is printed above them; with
+    # none, the verdict that the stock lasts (or the heater holds) comes first
     for f in r.shortfalls:
         plain(
             console,
             shortfall_line(f, r, system),
             "bold red" if f.kind != "heater" else "bold yellow",
+        )
+    lasts = _lasts_line(r, span, system)
+    if not r.shortfalls:
+        plain(
+            console,
+            lasts or "No shortfall: the heater holds the setpoints all through the forecast.",
+            "bold green",
         )
     head = (
         f"{r.house_name}: {amount:,.1f} {unit} of {r.fuel_label} over {span:.1f} days "
@@ -191,13 +223,8 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     if r.cost is not None:
         head += f", cost {r.cost:,.2f}"
     plain(console, head, "bold")
-    if r.on_hand is not None and r.runs_out_at is None:
-        left = r.on_hand.energy_j * r.fuel.efficiency / 3.6e6 - r.energy_kwh
-        on_hand = fuel_text(r.on_hand.amount, r.on_hand.unit, r.fuel.fuel, system, digits=0)
-        text = f"The {on_hand} on hand lasts the forecast"
-        if r.energy_kwh > 0:
-            text += f" (about {left / r.energy_kwh * span:,.1f} more days at this rate)"
-        plain(console, text + ".", None if r.shortfalls else "green")
+    if lasts and r.shortfalls:
+        plain(console, lasts)
     if r.order is not None:
         plain(
             console,
@@ -207,9 +234,15 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     if r.crop is not None and r.crop.first_at is None:
         plain(
             console,
-            f"The plants ({r.crop.crop}) stay above {T(r.crop.alarm_c)}: coldest {T(r.crop.min_plant_c)}.",
+            f"Crop alarm not reached — {r.crop.crop}: the plants stay above "
+            f"{T(r.crop.alarm_c)}; coldest {T(r.crop.min_plant_c)}.",
             None if r.shortfalls else "green",
         )
+    if r.crop is not None:
+        from grower.report.tonight import alarm_words
+
+        c = r.crop
+        plain(console, alarm_words(c.alarm_c, c.damage_c, c.margin_k, c.basis, system), "dim")
     if not (r.vapour.applies and r.vapour.short):
         line, _ = vapour.sentence(r.vapour, system)
         plain(console, line, "dim" if not r.vapour.applies else None)

@@ -279,10 +279,17 @@ def _air_assumed(r: TonightResult) -> bool:
     return any(a.startswith("inside air assumed") for a in r.assumptions)
 
 
-def reading_line(r: TonightResult) -> str | None:
+def reading_line(r: TonightResult, system: UnitSystem | None = None) -> str | None:
     """When the start was assumed, which reading would change the answer."""
     if r.safe or not _air_assumed(r):
         return None
+    if r.below_now and system is not None:
+        T = show_temperature(r.initial_air_c, system).text(1)
+        return keep_units(
+            f"The inside air now was assumed ({T}), not read: read a thermometer at the "
+            "plants; if they are above the alarm, rerun with --inside-now for tonight's "
+            "answer."
+        )
     return (
         "The inside air at the start was assumed: a reading (--inside-now, --soil-now) "
         "can change this answer."
@@ -291,14 +298,21 @@ def reading_line(r: TonightResult) -> str | None:
 
 def alarm_text(r: TonightResult, system: UnitSystem) -> str:
     """ "alarm 31.8 °F = damage 30.0 °F + 1.8 °F margin — strawberry (…): source"."""
+    return alarm_words(r.threshold_c, r.damage_c, r.margin_k, r.threshold_basis, system)
+
+
+def alarm_words(
+    alarm_c: float, damage_c: float | None, margin_k: float, basis: str, system: UnitSystem
+) -> str:
+    """The alarm, how it is made up and its source, in `system` (tonight and stock)."""
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
-    text = f"alarm {T(r.threshold_c)}"
-    if r.damage_c is not None and r.margin_k:
-        margin = show_temperature_difference(r.margin_k, system).text(1)
-        text += f" = damage {T(r.damage_c)} + {margin} margin"
-    elif r.damage_c is not None:
-        text += f" (damage {T(r.damage_c)})"
-    return f"{text} — {r.threshold_basis}"
+    text = f"alarm {T(alarm_c)}"
+    if damage_c is not None and margin_k:
+        margin = show_temperature_difference(margin_k, system).text(1)
+        text += f" = damage {T(damage_c)} + {margin} margin"
+    elif damage_c is not None:
+        text += f" (damage {T(damage_c)})"
+    return f"{text} — {basis}" if basis else text
 
 
 def _power(w: float, system: UnitSystem) -> str:
@@ -324,7 +338,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     print_line(console, action_line(r, system))
     print_line(console, verdict_line(r, system))
-    for line in (trip_wire_line(r, system), reading_line(r)):
+    for line in (trip_wire_line(r, system), reading_line(r, system)):
         if line:
             print_line(console, f"[yellow]{line}[/yellow]")
     plain(console, f"{alarm_text(r, system)}", "dim")
@@ -424,7 +438,7 @@ def render_brief(console, results: list[TonightResult], system: UnitSystem) -> N
     for r in order:
         print_line(console, action_line(r, system))
         print_line(console, verdict_line(r, system))
-        for line in (trip_wire_line(r, system), reading_line(r)):
+        for line in (trip_wire_line(r, system), reading_line(r, system)):
             if line:
                 print_line(console, f"[yellow]{line}[/yellow]")
 
