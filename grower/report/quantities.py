@@ -1,8 +1,9 @@
 """The printed quantities of the text reports, in one unit system each.
 
-Every number a text report prints with a unit goes through one of these, so a screen is
-either all SI (kW, kWh, W/K, MJ/K, L, K differences) or all US customary (Btu/h, Btu,
-Btu/h·°F, Btu/°F, gal, °F differences). The SI screens keep the trade's Btu/h beside a
+The numbers `tonight`, `house`, `stock` and `size` print with these units go through one
+of these, so their report lines are either all SI (kW, kWh, W/K, MJ/K, L) or all US
+customary (Btu/h, Btu, Btu/h·°F, Btu/°F, gal); temperatures and their differences are
+`grower.units.show_temperature*`. (The plans' assumption notes are still written in SI.) The SI screens keep the trade's Btu/h beside a
 heater's kW; the US screens print US units only.
 
 Factors are the exact definitions in `grower.units` (NIST SP 811, 2008, Appendix B.8):
@@ -44,14 +45,14 @@ def energy_text(joules: float, system: UnitSystem) -> str:
 
 
 def conductance_text(w_per_k: float, system: UnitSystem) -> str:
-    """A conductance K or U·A: "1,587 W/K" in SI, "3,011 Btu/h·°F" in US units."""
+    """A conductance K or U·A: "1,587 W/K" in SI, "3,008 Btu/h·°F" in US units."""
     if system == "us":
         return f"{w_per_k / W_K_PER_BTU_HF:,.0f} Btu/h·°F"
     return f"{w_per_k:,.0f} W/K"
 
 
 def capacity_text(j_per_k: float, system: UnitSystem, digits: int = 1) -> str:
-    """A heat capacity C: "93.8 MJ/K" in SI, "49,393 Btu/°F" in US units."""
+    """A heat capacity C: "93.8 MJ/K" in SI, "49,392 Btu/°F" in US units."""
     return f"{capacity_value(j_per_k, system, digits)} {capacity_unit(system)}"
 
 
