@@ -5,11 +5,14 @@ from __future__ import annotations
 from typing import Any
 
 from grower.network import HouseSummary
+from grower.report.quantities import capacity_unit, capacity_value, conductance_text
 from grower.units import (
+    M_PER_IN,
     UnitSystem,
     show_area,
     show_conductance,
     show_length,
+    show_speed,
     show_temperature,
     show_u_value,
     show_volume,
@@ -76,9 +79,10 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
         + f"  ({h.path})"
     )
     per = "°F" if system == "us" else "kelvin"
+    si_k = "" if system == "us" else f" (K = {conductance_text(total, system)})"
     console.print(
         f"Loses [bold]{_num(kk.value)} {'Btu/h' if system == 'us' else 'W'}[/bold] for every "
-        f"{per} between inside and outside (K = {_num(total)} W/K); time constant C/K = "
+        f"{per} between inside and outside{si_k}; time constant C/K = "
         f"[bold]{s.time_constant_h:.1f} h[/bold]"
     )
     if k.curtain_closed and h.curtain:
@@ -125,9 +129,7 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
     table.add_section()
     table.add_row(
         "[bold]total K[/bold]",
-        f"{_num(total)} W/K"
-        if system == "us"
-        else f"{_num(show_conductance(total, 'us').value)} Btu/h·°F",
+        "" if system == "us" else conductance_text(total, "us"),
         "",
         "",
         f"[bold]{_num(show_conductance(total, system).value)}[/bold]",
@@ -137,29 +139,36 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
 
     cap = Table(show_header=True, expand=False)
     cap.add_column("heat capacity")
-    cap.add_column("MJ/K", justify="right")
-    cap.add_row("air, structure and canopy (air node)", f"{c.air_j_per_k / 1e6:.2f}")
-    cap.add_row(
-        f"floor, top {c.active_layer_m * 100:.0f} cm of {h.floor_kind} (mass node)",
-        f"{c.soil_j_per_k / 1e6:.2f}",
+    cap.add_column(capacity_unit(system), justify="right")
+
+    def cval(j_per_k: float) -> str:
+        return capacity_value(j_per_k, system, digits=2)
+
+    layer = (
+        f"{c.active_layer_m / M_PER_IN:.0f} in"
+        if system == "us"
+        else f"{c.active_layer_m * 100:.0f} cm"
     )
+    cap.add_row("air, structure and canopy (air node)", cval(c.air_j_per_k))
+    cap.add_row(f"floor, top {layer} of {h.floor_kind} (mass node)", cval(c.soil_j_per_k))
     if c.water_j_per_k:
-        cap.add_row("water (mass node)", f"{c.water_j_per_k / 1e6:.2f}")
+        cap.add_row("water (mass node)", cval(c.water_j_per_k))
     if c.other_mass_j_per_k:
-        cap.add_row("benches and other mass (mass node)", f"{c.other_mass_j_per_k / 1e6:.2f}")
+        cap.add_row("benches and other mass (mass node)", cval(c.other_mass_j_per_k))
     cap.add_section()
-    cap.add_row("[bold]total C[/bold]", f"[bold]{c.total_j_per_k / 1e6:.2f}[/bold]")
+    cap.add_row("[bold]total C[/bold]", f"[bold]{cval(c.total_j_per_k)}[/bold]")
     console.print(cap)
     deep = show_temperature(c.deep_ground_c, system)
     console.print(
-        f"Air–mass coupling {_num(c.air_mass_w_per_k)} W/K; to the deep ground "
-        f"{_num(c.ground_w_per_k)} W/K at {deep.text(0)}"
+        f"Air–mass coupling {conductance_text(c.air_mass_w_per_k, system)}; to the deep ground "
+        f"{conductance_text(c.ground_w_per_k, system)} at {deep.text(0)}"
         + (" (assumed; set \\[floor] deep_ground_temperature)" if c.deep_ground_assumed else "")
     )
     tau = h.roof_material.longwave_transmittance
     fast, slow = s.time_scales_h
     console.print(
-        f"At {k.wind_m_s:.1f} m/s wind (the tables' U-values hold at 15 mph); in calm air K = "
+        f"At {show_speed(k.wind_m_s, system).text(1)} wind (the tables' U-values hold at 15 mph); "
+        "in calm air K = "
         f"{_num(show_conductance(s.calm.total_w_per_k, system).value)} {ua_unit}. "
         f"A clear night adds {_num(show_conductance(k.sky_w_per_k, system).value)} {ua_unit} per "
         f"{'°F' if system == 'us' else 'kelvin'} of sky below the outside air (roof passes "

@@ -7,8 +7,8 @@ from typing import Any
 from grower.plans.size import SizeResult
 from grower.report import vapour as vapour_report
 from grower.report.common import plain, render_cautions
+from grower.report.quantities import fuel_text, power_text
 from grower.units import (
-    W_PER_BTU_H,
     UnitSystem,
     show_speed,
     show_temperature,
@@ -65,17 +65,6 @@ def size_json(r: SizeResult) -> dict[str, Any]:
     }
 
 
-def power_text(watts: float, system: UnitSystem) -> str:
-    """ "47.1 kW (161,000 Btu/h)", the system's unit first.
-
-    Rounded as the trade quotes heaters: to 0.1 kW and to the nearest 1,000 Btu/h
-    (common practice, no source). `tonight` and `size` both print powers through here.
-    """
-    kw = f"{watts / 1e3:,.1f} kW"
-    btu = f"{round(watts / W_PER_BTU_H, -3):,.0f} Btu/h"
-    return f"{btu} ({kw})" if system == "us" else f"{kw} ({btu})"
-
-
 def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     from rich.table import Table
 
@@ -123,7 +112,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     rate = r.fuel_per_hour
     table.add_row(
         f"{r.fuel.label} at full fire",
-        f"{rate.amount_per_hour:,.2f} {rate.unit}/h",
+        fuel_text(float(rate.amount_per_hour), rate.unit, rate.fuel, system, digits=2) + "/h",
     )
     console.print(table)
     console.print()
@@ -143,9 +132,11 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     console.print(units)
     if r.combustion_air_in2:
         a = r.combustion_air_in2
+        # the code's figure is in in²; SI screens add cm² (1 in² = 6.4516 cm², exact)
+        cm2 = "" if system == "us" else f" ({a['rule_of_thumb_in2'] * 6.4516:,.0f} cm²)"
         console.print(
             f"Combustion air for {power_text(r.recommended_input_w, system)} input: "
-            f"[bold]{a['rule_of_thumb_in2']:,.0f} in²[/bold] ({a['rule_of_thumb_in2'] * 6.4516:,.0f} cm²) "
+            f"[bold]{a['rule_of_thumb_in2']:,.0f} in²[/bold]{cm2} "
             "of free inlet area (1 in² per 1,000 Btu/h); by the fuel gas code, "
             f"{a['outdoor_vertical_duct_in2']:,.0f} in² from outdoors through vertical ducts or "
             f"{a['outdoor_horizontal_duct_in2']:,.0f} in² through horizontal ones."

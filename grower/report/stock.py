@@ -7,6 +7,7 @@ from typing import Any
 from grower.plans.stock import Order, Shortfall, StockResult
 from grower.report import vapour
 from grower.report.common import iso, plain, render_cautions
+from grower.report.quantities import fuel_text, fuel_value
 from grower.units import J_PER_THERM, UnitSystem, show_temperature
 
 
@@ -163,8 +164,8 @@ def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
     return "Not enough vapour: " + line
 
 
-def _order_line(o: Order, unit: str, r_start) -> str:
-    amount = f"{o.amount:,.0f} {unit}"
+def _order_line(o: Order, fuel: str, r_start, system: UnitSystem) -> str:
+    amount = fuel_text(o.amount, o.unit, fuel, system, digits=0)
     refill = f"the {o.reserve_pct:.0f} % refill level"
     lead = f" with {o.lead_time_days:g} days' delivery" if o.lead_time_days else ""
     if o.order_by is None:
@@ -180,12 +181,13 @@ def _order_line(o: Order, unit: str, r_start) -> str:
     )
 
 
-def _lasts_line(r: StockResult, span_days: float) -> str | None:
+def _lasts_line(r: StockResult, span_days: float, system: UnitSystem) -> str | None:
     """ "The 900 L on hand lasts the forecast (…)", or None (none given, or it runs out)."""
     if r.on_hand is None or r.runs_out_at is not None:
         return None
     left = r.on_hand.energy_j * r.fuel.efficiency / 3.6e6 - r.energy_kwh
-    text = f"The {r.on_hand.amount:,.0f} {r.on_hand.unit} on hand lasts the forecast"
+    on_hand = fuel_text(r.on_hand.amount, r.on_hand.unit, r.fuel.fuel, system, digits=0)
+    text = f"The {on_hand} on hand lasts the forecast"
     if r.energy_kwh > 0:
         text += f" (about {left / r.energy_kwh * span_days:,.1f} more days at this rate)"
     return text + "."
@@ -195,8 +197,9 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
-    unit = r.fuel.unit
-    amount = float(r.fuel.amount)
+    # fuel in its purchase unit, or (US screens) the fuel's US unit for a metric one
+    per, unit = fuel_value(1.0, r.fuel.unit, r.fuel.fuel, system)
+    amount = float(r.fuel.amount) * per
     span = (r.end - r.start).total_seconds() / 86400.0
     # shortfalls first, worst first: nothing reassuring is printed above them; with
     # none, the verdict that the stock lasts (or the heater holds) comes first
@@ -206,7 +209,7 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
             shortfall_line(f, r, system),
             "bold red" if f.kind != "heater" else "bold yellow",
         )
-    lasts = _lasts_line(r, span)
+    lasts = _lasts_line(r, span, system)
     if not r.shortfalls:
         plain(
             console,
@@ -225,7 +228,7 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     if r.order is not None:
         plain(
             console,
-            _order_line(r.order, r.order.unit, r.start),
+            _order_line(r.order, r.fuel.fuel, r.start, system),
             "bold" if r.order.order_now else None,
         )
     if r.crop is not None and r.crop.first_at is None:
@@ -269,7 +272,11 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     table.add_column("coldest air", justify="right")
     table.add_column("not held", justify="right")
     for d in r.days:
-        row = [d.date.strftime("%a %d %b"), f"{heat_of(d.heat_kwh):,.0f}", f"{d.fuel_amount:,.1f}"]
+        row = [
+            d.date.strftime("%a %d %b"),
+            f"{heat_of(d.heat_kwh):,.0f}",
+            f"{d.fuel_amount * per:,.1f}",
+        ]
         if r.price is not None:
             row.append(f"{d.cost:,.2f}")
         row += [

@@ -10,6 +10,7 @@ from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wir
 from grower.report import chart
 from grower.report import vapour as vapour_report
 from grower.report.common import iso, plain, render_cautions
+from grower.report.quantities import capacity_text, conductance_text, energy_text, fuel_text
 from grower.units import UnitSystem, show_temperature, show_temperature_difference
 
 
@@ -199,11 +200,7 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
         return head + f"{_what(r)} stays above {T(r.threshold_c)} tonight with no heat"
     if r.action == "heat":
         margin = _power(h.output_w - r.hold_peak_w, system)
-        fuel = (
-            f"; about {h.fuel.amount:,.1f} {h.fuel.unit} of {r.hold_fuel_label} tonight"
-            if h.fuel
-            else ""
-        )
+        fuel = f"; about {_fuel(h.fuel, system)} of {r.hold_fuel_label} tonight" if h.fuel else ""
         return (
             head + f"heat from [bold]{_clock(v.crossing_time, r.start)}[/bold]; the installed "
             f"heater holds {T(r.threshold_c)} with {margin} to spare{fuel}"
@@ -319,9 +316,13 @@ def alarm_words(
 
 
 def _power(w: float, system: UnitSystem) -> str:
-    from grower.report.size import power_text
+    from grower.report.quantities import power_text
 
     return power_text(w, system)
+
+
+def _fuel(amount, system: UnitSystem) -> str:
+    return fuel_text(float(amount.amount), amount.unit, amount.fuel, system)
 
 
 def _verdict_text(v: Verdict, r: TonightResult, system: UnitSystem) -> str:
@@ -361,7 +362,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     table.add_row(
         "heat to hold the alarm",
         f"[bold]{_power(r.hold_peak_w, system)}[/bold] at the coldest hour; "
-        f"{r.hold_energy_kwh:,.0f} kWh over the night = {fuel.amount:,.1f} {fuel.unit} of "
+        f"{energy_text(r.hold_energy_kwh * 3.6e6, system)} over the night = {_fuel(fuel, system)} of "
         f"{r.hold_fuel_label} in a {r.hold_appliance} ({fuel.efficiency:.0%})",
     )
     if r.heater is not None:
@@ -389,7 +390,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
         )
     table.add_row(
         "house",
-        f"K = {r.k_w_per_k:,.0f} W/K, C = {r.c_j_per_k / 1e6:,.1f} MJ/K, "
+        f"K = {conductance_text(r.k_w_per_k, system)}, C = {capacity_text(r.c_j_per_k, system)}, "
         f"τ = {r.time_constant_h:.1f} h ({r.model}"
         + (", calibrated" if r.calibrated else "")
         + ")",

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from grower.units import W_PER_BTU_H, UnitSystem, show_temperature
+from grower.report.quantities import power_text
+from grower.units import UnitSystem, show_temperature
 from grower.vaporisation import VapourCheck
 
 _NUMBERS = {1: "one", 2: "two", 3: "three", 4: "four", 5: "five", 6: "six"}
@@ -12,9 +13,7 @@ _NUMBERS = {1: "one", 2: "two", 3: "three", 4: "four", 5: "five", 6: "six"}
 
 def power(w: float, system: UnitSystem) -> str:
     """A heater-sized power as the trade quotes it: nearest 1,000 Btu/h or 0.1 kW."""
-    if system == "us":
-        return f"{round(w / W_PER_BTU_H, -3):,.0f} Btu/h"
-    return f"{w / 1e3:,.1f} kW"
+    return power_text(w, system, with_btu=False)
 
 
 def _containers(name: str, count: float) -> str:

@@ -1,0 +1,90 @@
+"""The printed quantities of the text reports, in one unit system each.
+
+The numbers `tonight`, `house`, `stock` and `size` print with these units go through one
+of these, so their report lines are either all SI (kW, kWh, W/K, MJ/K, L) or all US
+customary (Btu/h, Btu, Btu/h·°F, Btu/°F, gal); temperatures and their differences are
+`grower.units.show_temperature*`. (The plans' assumption notes are still written in SI.) The SI screens keep the trade's Btu/h beside a
+heater's kW; the US screens print US units only.
+
+Factors are the exact definitions in `grower.units` (NIST SP 811, 2008, Appendix B.8):
+Btu (IT) = 1055.05585262 J, a kelvin difference = 1.8 °F, US gallon = 3.785411784 L.
+Rounding: heaters to the nearest 1,000 Btu/h and 0.1 kW, as the trade quotes them
+(common practice, no source).
+"""
+
+from __future__ import annotations
+
+from grower.units import J_PER_BTU, W_K_PER_BTU_HF, W_PER_BTU_H, UnitSystem
+
+#: 1 Btu/°F in J/K: a Btu per 5/9 kelvin
+J_K_PER_BTU_F = J_PER_BTU * 1.8
+
+#: the US purchase unit a metric purchase unit is shown in, first one the fuel offers
+_US_FUEL_UNITS = {"L": ("gal",), "kg": ("lb",), "m3": ("therm", "ft3"), "GJ": ("therm",)}
+
+
+def power_text(watts: float, system: UnitSystem, *, with_btu: bool = True) -> str:
+    """A heater's power: "47.1 kW (161,000 Btu/h)" in SI ("47.1 kW" without `with_btu`),
+    "161,000 Btu/h" in US units.
+
+    Rounded as the trade quotes heaters: to 0.1 kW and to the nearest 1,000 Btu/h
+    (common practice, no source).
+    """
+    btu = f"{round(watts / W_PER_BTU_H, -3):,.0f} Btu/h"
+    if system == "us":
+        return btu
+    kw = f"{watts / 1e3:,.1f} kW"
+    return f"{kw} ({btu})" if with_btu else kw
+
+
+def energy_text(joules: float, system: UnitSystem) -> str:
+    """Heat over a night or a season: "136 kWh" in SI, "464,000 Btu" (nearest 1,000) in US."""
+    if system == "us":
+        return f"{round(joules / J_PER_BTU, -3):,.0f} Btu"
+    return f"{joules / 3.6e6:,.0f} kWh"
+
+
+def conductance_text(w_per_k: float, system: UnitSystem) -> str:
+    """A conductance K or U·A: "1,587 W/K" in SI, "3,008 Btu/h·°F" in US units."""
+    if system == "us":
+        return f"{w_per_k / W_K_PER_BTU_HF:,.0f} Btu/h·°F"
+    return f"{w_per_k:,.0f} W/K"
+
+
+def capacity_text(j_per_k: float, system: UnitSystem, digits: int = 1) -> str:
+    """A heat capacity C: "93.8 MJ/K" in SI, "49,392 Btu/°F" in US units."""
+    return f"{capacity_value(j_per_k, system, digits)} {capacity_unit(system)}"
+
+
+def capacity_value(j_per_k: float, system: UnitSystem, digits: int = 1) -> str:
+    """The number of `capacity_text` alone (MJ/K to `digits` places, or whole Btu/°F)."""
+    if system == "us":
+        return f"{j_per_k / J_K_PER_BTU_F:,.0f}"
+    return f"{j_per_k / 1e6:,.{digits}f}"
+
+
+def capacity_unit(system: UnitSystem) -> str:
+    return "Btu/°F" if system == "us" else "MJ/K"
+
+
+def fuel_text(amount: float, unit: str, fuel: str, system: UnitSystem, digits: int = 1) -> str:
+    """Fuel `amount` in purchase unit `unit` of `fuel`: "24.0 L" in SI, as bought; in US
+    units a metric purchase unit becomes the fuel's US one (L → gal, kg → lb, m³ → therm,
+    GJ → therm), through the fuel table's heating values, so the energy is the same."""
+    value, shown = fuel_value(amount, unit, fuel, system)
+    return f"{value:,.{digits}f} {shown}"
+
+
+def fuel_value(amount: float, unit: str, fuel: str, system: UnitSystem) -> tuple[float, str]:
+    """(amount, unit) of `fuel_text`, the number unrounded."""
+    if system != "us" or unit not in _US_FUEL_UNITS:
+        return float(amount), unit
+    from grower import fuels
+
+    f = fuels.get_fuel(fuel)
+    offered = {pu.name: pu for pu in f.units}
+    for us_unit in _US_FUEL_UNITS[unit]:
+        if us_unit in offered:
+            j_per_unit = f.purchase_unit(unit).j_per_unit
+            return float(amount) * j_per_unit / offered[us_unit].j_per_unit, us_unit
+    return float(amount), unit
