@@ -97,3 +97,16 @@ def test_tonight_cautions_quote_the_installed_nameplate(capsys):
     text = " ".join(json.loads(capsys.readouterr().out)["cautions"])
     # examples/gable-house.toml: a 100,000 Btu/h (input) unit heater
     assert "a 100,000 Btu/h heater" in text and "grower size" in text
+
+
+def test_several_houses_get_their_own_cautions(capsys, monkeypatch):
+    from grower.cli import main
+
+    monkeypatch.setenv("COLUMNS", "100")
+    houses = ["examples/gable-house.toml", "examples/glass-range.toml"]
+    argv = ["tonight", *houses, "--crop", "tomato"]
+    main([*argv, "--forecast", "examples/forecast-cold-night.csv"])
+    out = capsys.readouterr().out
+    # the propane house and the natural-gas range: a set each, named, each from its nameplate
+    assert "Safety for Propagation house" in out and "Safety for Glass range" in out
+    assert "a 100,000 Btu/h heater" in out

@@ -82,13 +82,16 @@ def unit_system(requested: str | None, default: str | None = None) -> UnitSystem
     return "us" if choice == "us" else "metric"
 
 
-def render_cautions(console, cautions) -> None:
-    """The safety cautions, always last and always shown in full."""
+def render_cautions(console, cautions, houses: str | None = None) -> None:
+    """The safety cautions, always last; `houses` names whose they are (several houses)."""
     if not cautions:
         return
+    from rich.markup import escape
+
     console.print()
+    whose = f" for {escape(houses)}" if houses else ""
     console.print(
-        "[bold]Safety[/bold] — general cautions, not a substitute for a licensed installer:"
+        f"[bold]Safety{whose}[/bold] — general cautions, not a substitute for a licensed installer:"
     )
     for c in cautions:
         plain(console, f"  ⚠ {c}")

@@ -524,8 +524,14 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     attributions = {r.forecast_attribution for r in order if r.forecast_attribution}
     for a in sorted(attributions):
         plain(console, f"{a}", "dim")
-    cautions = next((r.cautions for r in order if r.cautions), ())
-    render_cautions(console, cautions)
+    # one set per house (a natural-gas house is not told about LP storage); houses whose
+    # sets are the same share one
+    sets: dict[tuple[str, ...], list[str]] = {}
+    for r in order:
+        if r.cautions:
+            sets.setdefault(tuple(r.cautions), []).append(r.house_name)
+    for cautions, names in sets.items():
+        render_cautions(console, cautions, ", ".join(names))
 
 
 def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
