@@ -3,8 +3,9 @@
 The numbers `tonight`, `house`, `stock` and `size` print with these units go through one
 of these, so their report lines are either all SI (kW, kWh, W/K, MJ/K, L) or all US
 customary (Btu/h, Btu, Btu/h·°F, Btu/°F, gal); temperatures and their differences are
-`grower.units.show_temperature*`. (The plans' assumption notes are still written in SI.) The SI screens keep the trade's Btu/h beside a
-heater's kW; the US screens print US units only.
+`grower.units.show_temperature*`. (The plans' assumption notes are still written in
+SI.) The SI screens keep the trade's Btu/h beside a heater's kW; the US screens print US
+units only.
 
 Factors are the exact definitions in `grower.units` (NIST SP 811, 2008, Appendix B.8):
 Btu (IT) = 1055.05585262 J, a kelvin difference = 1.8 °F, US gallon = 3.785411784 L.
