@@ -41,15 +41,18 @@ def layout(
     width: int = 64,
     height: int = 14,
     unit: str = "°C",
+    columns: int | None = None,
 ) -> list[list[tuple[str, str]]]:
     """Lay out a chart; returns rows of (text, style) segments.
 
-    Later series are drawn over earlier ones; the threshold is a dashed line; the
-    crossing (`marker_time`) is a vertical bar of "│" with an "✕" on the threshold.
+    Later series are drawn over earlier ones; the threshold is a line of "=" (no series
+    uses that mark); the crossing (`marker_time`) is a vertical bar of "│" with an "✕" on
+    the threshold. `columns`: the terminal's width; the plot then takes what the value
+    labels leave of it (at most `width`), so the whole night shows, and the legend wraps
+    between its entries.
     """
     t0 = times[0].timestamp()
     span_t = max(times[-1].timestamp() - t0, 1.0)
-    xs = np.array([(t.timestamp() - t0) / span_t * (width - 1) for t in times])
     allv = np.concatenate([np.asarray(s.values, float) for s in series])
     allv = allv[np.isfinite(allv)]
     lo, hi = float(allv.min()), float(allv.max())
@@ -61,6 +64,11 @@ def layout(
     lo = math.floor(lo / step) * step
     hi = math.ceil(hi / step) * step
 
+    label_w = max(len(f"{hi:.0f}"), len(f"{lo:.0f}")) + 1
+    if columns is not None:
+        width = max(20, min(width, columns - label_w - 3))
+    xs = np.array([(t.timestamp() - t0) / span_t * (width - 1) for t in times])
+
     def row_of(v: float) -> int:
         return int(round((hi - v) / (hi - lo) * (height - 1)))
 
@@ -68,7 +76,7 @@ def layout(
     if threshold is not None:
         r = row_of(threshold)
         for c in range(0, width, 2):
-            grid[r][c] = ("-", "red")
+            grid[r][c] = ("=", "red")
     cols = np.arange(width)
     for s in series:
         v = np.asarray(s.values, float)
@@ -87,7 +95,6 @@ def layout(
                     grid[r][c] = ("│", "red dim")
             if threshold is not None:
                 grid[row_of(threshold)][c] = ("✕", "bold red")
-    label_w = max(len(f"{hi:.0f}"), len(f"{lo:.0f}")) + 1
     rows: list[list[tuple[str, str]]] = []
     for r in range(height):
         value = hi - r * (hi - lo) / (height - 1)
@@ -99,7 +106,7 @@ def layout(
         rows.append([(label + " ┤" if on_tick else label + " │", "dim"), *grid[r]])
     # time axis: a tick every 2 or 3 hours, labelled with the local hour
     axis = [" "] * width
-    labels = [" "] * (width + 6)
+    labels = [" "] * (width + 1)  # a two-digit label may start in the last column
     hours = span_t / 3600.0
     every = (
         1 if hours <= 8 else 2 if hours <= 16 else 3 if hours <= 30 else 6 if hours <= 72 else 24
@@ -120,14 +127,28 @@ def layout(
         t += 3600.0
     pad = " " * (label_w + 2)
     rows.append([(pad + "".join(axis).replace(" ", "─"), "dim")])
-    rows.append([(pad + "".join(labels).rstrip() + ("  h" if every < 24 else "  day"), "dim")])
-    legend: list[tuple[str, str]] = [(pad, "")]
-    for s in series:
-        legend += [(s.mark, s.style), (f" {s.label}   ", "")]
+    hour_row = pad + "".join(labels).rstrip()
+    suffix = "  h" if every < 24 else "  day"
+    room = (columns if columns is not None else len(pad) + width + 6) - len(hour_row)
+    rows.append([(hour_row + (suffix if room >= len(suffix) else ""), "dim")])
+    entries = [((s.mark, s.style), f" {s.label}") for s in series]
     if threshold is not None:
-        legend += [("- -", "red"), (f" {threshold_label}", "")]
+        entries.append((("= =", "red"), f" {threshold_label}"))
+    entries.append((("", ""), f"({unit})"))
+    limit = len(pad) + width
+    legend: list[tuple[str, str]] = [(pad, "")]
+    used = len(pad)
+    for (mark, style), label in entries:
+        size = len(mark) + len(label)
+        if used > len(pad) and used + 3 + size > limit:
+            rows.append(legend)
+            legend, used = [(pad, "")], len(pad)
+        if used > len(pad):
+            legend.append(("   ", ""))
+            used += 3
+        legend += [(mark, style), (label, "dim" if not mark else "")]
+        used += size
     rows.append(legend)
-    rows.append([(pad + f"({unit})", "dim")])
     return rows
 
 

@@ -277,11 +277,12 @@ def render_fit(
     rows = chart.layout(
         list(r.times),
         [
-            chart.Series("outside", conv(np.asarray(r.outside_c)), "·", "blue"),
-            chart.Series("measured inside", conv(np.asarray(r.measured_c)), "•", "green"),
+            chart.Series("outside", conv(np.asarray(r.outside_c)), "+", "blue"),
+            chart.Series("measured inside", conv(np.asarray(r.measured_c)), "o", "green"),
             chart.Series("fitted", conv(np.asarray(r.fitted_c)), "*", "bold yellow"),
         ],
         unit=unit,
+        columns=console.width,
     )
     chart.render(console, rows)
     if nights > 1:

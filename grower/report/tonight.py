@@ -404,7 +404,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
         list(r.times),
         [
             # symbols told apart at a glance, in any font (issue 12: · ∙ • were not)
-            chart.Series("outside", conv(r.outside_c), "-", "blue"),
+            chart.Series("outside", conv(r.outside_c), "+", "blue"),
             chart.Series("effective outside", conv(r.effective_outside_c), ":", "cyan"),
             chart.Series("air", conv(r.air_c), "o", "green"),
             chart.Series("plants", conv(r.plant_c), "*", "bold yellow"),
@@ -413,6 +413,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
         threshold_label="alarm",
         marker_time=r.verdict.crossing_time,
         unit=unit,
+        columns=console.width,
     )
     chart.render(console, rows)
     console.print()
