@@ -27,11 +27,6 @@ if TYPE_CHECKING:
 M2_PER_IN2 = 0.0254**2
 
 
-#: the cautions that apply on the night itself, by their opening word; the rest (venting,
-#: fuel storage, vapour supply, gas piping) are for the installation and `grower size`
-TONIGHT = ("Combustion air", "Unvented heater", "Carbon monoxide", "Electrical load", "Power cuts")
-
-
 def cautions(
     fuel: str | Fuel,
     appliance: str | Appliance | None = None,
@@ -42,25 +37,11 @@ def cautions(
     """Safety cautions for heating with `fuel` on `appliance` at `input_w` [W].
 
     Each names its source; the last defers to local codes and licensed installers.
-    ``short``: only those that apply on the night itself (`TONIGHT`), the combustion-air
-    one without the fuel gas code's duct sizes, and a last line pointing to `grower size`
-    for the complete set.
+    ``short``: only those that apply on the night itself (combustion air without the
+    fuel gas code's duct sizes, an unvented heater, CO, electrical load, power cuts); the
+    installation's (venting, crop damage from flue gas, storage, supply, codes) are left
+    to `grower size`, and the last line says so.
     """
-    every = _cautions(fuel, appliance, input_w)
-    if not short:
-        return every
-    out = [c.split(" The fuel gas code")[0] for c in every if c.startswith(TONIGHT)]
-    out.append(
-        "The installation's cautions (venting, fuel storage and supply, codes) are in "
-        "`grower size`; follow local codes and have a licensed installer fit and test any "
-        "heater."
-    )
-    return tuple(out)
-
-
-def _cautions(
-    fuel: str | Fuel, appliance: str | Appliance | None, input_w: float | None
-) -> tuple[str, ...]:
     from grower.fuels import appliance_for, get_fuel  # grower.fuels imports this module
 
     fuel = get_fuel(fuel)
@@ -76,7 +57,7 @@ def _cautions(
                 f"least {inlet:,.0f} in² ({inlet * M2_PER_IN2 * 1e4:,.0f} cm²), 1 in² per "
                 "1,000 Btu/h of input (Purdue Extension, Greenhouse heating checklist)."
             )
-            if fuel.name in ("propane", "natural-gas"):
+            if fuel.name in ("propane", "natural-gas") and not short:
                 # IFGC 304 / NFPA 54: 1 in² per 4,000 (outdoor air, vertical ducts),
                 # 2,000 (horizontal ducts), 1,000 Btu/h (air from indoors).
                 text += (
@@ -92,12 +73,14 @@ def _cautions(
                 "input (Purdue Extension, Greenhouse heating checklist)."
             )
         if appliance.vented:
+            # (the installation's: left to `grower size` in the short set)
             # Ohio State greenhouse guidance: the 2-3-10 rule for natural-draft chimneys.
-            out.append(
-                "Venting: take flue gases outdoors through a listed vent or chimney; a "
-                "natural-draft chimney ends at least 3 ft above the roof and 2 ft above "
-                "anything within 10 ft (the 2-3-10 rule, Ohio State greenhouse guidance)."
-            )
+            if not short:
+                out.append(
+                    "Venting: take flue gases outdoors through a listed vent or chimney; a "
+                    "natural-draft chimney ends at least 3 ft above the roof and 2 ft above "
+                    "anything within 10 ft (the 2-3-10 rule, Ohio State greenhouse guidance)."
+                )
         else:
             # ANSI Z83.7 construction heaters; UW Extension A3907-02.
             out.append(
@@ -119,11 +102,12 @@ def _cautions(
             "heating-oil": " Sulfur dioxide harms them from about 0.5 ppm.",
             "kerosene": " Sulfur dioxide harms them from about 0.5 ppm.",
         }.get(fuel.name, "")
-        out.append(
-            "Crop damage: a blocked flue, a cracked heat exchanger, back-draft or incomplete "
-            "combustion puts ethylene in the house, which damages plants from 0.05 ppm "
-            f"(University of Arkansas greenhouse management text).{gas}"
-        )
+        if not short:
+            out.append(
+                "Crop damage: a blocked flue, a cracked heat exchanger, back-draft or "
+                "incomplete combustion puts ethylene in the house, which damages plants from "
+                f"0.05 ppm (University of Arkansas greenhouse management text).{gas}"
+            )
     storage = {
         # NFPA 58; OSHA 29 CFR 1910.110 tank separation from buildings.
         "propane": (
@@ -150,9 +134,9 @@ def _cautions(
             "container with a lid (common practice)."
         ),
     }.get(fuel.name)
-    if storage:
+    if storage and not short:
         out.append(storage)
-    if fuel.name == "propane":
+    if fuel.name == "propane" and not short:
         # the vapour check itself is grower.vaporisation (the trade's approximate tables)
         need = f" {round(btu_h, -3):,.0f} Btu/h" if btu_h is not None else " the heater's input"
         out.append(
@@ -179,6 +163,13 @@ def _cautions(
             "Power cuts: an electric heater is no backup when the grid fails unless a "
             "generator, sized for it and connected through a transfer switch, carries it."
         )
+    if short:
+        out.append(
+            "The installation's cautions (venting, fuel storage and supply, codes) are in "
+            "`grower size`; follow local codes and have a licensed installer fit and test "
+            "any heater."
+        )
+        return tuple(out)
     out.append(
         "Codes: follow local building, fire and fuel codes and the maker's instructions; "
         "have a licensed installer fit, vent and test any heater. These are reminders, not "

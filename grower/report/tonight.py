@@ -10,7 +10,13 @@ from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wir
 from grower.report import chart
 from grower.report import vapour as vapour_report
 from grower.report.common import iso, plain, render_cautions
-from grower.report.quantities import capacity_text, conductance_text, energy_text, fuel_text
+from grower.report.quantities import (
+    capacity_text,
+    conductance_text,
+    energy_text,
+    fuel_text,
+    power_text,
+)
 from grower.units import UnitSystem, show_temperature, show_temperature_difference
 
 
@@ -199,7 +205,7 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     if r.action == "none":
         return head + f"{_what(r)} stays above {T(r.threshold_c)} tonight with no heat"
     if r.action == "heat":
-        margin = _power(h.output_w - r.hold_peak_w, system)
+        margin = power_text(h.output_w - r.hold_peak_w, system)
         fuel = f"; about {_fuel(h.fuel, system)} of {r.hold_fuel_label} tonight" if h.fuel else ""
         return (
             head + f"heat from [bold]{_clock(v.crossing_time, r.start)}[/bold]; the installed "
@@ -217,10 +223,10 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
         return (
             head + f"no heater installed; {_what(r)} reaches {T(r.threshold_c)} at "
             f"[bold]{_clock(v.crossing_time, r.start)}[/bold]; "
-            f"{_power(r.hold_peak_w, system)} holds it"
+            f"{power_text(r.hold_peak_w, system)} holds it"
         )
     more = max(r.hold_peak_w - h.output_w, 0.0)
-    need = f"; needs {_power(more, system)} more" if more > 0 else "; heat earlier or add heat"
+    need = f"; needs {power_text(more, system)} more" if more > 0 else "; heat earlier or add heat"
     return (
         head + f"at full output the plants reach [bold]{T(h.min_plant_c)}[/bold] at "
         f"{_clock(h.min_time, r.start)}{need}"
@@ -279,11 +285,11 @@ def _air_assumed(r: TonightResult) -> bool:
     return any(a.startswith("inside air assumed") for a in r.assumptions)
 
 
-def reading_line(r: TonightResult, system: UnitSystem | None = None) -> str | None:
+def reading_line(r: TonightResult, system: UnitSystem) -> str | None:
     """When the start was assumed, which reading would change the answer."""
     if r.safe or not _air_assumed(r):
         return None
-    if r.below_now and system is not None:
+    if r.below_now:
         T = show_temperature(r.initial_air_c, system).text(1)
         return keep_units(
             f"The inside air now was assumed ({T}), not read: read a thermometer at the "
@@ -315,12 +321,6 @@ def alarm_words(
     return f"{text} — {basis}" if basis else text
 
 
-def _power(w: float, system: UnitSystem) -> str:
-    from grower.report.quantities import power_text
-
-    return power_text(w, system)
-
-
 def _fuel(amount, system: UnitSystem) -> str:
     return fuel_text(float(amount.amount), amount.unit, amount.fuel, system)
 
@@ -336,11 +336,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
-    print_line(console, action_line(r, system))
-    print_line(console, verdict_line(r, system))
-    for line in (trip_wire_line(r, system), reading_line(r, system)):
-        if line:
-            print_line(console, f"[yellow]{line}[/yellow]")
+    print_verdict(console, r, system)
     plain(console, f"{alarm_text(r, system)}", "dim")
     console.print()
     v = r.verdict
@@ -361,17 +357,17 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     fuel = r.hold_fuel
     table.add_row(
         "heat to hold the alarm",
-        f"[bold]{_power(r.hold_peak_w, system)}[/bold] at the coldest hour; "
+        f"[bold]{power_text(r.hold_peak_w, system)}[/bold] at the coldest hour; "
         f"{energy_text(r.hold_energy_kwh * 3.6e6, system)} over the night = {_fuel(fuel, system)} of "
         f"{r.hold_fuel_label} in a {r.hold_appliance} ({fuel.efficiency:.0%})",
     )
     if r.heater is not None:
         h = r.heater
         if h.holds:
-            text = f"[green]holds it[/green] ({_power(h.output_w, system)} output)"
+            text = f"[green]holds it[/green] ({power_text(h.output_w, system)} output)"
         else:
             text = (
-                f"[bold red]does not hold it[/bold red]: at full output ({_power(h.output_w, system)}) "
+                f"[bold red]does not hold it[/bold red]: at full output ({power_text(h.output_w, system)}) "
                 f"the plants fall to {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
             )
         table.add_row("installed heater", text)
@@ -433,15 +429,20 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     render_cautions(console, r.cautions)
 
 
+def print_verdict(console, r: TonightResult, system: UnitSystem) -> None:
+    """The verdict lines: what to do, the night with no heat, when to check, what to read."""
+    print_line(console, action_line(r, system))
+    print_line(console, verdict_line(r, system))
+    for line in (trip_wire_line(r, system), reading_line(r, system)):
+        if line:
+            print_line(console, f"[yellow]{line}[/yellow]")
+
+
 def render_brief(console, results: list[TonightResult], system: UnitSystem) -> None:
     """`--brief`: the verdict lines of each house, most urgent first."""
     order = sorted(results, key=lambda r: (-r.exit_status, r.safe))
     for r in order:
-        print_line(console, action_line(r, system))
-        print_line(console, verdict_line(r, system))
-        for line in (trip_wire_line(r, system), reading_line(r, system)):
-            if line:
-                print_line(console, f"[yellow]{line}[/yellow]")
+        print_verdict(console, r, system)
 
 
 #: a margin below this shows yellow, not green: within the model's own uncertainty
@@ -507,7 +508,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
             r.house_name,
             when,
             T(r.verdict.min_plant_c),
-            _power(r.hold_peak_w, system).split(" (")[0],  # the report's system only
+            power_text(r.hold_peak_w, system, with_btu=False),  # the report's system only
             heater,
             _margin_text(margin_k(r), system),
         )
