@@ -232,3 +232,38 @@ def test_size_handbook_figure_is_the_trades_hand_method(capsys, tmp_path):
     # night (REFERENCES: Bartok) — the sky's part of the loss is less than that
     assert 0.0 < d["sky_allowance_w"] < 0.35 * d["heat_loss_w"]
     assert d["recommended_output_w"] == pytest.approx(1.2 * d["heat_loss_w"])
+
+
+def test_grid_in_utc_seconds_is_the_pandas_union_of_steps_and_samples():
+    # pandas (a general-purpose reference library) builds the same grid independently:
+    # date_range every step from the start, union the samples strictly inside, both ends
+    import pandas as pd
+
+    zone = dt.timezone(dt.timedelta(hours=-5))
+    start = pd.Timestamp("2026-12-03T16:07:30", tz=zone)
+    end = pd.Timestamp("2026-12-04T09:25:10.25", tz=zone)
+    samples = pd.date_range("2026-12-03T15:00", "2026-12-04T11:00", freq="h", tz=zone)
+    expected = (
+        pd.date_range(start, end, freq=pd.Timedelta(seconds=600.0))
+        .union(samples[(samples > start) & (samples < end)])
+        .union(pd.DatetimeIndex([start, end]))
+    )
+    got = hm.grid_utc_s(start.timestamp(), end.timestamp(), hm.epoch_s(samples), 600.0)
+    np.testing.assert_array_equal(got, hm.epoch_s(expected))
+    np.testing.assert_array_equal(hm.epoch_s(hm.grid(start, end, samples, 600.0)), got)
+
+
+def test_boundary_on_utc_seconds_equals_boundary_on_an_index():
+    h = house.read(EXAMPLES / "gable-house.toml")
+    from grower import weather
+
+    fc = weather.read_forecast_csv(EXAMPLES / "forecast-cold-night.csv", site=h.site)
+    m = hm.build(h, wind_m_s=2.0, mean_radiant_temp_c=-5.0, air_temp_c=0.0)
+    t = hm.grid_utc_s(fc.utc_s[0], fc.utc_s[-1], fc.utc_s, 600.0)
+    a = hm.boundary(h, m, fc, t)
+    b = hm.boundary(h, m, fc, hm.grid(fc.start, fc.end, fc.frame.index, 600.0))
+    np.testing.assert_array_equal(a.utc_s, b.utc_s)
+    for name in ("times_s", "outside_c", "sky_c", "effective_c", "sun_w", "plant_offset_k"):
+        np.testing.assert_array_equal(getattr(a, name), getattr(b, name))
+    assert a.local_times()[0] == fc.start and a.local_times()[-1] == fc.end
+    assert list(a.times) == [pd_t.to_pydatetime() for pd_t in b.times]

@@ -161,7 +161,7 @@ class StockResult:
 
 def span(forecast, start, now) -> tuple[pd.Timestamp, pd.Timestamp, list[str]]:
     """The stretch of the forecast to run: from now (or its start) to its end."""
-    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
+    now = now if now is not None else pd.Timestamp.now(tz=forecast.tz).floor("s")
     first, last = forecast.start, forecast.end
     notes: list[str] = []
     if start is None:

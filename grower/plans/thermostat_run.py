@@ -113,6 +113,7 @@ def simulate(
     progress: Callable[[int, int], None] | None = None,
 ) -> Run:
     """Run `house` through `forecast` from `start` to `end` on its thermostat (see module)."""
+    start, end = pd.Timestamp(start), pd.Timestamp(end)
     segs = segments(house, start, end)
     times, night = _grid(segs, forecast.frame.index)
     t_s = hm.epoch_s(times)
