@@ -77,6 +77,16 @@ LIGHT = [
     ["size", "examples/gable-house.toml", "--outside", "-15C", "--crop", "tomato"],
     ["house", "examples/gable-house.toml"],
     ["crops", "tomato"],
+    [
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "10C",
+        "--night-setpoint",
+        "5C",
+        "--forecast",
+        "examples/forecast-cold-snap.csv",
+    ],
 ]
 
 

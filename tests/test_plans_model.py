@@ -248,9 +248,17 @@ def test_grid_in_utc_seconds_is_the_pandas_union_of_steps_and_samples():
         .union(samples[(samples > start) & (samples < end)])
         .union(pd.DatetimeIndex([start, end]))
     )
-    got = hm.grid_utc_s(start.timestamp(), end.timestamp(), hm.epoch_s(samples), 600.0)
-    np.testing.assert_array_equal(got, hm.epoch_s(expected))
-    np.testing.assert_array_equal(hm.epoch_s(hm.grid(start, end, samples, 600.0)), got)
+    sunset = 1796338327.123456789  # a float instant, rounded to ns as pandas rounds it
+    cut = pd.Timestamp(sunset, unit="s", tz="UTC")
+    assert hm.instant_ns(sunset) == cut.value
+    assert hm.instant_ns(start.to_pydatetime()) == start.value == hm.instant_ns(start)
+    got = hm.grid_ns(
+        hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(hm.epoch_s(samples)), 600.0
+    )
+    np.testing.assert_array_equal(got / 1e9, hm.epoch_s(expected))
+    np.testing.assert_array_equal(hm.epoch_s(hm.grid(start, end, samples, 600.0)), got / 1e9)
+    with_cut = hm.grid_ns(start.value, end.value, samples.as_unit("ns").asi8, 600.0, [cut.value])
+    np.testing.assert_array_equal(with_cut, expected.union(pd.DatetimeIndex([cut])).asi8)
 
 
 def test_boundary_on_utc_seconds_equals_boundary_on_an_index():
@@ -259,7 +267,7 @@ def test_boundary_on_utc_seconds_equals_boundary_on_an_index():
 
     fc = weather.read_forecast_csv(EXAMPLES / "forecast-cold-night.csv", site=h.site)
     m = hm.build(h, wind_m_s=2.0, mean_radiant_temp_c=-5.0, air_temp_c=0.0)
-    t = hm.grid_utc_s(fc.utc_s[0], fc.utc_s[-1], fc.utc_s, 600.0)
+    t = hm.grid_ns(*(hm.samples_ns(fc.utc_s)[[0, -1]]), hm.samples_ns(fc.utc_s), 600.0) / 1e9
     a = hm.boundary(h, m, fc, t)
     b = hm.boundary(h, m, fc, hm.grid(fc.start, fc.end, fc.frame.index, 600.0))
     np.testing.assert_array_equal(a.utc_s, b.utc_s)

@@ -256,29 +256,56 @@ def effective_temperature(model: Model, outside_c, sky_c) -> np.ndarray:
     return num / model.k_w_per_k
 
 
-def grid_utc_s(
-    start_s: float, end_s: float, samples_utc_s: np.ndarray, step_s: float
+def instant_ns(t: Any) -> int:
+    """An instant as integer nanoseconds since 1970 UTC.
+
+    `t` is an aware datetime (a pandas Timestamp keeps its nanoseconds) or float UTC
+    seconds, rounded the way ``pandas.Timestamp(t, unit="s")`` rounds them (whole
+    seconds, then the fraction to 9 decimals), so a grid built here is the grid pandas
+    builds.
+    """
+    if isinstance(t, dt.datetime):
+        if hasattr(t, "as_unit"):  # pandas Timestamp
+            return int(t.as_unit("ns").value)
+        return ((t - _EPOCH) // dt.timedelta(microseconds=1)) * 1000
+    t = float(t)
+    base = int(t)
+    return base * 10**9 + int(round(t - base, 9) * 1e9)
+
+
+_EPOCH = dt.datetime(1970, 1, 1, tzinfo=dt.UTC)
+
+
+def duration_ns(seconds: float) -> int:
+    """A duration [s] as integer nanoseconds, truncated as ``pandas.Timedelta(seconds=…)``
+    truncates it."""
+    return int(float(seconds) * 1e9)
+
+
+def samples_ns(utc_s: np.ndarray) -> np.ndarray:
+    """A forecast's sample times (UTC seconds, kept to the microsecond) as int64 ns."""
+    return np.round(np.asarray(utc_s, dtype=float) * 1e6).astype(np.int64) * 1000
+
+
+def grid_ns(
+    start_ns: int, end_ns: int, at_ns: np.ndarray, step_s: float, cuts_ns: Any = ()
 ) -> np.ndarray:
-    """A time grid from `start_s` to `end_s` [UTC s]: every `step_s` from the start, plus
-    every forecast sample strictly between, plus both ends; sorted, to the microsecond."""
-
-    def micro(x: Any) -> np.ndarray:
-        return np.round(np.asarray(x, dtype=float) * 1e6).astype(np.int64)
-
-    a, b = int(micro(start_s)), int(micro(end_s))
-    step = int(micro(step_s))
-    regular = a + step * np.arange((b - a) // step + 1, dtype=np.int64)
-    at = micro(samples_utc_s)
-    out = np.unique(np.concatenate([regular, at[(at > a) & (at < b)], [a, b]]))
-    return (out * 1000) / 1e9  # ns / 1e9, as `epoch_s` gives it
+    """A time grid [int64 ns since 1970 UTC] from `start_ns` to `end_ns`: every `step_s`
+    from the start, every time of `at_ns` (forecast samples) strictly between, the
+    `cuts_ns` and both ends; sorted, each once. UTC seconds: ``grid_ns(...) / 1e9``."""
+    step = int(round(step_s * 1e9))
+    regular = start_ns + step * np.arange((end_ns - start_ns) // step + 1, dtype=np.int64)
+    at = np.asarray(at_ns, dtype=np.int64)
+    extra = np.asarray(list(cuts_ns) + [start_ns, end_ns], dtype=np.int64)
+    return np.unique(np.concatenate([regular, at[(at > start_ns) & (at < end_ns)], extra]))
 
 
 def grid(start: Any, end: Any, frame_index: Any, step_s: float) -> Any:
-    """`grid_utc_s` as a tz-aware pandas DatetimeIndex in the start's zone."""
-    from grower.weather.forecast import _index
+    """`grid_ns` as a tz-aware pandas DatetimeIndex in the start's zone (imports pandas)."""
+    import pandas as pd
 
-    t = grid_utc_s(start.timestamp(), end.timestamp(), epoch_s(frame_index), step_s)
-    return _index(t, start.tzinfo)
+    t = grid_ns(instant_ns(start), instant_ns(end), frame_index.as_unit("ns").asi8, step_s)
+    return pd.DatetimeIndex(pd.to_datetime(t, unit="ns", utc=True)).tz_convert(start.tzinfo)
 
 
 def epoch_s(index: Any) -> np.ndarray:
@@ -297,7 +324,7 @@ def boundary(
 ) -> Boundary:
     """Outside, sky and effective temperatures, sun gain and leaf offset on `times`.
 
-    `times` is a tz-aware pandas DatetimeIndex, or an array of UTC seconds (`grid_utc_s`)
+    `times` is a tz-aware pandas DatetimeIndex, or an array of UTC seconds (`grid_ns` / 1e9)
     with `tz` the zone to show them in (default the forecast's).
 
     `forecast` is a `grower.weather.Forecast`, linear between its samples; it is sampled

@@ -264,7 +264,10 @@ def tonight(
 
     now = now if now is not None else dt.datetime.now(forecast.tz).replace(microsecond=0)
     start, end, sunrise, notes = night_window(house, forecast, start, now)
-    times = hm.grid_utc_s(start.timestamp(), end.timestamp(), forecast.utc_s, STEP_S)
+    times = (
+        hm.grid_ns(hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(forecast.utc_s), STEP_S)
+        / 1e9
+    )
     utc = forecast.utc_s
     window = (utc >= start.timestamp() - 3600.0) & (utc <= end.timestamp())
     wind = (
