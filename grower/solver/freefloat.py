@@ -16,7 +16,8 @@ from .analysis import analyse
 from .network import Network
 from .problem import _problem, _series
 from .results import Trajectory, _no_switches
-from .stepping import recurrence
+from .segments import Segments, forcing_at, knots, step_runs
+from .stepping import _MANY, recurrence
 
 
 def free_float(
@@ -49,9 +50,48 @@ def free_float(
     ----------
     Van Loan (1978); Franklin, Powell and Workman (1998) (see the module notes).
     """
-    prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w)
+    # no copy of the inputs: everything drawn from them is computed before returning
+    prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w, copy=False)
     mm, nt = prob.n_members, prob.times_s.size
     full, tab = network.modes, prob.full
+    if heat_w is None:
+        q, step_q, heat_j = np.zeros((mm, nt)), np.zeros((mm, nt - 1)), np.zeros(mm)
+    else:
+        q = np.array(np.broadcast_to(_series(heat_w, "heat_w", nt, None), (mm, nt)))
+        step_q = 0.5 * prob.h * (q[:, :-1] + q[:, 1:])
+        heat_j = step_q.sum(axis=1)
+    zero = np.zeros((mm, nt - 1))
+    if mm >= _MANY:
+        kn = knots(prob.h, prob.boundary_c, prob.gains_w)
+        if 4 * (kn.size - 1) <= nt - 1:  # long runs of collinear input: step whole runs
+            b = forcing_at(network, prob.boundary_c, prob.gains_w, kn)
+            z0 = np.broadcast_to((prob.initial_c @ full.w.T).T, (full.lam.size, mm))
+            seg = Segments(
+                network,
+                prob.times_s,
+                kn,
+                step_runs(network, prob.times_s, kn, b, z0),
+                b,
+                np.broadcast_to(prob.initial_c, (mm, network.n_nodes)),
+            )
+            return Trajectory(
+                prob.times_s,
+                None,
+                q,
+                np.zeros((mm, nt)),
+                heat_j,
+                np.zeros(mm),
+                step_q,
+                zero,
+                None,
+                np.zeros((mm, nt - 1), dtype=np.int8),
+                _no_switches(network.n_nodes),
+                network,
+                prob,
+                None,
+                None,
+                seg,
+            )
     z0 = prob.initial_c @ full.w.T  # (Mi, r)
     # f = f1 b[k] + f2 (b[k+1] - b[k]), written without the difference array
     bt = prob.bt
@@ -63,18 +103,12 @@ def free_float(
     temps = np.tensordot(full.v, z, axes=([1], [0]))  # (n, M, N)
     temps[:, :, 0] = np.broadcast_to(prob.initial_c, (mm, network.n_nodes)).T
     temps = np.moveaxis(temps, 0, -1)
-    if heat_w is None:
-        q, step_q = np.zeros((mm, nt)), np.zeros((mm, nt - 1))
-    else:
-        q = np.array(np.broadcast_to(_series(heat_w, "heat_w", nt, None), (mm, nt)))
-        step_q = 0.5 * prob.h * (q[:, :-1] + q[:, 1:])
-    zero = np.zeros((mm, nt - 1))
     return Trajectory(
         prob.times_s,
         temps,
         q,
         np.zeros((mm, nt)),
-        step_q.sum(axis=1),
+        heat_j,
         np.zeros(mm),
         step_q,
         zero,
