@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .explin import _ExpLin, _profile
+from .explin import _ExpLin, _profile, _solve
 from .modes import FLOAT, FULL
 from .network import _float_array
 from .problem import _series
@@ -115,6 +115,25 @@ def _scatter_min(best, best_t, member, val, t):  # type: ignore[no-untyped-def]
 RUN_CUTS = np.array([0.0, 1 / 64, 1 / 32, 1 / 16, 1 / 8, 1 / 4, 1 / 2, 3 / 4, 1.0])
 
 
+def _piece(lam, v0, x, s, g, e1, width, ji, mi, pi) -> _ExpLin:  # type: ignore[no-untyped-def]
+    """The exact plant temperature less threshold on pieces (run ji, member mi, cut pi)."""
+    r = lam.size
+    s0 = s[ji, pi]
+    ep, q1, q2 = hold_coefficients(lam, s0)
+    xi = x[ji, mi]
+    zi, bi, ci = xi[:, :r], xi[:, r : 2 * r], xi[:, 2 * r :]
+    z0 = ep * zi + q1 * bi + q2 * ci
+    return _ExpLin(
+        lam,
+        v0 * z0,
+        v0 * (bi + ci * s0[:, None]),
+        v0 * ci,
+        g[ji, mi, pi],
+        e1[ji, mi % e1.shape[1]],
+        width[ji, pi],
+    )
+
+
 def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     """`analyse` of a free float stored at its knots (`segments.Segments`).
 
@@ -151,13 +170,14 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     gd = x @ coef.transpose(0, 2, 1)  # (J, M, 2P)
     offk = off[:, ks].T  # (K, Mo)
     e1 = -np.diff(offk, axis=0) / length[:, None]  # (J, Mo) -d(offset)/ds
-    g = gd[:, :, :npt]
+    g = np.ascontiguousarray(gd[:, :, :npt])
     g -= offk[:-1, :, None] - e1[:, :, None] * s[:, None, :] + th[None, :, None]
     g[0, :, 0] = seg.initial_c[:, 0] - off[:, 0] - th
-    dg = gd[:, :, npt:]
+    dg = np.ascontiguousarray(gd[:, :, npt:])
     dg += e1[:, :, None]
-    gmin_seen = g.min(axis=(0, 2))
-    at = np.argmin(g.transpose(1, 0, 2).reshape(mm, -1), axis=1)
+    gm = g.transpose(1, 0, 2).reshape(mm, -1)  # member-major copy, time order
+    at = np.argmin(gm, axis=1)
+    gmin_seen = gm[np.arange(mm), at]
     best = gmin_seen + th
     best_t = (t[ks[:-1]][:, None] + s).ravel()[at]
     # bounds of each piece: chord -/+ remainder, for g and for its slope
@@ -167,7 +187,7 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     rc = np.concatenate([lam * lam * decay, np.abs(lam) ** 3 * decay], axis=1)  # (J, 2P-2, r)
     rem = cexp @ rc.transpose(0, 2, 1)  # (J, M, 2P-2)
     ga, gb = g[:, :, :-1], g[:, :, 1:]
-    rg = rem[:, :, : npt - 1] + 1e-12 * (np.abs(ga) + np.abs(gb))  # with round-off
+    rg = rem[:, :, : npt - 1] + 1e-12 * max(float(gm.max()), -float(gm.min()))  # round-off
     lo = np.minimum(ga, gb) - rg
     hi = np.maximum(ga, gb) + rg
     da, db = dg[:, :, :-1], dg[:, :, 1:]
@@ -179,27 +199,29 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     exact |= (lo < gmin_seen[None, :, None]) & ~mono
     exact &= (width > 0)[:, None, :]
     whole = ((hi < 0) | (mono & neg)) & ~exact  # surely below all through
+    # a monotone piece whose ends are of opposite signs has one root and no minimum
+    # inside: Newton from the chord's root, kept in the bracket
+    simple = exact & mono & (((ga > 0) & (gb < 0)) | ((ga < 0) & (gb > 0)))
+    simple &= ~(lo < gmin_seen[None, :, None])
+    exact &= ~simple
     below = np.einsum("jmp,jp->m", whole, width)
     start = (t[ks[:-1]][:, None] + s[:, :-1])[:, None, :]  # (J, 1, P-1)
-    first = np.where(whole, start, np.inf).min(axis=(0, 2))
+    wm = whole.transpose(1, 0, 2).reshape(mm, -1)  # time order per member
+    first = np.where(wm.any(axis=1), start.ravel()[np.argmax(wm, axis=1)], np.inf)
+    ji, mi, pi = np.nonzero(simple)
+    if mi.size:
+        el = _piece(lam, v0, x, s, g, e1, width, ji, mi, pi)
+        a0, b0 = g[ji, mi, pi], g[ji, mi, pi + 1]
+        root = _solve(lambda q: (el.val(q), el.d1(q)), 0 * el.w, el.w, a0, el.w * a0 / (a0 - b0))
+        t0 = t[ks[ji]] + s[ji, pi]
+        down = a0 > 0
+        below += np.bincount(mi, weights=np.where(down, el.w - root, root), minlength=mm)
+        np.minimum.at(first, mi, np.where(down, t0 + root, t0))
     ji, mi, pi = np.nonzero(exact)
     if mi.size:
-        s0 = s[ji, pi]
-        ep, q1, q2 = hold_coefficients(lam, s0)
-        xi = x[ji, mi]
-        zi, bi, ci = xi[:, :r], xi[:, r : 2 * r], xi[:, 2 * r :]
-        z0 = ep * zi + q1 * bi + q2 * ci
-        el = _ExpLin(
-            lam,
-            v0 * z0,
-            v0 * (bi + ci * s0[:, None]),
-            v0 * ci,
-            g[ji, mi, pi],
-            e1[ji, mi % e1.shape[1]],
-            width[ji, pi],
-        )
+        el = _piece(lam, v0, x, s, g, e1, width, ji, mi, pi)
         f, gmin, smin, blw = _profile(el)
-        t0 = t[ks[ji]] + s0
+        t0 = t[ks[ji]] + s[ji, pi]
         below += np.bincount(mi, weights=blw, minlength=mm)
         np.minimum.at(first, mi, np.where(np.isnan(f), np.inf, t0 + f))
         _scatter_min(best, best_t, mi, gmin + th[mi], t0 + smin)

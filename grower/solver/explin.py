@@ -52,12 +52,13 @@ class _ExpLin:
         return ((em + 1.0) * self.k2[sh]).sum(axis=-1)
 
 
-def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
+def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None) -> np.ndarray:  # type: ignore[no-untyped-def]
     """Root in [a, b] of f (fd(s) -> (f, f')), f(a) and f(b) of opposite sign: Newton
-    steps kept inside a shrinking bracket, else bisection (Numerical Recipes sec. 9.4)."""
+    steps kept inside a shrinking bracket, else bisection (Numerical Recipes sec. 9.4),
+    from ``x0`` inside the bracket (default its middle)."""
     lo, hi = a.copy(), b.copy()
     pos = fa > 0
-    x = 0.5 * (lo + hi)
+    x = 0.5 * (lo + hi) if x0 is None else np.clip(x0, np.minimum(lo, hi), np.maximum(lo, hi))
     tol = 1e-13 * (b - a) + 1e-300
     for _ in range(200):
         f, df = fd(x)
