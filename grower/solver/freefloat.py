@@ -14,7 +14,7 @@ import numpy as np
 
 from .analysis import analyse
 from .network import Network
-from .problem import _problem, _series
+from .problem import _Problem, _problem, _series
 from .results import Trajectory, _no_switches
 from .segments import Segments, forcing_at, knots, step_runs
 from .stepping import _MANY, recurrence
@@ -60,49 +60,20 @@ def free_float(
         q = np.array(np.broadcast_to(_series(heat_w, "heat_w", nt, None), (mm, nt)))
         step_q = 0.5 * prob.h * (q[:, :-1] + q[:, 1:])
         heat_j = step_q.sum(axis=1)
-    zero = np.zeros((mm, nt - 1))
-    if mm >= _MANY:
-        kn = knots(prob.h, prob.boundary_c, prob.gains_w)
-        if 4 * (kn.size - 1) <= nt - 1:  # long runs of collinear input: step whole runs
-            b = forcing_at(network, prob.boundary_c, prob.gains_w, kn)
-            z0 = np.broadcast_to((prob.initial_c @ full.w.T).T, (full.lam.size, mm))
-            seg = Segments(
-                network,
-                prob.times_s,
-                kn,
-                step_runs(network, prob.times_s, kn, b, z0),
-                b,
-                np.broadcast_to(prob.initial_c, (mm, network.n_nodes)),
-            )
-            return Trajectory(
-                prob.times_s,
-                None,
-                q,
-                np.zeros((mm, nt)),
-                heat_j,
-                np.zeros(mm),
-                step_q,
-                zero,
-                None,
-                np.zeros((mm, nt - 1), dtype=np.int8),
-                _no_switches(network.n_nodes),
-                network,
-                prob,
-                None,
-                None,
-                seg,
-            )
-    z0 = prob.initial_c @ full.w.T  # (Mi, r)
-    # f = f1 b[k] + f2 (b[k+1] - b[k]), written without the difference array
-    bt = prob.bt
-    f = (tab.f1 - tab.f2).T[:, None, :] * bt[:, :, :-1]
-    f += tab.f2.T[:, None, :] * bt[:, :, 1:]
-    if f.shape[1] != mm:  # shared forcing, member-specific start
-        f = np.broadcast_to(f, (f.shape[0], mm, nt - 1))
-    z = recurrence(tab.e, prob.uniform, f, np.broadcast_to(z0.T, (full.lam.size, mm)))
-    temps = np.tensordot(full.v, z, axes=([1], [0]))  # (n, M, N)
-    temps[:, :, 0] = np.broadcast_to(prob.initial_c, (mm, network.n_nodes)).T
-    temps = np.moveaxis(temps, 0, -1)
+    seg = _runs(prob) if mm >= _MANY else None
+    temps = z = None
+    if seg is None:
+        z0 = prob.initial_c @ full.w.T  # (Mi, r)
+        # f = f1 b[k] + f2 (b[k+1] - b[k]), written without the difference array
+        bt = prob.bt
+        f = (tab.f1 - tab.f2).T[:, None, :] * bt[:, :, :-1]
+        f += tab.f2.T[:, None, :] * bt[:, :, 1:]
+        if f.shape[1] != mm:  # shared forcing, member-specific start
+            f = np.broadcast_to(f, (f.shape[0], mm, nt - 1))
+        z = recurrence(tab.e, prob.uniform, f, np.broadcast_to(z0.T, (full.lam.size, mm)))
+        temps = np.tensordot(full.v, z, axes=([1], [0]))  # (n, M, N)
+        temps[:, :, 0] = np.broadcast_to(prob.initial_c, (mm, network.n_nodes)).T
+        temps = np.moveaxis(temps, 0, -1)
     return Trajectory(
         prob.times_s,
         temps,
@@ -111,7 +82,7 @@ def free_float(
         heat_j,
         np.zeros(mm),
         step_q,
-        zero,
+        np.zeros((mm, nt - 1)),
         None,
         np.zeros((mm, nt - 1), dtype=np.int8),
         _no_switches(network.n_nodes),
@@ -119,7 +90,21 @@ def free_float(
         prob,
         None,
         z,
+        seg,
     )
+
+
+def _runs(prob: _Problem) -> Segments | None:
+    """The free float as `Segments` when its inputs run collinear over four or more steps
+    on average (one exact step per run), else None (step by step)."""
+    net, mm, nt = prob.network, prob.n_members, prob.times_s.size
+    kn = knots(prob.h, prob.boundary_c, prob.gains_w)
+    if 4 * (kn.size - 1) > nt - 1:
+        return None
+    b = forcing_at(net, prob.boundary_c, prob.gains_w, kn)
+    z0 = np.broadcast_to((prob.initial_c @ net.modes.w.T).T, (net.modes.lam.size, mm))
+    x0 = np.broadcast_to(prob.initial_c, (mm, net.n_nodes))
+    return Segments(net, prob.times_s, kn, step_runs(net, prob.times_s, kn, b, z0), b, x0)
 
 
 def first_crossing(
