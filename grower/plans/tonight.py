@@ -123,6 +123,7 @@ class TonightResult:
     colder_air_c: np.ndarray
     cautions: tuple[str, ...]
     vapour: Any = None  # grower.vaporisation.VapourCheck at the night's coldest hour
+    chance: Any = None  # grower.plans.chance.Chance: the members of the night, or None
 
     @property
     def safe(self) -> bool:
@@ -253,8 +254,13 @@ def tonight(
     now: pd.Timestamp | None = None,
     colder_by_k: float = COLDER_BY_K,
     use_calibration: bool = True,
+    members: Any = None,
 ) -> TonightResult:
-    """Tonight's frost verdict for one house; see the module docstring."""
+    """Tonight's frost verdict for one house; see the module docstring.
+
+    `members` (a `grower.plans.chance.Spec`) asks for the chance of damage: the night
+    run as drawn members or as the live ensemble's, with no heat and heated.
+    """
     from grower import weather
 
     now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
@@ -358,6 +364,23 @@ def tonight(
             fuel=fuels.fuel_amount(float(run.heat_j[0]), fuel, eff, unit),
         )
 
+    odds = None
+    if members is not None:
+        from grower.plans import chance
+
+        odds = chance.run(
+            members,
+            house=house,
+            kind=kind,
+            use_calibration=use_calibration,
+            mdl=mdl,
+            b=b,
+            initial_c=x0,
+            threshold_c=threshold_c,
+            heater_w=check.output_w if check is not None else None,
+            pressure_hpa=pressure,
+        )
+
     chill = None
     if chill_c is not None and chill_c > threshold_c:
         c = solver.analyse(free, chill_c, b.plant_offset_k)
@@ -427,6 +450,7 @@ def tonight(
             burned_j=hold_j / eff,
             at=local[int(np.argmin(b.outside_c))],
         ),
+        chance=odds,
     )
 
 
