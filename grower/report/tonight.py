@@ -385,7 +385,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     plain(console, f"{alarm_text(r, system)}", "dim")
     how = members_line(r, system)
     if how:
-        plain(console, how, "dim")
+        print_line(console, f"[dim]{how}[/dim]")
         for note in r.chance.notes:
             plain(console, f"! {note}", "yellow")
     console.print()
