@@ -174,7 +174,9 @@ def _count(text: str, option: str, bound=None) -> int:
     if value < 0:
         raise InputError(f'"{text}" cannot be negative', where=option)
     if bound is not None:
-        limits.check(value, bound, option, shown=str(text))
+        limits.check(
+            value, bound, option, shown=str(text), convert=lambda lo, hi: f"{lo:,.0f}…{hi:,.0f}"
+        )
     if value >= 2**63:
         raise InputError(f'"{text}" is too large', where=option)
     return value
