@@ -366,3 +366,27 @@ def test_the_commands_defaults_are_the_plans():
 )
 def test_chance_text(count, total, text):
     assert chance_text(count, total) == text
+
+
+@pytest.mark.parametrize("columns", [60, 100])
+def test_several_houses_show_their_chance_where_it_fits(capsys, monkeypatch, columns):
+    monkeypatch.setenv("COLUMNS", str(columns))
+    hoop, glass = str(EXAMPLES / "hoop-tunnel.toml"), str(EXAMPLES / "glass-range.toml")
+    argv = [*ARGV[:2], hoop, glass, *ARGV[2:], "--draws", "50"]
+    assert main(argv) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert all(len(line) <= columns for line in lines)
+    # the worst house's verdict lines, its chance right after them
+    first = next(i for i, line in enumerate(lines) if line.startswith("Chance of damage:"))
+    assert lines[first - 2].startswith("With no heat:") or lines[first - 1].startswith("With")
+    assert any("chance (heated)" in line for line in lines) == (columns == 100)
+    if columns == 100:
+        # each house's row ends with its chance; the heated houses' heated one in brackets
+        assert main([*argv, "--json"]) == 0
+        docs = json.loads(capsys.readouterr().out)["houses"]
+        for d in docs:
+            shown = chance_text(round(d["chance_of_damage"] * 50), 50)
+            if d["chance_of_damage_heated"] is not None:
+                shown += f" ({chance_text(round(d['chance_of_damage_heated'] * 50), 50)})"
+            rows = [line.rstrip(" │┃") for line in lines if d["house"][:15] in line]
+            assert any(row.endswith(shown) for row in rows), (shown, rows)

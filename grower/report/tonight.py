@@ -559,6 +559,13 @@ def _margin_text(margin_k: float, system: UnitSystem) -> str:
     return f"[{style}]{text}[/{style}]"
 
 
+def _chance_cell(c: Any) -> str:
+    if c is None:
+        return "—"
+    text = chance_text(c.damaged, c.count)
+    return f"{text} ({chance_text(c.damaged_heated, c.count)})" if c.heater else text
+
+
 def render_summary(console, results: list[TonightResult], system: UnitSystem) -> None:
     """Several houses: one table, most urgent first."""
     from rich.table import Table
@@ -569,6 +576,8 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     if frost:
         print_line(console, action_line(frost[0], system))
         print_line(console, verdict_line(frost[0], system))
+        for line in chance_lines(frost[0], system):
+            print_line(console, line)
         if len(frost) > 1:
             console.print(
                 f"[bold red]{len(frost)} of {len(results)} houses reach the alarm tonight with no heat[/bold red]"
@@ -591,6 +600,10 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     table.add_column("to hold", justify="right", no_wrap=True)
     table.add_column("heater")
     table.add_column("margin", justify="right", no_wrap=True)
+    # the chance of damage, with the installed heater in brackets, where it fits
+    odds = console.width >= 96 and any(r.chance is not None for r in order)
+    if odds:
+        table.add_column("chance (heated)", justify="right", no_wrap=True)
     for r in order:
         when = (
             "[green]no[/green]"
@@ -602,20 +615,28 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
             if r.heater is None
             else ("holds" if r.heater.holds else f"[red]falls to {T(r.heater.min_plant_c)}[/red]")
         )
-        table.add_row(
+        cells = [
             r.house_name,
             when,
             T(r.verdict.min_plant_c),
             power_text(r.hold_peak_w, system, with_btu=False),  # the report's system only
             heater,
             _margin_text(margin_k(r), system),
-        )
+        ]
+        if odds:
+            cells.append(_chance_cell(r.chance))
+        table.add_row(*cells)
     console.print(table)
     plain(
         console,
         f"alarm {T(order[0].threshold_c)} ({order[0].threshold_basis}); coldest: plants with "
         "no heat; to hold: peak heat that holds the alarm; margin: coldest plants above the "
-        "alarm with no heat, smallest first",
+        "alarm with no heat, smallest first"
+        + (
+            "; chance: of reaching the alarm with no heat (with the installed heater)"
+            if odds
+            else ""
+        ),
         "dim",
     )
     for r in order:
