@@ -137,7 +137,11 @@ def test_the_members_are_drawn_as_documented():
     factors, counts = np.unique([m.k_factor for m in got.members], return_counts=True)
     levels = chance.K_LEVELS
     z = norm.ppf((np.arange(levels) + 0.5) / levels)
+    z /= np.sqrt(np.mean(z**2))  # the levels carry the stated spread: unit variance
     np.testing.assert_allclose(factors, 1.0 + chance.HANDBOOK_K_SPREAD / norm.ppf(0.975) * z)
+    # so the members' K factors have the stated standard deviation (±30 % is 2 σ ≈ 1.96 σ)
+    k = np.array([m.k_factor for m in got.members])
+    assert abs(k.std() - chance.HANDBOOK_K_SPREAD / 1.96) < 0.002
     assert counts.max() - counts.min() <= 1  # equally likely levels
     assert got.members[0].heated_damage is None and got.chance_heated is None
 

@@ -173,7 +173,7 @@ def _count(text: str, option: str, bound=None) -> int:
         raise InputError(f'"{text}" is not a whole number', where=option) from None
     if value < 0:
         raise InputError(f'"{text}" cannot be negative', where=option)
-    if bound is not None:
+    if bound is not None and value != 0:  # 0: leave it out, said in the help
         limits.check(
             value, bound, option, shown=str(text), convert=lambda lo, hi: f"{lo:,.0f}…{hi:,.0f}"
         )

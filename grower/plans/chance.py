@@ -17,8 +17,9 @@ the house file's ``[calibration]`` carries one (``k_w_per_k_ci95``, or
 ``k_outside_w_per_k_ci95``), else the handbook spread the README states (U-values and air
 changes put K within about ±30 % of a real house, taken as a 95 % range). The factors
 are stratified: `K_LEVELS` equally likely levels at the middle quantiles z_j of the
-normal distribution, one level per member in a seeded random order, so the solver runs
-once per level (the network is fixed within a run). The heat capacity C is not varied.
+normal distribution (scaled to unit variance, `k_levels`), one level per member in a
+seeded random order, so the solver runs once per level (the network is fixed within a
+run). The heat capacity C is not varied.
 
 **Ensemble members** carry their own air temperature, dew point, cloud, wind and sun
 (sky and leaf offset from each), with the K levels the same way. The network is the one
@@ -183,12 +184,18 @@ def k_spread(house: House, kind: hm.ModelKind, use_calibration: bool) -> tuple[f
 
 
 def k_levels(spread: float, levels: int = K_LEVELS) -> np.ndarray:
-    """The stratified K factors: 1 + spread/1.96 · z_j at the middle quantiles."""
+    """The stratified K factors 1 + spread/1.96 · z_j, equally likely.
+
+    z_j are the normal distribution's quantiles at the middle of `levels` equal strata,
+    scaled so that their mean square is 1: the middle quantiles alone would narrow the
+    spread (by 8 % in σ for 8 levels), and the tails are what the chance is about.
+    """
     if spread <= 0:
         return np.ones(1)
     from statistics import NormalDist
 
     z = np.array([NormalDist().inv_cdf((j + 0.5) / levels) for j in range(levels)])
+    z /= np.sqrt(np.mean(z**2))
     return 1.0 + spread / 1.959963984540054 * z
 
 
