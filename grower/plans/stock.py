@@ -31,6 +31,7 @@ from grower.house import House
 from grower.plans import model as hm
 from grower.plans import thermostat_run as tr
 from grower.plans.tonight import when
+from grower.units import Note
 
 #: refill level when none is given [%]: the cautious end of the trade's 20–30 %
 DEFAULT_RESERVE_PCT = 30.0
@@ -189,7 +190,7 @@ def heating(
     measured = hm.calibrated_heater_output(house, use_calibration) if house.heaters else None
     if measured is not None:
         q_max = measured
-        notes.append(f"heater output {q_max / 1e3:.1f} kW as measured by grower fit")
+        notes.append(Note("heater output {q} as measured by grower fit", q=("power", q_max)))
     if not house.heaters:
         notes.append("no heater in the house file: an unlimited heater holds the setpoints")
     out = None if math.isinf(q_max) else q_max

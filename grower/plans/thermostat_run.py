@@ -25,6 +25,7 @@ import pandas as pd
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.units import Note
 
 #: solver grid step [s]
 STEP_S = 600.0
@@ -190,8 +191,11 @@ def simulate(
         progress(len(edges) - 1, len(edges) - 1)
     if "wind_speed_m_s" in forecast.given:
         notes.append(
-            f"conductances at the heating hours' mean wind, {wind:.1f} m/s, and air, "
-            f"{mean_out:.1f} °C"
+            Note(
+                "conductances at the heating hours' mean wind, {wind}, and air, {air}",
+                wind=("speed", wind),
+                air=("temp", mean_out),
+            )
         )
     return Run(
         times=times,

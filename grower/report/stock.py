@@ -8,7 +8,7 @@ from grower.plans.stock import Order, Shortfall, StockResult
 from grower.report import vapour
 from grower.report.common import iso, plain, render_cautions
 from grower.report.quantities import fuel_text, fuel_value
-from grower.units import J_PER_THERM, UnitSystem, show_temperature
+from grower.units import J_PER_THERM, UnitSystem, note_text, show_temperature
 
 
 def stock_json(r: StockResult) -> dict[str, Any]:
@@ -309,5 +309,5 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     for w in r.forecast_warnings:
         plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
-        plain(console, f"· {a}", "dim")
-    render_cautions(console, r.cautions)
+        plain(console, f"· {note_text(a, system)}", "dim")
+    render_cautions(console, r.cautions, system)
