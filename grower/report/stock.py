@@ -108,6 +108,16 @@ def stock_json(r: StockResult) -> dict[str, Any]:
             }
             for f in r.shortfalls
         ],
+        # the same forecast with the heater off from the run-out on (null: the fuel lasts)
+        "after_run_out": None
+        if r.after_run_out is None
+        else {
+            "min_air_c": r.after_run_out.min_air_c,
+            "min_plant_c": r.after_run_out.min_plant_c,
+            "coldest_at": iso(r.after_run_out.coldest_at),
+            "hours_below_setpoint": r.after_run_out.hours_below_setpoint,
+            "crop_alarm_at": iso(r.after_run_out.crop_alarm_at),
+        },
         "thermostat_runs": r.n_runs,
         "cautions": list(r.cautions),
     }
@@ -156,10 +166,22 @@ def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
             )
         )
     if f.kind == "fuel":
-        return (
+        line = (
             f"The fuel runs out {_when(f.at)}, {f.value:.1f} days from the start, before the "
-            f"forecast ends; order more now."
+            "forecast ends"
         )
+        a = r.after_run_out
+        if a is not None:
+            line += (
+                f"; then, without heat, the air falls to {T(a.min_air_c)} by {_when(a.coldest_at)}"
+            )
+            if r.crop is not None:
+                line += (
+                    f" and the plants pass the {r.crop.crop} alarm at {_when(a.crop_alarm_at)}"
+                    if a.crop_alarm_at
+                    else f" (the plants stay above the {r.crop.crop} alarm)"
+                )
+        return line + "; order more now."
     line, _ = vapour.sentence(r.vapour, system)
     return "Not enough vapour: " + line
 
