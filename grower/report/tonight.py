@@ -515,5 +515,5 @@ def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
         threshold=conv(r.threshold_c),
         crossing=r.verdict.crossing_time,
         unit=show_temperature(0, system).unit,
-        title=f"{r.house_name} — {r.crop or 'threshold'}: tonight with no heat",
+        title=f"{r.house_name} — {r.crop or 'your alarm'}: tonight with no heat",
     )
