@@ -243,7 +243,7 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
         f"({_when(r.start)} to {_when(r.end)})"
     )
     if r.cost is not None:
-        head += f", cost {r.cost:,.2f}"
+        head += f", cost {r.cost:,.2f} at {r.price:,.2f} per {r.fuel.unit}"
     plain(console, head, "bold")
     if lasts and r.shortfalls:
         plain(console, lasts)
