@@ -516,18 +516,24 @@ def stock(
     if price is None and house.stock.get("price") is not None and on_hand_text is None:
         price = float(house.stock["price"])
 
-    run = tr.simulate(
-        house,
-        forecast,
-        start,
-        end,
-        setpoint_c=setpoint_c,
-        night_setpoint_c=night_set,
-        q_max_w=math.inf if heat.heater_output_w is None else heat.heater_output_w,
-        kind=kind,
-        use_calibration=use_calibration,
-        progress=progress,
-    )
+    installed = math.inf if heat.heater_output_w is None else heat.heater_output_w
+
+    def simulate(q_max_w: float = installed, **more) -> tr.Run:
+        """The house on its thermostat through this forecast, with heater `q_max_w`."""
+        return tr.simulate(
+            house,
+            forecast,
+            start,
+            end,
+            setpoint_c=setpoint_c,
+            night_setpoint_c=night_set,
+            q_max_w=q_max_w,
+            kind=kind,
+            use_calibration=use_calibration,
+            **more,
+        )
+
+    run = simulate(progress=progress)
     notes += run.notes
     days = daily(run, fuel.j_per(out_unit), eff, price)
     total_j = run.energy_j
@@ -556,19 +562,7 @@ def stock(
     dry = None
     if runs_out is not None:
         # the same forecast with the heater stopping when the fuel is gone
-        dry_run = tr.simulate(
-            house,
-            forecast,
-            start,
-            end,
-            setpoint_c=setpoint_c,
-            night_setpoint_c=night_set,
-            q_max_w=math.inf if heat.heater_output_w is None else heat.heater_output_w,
-            kind=kind,
-            use_calibration=use_calibration,
-            heat_until=t_out,
-        )
-        dry = after_run_out(dry_run, t_out, crop)
+        dry = after_run_out(simulate(heat_until=t_out), t_out, crop)
 
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)
@@ -579,18 +573,7 @@ def stock(
     extra = None
     if below.any() and heat.heater_output_w is not None:
         # the same forecast with an unlimited heater: its peak is the output that holds
-        unlimited = tr.simulate(
-            house,
-            forecast,
-            start,
-            end,
-            setpoint_c=setpoint_c,
-            night_setpoint_c=night_set,
-            q_max_w=math.inf,
-            kind=kind,
-            use_calibration=use_calibration,
-        )
-        extra = max(_holding_peak(unlimited) - heat.heater_output_w, 0.0) or None
+        extra = max(_holding_peak(simulate(math.inf)) - heat.heater_output_w, 0.0) or None
     return StockResult(
         house_name=house.name,
         house_path=house.path,
