@@ -16,7 +16,7 @@ from grower.report.quantities import (
     fuel_text,
     power_text,
 )
-from grower.units import UnitSystem, note_text, show_temperature, show_temperature_difference
+from grower.units import Note, UnitSystem, note_text, show_temperature, show_temperature_difference
 
 
 def tonight_json(r: TonightResult) -> dict[str, Any]:
@@ -252,7 +252,15 @@ def _air_assumed(r: TonightResult) -> bool:
 
 def reading_line(r: TonightResult, system: UnitSystem) -> str | None:
     """When the start was assumed, which reading would change the answer."""
-    if r.safe or not _air_assumed(r):
+    if r.safe:
+        return None
+    if not _air_assumed(r):
+        if r.soil_assumed and r.model == "two-node":
+            return Note(
+                "The soil was assumed at the deep-ground temperature: a reading at {depth} "
+                "(--soil-now) can change this answer.",
+                depth=("cm", 0.05),
+            ).text(system)
         return None
     if r.below_now:
         T = show_temperature(r.initial_air_c, system).text(1)
