@@ -31,8 +31,10 @@ from grower.weather.openmeteo import (
     _OPEN_METEO_VARS,
     _OPTIONAL_VARS,
     Fetched,
+    check_answer,
     get_cached_json,
     parse_openmeteo,
+    site_query,
 )
 
 DEFAULT_ENSEMBLE_URL = "https://ensemble-api.open-meteo.com"
@@ -82,21 +84,10 @@ def fetch_ensemble(
     InputError
         One line, as `grower.weather.fetch_openmeteo`, naming the ensemble service.
     """
-    if not 1 <= days <= 16:
-        raise ValueError("days must be within 1…16")
-    params = {
-        "latitude": f"{site.latitude_deg:.4f}",
-        "longitude": f"{site.longitude_deg:.4f}",
-        "hourly": ",".join([*_OPEN_METEO_VARS, *_OPTIONAL_VARS]),
-        "models": model,
-        "timezone": "auto",
-        "forecast_days": str(days),
-        "wind_speed_unit": "ms",
-    }
     return get_cached_json(
         ensemble_url(),
         "/v1/ensemble",
-        params,
+        site_query(site, days, models=model),
         what="ensemble",
         timeout=timeout,
         status=status,
@@ -125,15 +116,7 @@ def parse_ensemble(
         (the message names the member).
     """
     where = f"ensemble from {url}"
-    if not isinstance(document, Mapping):
-        raise InputError(
-            f"the answer is a JSON {type(document).__name__}, not an object", where=where
-        )
-    if document.get("error"):
-        raise InputError(
-            f"the service reported an error: {document.get('reason') or 'no reason given'}",
-            where=where,
-        )
+    check_answer(document, where)
     hourly = document.get("hourly")
     if not isinstance(hourly, Mapping):
         raise InputError("the answer has no hourly data", where=where)
@@ -167,26 +150,11 @@ def parse_ensemble(
     return tuple(out)
 
 
-def ensemble_forecasts(
-    site: Site,
-    *,
-    days: int = 3,
-    model: str = DEFAULT_ENSEMBLE_MODEL,
-    timeout: float = 10.0,
-    status: Callable[[str], None] | None = None,
-    expire_after_s: float = 3600.0,
-    now: dt.datetime | None = None,
-) -> Ensemble:
-    """The live ensemble for the site, cached; see `fetch_ensemble`, `parse_ensemble`."""
-    got = fetch_ensemble(
-        site,
-        days=days,
-        model=model,
-        timeout=timeout,
-        status=status,
-        expire_after_s=expire_after_s,
-        now=now,
-    )
+def ensemble_forecasts(site: Site, **options: Any) -> Ensemble:
+    """The live ensemble for the site, cached: `fetch_ensemble` (its keyword `options`:
+    days, model, timeout, status, expire_after_s, now), then `parse_ensemble`."""
+    got = fetch_ensemble(site, **options)
+    model = options.get("model", DEFAULT_ENSEMBLE_MODEL)
     members = parse_ensemble(got.document, site=site, url=got.url)
     members = tuple(
         replace(m, source=f"Open-Meteo ensemble ({model})", retrieved_at=got.retrieved_at)

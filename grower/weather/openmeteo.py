@@ -121,26 +121,32 @@ def fetch_openmeteo(
         One line: unreachable with nothing cached, HTTP 400 (with the service's reason)
         or another error status, an answer that is not JSON.
     """
-    if not 1 <= days <= 16:
-        raise ValueError("days must be within 1…16")
-    params = {
-        "latitude": f"{site.latitude_deg:.4f}",
-        "longitude": f"{site.longitude_deg:.4f}",
-        "hourly": ",".join([*_OPEN_METEO_VARS, *_OPTIONAL_VARS]),
-        "timezone": "auto",
-        "forecast_days": str(days),
-        "wind_speed_unit": "ms",
-    }
     return get_cached_json(
         forecast_url(),
         "/v1/forecast",
-        params,
+        site_query(site, days),
         what="forecast",
         timeout=timeout,
         status=status,
         expire_after_s=expire_after_s,
         now=now,
     )
+
+
+def site_query(site: Site, days: int, **more: str) -> dict[str, str]:
+    """The hourly query for the site (the variables the forecast needs, SI wind, local
+    times with their offset), `days` days from today, plus `more` parameters."""
+    if not 1 <= days <= 16:
+        raise ValueError("days must be within 1…16")
+    return {
+        "latitude": f"{site.latitude_deg:.4f}",
+        "longitude": f"{site.longitude_deg:.4f}",
+        "hourly": ",".join([*_OPEN_METEO_VARS, *_OPTIONAL_VARS]),
+        **more,
+        "timezone": "auto",
+        "forecast_days": str(days),
+        "wind_speed_unit": "ms",
+    }
 
 
 def get_cached_json(
@@ -231,6 +237,19 @@ def get_cached_json(
     )
 
 
+def check_answer(document: Any, where: str) -> None:
+    """Refuse an answer that is not a JSON object, or an error document (its reason)."""
+    if not isinstance(document, Mapping):
+        raise InputError(
+            f"the answer is a JSON {type(document).__name__}, not an object", where=where
+        )
+    if document.get("error"):
+        raise InputError(
+            f"the service reported an error: {document.get('reason') or 'no reason given'}",
+            where=where,
+        )
+
+
 def parse_openmeteo(
     document: Mapping[str, Any], *, site: Site | None = None, url: str = DEFAULT_FORECAST_URL
 ) -> Forecast:
@@ -247,15 +266,7 @@ def parse_openmeteo(
         An error document, a missing or malformed field or variable.
     """
     where = f"forecast from {url}"
-    if not isinstance(document, Mapping):
-        raise InputError(
-            f"the answer is a JSON {type(document).__name__}, not an object", where=where
-        )
-    if document.get("error"):
-        raise InputError(
-            f"the service reported an error: {document.get('reason') or 'no reason given'}",
-            where=where,
-        )
+    check_answer(document, where)
     hourly, offset = document.get("hourly"), document.get("utc_offset_seconds")
     if not isinstance(hourly, Mapping) or not isinstance(hourly.get("time"), list):
         raise InputError("the answer has no hourly.time list", where=where)
