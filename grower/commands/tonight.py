@@ -59,14 +59,15 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         "--draws",
         metavar="N",
         default=str(DEFAULT_DRAWS),
-        help=f"nights to draw from a file or --low (default {DEFAULT_DRAWS}; 0 leaves the "
-        "chance out)",
+        help=f"nights to draw for a file or --low, or when the live ensemble cannot be had "
+        f"(default {DEFAULT_DRAWS}; 0 leaves the chance out)",
     )
     g.add_argument(
         "--seed",
         metavar="N",
         default=str(DEFAULT_SEED),
-        help=f"seed of the drawn nights (default {DEFAULT_SEED}: the same answer every run)",
+        help=f"seed of the drawn nights and K factors (default {DEFAULT_SEED}: the same "
+        "answer every run)",
     )
     p.add_argument("--plot", metavar="FILE", help="write the chart as an image (.png or .svg)")
     p.add_argument(
