@@ -384,3 +384,13 @@ def test_several_houses_show_their_chance_where_it_fits(capsys, monkeypatch, col
                 shown += f" ({chance_text(round(d['chance_of_damage_heated'] * 50), 50)})"
             rows = [line.rstrip(" │┃") for line in lines if d["house"][:15] in line]
             assert any(row.endswith(shown) for row in rows), (shown, rows)
+
+
+def test_draws_zero_leaves_the_chance_out_quietly(capsys):
+    assert main([*ARGV, "--draws", "0"]) == 0
+    captured = capsys.readouterr()
+    assert "Chance of damage" not in captured.out and "Nights drawn" not in captured.out
+    assert captured.err == ""
+    assert main([*ARGV, "--draws", "0", "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["chance_of_damage"] is None and d["members"] == [] and d["members_source"] is None
