@@ -60,6 +60,7 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "installed_output_w": r.installed_output_w,
         "installed_holds": r.installed_holds,
         "notes": list(r.notes),
+        "calibration": r.calibration,
         "cautions": list(r.cautions),
         **({} if r.vapour is None else vapour_report.fields(r.vapour)),
     }
@@ -150,5 +151,8 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     vapour_report.render(console, r.vapour, system)
     console.print()
     for n in r.notes:
-        plain(console, f"· {n}", "dim")
+        if n == r.calibration_warning:
+            plain(console, f"! {n}", "yellow")
+        else:
+            plain(console, f"· {n}", "dim")
     render_cautions(console, r.cautions)

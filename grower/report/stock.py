@@ -309,5 +309,8 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     for w in r.forecast_warnings:
         plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
-        plain(console, f"· {a}", "dim")
+        if a == r.calibration_warning:
+            plain(console, f"! {a}", "yellow")
+        else:
+            plain(console, f"· {a}", "dim")
     render_cautions(console, r.cautions)
