@@ -16,6 +16,7 @@ from grower.cli import main
 from grower.plans import model as hm
 from grower.plans import runs
 
+from .calibration_tables import format2
 from .conftest import EXAMPLES
 
 UREG = pint.UnitRegistry()
@@ -232,3 +233,162 @@ def test_size_handbook_figure_is_the_trades_hand_method(capsys, tmp_path):
     # night (REFERENCES: Bartok) — the sky's part of the loss is less than that
     assert 0.0 < d["sky_allowance_w"] < 0.35 * d["heat_loss_w"]
     assert d["recommended_output_w"] == pytest.approx(1.2 * d["heat_loss_w"])
+
+
+# ------------------------------------------------------------------ [calibration]
+
+#: factors of the hand-written calibration below (tests/calibration_tables.py)
+FACTORS = {"conduction": 1.2, "sky": 0.5, "capacity": 0.8, "coupling": 1.5}
+
+
+def _calibrated(tmp_path, model: str = "two-node", **kw) -> house.House:
+    text = (EXAMPLES / "gable-house.toml").read_text(encoding="utf-8")
+    path = tmp_path / "calibrated.toml"
+    path.write_text(format2(text, model=model, **{**FACTORS, **kw}), encoding="utf-8")
+    return house.read(path)
+
+
+def test_tonight_on_a_calibration_against_solve_ivp(capsys, tmp_path):
+    # The same independent integration as above, of the geometry's network at the night's
+    # own wind with the calibration's factors applied by hand: the conduction (outside
+    # air, deep ground, coupling) × 1.2, the sky columns × 0.5, every capacity × 0.8 and
+    # the coupling × 1.5 more. The crossing `tonight` reports must be this network's.
+    h = _calibrated(tmp_path)
+    path = _constant_night(tmp_path)
+    d = _run_json(
+        capsys,
+        "tonight",
+        h.path,
+        "--threshold",
+        "1C",
+        "--forecast",
+        path,
+        "--inside-now",
+        "8C",
+        "--soil-now",
+        "9C",
+        "--start",
+        "2026-12-03T16:00",
+    )
+    assert d["calibrated"] is True
+    kw = dict(wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
+    geo = hm.build(h, use_calibration=False, **kw)
+    fk, fs, fc, fg = (FACTORS[k] for k in ("conduction", "sky", "capacity", "coupling"))
+    c, m = geo.conductances, geo.capacities
+    cal = hm.build(h, **kw)
+    k_o, k_s = cal.k_conduction_w_per_k, cal.k_sky_w_per_k
+    assert k_o == pytest.approx(fk * c.outside_w_per_k, rel=1e-12)
+    start = dt.datetime.fromisoformat(d["start"])
+    ts = np.array(
+        [(dt.datetime.fromisoformat(r["time"]) - start).total_seconds() for r in d["series"]]
+    )
+    skies = np.array(
+        [(r["effective_outside_c"] * (k_o + k_s) - k_o * -5.0) / k_s for r in d["series"]]
+    )
+    g, k_g = m.air_mass_w_per_k * fk * fg, m.ground_w_per_k * fk
+    c_a, c_m = m.air_j_per_k * fc, m.mass_j_per_k * fc
+
+    def rhs(t, x):
+        t_a, t_m = x
+        t_s = np.interp(t, ts, skies)
+        q_a = (
+            fk * c.outside_w_per_k * (-5.0 - t_a)
+            + fs * c.cover_sky_w_per_k * (t_s - t_a)
+            + g * (t_m - t_a)
+        )
+        q_m = (
+            g * (t_a - t_m) + fs * c.floor_sky_w_per_k * (t_s - t_m) + k_g * (m.deep_ground_c - t_m)
+        )
+        return [q_a / c_a, q_m / c_m]
+
+    offset = d["series"][5]["air_c"] - d["series"][5]["plant_c"]
+    t_alarm_air = d["threshold_c"] + offset
+
+    def crossing(_t, x):
+        return x[0] - t_alarm_air
+
+    crossing.terminal, crossing.direction = True, -1
+    sol = solve_ivp(rhs, (0, 20 * 3600), [8.0, 9.0], events=crossing, rtol=1e-10, atol=1e-10)
+    got = (dt.datetime.fromisoformat(d["crossing_time"]) - start).total_seconds()
+    assert got == pytest.approx(float(sol.t_events[0][0]), abs=1.0)  # printed to the second
+
+
+def test_build_scales_the_conduction_and_the_sky_apart(tmp_path):
+    h = _calibrated(tmp_path)
+    for wind in (0.0, 6.0):  # the wind still acts: the factors ride on the night's geometry
+        kw = dict(wind_m_s=wind, mean_radiant_temp_c=-8.0, air_temp_c=-3.0)
+        geo, cal = hm.build(h, use_calibration=False, **kw), hm.build(h, **kw)
+        hg, hc = geo.network.boundary_w_per_k, cal.network.boundary_w_per_k
+        assert hc[0, 0] == pytest.approx(1.2 * hg[0, 0], rel=1e-12)  # air → outside air
+        assert hc[0, 1] == pytest.approx(0.5 * hg[0, 1], rel=1e-12)  # cover faces → sky
+        assert hc[1, 1] == pytest.approx(0.5 * hg[1, 1], rel=1e-12)  # floor → sky
+        assert hc[1, 2] == pytest.approx(1.2 * hg[1, 2], rel=1e-12)  # floor → deep ground
+        assert cal.network.coupling_w_per_k[0, 1] == pytest.approx(
+            1.2 * 1.5 * geo.network.coupling_w_per_k[0, 1], rel=1e-12
+        )
+        assert cal.c_j_per_k == pytest.approx(0.8 * geo.c_j_per_k, rel=1e-12)
+        # the steady sky share: the cover faces' plus the floor's through the coupling
+        g, k_r = cal.network.coupling_w_per_k[0, 1], hc[1, 1]
+        assert cal.k_sky_w_per_k == pytest.approx(hc[0, 1] + g * k_r / (g + k_r), rel=1e-12)
+    calm = hm.build(h, wind_m_s=0.0).k_conduction_w_per_k
+    assert hm.build(h, wind_m_s=6.0).k_conduction_w_per_k > calm
+
+
+def test_a_lumped_calibration_scales_the_lumped_columns(tmp_path):
+    h = _calibrated(tmp_path, model="lumped")
+    geo, cal = hm.build(h, kind="lumped", use_calibration=False), hm.build(h, kind="lumped")
+    hg, hc = geo.network.boundary_w_per_k[0], cal.network.boundary_w_per_k[0]
+    assert list(hc) == pytest.approx([1.2 * hg[0], 0.5 * hg[1], 1.2 * hg[2]], rel=1e-12)
+    assert cal.c_j_per_k == pytest.approx(0.8 * geo.c_j_per_k, rel=1e-12)
+    # a fit is used by the model it was fitted with only: their values differ
+    assert not hm.build(h, kind="two-node").calibrated
+    note = hm.calibration_note(h, "two-node")
+    assert "for the lumped model" in note and "--model lumped" in note
+    assert "conduction × 1.20, sky part × 0.50, C × 0.80" in hm.calibration_note(h, "lumped")
+
+
+def test_calibration_notes_say_what_is_used_and_why_not(tmp_path):
+    h = _calibrated(tmp_path)
+    assert "ROUGH" not in hm.calibration_note(h, "two-node")
+    rough = _calibrated(tmp_path, quality="rough")
+    note = hm.calibration_note(rough, "two-node")
+    assert hm.build(rough).calibrated and "ROUGH fit (stored with --keep-rough" in note
+    assert "3.0 × the sensor's noise" in note  # rms_k 0.3, noise_k 0.1 in the table
+    # --no-calibration: the geometry, whatever the table holds
+    assert not hm.build(h, use_calibration=False).calibrated
+    assert "--no-calibration" in hm.calibration_note(h, "two-node", use=False)
+    assert hm.calibration_warning(h, use=False) is None
+    # a format this version does not know: not used, with the command to refit
+    future = house.from_mapping(
+        {**_toml(h.path), "calibration": {**h.calibration, "format": 3}}, source=h.path
+    )
+    assert not hm.build(future).calibrated
+    assert "format 3" in hm.calibration_warning(future)
+
+
+def test_an_older_calibration_is_not_used(tmp_path):
+    text = (EXAMPLES / "gable-house.toml").read_text(encoding="utf-8")
+    path = tmp_path / "old.toml"
+    path.write_text(
+        text + '\n[calibration]\nmodel = "two-node"\nk_w_per_k = 969.0\nc_j_per_k = 9.0e7\n'
+        'record = "logger-gable-house.csv"\n',
+        encoding="utf-8",
+    )
+    h = house.read(path)
+    geo = hm.build(h, use_calibration=False)
+    mdl = hm.build(h)
+    assert not mdl.calibrated and mdl.k_w_per_k == geo.k_w_per_k
+    assert hm.calibration_of(h) is None and hm.calibrated_heater_output(h) is None
+    note = hm.calibration_note(h, "two-node")
+    assert note == hm.calibration_warning(h)
+    assert "older grower fit (K = 969 W/K, one factor on every conductance): not used" in note
+    assert f"refit: grower fit {path} --log logger-gable-house.csv --write" in note
+
+
+def _toml(path) -> dict:
+    import tomllib
+
+    with open(path, "rb") as f:
+        doc = tomllib.load(f)
+    doc.pop("calibration", None)
+    return doc

@@ -210,7 +210,9 @@ def updated_text(text: str, values: dict[str, Any], where: str) -> str:
     elif not isinstance(table, dict):
         raise InputError("[calibration] must be a table", where=where)
     else:
-        _renew_header(table)
+        renewed = _renewed_header(table)
+        if renewed is not None:
+            doc["calibration"] = table = renewed
     for key in KEYS:
         if key in table and key not in values:
             del table[key]
@@ -219,26 +221,33 @@ def updated_text(text: str, values: dict[str, Any], where: str) -> str:
     return tomlkit.dumps(doc)
 
 
-def _renew_header(table) -> None:
-    """Replace an older `grower fit`'s header comments with this format's (the grower's
-    own comments stay)."""
+def _renewed_header(table):
+    """The table with an older `grower fit`'s header comments replaced by this format's,
+    or None when it has none (the grower's own comments and keys stay, in order)."""
     import tomlkit
-    from tomlkit.items import Comment
+    from tomlkit.container import Container
+    from tomlkit.items import Comment, Table
+
+    def old(key, item) -> bool:
+        text = item.as_string().strip().lstrip("#").strip()
+        return key is None and isinstance(item, Comment) and text in _OLD_HEADER_COMMENTS
 
     body = table.value.body
-    old = [
-        i
-        for i, (key, item) in enumerate(body)
-        if key is None
-        and isinstance(item, Comment)
-        and item.as_string().strip().lstrip("#").strip() in _OLD_HEADER_COMMENTS
-    ]
-    if not old:
-        return
-    for i in reversed(old):
-        del body[i]
-    for j, line in enumerate(_HEADER_COMMENTS):
-        body.insert(old[0] + j, (None, tomlkit.comment(line)))
+    if not any(old(k, i) for k, i in body):
+        return None
+    new = Table(Container(), table.trivia, table.is_super_table())
+    done = False
+    for key, item in body:
+        if old(key, item):
+            if not done:
+                for line in _HEADER_COMMENTS:
+                    new.add(tomlkit.comment(line))
+                done = True
+        elif key is None:
+            new.add(item)
+        else:
+            new.add(key, item)
+    return new
 
 
 def write_calibration(path: str | os.PathLike[str], result: FitResult) -> Path:
