@@ -659,6 +659,12 @@ def _calibration(table: Any, at) -> dict[str, Any]:
     for key in _CALIBRATION_NON_NEGATIVE:
         if key in table:
             _calibration_number(table[key], "non-negative", at(f"calibration.{key}"))
+    if "record_mean_outside_c" in table:
+        t = table["record_mean_outside_c"]
+        where = at("calibration.record_mean_outside_c")
+        if isinstance(t, bool) or not isinstance(t, int | float) or not math.isfinite(t):
+            raise InputError(f"{t!r} must be a temperature in °C {_CALIBRATION_REFIT}", where=where)
+        limits.check(float(t), limits.OUTSIDE_AIR_C, where)
     quality = table.get("quality", "good")
     if quality not in ("good", "rough"):
         raise InputError(

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+from pathlib import Path
 
 import numpy as np
 import pint
@@ -392,3 +393,20 @@ def _toml(path) -> dict:
         doc = tomllib.load(f)
     doc.pop("calibration", None)
     return doc
+
+
+def test_a_calibration_of_a_house_since_changed_is_not_used(tmp_path):
+    """The fit's factors belong to the envelope it was fitted on: after the file's air
+    changes go from 0.75 to 1.5 per hour, the geometry at the record's conditions no
+    longer matches the stored one and the table is not used, with the command to refit."""
+    h = _calibrated(tmp_path)
+    assert hm.build(h).calibrated and hm.geometry_change(h) is None
+    text = Path(h.path).read_text(encoding="utf-8")
+    changed = tmp_path / "changed.toml"
+    changed.write_text(text.replace("changes_per_hour = 0.75", "changes_per_hour = 1.5"))
+    h2 = house.read(changed)
+    assert not hm.build(h2).calibrated
+    note = hm.calibration_warning(h2)
+    assert note == hm.calibration_note(h2, "two-node")
+    assert "has changed since its [calibration] was fitted" in note
+    assert "K to outside air at the record's conditions" in note and "refit" in note

@@ -124,6 +124,8 @@ def calibration_of(
         return None
     if kind is not None and cal["model"] != kind:
         return None
+    if geometry_change(house) is not None:
+        return None
     g = cal.get("coupling_scale", 1.0) if cal["model"] == "two-node" else 1.0
     rms, noise = cal.get("rms_k"), cal.get("noise_k")
     return Calibration(
@@ -141,6 +143,47 @@ def calibration_of(
         record=cal.get("record"),
         fit_date=cal.get("fit_date"),
     )
+
+
+#: the geometry at the record's conditions may differ from the one stored with the fit by
+#: this share before the house counts as changed since the fit (the stored values carry
+#: 5 significant digits and the record's mean temperature 3: far under it; a cover, an
+#: air-change rate or a floor changed in the file moves K or C by more)
+GEOMETRY_CHANGED_SHARE = 0.01
+
+
+def geometry_change(house: House) -> str | None:
+    """What changed in the house file since a format-2 fit, or None.
+
+    The geometry's conductance to the outside air and its C, rebuilt at the record's
+    conditions (``record_wind_m_s``, ``record_mean_outside_c``), against the values
+    stored beside the fit; a table without the record's conditions is not checked.
+    """
+    cal = house.calibration
+    wind, mean = cal.get("record_wind_m_s"), cal.get("record_mean_outside_c")
+    if wind is None or mean is None:
+        return None
+    cond = network.conductances(
+        house,
+        wind_m_s=float(wind),
+        curtain_closed=True,
+        mean_radiant_temp_c=float(mean) - 5.0,
+        cover_temp_c=float(mean),
+    )
+    caps = network.capacities(house, rho_cp_j_m3k=cond.rho_cp_j_m3k)
+    c_now = caps.total_j_per_k
+    if cal["model"] == "lumped":
+        c_now = network.lumped_reduction(cond, caps).capacitance_j_per_k
+    for what, now, then, unit, scale in (
+        ("K to outside air", cond.outside_w_per_k, cal["geometry_k_outside_w_per_k"], "W/K", 1.0),
+        ("C", c_now, cal["geometry_c_j_per_k"], "MJ/K", 1e6),
+    ):
+        if abs(now / float(then) - 1.0) > GEOMETRY_CHANGED_SHARE:
+            return (
+                f"the geometry's {what} at the record's conditions is {now / scale:,.4g} {unit} "
+                f"now, {float(then) / scale:,.4g} {unit} when it was fitted"
+            )
+    return None
 
 
 def refit_command(house: House) -> str:
@@ -182,6 +225,12 @@ def calibration_note(house: House, kind: ModelKind, use: bool = True) -> str | N
             f"(it reads {CALIBRATION_FORMAT}): not used, the geometry's K and C are; refit: "
             + refit_command(house)
         )
+    changed = geometry_change(house)
+    if changed is not None:
+        return (
+            f"the house file has changed since its [calibration] was fitted ({changed}): not "
+            "used, the geometry's K and C are; refit: " + refit_command(house)
+        )
     fitted = calibration_of(house, use, kind)
     if fitted is None:
         other = cal["model"]
@@ -208,11 +257,16 @@ def calibration_note(house: House, kind: ModelKind, use: bool = True) -> str | N
 
 def calibration_warning(house: House, use: bool = True) -> str | None:
     """`calibration_note`'s line when the house file holds a [calibration] this version
-    will not use (an older or unknown format; the run goes on with the geometry), for
-    the reports to show as a warning rather than a note; else None."""
+    will not use (an older or unknown format, or a house changed since the fit; the run
+    goes on with the geometry), for the reports to show as a warning rather than a
+    note; else None."""
     cal = house.calibration
-    if not (use and cal) or cal.get("format") == CALIBRATION_FORMAT:
+    if not (use and cal):
         return None
+    if cal.get("format") == CALIBRATION_FORMAT:
+        if geometry_change(house) is None:
+            return None
+        return calibration_note(house, cal["model"], use)
     if "format" not in cal and not _older_format(cal):
         return None  # a table with nothing fitted in it: a plain note
     return calibration_note(house, "two-node", use)
