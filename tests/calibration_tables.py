@@ -31,6 +31,7 @@ def format2(
     conduction, sky part and C are the given factors × the geometry's at `RECORD`."""
     h = house.from_mapping(tomllib.loads(text), source="x")
     geo = hm.build(h, kind=model, use_calibration=False, **RECORD)
+    sky_geo = float(geo.network.boundary_w_per_k[:, 1].sum())  # the sky columns, as fitted
     lines = [
         "[calibration]",
         "format = 2",
@@ -38,10 +39,10 @@ def format2(
         'anchor = "measured power"',
         f'quality = "{quality}"',
         f"k_outside_w_per_k = {conduction * geo.k_conduction_w_per_k!r}",
-        f"k_sky_w_per_k = {sky * geo.k_sky_w_per_k!r}",
+        f"k_sky_w_per_k = {sky * sky_geo!r}",
         f"c_j_per_k = {capacity * geo.c_j_per_k!r}",
         f"geometry_k_outside_w_per_k = {geo.k_conduction_w_per_k!r}",
-        f"geometry_k_sky_w_per_k = {geo.k_sky_w_per_k!r}",
+        f"geometry_k_sky_w_per_k = {sky_geo!r}",
         f"geometry_c_j_per_k = {geo.c_j_per_k!r}",
         f"record_wind_m_s = {RECORD['wind_m_s']!r}",
         f"record_mean_outside_c = {RECORD['air_temp_c']!r}",

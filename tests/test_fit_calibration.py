@@ -39,7 +39,8 @@ def _fit(path: str, *, quality: str = "good", noise: float = 0.1) -> FitResult:
         air_temp_c=MEAN_OUT,
         use_calibration=False,
     )
-    k_o, k_s, c = geo.k_conduction_w_per_k, geo.k_sky_w_per_k, geo.c_j_per_k
+    k_o, c = geo.k_conduction_w_per_k, geo.c_j_per_k
+    k_s = float(geo.network.boundary_w_per_k[:, 1].sum())  # the sky columns, as fitted
     fit_out, fit_sky, fit_c = 1.1 * k_o, 0.6 * k_s, 0.9 * c
     g = geo.capacities.air_mass_w_per_k
     params = (

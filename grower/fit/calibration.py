@@ -97,7 +97,8 @@ def _parts(result: FitResult) -> dict[str, tuple[float, float, float]]:
     both beside the geometry's value at the record's conditions. A fit that scaled every
     conductance by one factor reports K only: its two parts are that factor times the
     geometry's (rebuilt here at the record's conditions, as `grower.fit.data.prepare`
-    builds them), with K's relative half-width.
+    builds them), with K's relative half-width. The sky part is the sum of the network's
+    sky columns (cover faces and floor to the sky), as the estimator reports it.
     """
     fit = result.chosen
     c = fit.get("c_j_per_k")
@@ -124,7 +125,7 @@ def _parts(result: FitResult) -> dict[str, tuple[float, float, float]]:
     factor, rel = k.value / geometry.k_w_per_k, k.relative
     for name, g in (
         ("k_outside_w_per_k", geometry.k_conduction_w_per_k),
-        ("k_sky_w_per_k", geometry.k_sky_w_per_k),
+        ("k_sky_w_per_k", float(np.asarray(geometry.network.boundary_w_per_k)[:, 1].sum())),
     ):
         out[name] = (factor * g, rel * factor * g, g)
     return out
