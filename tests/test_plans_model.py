@@ -382,7 +382,9 @@ def test_an_older_calibration_is_not_used(tmp_path):
     assert hm.calibration_of(h) is None and hm.calibrated_heater_output(h) is None
     note = hm.calibration_note(h, "two-node")
     assert note == hm.calibration_warning(h)
-    assert "older grower fit (K = 969 W/K, one factor on every conductance): not used" in note
+    ratio = 969.0 / network.describe(h).calm.total_w_per_k  # what was found, unit-free
+    found = f"older grower fit (K × {ratio:.2f} the geometry's calm-night K, one factor on"
+    assert found in note and "every conductance): not used" in note
     assert f"refit: grower fit {path} --log logger-gable-house.csv --write" in note
 
 
@@ -409,4 +411,5 @@ def test_a_calibration_of_a_house_since_changed_is_not_used(tmp_path):
     note = hm.calibration_warning(h2)
     assert note == hm.calibration_note(h2, "two-node")
     assert "has changed since its [calibration] was fitted" in note
-    assert "K to outside air at the record's conditions" in note and "refit" in note
+    assert "K to outside air at the record's conditions is" in note and "higher than" in note
+    assert "refit" in note

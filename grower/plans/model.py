@@ -174,14 +174,16 @@ def geometry_change(house: House) -> str | None:
     c_now = caps.total_j_per_k
     if cal["model"] == "lumped":
         c_now = network.lumped_reduction(cond, caps).capacitance_j_per_k
-    for what, now, then, unit, scale in (
-        ("K to outside air", cond.outside_w_per_k, cal["geometry_k_outside_w_per_k"], "W/K", 1.0),
-        ("C", c_now, cal["geometry_c_j_per_k"], "MJ/K", 1e6),
+    for what, now, then in (
+        ("K to outside air", cond.outside_w_per_k, cal["geometry_k_outside_w_per_k"]),
+        ("C", c_now, cal["geometry_c_j_per_k"]),
     ):
-        if abs(now / float(then) - 1.0) > GEOMETRY_CHANGED_SHARE:
+        change = now / float(then) - 1.0
+        if abs(change) > GEOMETRY_CHANGED_SHARE:
+            way = "higher" if change > 0 else "lower"
             return (
-                f"the geometry's {what} at the record's conditions is {now / scale:,.4g} {unit} "
-                f"now, {float(then) / scale:,.4g} {unit} when it was fitted"
+                f"the geometry's {what} at the record's conditions is {abs(change):.0%} {way} "
+                "than when it was fitted"
             )
     return None
 
@@ -210,7 +212,10 @@ def calibration_note(house: House, kind: ModelKind, use: bool = True) -> str | N
         )
     if _older_format(cal):
         k = cal.get("k_w_per_k")
-        found = f"K = {float(k):,.0f} W/K, " if isinstance(k, int | float) else ""
+        found = ""
+        if isinstance(k, int | float) and k > 0:
+            ratio = float(k) / network.describe(house).calm.total_w_per_k
+            found = f"K × {ratio:.2f} the geometry's calm-night K, "
         return (
             f"the house file's [calibration] is from an older grower fit ({found}one factor "
             "on every conductance): not used, the geometry's K and C are — that fit took the "

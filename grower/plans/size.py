@@ -334,11 +334,12 @@ def _calibration_notes(
         f"{': ' + src if src else ''}; the fit gave × {fk:.2f} and × {fs:.2f})"
     ]
     if fk < 1.0 or fs < 1.0:
-        low = " and ".join(name for name, f in (("conduction", fk), ("sky part", fs)) if f < 1.0)
+        low = [name for name, f in (("conduction", fk), ("sky part", fs)) if f < 1.0]
+        verb = "is" if len(low) == 1 else "are"
         notes.append(
-            f"a heater is not sized below the handbook figure on a fit: the fitted {low} "
-            "below the geometry's is kept at the geometry's (a record's warm soil, cloud or "
-            "condensation is not the design night's)"
+            f"a heater is not sized below the handbook figure on a fit: the fitted "
+            f"{' and '.join(low)} {verb} below the geometry's, so sized at the geometry's (a "
+            "record's warm soil, cloud or condensation is not the design night's)"
         )
     if cal.rough:
         notes.append(
