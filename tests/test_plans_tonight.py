@@ -85,6 +85,20 @@ def test_an_assumed_start_below_the_alarm_asks_for_a_reading(capsys):
     assert "not read" not in capsys.readouterr().out
 
 
+def test_a_read_air_with_an_assumed_soil_asks_for_the_soil(capsys):
+    # the two-node house's night rests on the soil as much as on the air: with the air
+    # read and the soil assumed, the verdict says which reading is missing (US: 2 in)
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", "8C", "--brief"]
+    main(argv)
+    out = " ".join(capsys.readouterr().out.split())
+    assert "The soil was assumed at the deep-ground temperature: a reading at 5 cm" in out
+    main([*argv, "--units", "us"])
+    assert "a reading at 2 in (--soil-now)" in " ".join(capsys.readouterr().out.split())
+    main([*argv, "--soil-now", "9C"])  # both read: no such line
+    assert "assumed" not in capsys.readouterr().out
+
+
 OLDER_CALIBRATION = (
     '\n[calibration]\nmodel = "two-node"\nk_w_per_k = 969.0\nc_j_per_k = 9.0e7\n'
     'record = "logger-gable-house.csv"\n'

@@ -15,7 +15,7 @@ from typing import Any
 
 from grower import fuels, network, safety, sky, vaporisation
 from grower.house import House
-from grower.units import W_PER_BTU_H
+from grower.units import M_S_PER_MPH, W_PER_BTU_H, Note
 
 #: heater output over the design heat loss (common practice, no source: sizing methods
 #: add 10–25 % for pick-up after a setback, leakage as the cover ages, dirty burners)
@@ -262,8 +262,13 @@ def size(
         "grower adds only the sky's excess below it",
         "heat stored in soil and water and heat from the deep ground ignored (they help for "
         "hours, not a whole cold night)",
-        "outside films at the design wind: stronger wind than 15 mph (6.7 m/s) adds, calmer "
-        "takes away; air exchange raised above 15 mph",
+        Note(
+            "outside films at the design wind: stronger wind than {tables} adds, calmer takes "
+            "away; air exchange raised above {tables}",
+            tables=("speed", 15 * M_S_PER_MPH, 1),
+            us_template="outside films at the design wind: stronger wind than 15 mph adds, "
+            "calmer takes away; air exchange raised above 15 mph",
+        ),
     ]
     if house.curtain:
         notes.append("energy curtain taken as open (cautious); drawn, it saves the amount shown")

@@ -24,6 +24,7 @@ from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.units import Note
 
 #: step of the solver's grid [s]; the forecast's own samples are added to it. The
 #: solution is exact for piecewise-linear inputs, so the step only sets the resolution of
@@ -289,20 +290,27 @@ def tonight(
     if soil_assumed:
         soil_now_c = deep
         assumptions.append(
-            f"soil (top 10 cm) and water assumed at {soil_now_c:.1f} °C now, the deep-ground "
-            "temperature"
-            + (
-                " (itself assumed: set [floor] deep_ground_temperature)"
-                if mdl.capacities.deep_ground_assumed
-                else ""
+            Note(
+                "soil (top {top}) and water assumed at {soil} now, the deep-ground temperature"
+                + (
+                    " (itself assumed: set [floor] deep_ground_temperature)"
+                    if mdl.capacities.deep_ground_assumed
+                    else ""
+                )
+                + "; measure it at {depth} and give --soil-now",
+                top=("cm", 0.10),
+                soil=("temp", soil_now_c),
+                depth=("cm", 0.05),
             )
-            + "; measure it at 5 cm and give --soil-now"
         )
     if inside_now_c is None:
         inside_now_c = hm.quasi_steady_air(mdl, bc, gains, soil_now_c)
         assumptions.append(
-            f"inside air assumed at {inside_now_c:.1f} °C now (in balance with the soil and "
-            "the outside); give --inside-now with a reading"
+            Note(
+                "inside air assumed at {air} now (in balance with the soil and the outside); "
+                "give --inside-now with a reading",
+                air=("temp", inside_now_c),
+            )
         )
     for note in weather.assumptions(forecast):
         assumptions.append(note)
@@ -347,7 +355,7 @@ def tonight(
         if measured is not None:
             q = measured
             assumptions.append(
-                f"installed heater output {q / 1e3:.1f} kW as measured by grower fit"
+                Note("installed heater output {q} as measured by grower fit", q=("power", q))
             )
         run = runs.thermostat(mdl, b.times_s, bc, x0, setpoint, q, gains)
         c = solver.analyse(run, threshold_c, b.plant_offset_k)

@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 import datetime as dt
-import re
 from typing import Any
 
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wire
 from grower.report import chart
 from grower.report import vapour as vapour_report
-from grower.report.common import iso, plain, render_cautions
+from grower.report.common import Rows, iso, keep_units, plain, print_line, render_cautions
 from grower.report.quantities import (
     capacity_text,
     conductance_text,
@@ -17,7 +16,7 @@ from grower.report.quantities import (
     fuel_text,
     power_text,
 )
-from grower.units import UnitSystem, show_temperature, show_temperature_difference
+from grower.units import Note, UnitSystem, note_text, show_temperature, show_temperature_difference
 
 
 def tonight_json(r: TonightResult) -> dict[str, Any]:
@@ -158,40 +157,6 @@ ACTION_WORDS = {
 }
 
 
-_NUMBER_UNIT = re.compile(r"(\d) (?=°|K\b|kW|Btu|h\b|min\b|L\b|gal\b|therm|W\b|kWh)")
-
-
-def keep_units(text: str) -> str:
-    """No-break spaces between a number and its unit, so wrapping never splits them."""
-    return _NUMBER_UNIT.sub("\\1\u00a0", text)
-
-
-def print_line(console, markup: str) -> None:
-    """Print `markup`, wrapped at ordinary spaces only: a number keeps its unit.
-
-    Rich wraps at any whitespace, the no-break space included, so the breaks are chosen
-    here and each piece is printed unwrapped (no-break spaces shown as spaces).
-    """
-    from rich.text import Text
-
-    text = Text.from_markup(markup)
-    plain_text, width = text.plain, max(console.width, 20)
-    cuts, start, last_space = [], 0, None
-    for i, ch in enumerate(plain_text):
-        if ch == " ":
-            last_space = i
-        if i - start >= width and last_space is not None and last_space > start:
-            cuts.append(last_space + 1)
-            start, last_space = last_space + 1, None
-    for piece in text.divide(cuts):
-        piece.rstrip()
-        console.print(
-            Text(piece.plain.replace("\u00a0", " "), spans=piece.spans, style=piece.style),
-            no_wrap=True,
-            crop=False,
-        )
-
-
 def action_line(r: TonightResult, system: UnitSystem) -> str:
     """Line 1: what to do and by when, for the house as equipped."""
     return keep_units(_action_line(r, system))
@@ -287,7 +252,15 @@ def _air_assumed(r: TonightResult) -> bool:
 
 def reading_line(r: TonightResult, system: UnitSystem) -> str | None:
     """When the start was assumed, which reading would change the answer."""
-    if r.safe or not _air_assumed(r):
+    if r.safe:
+        return None
+    if not _air_assumed(r):
+        if r.soil_assumed and r.model == "two-node":
+            return Note(
+                "The soil was assumed at the deep-ground temperature: a reading at {depth} "
+                "(--soil-now) can change this answer.",
+                depth=("cm", 0.05),
+            ).text(system)
         return None
     if r.below_now:
         T = show_temperature(r.initial_air_c, system).text(1)
@@ -333,16 +306,13 @@ def _verdict_text(v: Verdict, r: TonightResult, system: UnitSystem) -> str:
 
 
 def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
-    from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     print_verdict(console, r, system)
     plain(console, f"{alarm_text(r, system)}", "dim")
     console.print()
     v = r.verdict
-    table = Table(show_header=False, box=None, pad_edge=False)
-    table.add_column(style="dim", no_wrap=True)
-    table.add_column()
+    table = Rows()
     table.add_row(
         "night",
         f"{r.start:%a %d %b %H:%M} to {_clock(r.end, r.start)}"
@@ -364,10 +334,10 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     if r.heater is not None:
         h = r.heater
         if h.holds:
-            text = f"[green]holds it[/green] ({power_text(h.output_w, system)} output)"
+            text = f"[green]holds it[/green] with {power_text(h.output_w, system)} output"
         else:
             text = (
-                f"[bold red]does not hold it[/bold red]: at full output ({power_text(h.output_w, system)}) "
+                f"[bold red]does not hold it[/bold red]: at its full {power_text(h.output_w, system)} "
                 f"the plants fall to {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
             )
         table.add_row("installed heater", text)
@@ -426,10 +396,10 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
         plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
         if a == r.calibration_warning:
-            plain(console, f"! {a}", "yellow")
+            plain(console, f"! {note_text(a, system)}", "yellow")
         else:
-            plain(console, f"· {a}", "dim")
-    render_cautions(console, r.cautions)
+            plain(console, f"· {note_text(a, system)}", "dim")
+    render_cautions(console, r.cautions, system)
 
 
 def print_verdict(console, r: TonightResult, system: UnitSystem) -> None:
@@ -536,7 +506,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
         if r.cautions:
             sets.setdefault(tuple(r.cautions), []).append(r.house_name)
     for cautions, names in sets.items():
-        render_cautions(console, cautions, ", ".join(names))
+        render_cautions(console, cautions, system, ", ".join(names))
 
 
 def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
@@ -556,5 +526,5 @@ def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
         threshold=conv(r.threshold_c),
         crossing=r.verdict.crossing_time,
         unit=show_temperature(0, system).unit,
-        title=f"{r.house_name} — {r.crop or 'threshold'}: tonight with no heat",
+        title=f"{r.house_name} — {r.crop or 'your alarm'}: tonight with no heat",
     )
