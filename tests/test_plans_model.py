@@ -40,38 +40,47 @@ def _constant_night(tmp_path, *, temp_c=-5.0, dew_c=-8.0, cloud=0, wind=1.0, hou
     return str(path)
 
 
-def _odes(cond: network.Conductances, caps: network.Capacities, t_out, t_sky):
+def _odes(
+    cond: network.Conductances,
+    caps: network.Capacities,
+    t_out,
+    t_sky,
+    factors: tuple[float, float, float, float] = (1.0, 1.0, 1.0, 1.0),
+):
     """The two-node equations as `grower.network`'s docstring writes them, by hand;
-    `t_sky` a function of time [s]."""
-    g, k_g = caps.air_mass_w_per_k, caps.ground_w_per_k
+    `t_sky` a function of time [s]. `factors` (conduction, sky, capacity, coupling) are a
+    calibration's, applied here by hand: the conduction on the outside air, the deep
+    ground and the coupling, the sky on both sky paths, the capacity on both nodes."""
+    fk, fs, fc, fg = factors
+    g, k_g = caps.air_mass_w_per_k * fk * fg, caps.ground_w_per_k * fk
+    c_a, c_m = caps.air_j_per_k * fc, caps.mass_j_per_k * fc
 
     def rhs(t, x):
         t_a, t_m = x
         t_s = t_sky(t)
         q_a = (
-            cond.outside_w_per_k * (t_out - t_a)
-            + cond.cover_sky_w_per_k * (t_s - t_a)
+            fk * cond.outside_w_per_k * (t_out - t_a)
+            + fs * cond.cover_sky_w_per_k * (t_s - t_a)
             + g * (t_m - t_a)
         )
         q_m = (
             g * (t_a - t_m)
-            + cond.floor_sky_w_per_k * (t_s - t_m)
+            + fs * cond.floor_sky_w_per_k * (t_s - t_m)
             + k_g * (caps.deep_ground_c - t_m)
         )
-        return [q_a / caps.air_j_per_k, q_m / caps.mass_j_per_k]
+        return [q_a / c_a, q_m / c_m]
 
     return rhs
 
 
-def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
-    # An independent integration (scipy's RK45 at rtol 1e-10) of the network's equations,
-    # written here from the conductances and capacities, on a constant clear night: the
-    # crossing time that `tonight` reports (to the second) and the peak heat to hold.
+def _constant_night_tonight(capsys, tmp_path, house_path: str) -> dict:
+    """`tonight --json` on `_constant_night` (−5 °C, wind 1 m/s), alarm 1 °C, from 8 °C air
+    and 9 °C soil at 16:00."""
     path = _constant_night(tmp_path)
-    d = _run_json(
+    return _run_json(
         capsys,
         "tonight",
-        str(EXAMPLES / "gable-house.toml"),
+        house_path,
         "--threshold",
         "1C",
         "--forecast",
@@ -83,10 +92,11 @@ def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
         "--start",
         "2026-12-03T16:00",
     )
-    h = house.read(EXAMPLES / "gable-house.toml")
-    mdl = hm.build(h, wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
-    # the sky the run used, from its effective temperature (the hour term of Martin &
-    # Berdahl moves it through the night), linear between the series' times
+
+
+def _sky_of_series(d: dict, mdl) -> tuple[np.ndarray, np.ndarray]:
+    """The sky the run used [s, °C], from its effective temperature (the hour term of
+    Martin & Berdahl moves it through the night), linear between the series' times."""
     k_o, k_s = mdl.k_conduction_w_per_k, mdl.k_sky_w_per_k
     start = dt.datetime.fromisoformat(d["start"])
     ts = np.array(
@@ -95,17 +105,36 @@ def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
     skies = np.array(
         [(r["effective_outside_c"] * (k_o + k_s) - k_o * -5.0) / k_s for r in d["series"]]
     )
+    return ts, skies
+
+
+def _crossing_checked(d: dict, rhs) -> float:
+    """Assert `tonight`'s crossing is solve_ivp's on `rhs` (to the second); the alarm air."""
     offset = d["series"][5]["air_c"] - d["series"][5]["plant_c"]
     t_alarm_air = d["threshold_c"] + offset
-    rhs = _odes(mdl.conductances, mdl.capacities, -5.0, lambda t: np.interp(t, ts, skies))
 
     def crossing(_t, x):
         return x[0] - t_alarm_air
 
     crossing.terminal, crossing.direction = True, -1
     sol = solve_ivp(rhs, (0, 20 * 3600), [8.0, 9.0], events=crossing, rtol=1e-10, atol=1e-10)
+    start = dt.datetime.fromisoformat(d["start"])
     got = (dt.datetime.fromisoformat(d["crossing_time"]) - start).total_seconds()
     assert got == pytest.approx(float(sol.t_events[0][0]), abs=1.0)  # printed to the second
+    return t_alarm_air
+
+
+def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
+    # An independent integration (scipy's RK45 at rtol 1e-10) of the network's equations,
+    # written here from the conductances and capacities, on a constant clear night: the
+    # crossing time that `tonight` reports (to the second) and the peak heat to hold.
+    d = _constant_night_tonight(capsys, tmp_path, str(EXAMPLES / "gable-house.toml"))
+    h = house.read(EXAMPLES / "gable-house.toml")
+    mdl = hm.build(h, wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
+    ts, skies = _sky_of_series(d, mdl)
+    rhs = _odes(mdl.conductances, mdl.capacities, -5.0, lambda t: np.interp(t, ts, skies))
+    t_alarm_air = _crossing_checked(d, rhs)
+    start = dt.datetime.fromisoformat(d["start"])
 
     # hold: the air held at the alarm, the mass floats; the heat is the air's balance
     g = mdl.capacities.air_mass_w_per_k
@@ -252,66 +281,17 @@ def _calibrated(tmp_path, model: str = "two-node", **kw) -> house.House:
 def test_tonight_on_a_calibration_against_solve_ivp(capsys, tmp_path):
     # The same independent integration as above, of the geometry's network at the night's
     # own wind with the calibration's factors applied by hand: the conduction (outside
-    # air, deep ground, coupling) × 1.2, the sky columns × 0.5, every capacity × 0.8 and
+    # air, deep ground, coupling) × 1.2, the sky paths × 0.5, every capacity × 0.8 and
     # the coupling × 1.5 more. The crossing `tonight` reports must be this network's.
     h = _calibrated(tmp_path)
-    path = _constant_night(tmp_path)
-    d = _run_json(
-        capsys,
-        "tonight",
-        h.path,
-        "--threshold",
-        "1C",
-        "--forecast",
-        path,
-        "--inside-now",
-        "8C",
-        "--soil-now",
-        "9C",
-        "--start",
-        "2026-12-03T16:00",
-    )
+    d = _constant_night_tonight(capsys, tmp_path, h.path)
     assert d["calibrated"] is True
     kw = dict(wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
     geo = hm.build(h, use_calibration=False, **kw)
-    fk, fs, fc, fg = (FACTORS[k] for k in ("conduction", "sky", "capacity", "coupling"))
-    c, m = geo.conductances, geo.capacities
-    cal = hm.build(h, **kw)
-    k_o, k_s = cal.k_conduction_w_per_k, cal.k_sky_w_per_k
-    assert k_o == pytest.approx(fk * c.outside_w_per_k, rel=1e-12)
-    start = dt.datetime.fromisoformat(d["start"])
-    ts = np.array(
-        [(dt.datetime.fromisoformat(r["time"]) - start).total_seconds() for r in d["series"]]
-    )
-    skies = np.array(
-        [(r["effective_outside_c"] * (k_o + k_s) - k_o * -5.0) / k_s for r in d["series"]]
-    )
-    g, k_g = m.air_mass_w_per_k * fk * fg, m.ground_w_per_k * fk
-    c_a, c_m = m.air_j_per_k * fc, m.mass_j_per_k * fc
-
-    def rhs(t, x):
-        t_a, t_m = x
-        t_s = np.interp(t, ts, skies)
-        q_a = (
-            fk * c.outside_w_per_k * (-5.0 - t_a)
-            + fs * c.cover_sky_w_per_k * (t_s - t_a)
-            + g * (t_m - t_a)
-        )
-        q_m = (
-            g * (t_a - t_m) + fs * c.floor_sky_w_per_k * (t_s - t_m) + k_g * (m.deep_ground_c - t_m)
-        )
-        return [q_a / c_a, q_m / c_m]
-
-    offset = d["series"][5]["air_c"] - d["series"][5]["plant_c"]
-    t_alarm_air = d["threshold_c"] + offset
-
-    def crossing(_t, x):
-        return x[0] - t_alarm_air
-
-    crossing.terminal, crossing.direction = True, -1
-    sol = solve_ivp(rhs, (0, 20 * 3600), [8.0, 9.0], events=crossing, rtol=1e-10, atol=1e-10)
-    got = (dt.datetime.fromisoformat(d["crossing_time"]) - start).total_seconds()
-    assert got == pytest.approx(float(sol.t_events[0][0]), abs=1.0)  # printed to the second
+    ts, skies = _sky_of_series(d, hm.build(h, **kw))
+    factors = tuple(FACTORS[k] for k in ("conduction", "sky", "capacity", "coupling"))
+    sky = lambda t: np.interp(t, ts, skies)  # noqa: E731
+    _crossing_checked(d, _odes(geo.conductances, geo.capacities, -5.0, sky, factors))
 
 
 def test_build_scales_the_conduction_and_the_sky_apart(tmp_path):
