@@ -167,6 +167,9 @@ class StockResult:
     forecast_age_s: float | None
     forecast_warnings: tuple[str, ...]
     cautions: tuple[str, ...]
+    #: the house file's [calibration] not used (an older format): the line, also in
+    #: `assumptions`, that the report shows as a warning
+    calibration_warning: str | None = None
 
 
 # ---------------------------------------------------------------- steps
@@ -615,4 +618,5 @@ def stock(
         cautions=safety.cautions(
             fuel, heat.appliance_key, heat.input_w or (peak / eff or None), short=True
         ),
+        calibration_warning=hm.calibration_warning(house, use_calibration),
     )

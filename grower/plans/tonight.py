@@ -125,6 +125,9 @@ class TonightResult:
     cautions: tuple[str, ...]
     vapour: Any = None  # grower.vaporisation.VapourCheck at the night's coldest hour
     chance: Any = None  # grower.plans.chance.Chance: the members of the night, or None
+    #: the house file's [calibration] not used (an older format): the line, also in
+    #: `assumptions`, that the report shows as a warning
+    calibration_warning: str | None = None
 
     @property
     def safe(self) -> bool:
@@ -449,6 +452,7 @@ def tonight(
         effective_outside_c=b.effective_c,
         air_c=air[0],
         plant_c=air[0] - b.plant_offset_k,
+        calibration_warning=hm.calibration_warning(house, use_calibration),
         colder_air_c=air[1],
         cautions=cautions,
         vapour=vaporisation.house_check(
