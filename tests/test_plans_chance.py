@@ -4,6 +4,7 @@ the heater's search against running every member, monotonicity, the JSON and the
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 import math
 from pathlib import Path
@@ -31,7 +32,8 @@ def _constant_night(mdl: hm.Model, outside_c: float, sky_c: float, offset_k: flo
     n = len(times)
     out, sky = np.full(n, outside_c), np.full(n, sky_c)
     return hm.Boundary(
-        times=times,
+        utc_s=hm.epoch_s(times),
+        tz=dt.UTC,
         times_s=np.arange(n) * 600.0,
         outside_c=out,
         sky_c=sky,
