@@ -47,3 +47,41 @@ def test_report_is_exactly_as_expected(name, capsys, monkeypatch):
         path.write_text(out, encoding="utf-8")
     expected = path.read_text(encoding="utf-8")
     assert out == expected, f"{name}: the report changed; see the module docstring"
+
+
+#: a number followed by an SI unit: none may show on a US screen (material names such as
+#: "twin-wall-polycarbonate-8mm" are names, not quantities: no space before the unit)
+SI_UNIT = r"\d ?(°C|kW\b|W/K|MJ|MJ/K|L\b|cm|km|m/s|m²|m³|kg\b|W\b)"
+US_SCREENS = {
+    "tonight": ["tonight", "examples/gable-house.toml", "--crop", "tomato"],
+    "tonight, several houses": [
+        "tonight",
+        "examples/gable-house.toml",
+        "examples/hoop-tunnel.toml",
+        "examples/glass-range.toml",
+        "--crop",
+        "tomato",
+    ],
+    "stock": ["stock", "examples/gable-house.toml", "--crop", "tomato", "--setpoint", "50F"],
+    "size": ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C"],
+    "house": ["house", "examples/hoop-tunnel.toml"],
+}
+
+
+@pytest.mark.parametrize("name", sorted(US_SCREENS))
+@pytest.mark.parametrize("columns", [60, 100])
+def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch):
+    import re
+
+    argv = list(US_SCREENS[name])
+    if argv[0] == "tonight":
+        argv += ["--forecast", "examples/forecast-cold-night.csv"]
+    if argv[0] == "stock":
+        argv += ["--forecast", "examples/forecast-cold-snap.csv"]
+    monkeypatch.chdir(ROOT)
+    monkeypatch.setenv("COLUMNS", str(columns))
+    main([*argv, "--units", "us"])
+    out = capsys.readouterr().out
+    assert "°F" in out or name == "house"
+    found = [line for line in out.splitlines() if re.search(SI_UNIT, line)]
+    assert not found, f"{name} at {columns} columns shows SI units: {found}"

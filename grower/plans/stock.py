@@ -30,6 +30,7 @@ from grower.house import House
 from grower.plans import model as hm
 from grower.plans import thermostat_run as tr
 from grower.plans.tonight import when
+from grower.units import Note
 
 #: refill level when none is given [%]: the cautious end of the trade's 20–30 %
 DEFAULT_RESERVE_PCT = 30.0
@@ -105,6 +106,17 @@ class Shortfall:
 
 
 @dataclass(frozen=True)
+class AfterRunOut:
+    """The house once the fuel has run out: the same forecast, the heater off for good."""
+
+    min_air_c: float
+    min_plant_c: float
+    coldest_at: dt.datetime
+    hours_below_setpoint: float
+    crop_alarm_at: dt.datetime | None  # the plants first below the crop's alarm, if a crop
+
+
+@dataclass(frozen=True)
 class Heating:
     fuel: fuels.Fuel
     appliance: str  # its label
@@ -136,6 +148,7 @@ class StockResult:
     on_hand: fuels.FuelStock | None
     runs_out_at: dt.datetime | None
     lasts_days: float | None
+    after_run_out: AfterRunOut | None
     containers: tuple[fuels.ContainerCount, ...]
     price: float | None
     cost: float | None
@@ -153,6 +166,9 @@ class StockResult:
     forecast_age_s: float | None
     forecast_warnings: tuple[str, ...]
     cautions: tuple[str, ...]
+    #: the house file's [calibration] not used (an older format): the line, also in
+    #: `assumptions`, that the report shows as a warning
+    calibration_warning: str | None = None
 
 
 # ---------------------------------------------------------------- steps
@@ -188,7 +204,7 @@ def heating(
     measured = hm.calibrated_heater_output(house, use_calibration) if house.heaters else None
     if measured is not None:
         q_max = measured
-        notes.append(f"heater output {q_max / 1e3:.1f} kW as measured by grower fit")
+        notes.append(Note("heater output {q} as measured by grower fit", q=("power", q_max)))
     if not house.heaters:
         notes.append("no heater in the house file: an unlimited heater holds the setpoints")
     out = None if math.isinf(q_max) else q_max
@@ -391,6 +407,26 @@ def crop_check(run: tr.Run, crop: str | CropAlarm, alarm_c: float | None = None)
     )
 
 
+def after_run_out(dry: tr.Run, t_out_ns: int, crop: CropAlarm | None) -> AfterRunOut:
+    """What the house does from `t_out_ns` [ns since 1970 UTC] on in `dry`, the run whose
+    heater stops there."""
+    after = dry.times_ns >= t_out_ns
+    k = int(np.flatnonzero(after)[np.argmin(dry.air_c[after])])
+    below = not_held(dry) & after[:-1]
+    alarm_at = None
+    if crop is not None:
+        hit = (dry.plant_c[:-1] < crop.alarm_c) & after[:-1]
+        if hit.any():
+            alarm_at = dry.time(dry.times_ns[int(np.argmax(hit))])
+    return AfterRunOut(
+        min_air_c=float(dry.air_c[after].min()),
+        min_plant_c=float(dry.plant_c[after].min()),
+        coldest_at=dry.time(dry.times_ns[k]),
+        hours_below_setpoint=float(dry.step_s[below].sum() / 3600.0),
+        crop_alarm_at=alarm_at,
+    )
+
+
 def _last_end(run: tr.Run, short: np.ndarray) -> dt.datetime | None:
     """The end of the last step flagged in `short` (N − 1), or None."""
     if not short.any():
@@ -398,10 +434,14 @@ def _last_end(run: tr.Run, short: np.ndarray) -> dt.datetime | None:
     return run.time(run.times_ns[int(np.flatnonzero(short)[-1]) + 1])
 
 
-def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall, ...]:
-    """What falls short, worst first: the crop, the heater, the fuel, the vapour.
+def shortfalls(
+    run, crop, runs_out, lasts, vap, extra_w=None, after: AfterRunOut | None = None
+) -> tuple[Shortfall, ...]:
+    """What falls short, worst first: the crop, the heater, the fuel, the vapour — the
+    fuel before the heater when the plants reach their alarm once it has run out.
 
-    `extra_w`: the output the heater lacks (an unlimited heater's peak less its own)."""
+    `extra_w`: the output the heater lacks (an unlimited heater's peak less its own);
+    `after`: the house once the fuel has run out."""
     out = []
     if crop is not None and crop.first_at is not None:
         out.append(
@@ -421,7 +461,11 @@ def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall
             )
         )
     if runs_out is not None:
-        out.append(Shortfall("fuel", runs_out, None, lasts))
+        fuel = Shortfall("fuel", runs_out, None, lasts)
+        if after is not None and after.crop_alarm_at is not None:
+            out.insert(1 if out and out[0].kind == "crop" else 0, fuel)
+        else:
+            out.append(fuel)
     if vap.applies and vap.short:
         out.append(Shortfall("vapour", vap.at, None, vap.supply.capacity_w))
     return tuple(out)
@@ -478,18 +522,24 @@ def stock(
     if price is None and house.stock.get("price") is not None and on_hand_text is None:
         price = float(house.stock["price"])
 
-    run = tr.simulate(
-        house,
-        forecast,
-        start,
-        end,
-        setpoint_c=setpoint_c,
-        night_setpoint_c=night_set,
-        q_max_w=math.inf if heat.heater_output_w is None else heat.heater_output_w,
-        kind=kind,
-        use_calibration=use_calibration,
-        progress=progress,
-    )
+    installed = math.inf if heat.heater_output_w is None else heat.heater_output_w
+
+    def simulate(q_max_w: float = installed, **more) -> tr.Run:
+        """The house on its thermostat through this forecast, with heater `q_max_w`."""
+        return tr.simulate(
+            house,
+            forecast,
+            start,
+            end,
+            setpoint_c=setpoint_c,
+            night_setpoint_c=night_set,
+            q_max_w=q_max_w,
+            kind=kind,
+            use_calibration=use_calibration,
+            **more,
+        )
+
+    run = simulate(progress=progress)
     notes += run.notes
     days = daily(run, fuel.j_per(out_unit), eff, price)
     total_j = run.energy_j
@@ -513,6 +563,10 @@ def stock(
     if isinstance(crop, tuple):
         crop = CropAlarm(*crop)
     crop_result = crop_check(run, crop) if crop else None
+    dry = None
+    if runs_out is not None:
+        # the same forecast with the heater stopping when the fuel is gone
+        dry = after_run_out(simulate(heat_until_ns=t_out), t_out, crop)
 
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)
@@ -523,18 +577,7 @@ def stock(
     extra = None
     if below.any() and heat.heater_output_w is not None:
         # the same forecast with an unlimited heater: its peak is the output that holds
-        unlimited = tr.simulate(
-            house,
-            forecast,
-            start,
-            end,
-            setpoint_c=setpoint_c,
-            night_setpoint_c=night_set,
-            q_max_w=math.inf,
-            kind=kind,
-            use_calibration=use_calibration,
-        )
-        extra = max(_holding_peak(unlimited) - heat.heater_output_w, 0.0) or None
+        extra = max(_holding_peak(simulate(math.inf)) - heat.heater_output_w, 0.0) or None
     return StockResult(
         house_name=house.name,
         house_path=house.path,
@@ -556,6 +599,7 @@ def stock(
         on_hand=stock_,
         runs_out_at=runs_out,
         lasts_days=lasts,
+        after_run_out=dry,
         containers=fuels.containers_needed(amount, fuel),
         price=price,
         cost=None if price is None else float(amount.amount) * price,
@@ -565,7 +609,7 @@ def stock(
         order=the_order,
         vapour=vap,
         crop=crop_result,
-        shortfalls=shortfalls(run, crop_result, runs_out, lasts, vap, extra),
+        shortfalls=shortfalls(run, crop_result, runs_out, lasts, vap, extra, dry),
         n_runs=run.n_runs,
         assumptions=tuple(notes),
         forecast_source=forecast.source,
@@ -575,4 +619,5 @@ def stock(
         cautions=safety.cautions(
             fuel, heat.appliance_key, heat.input_w or (peak / eff or None), short=True
         ),
+        calibration_warning=hm.calibration_warning(house, use_calibration),
     )

@@ -26,9 +26,12 @@ import numpy as np
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.units import Note
 
 #: solver grid step [s]
 STEP_S = 600.0
+#: a setpoint no house falls to: the heater never fires [°C]
+OFF_C = -273.15
 
 
 @dataclass(frozen=True)
@@ -134,8 +137,14 @@ def simulate(
     kind: hm.ModelKind = "two-node",
     use_calibration: bool = True,
     progress: Callable[[int, int], None] | None = None,
+    heat_until_ns: int | None = None,
 ) -> Run:
-    """Run `house` through `forecast` from `start` to `end` on its thermostat (see module)."""
+    """Run `house` through `forecast` from `start` to `end` on its thermostat (see module).
+
+    `heat_until_ns` [ns since 1970 UTC]: the heater stops for good at the first grid time
+    at or after it (the fuel ran out there; within one grid step); the setpoints in the
+    result stay the plan's.
+    """
     times, night = _grid(
         house, hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(forecast.utc_s)
     )
@@ -156,6 +165,9 @@ def simulate(
         wind_grid = np.zeros_like(t_s)
     wind = _weighted(wind_grid, w)
     mean_out = _weighted(out_grid, w)
+    fire = sp  # the setpoint the heater works to: none once it has stopped for good
+    if heat_until_ns is not None:
+        fire = np.where(times[:-1] >= heat_until_ns, OFF_C, sp)
     curtain_nightly = bool(house.curtain and house.curtain.closed_at_night)
     states = sorted({bool(n) and curtain_nightly for n in night}) if curtain_nightly else [False]
 
@@ -200,7 +212,7 @@ def simulate(
             # the mass at its steady state with the air there (common practice, no source)
             x = runs.held_steady_state(mdl, bc[0], gains[0], float(sp[0]))
             notes.append("the house is taken to start at its setpoint, the soil in balance with it")
-        setp = np.append(sp[i0:i1], sp[i1 - 1])
+        setp = np.append(fire[i0:i1], fire[i1 - 1])
         res = runs.thermostat(
             mdl, t_s[sl] - t_s[i0], bc, x, setp, q_max_w, gains, house.vent_temperature_c
         )
@@ -215,8 +227,11 @@ def simulate(
         progress(len(edges) - 1, len(edges) - 1)
     if "wind_speed_m_s" in forecast.given:
         notes.append(
-            f"conductances at the heating hours' mean wind, {wind:.1f} m/s, and air, "
-            f"{mean_out:.1f} °C"
+            Note(
+                "conductances at the heating hours' mean wind, {wind}, and air, {air}",
+                wind=("speed", wind),
+                air=("temp", mean_out),
+            )
         )
     return Run(
         times_ns=times,

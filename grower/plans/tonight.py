@@ -23,6 +23,7 @@ from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.units import Note
 
 #: step of the solver's grid [s]; the forecast's own samples are added to it. The
 #: solution is exact for piecewise-linear inputs, so the step only sets the resolution of
@@ -122,6 +123,10 @@ class TonightResult:
     colder_air_c: np.ndarray
     cautions: tuple[str, ...]
     vapour: Any = None  # grower.vaporisation.VapourCheck at the night's coldest hour
+    chance: Any = None  # grower.plans.chance.Chance: the members of the night, or None
+    #: the house file's [calibration] not used (an older format): the line, also in
+    #: `assumptions`, that the report shows as a warning
+    calibration_warning: str | None = None
 
     @property
     def safe(self) -> bool:
@@ -258,8 +263,13 @@ def tonight(
     now: dt.datetime | None = None,
     colder_by_k: float = COLDER_BY_K,
     use_calibration: bool = True,
+    members: Any = None,
 ) -> TonightResult:
-    """Tonight's frost verdict for one house; see the module docstring."""
+    """Tonight's frost verdict for one house; see the module docstring.
+
+    `members` (a `grower.plans.chance.Spec`) asks for the chance of damage: the night
+    run as drawn members or as the live ensemble's, with no heat and heated.
+    """
     from grower import weather
 
     now = now if now is not None else dt.datetime.now(forecast.tz).replace(microsecond=0)
@@ -296,20 +306,27 @@ def tonight(
     if soil_assumed:
         soil_now_c = deep
         assumptions.append(
-            f"soil (top 10 cm) and water assumed at {soil_now_c:.1f} °C now, the deep-ground "
-            "temperature"
-            + (
-                " (itself assumed: set [floor] deep_ground_temperature)"
-                if mdl.capacities.deep_ground_assumed
-                else ""
+            Note(
+                "soil (top {top}) and water assumed at {soil} now, the deep-ground temperature"
+                + (
+                    " (itself assumed: set [floor] deep_ground_temperature)"
+                    if mdl.capacities.deep_ground_assumed
+                    else ""
+                )
+                + "; measure it at {depth} and give --soil-now",
+                top=("cm", 0.10),
+                soil=("temp", soil_now_c),
+                depth=("cm", 0.05),
             )
-            + "; measure it at 5 cm and give --soil-now"
         )
     if inside_now_c is None:
         inside_now_c = hm.quasi_steady_air(mdl, bc, gains, soil_now_c)
         assumptions.append(
-            f"inside air assumed at {inside_now_c:.1f} °C now (in balance with the soil and "
-            "the outside); give --inside-now with a reading"
+            Note(
+                "inside air assumed at {air} now (in balance with the soil and the outside); "
+                "give --inside-now with a reading",
+                air=("temp", inside_now_c),
+            )
         )
     for note in weather.assumptions(forecast):
         assumptions.append(note)
@@ -354,7 +371,7 @@ def tonight(
         if measured is not None:
             q = measured
             assumptions.append(
-                f"installed heater output {q / 1e3:.1f} kW as measured by grower fit"
+                Note("installed heater output {q} as measured by grower fit", q=("power", q))
             )
         run = runs.thermostat(mdl, b.times_s, bc, x0, setpoint, q, gains)
         c = solver.analyse(run, threshold_c, b.plant_offset_k)
@@ -366,6 +383,23 @@ def tonight(
             min_time=_at(b, c.min_time_s[0]),
             energy_kwh=float(run.heat_j[0]) / 3.6e6,
             fuel=fuels.fuel_amount(float(run.heat_j[0]), fuel, eff, unit),
+        )
+
+    odds = None
+    if members is not None:
+        from grower.plans import chance
+
+        odds = chance.run(
+            members,
+            house=house,
+            kind=kind,
+            use_calibration=use_calibration,
+            mdl=mdl,
+            b=b,
+            initial_c=x0,
+            threshold_c=threshold_c,
+            heater_w=check.output_w if check is not None else None,
+            pressure_hpa=pressure,
         )
 
     chill = None
@@ -428,6 +462,7 @@ def tonight(
         effective_outside_c=b.effective_c,
         air_c=air[0],
         plant_c=air[0] - b.plant_offset_k,
+        calibration_warning=hm.calibration_warning(house, use_calibration),
         colder_air_c=air[1],
         cautions=cautions,
         vapour=vaporisation.house_check(
@@ -437,6 +472,7 @@ def tonight(
             burned_j=hold_j / eff,
             at=local[int(np.argmin(b.outside_c))],
         ),
+        chance=odds,
     )
 
 

@@ -8,6 +8,7 @@ from grower.network import HouseSummary
 from grower.report.quantities import capacity_unit, capacity_value, conductance_text
 from grower.units import (
     M_PER_IN,
+    M_S_PER_MPH,
     UnitSystem,
     show_area,
     show_conductance,
@@ -167,7 +168,8 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
     tau = h.roof_material.longwave_transmittance
     fast, slow = s.time_scales_h
     console.print(
-        f"At {show_speed(k.wind_m_s, system).text(1)} wind (the tables' U-values hold at 15 mph); "
+        f"At {show_speed(k.wind_m_s, system).text(1)} wind (the tables' U-values hold at "
+        f"{show_speed(15 * M_S_PER_MPH, system).text(0 if system == 'us' else 1)}); "
         "in calm air K = "
         f"{_num(show_conductance(s.calm.total_w_per_k, system).value)} {ua_unit}. "
         f"A clear night adds {_num(show_conductance(k.sky_w_per_k, system).value)} {ua_unit} per "

@@ -22,6 +22,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from grower.errors import InputError
+from grower.units import Note
 
 #: the frame's variables, SI-ish units in the names
 COLUMNS = (
@@ -289,8 +290,12 @@ def assumptions(forecast: Forecast) -> tuple[str, ...]:
         and np.nanmax(forecast.values("cloud_cover_pct")) > 0.0
     ):
         notes.append(
-            "cloud height not given: cloud taken with its base at 2 km, an overcast about "
-            "4 K colder than low stratus (the cautious side)"
+            Note(
+                "cloud height not given: cloud taken with its base at {base}, an overcast "
+                "about {colder} colder than low stratus (the cautious side)",
+                base=("km", 2000.0),
+                colder=("delta", 4.0, 0),
+            )
         )
     if "dew_point_c" not in forecast.given:
         notes.append(
