@@ -316,7 +316,8 @@ def test_the_chance_reads_right_after_the_verdict(capsys, monkeypatch, columns, 
     assert "Chance of damage:" in capsys.readouterr().out
 
 
-def test_k_spread_from_the_fit_interval(tmp_path):
+def test_k_spread_from_the_fit_interval(tmp_path, capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "100")
     h = house.read(str(GABLE))
     spread, basis = chance.k_spread(h, "two-node", True)
     assert (spread, basis) == (chance.HANDBOOK_K_SPREAD, "handbook")
@@ -333,6 +334,20 @@ def test_k_spread_from_the_fit_interval(tmp_path):
     # the lumped model does not use a two-node fit; --no-calibration ignores it
     assert chance.k_spread(fitted, "lumped", True)[1] == "handbook"
     assert chance.k_spread(fitted, "two-node", False)[1] == "handbook"
+    # the command uses it, and says so in its one line on the members
+    argv = ["tonight", str(path), *ARGV[2:]]
+    assert main([*argv, "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["members_basis"]["k_basis"] == "fit"
+    assert d["members_basis"]["k_spread_95"] == pytest.approx(0.08, rel=1e-5)
+    spread = d["members_basis"]["k_spread_95"]
+    np.testing.assert_allclose(
+        sorted({m["k_factor"] for m in d["members"]}), chance.k_levels(spread)
+    )
+    assert main([*argv, "--no-calibration", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["members_basis"]["k_basis"] == "handbook"
+    assert main(argv) == 0
+    assert "K ±8 % (the fit's 95 % interval)" in capsys.readouterr().out
 
 
 def test_the_commands_defaults_are_the_plans():
