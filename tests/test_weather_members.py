@@ -17,6 +17,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from pytest_httpserver import HTTPServer
 
 from grower import weather
@@ -185,3 +187,59 @@ def test_draws_zero_asks_no_ensemble(served, capsys):
     d = _run_json(capsys, [*ARGV, "--draws", "0"])
     assert d["chance_of_damage"] is None and d["members"] == []
     assert all(req.path != "/v1/ensemble" for req, _ in served.log)
+
+
+_VARIABLES = [
+    "temperature_2m",
+    "dew_point_2m",
+    "cloud_cover",
+    "wind_speed_10m",
+    "shortwave_radiation",
+]
+_JUNK = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.text(max_size=5),
+    st.floats(allow_nan=True, allow_infinity=True),
+    st.integers(-(10**30), 10**30),
+    st.lists(st.integers(-5, 5), max_size=3),
+    st.dictionaries(st.text(max_size=3), st.integers(), max_size=2),
+)
+
+
+@settings(max_examples=60, deadline=None, derandomize=True)
+@given(data=st.data())
+def test_a_mangled_ensemble_is_read_or_refused_in_one_line(data):
+    """Hostile answers (keys dropped, values of the wrong kind, series cut or padded):
+    `parse_ensemble` gives members or one `InputError`, never another exception."""
+    doc = _doc()
+    hourly = doc["hourly"]
+    for _ in range(data.draw(st.integers(1, 4))):
+        member = data.draw(st.integers(0, 5))
+        key = data.draw(st.sampled_from(_VARIABLES)) + (f"_member{member:02d}" if member else "")
+        if key not in hourly:
+            continue
+        action = data.draw(st.sampled_from(["drop", "junk", "value", "cut", "pad", "units"]))
+        if action == "drop":
+            del hourly[key]
+        elif action == "junk":
+            hourly[key] = data.draw(_JUNK)
+        elif action == "value":
+            series = hourly[key]
+            series[data.draw(st.integers(0, len(series) - 1))] = data.draw(_JUNK)
+        elif action == "cut":
+            hourly[key] = hourly[key][: data.draw(st.integers(0, len(hourly[key])))]
+        elif action == "pad":
+            hourly[key] = hourly[key] + [0.0] * data.draw(st.integers(1, 3))
+        else:
+            doc["hourly_units"][key] = data.draw(_JUNK)
+    if data.draw(st.booleans()):
+        doc[data.draw(st.sampled_from(["utc_offset_seconds", "hourly", "hourly_units"]))] = (
+            data.draw(_JUNK)
+        )
+    try:
+        members = weather.parse_ensemble(doc, site=FARM)
+    except InputError as exc:
+        assert "\n" not in str(exc)
+    else:
+        assert len(members) >= 2 and all(len(m.frame) >= 2 for m in members)
