@@ -60,6 +60,7 @@ from grower import solver
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.plans.tonight import HOLD_TOLERANCE_K  # within it of the alarm, the heater holds
 
 #: standard deviation of tomorrow's forecast temperature error [K]: the NWS forecast
 #: office's RMSE of next-day highs at Oklahoma City, 3.80 °F = 2.11 K (Brooks & Doswell
@@ -78,9 +79,6 @@ DEFAULT_DRAWS = 300
 DEFAULT_SEED = 12
 #: the share of members called "the coldest tenth"
 COLDEST_SHARE = 0.1
-#: a heated member whose plants stay within this of the alarm holds it [K]
-#: (as `grower.plans.tonight.HOLD_TOLERANCE_K`)
-HOLD_TOLERANCE_K = 0.05
 
 
 @dataclass(frozen=True)

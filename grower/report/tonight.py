@@ -5,6 +5,7 @@ from __future__ import annotations
 import datetime as dt
 from typing import Any
 
+from grower.plans.chance import FORECAST_ERROR_SOURCE
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wire
 from grower.report import chart
 from grower.report import vapour as vapour_report
@@ -490,7 +491,7 @@ def members_line(r: TonightResult, system: UnitSystem) -> str | None:
         )
     sigma = show_temperature_difference(c.forecast_error_k, system).text(1)
     return keep_units(
-        f"Nights drawn: forecast error σ {sigma} (Brooks & Doswell 1996), {k}, seed {c.seed}"
+        f"Nights drawn: forecast error σ {sigma} ({FORECAST_ERROR_SOURCE}), {k}, seed {c.seed}"
     )
 
 
