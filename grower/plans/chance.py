@@ -41,7 +41,8 @@ City next-day (12-24 h) high temperature, NWS forecast office RMSE 3.80 °F, MAE
 consensus MOS RMSE 4.04 °F.
 J. A. Baars and C. F. Mass (2005), *Weather and Forecasting* 20(6):1034-1047, and A. A.
 Taylor and L. M. Leslie (2005), *Weather and Forecasting* 20(6):1006-1020 (read: the
-abstracts; interior sites have larger minimum-temperature errors than coastal ones).
+abstracts, no figure quoted from them; interior sites have larger errors than coastal
+ones; page ranges from memory).
 C. J. Talsma, K. C. Solander, M. K. Mudunuru, B. Crawford and M. R. Powell (2023), "Frost
 prediction using machine learning and deep neural network models", *Frontiers in
 Artificial Intelligence* 5:963781, doi:10.3389/frai.2022.963781 (read: the abstract).
