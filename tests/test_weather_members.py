@@ -243,3 +243,42 @@ def test_a_mangled_ensemble_is_read_or_refused_in_one_line(data):
         assert "\n" not in str(exc)
     else:
         assert len(members) >= 2 and all(len(m.frame) >= 2 for m in members)
+
+
+def test_each_ensemble_member_is_the_night_tonight_gives_for_that_forecast(monkeypatch):
+    """With the K spread set to nothing, member i of the chance is `tonight` run on the
+    ensemble's member i as the forecast (same start, same readings): exactly for the
+    control, which is the forecast given; for the others within what the network's
+    linearisation costs — it is built once, at the forecast's mean outside temperature
+    and wind (grower.plans.chance), as the `colder` night is — a tenth of the member's
+    offset from the control."""
+    import pandas as pd
+
+    from grower import house
+    from grower.plans import chance, tonight
+
+    monkeypatch.setattr(chance, "HANDBOOK_K_SPREAD", 0.0)
+    h = house.read("examples/gable-house.toml")
+    members = weather.parse_ensemble(_doc(), site=h.site)
+    ensemble = weather.Ensemble(members, "gfs_seamless", "loopback")
+    start = pd.Timestamp("2026-12-03T17:00", tz="America/Toronto")
+    common = dict(
+        threshold_c=-6.5,
+        threshold_basis="test",
+        start=start,
+        now=start,
+        inside_now_c=6.0,
+        soil_now_c=7.0,
+    )
+    got = tonight.tonight(h, members[0], members=chance.Spec(ensemble=ensemble), **common)
+    assert got.chance.source == "ensemble" and got.chance.count == 5
+    for m, forecast, shift in zip(got.chance.members, members, SHIFTS, strict=True):
+        alone = tonight.tonight(h, forecast, **common)
+        assert m.k_factor == 1.0
+        if shift == 0.0:  # the control: the same run
+            assert m.min_plant_c == pytest.approx(alone.verdict.min_plant_c, abs=1e-9)
+            assert m.crossing_time == alone.verdict.crossing_time
+            assert m.heated_damage == (not alone.heater.holds)
+        else:
+            assert abs(m.min_plant_c - alone.verdict.min_plant_c) < 0.1 * abs(shift)
+    assert 0 < got.chance.damaged < 5  # members on both sides: a real test
