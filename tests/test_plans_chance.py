@@ -409,3 +409,14 @@ def test_draws_zero_leaves_the_chance_out_quietly(capsys):
     assert main([*ARGV, "--draws", "0", "--json"]) == 0
     d = json.loads(capsys.readouterr().out)
     assert d["chance_of_damage"] is None and d["members"] == [] and d["members_source"] is None
+
+
+def test_below_the_alarm_now_gives_no_crossing_times(capsys, monkeypatch):
+    # every night starts where the plants are: at the alarm already, so no "earliest"
+    monkeypatch.setenv("COLUMNS", "100")
+    argv = [*ARGV[:4], "--inside-now", "-3C", *ARGV[4:], "--draws", "40"]
+    assert main(argv) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("BELOW THE ALARM NOW")
+    assert f"Chance of damage: {chance_text(40, 40)} with no heat" in out
+    assert "at the earliest" not in out and "The coldest tenth of nights: plants" in out

@@ -466,7 +466,7 @@ def chance_lines(r: TonightResult, system: UnitSystem) -> list[str]:
     )
     first = f"Chance of damage: [bold]{chance_text(c.damaged, c.count)}[/bold] with no heat{heated} ({of})"
     cold = f"the coldest tenth of nights: plants {T(c.coldest_tenth_min_plant_c)} or colder"
-    if c.damaged:
+    if c.damaged and not r.below_now:  # below now: every night starts at the alarm
         start = r.start
         second = (
             f"With no heat, the alarm comes at {_clock(c.earliest_crossing, start)} at the "
