@@ -284,6 +284,10 @@ MASS_AREA_PER_FLOOR = (20.0, 5.0)
 #: 5× away cannot describe the same envelope (common practice, no source).
 CALIBRATION_K_RATIO = ((0.2, 5.0), (0.5, 2.0))
 CALIBRATION_C_RATIO = ((0.1, 10.0), (0.33, 3.0))
+#: a fitted sky part over the geometry's: possible / usual (common practice, no source:
+#: condensation, dust and cloud during the record lower it, none raises it far; zero is
+#: possible, a house whose film passes no long-wave)
+CALIBRATION_SKY_RATIO = ((0.0, 5.0), (0.25, 2.0))
 #: a site's clock and its longitude's solar time: refuse beyond / warn beyond [h].
 #: The widest official offsets from solar time are about 3 h (western China on UTC+8),
 #: 4 h with summer time (from memory).

@@ -251,12 +251,28 @@ def house_text(draw, calm: bool = False) -> str:
             pass
     if draw(st.integers(0, 3)):
         doc.pop("calibration", None)
-    else:
+    elif draw(st.booleans()):  # an older table (no format): read, not used
         doc["calibration"] = {
             "model": draw(st.sampled_from(["lumped", "two-node", "other"])),
             "k_w_per_k": draw(st.one_of(st.floats(1, 1e5), NUMBERS)),
             "c_j_per_k": draw(st.one_of(st.floats(1e6, 1e9), NUMBERS)),
         }
+    else:  # format 2: the fitted parts beside the geometry's, any of them odd
+        table = {"format": draw(st.sampled_from([2, 2, 2, 3, "2"]))}
+        table["model"] = draw(st.sampled_from(["lumped", "two-node", "two-node", "other"]))
+        for key, typical in (
+            ("k_outside_w_per_k", st.floats(100, 5e3)),
+            ("k_sky_w_per_k", st.floats(0, 2e3)),
+            ("c_j_per_k", st.floats(1e6, 1e9)),
+            ("geometry_k_outside_w_per_k", st.floats(100, 5e3)),
+            ("geometry_k_sky_w_per_k", st.floats(0, 2e3)),
+            ("geometry_c_j_per_k", st.floats(1e6, 1e9)),
+        ):
+            if draw(st.integers(0, 9)):  # now and then a key left out
+                table[key] = draw(st.one_of(typical, typical, NUMBERS))
+        if draw(st.booleans()):
+            table["quality"] = draw(st.sampled_from(["good", "rough", "fine"]))
+        doc["calibration"] = table
     try:
         text = tomlkit.dumps(doc)
     except Exception:  # a value tomlkit will not write (NaN key, huge int): keep the base

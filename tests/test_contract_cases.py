@@ -14,6 +14,7 @@ from pathlib import Path
 
 import pytest
 
+from tests.calibration_tables import format2
 from tests.conftest import EXAMPLES
 from tests.test_contract import _quiet_environment, assert_contract, run_cli  # noqa: F401
 
@@ -87,8 +88,13 @@ REFUSED_HOUSES = [
     ),
     (
         "a [calibration] K a hundredth of the geometry's",
-        HOOP + "\n[calibration]\nk_w_per_k = 10.0\nc_j_per_k = 5.0e7\n",
-        ["K = 10 W/K", "0.2–5"],
+        format2(HOOP, conduction=0.01),
+        ["calibration.k_outside_w_per_k", "K to outside air", "0.01 ×", "0.2–5"],
+    ),
+    (
+        "a format-2 [calibration] without its sky part",
+        format2(HOOP).replace("k_sky_w_per_k = ", "sky = "),
+        ["calibration", 'missing key "k_sky_w_per_k"', "grower fit --write"],
     ),
     (
         "an infinite calibration K",

@@ -632,20 +632,33 @@ def test_write_appends_the_table_and_keeps_the_rest_byte_for_byte(tmp_path, exam
     assert backup.read_text(encoding="utf-8") == src
     h = house.read(path)
     cal = h.calibration
+    assert cal["format"] == 2
     assert cal["model"] == "two-node" and cal["anchor"] == "heater rating"
     assert cal["k_w_per_k"] == pytest.approx(example_fit.chosen.get("k_w_per_k").value, rel=1e-4)
     assert cal["record"] == "logger-gable-house.csv"
     assert cal["fit_date"] == dt.date(2026, 11, 25)
     assert cal["record_start"] == example_fit.record_start.replace(microsecond=0)
     assert "heater_output_w" not in cal  # held at the rating: nothing new to store
-    # the model now uses it: K and C as stored, the coupling scaled as fitted
-    mdl = hm.build(h, kind="two-node")
-    assert mdl.calibrated and mdl.k_w_per_k == pytest.approx(cal["k_w_per_k"])
-    assert mdl.c_j_per_k == pytest.approx(cal["c_j_per_k"])
+    # the model now uses it: at the record's own conditions it is the fitted network —
+    # the conduction and the sky part as stored, C as stored, the coupling as fitted
+    mean = cal["record_mean_outside_c"]
+    kw = dict(wind_m_s=cal["record_wind_m_s"], mean_radiant_temp_c=mean - 5.0, air_temp_c=mean)
+    mdl = hm.build(h, kind="two-node", **kw)
+    geo = hm.build(h, kind="two-node", use_calibration=False, **kw)
+    # 5 significant digits stored (calibration._sig), the record's mean to 3
+    assert geo.k_conduction_w_per_k == pytest.approx(cal["geometry_k_outside_w_per_k"], rel=1e-3)
+    assert mdl.calibrated and mdl.k_conduction_w_per_k == pytest.approx(
+        cal["k_outside_w_per_k"], rel=1e-3
+    )
+    sky = cal["k_sky_w_per_k"] / cal["geometry_k_sky_w_per_k"]
+    h_cal, h_geo = mdl.network.boundary_w_per_k, geo.network.boundary_w_per_k
+    assert h_cal[0, 1] == pytest.approx(h_geo[0, 1] * sky, rel=1e-9)  # cover faces to sky
+    assert h_cal[1, 1] == pytest.approx(h_geo[1, 1] * sky, rel=1e-9)  # floor to sky
+    assert mdl.c_j_per_k == pytest.approx(cal["c_j_per_k"], rel=1e-4)
     g = float(mdl.network.coupling_w_per_k[0, 1])
-    k_scale = cal["k_w_per_k"] / hm.build(h, kind="two-node", use_calibration=False).k_w_per_k
+    k_scale = cal["k_outside_w_per_k"] / cal["geometry_k_outside_w_per_k"]
     assert g == pytest.approx(
-        mdl.capacities.air_mass_w_per_k * k_scale * cal["coupling_scale"], rel=1e-9
+        geo.capacities.air_mass_w_per_k * k_scale * cal["coupling_scale"], rel=1e-9
     )
     # a second write keeps the first backup and makes a numbered one
     second = write_calibration(path, example_fit)
@@ -798,9 +811,15 @@ def test_cli_write_then_tonight_uses_it(tmp_path, capsys):
     ]
     assert main(night) == 0
     t = json.loads(capsys.readouterr().out)
-    assert t["calibrated"] is True and t["k_w_per_k"] == pytest.approx(doc["k_w_per_k"], rel=1e-4)
+    cal = doc["calibration"]
+    fk = cal["k_outside_w_per_k"] / cal["geometry_k_outside_w_per_k"]
+    assert t["calibrated"] is True
+    assert any(f"conduction × {fk:.2f}" in a for a in t["assumptions"])
     assert main([*night, "--no-calibration"]) == 0
-    assert json.loads(capsys.readouterr().out)["calibrated"] is False
+    plain = json.loads(capsys.readouterr().out)
+    assert plain["calibrated"] is False
+    # the fitted house is leakier than its geometry (examples/README.md): K rises
+    assert fk > 1 and t["k_w_per_k"] > plain["k_w_per_k"]
 
 
 def test_cli_refusal_is_one_line_exit_2(tmp_path, capsys):
@@ -856,35 +875,3 @@ def test_cli_unknown_column_role(tmp_path, capsys):
     hp = _house(tmp_path)
     assert main(["fit", str(hp), "--log", "x.csv", "--column", "humid=RH"]) == 2
     assert "--column" in capsys.readouterr().err
-
-
-def test_a_calibration_is_used_by_the_model_it_was_fitted_with(tmp_path):
-    import tomllib
-
-    base = HOUSE.format(width=9, length=30, cover="double-poly", ach=1.0)
-    geo = hm.build(house.from_mapping(tomllib.loads(base)), kind="two-node")
-
-    def built(model_line: str, kind: str):
-        text = base + (
-            f"\n[calibration]\n{model_line}\nk_w_per_k = {1.2 * geo.k_w_per_k}\n"
-            f"c_j_per_k = {0.9 * geo.c_j_per_k}\ncoupling_scale = 2.0\n"
-        )
-        return hm.build(house.from_mapping(tomllib.loads(text)), kind=kind)
-
-    two = built('model = "two-node"', "two-node")
-    assert two.calibrated and two.k_w_per_k == pytest.approx(1.2 * geo.k_w_per_k)
-    # every conductance × 1.2, the coupling × 2 more
-    assert float(two.network.coupling_w_per_k[0, 1]) == pytest.approx(
-        geo.capacities.air_mass_w_per_k * 1.2 * 2.0
-    )
-    assert not built('model = "two-node"', "lumped").calibrated
-    assert not built('model = "lumped"', "two-node").calibrated
-    lumped = built('model = "lumped"', "lumped")
-    assert lumped.calibrated and lumped.c_j_per_k == pytest.approx(0.9 * geo.c_j_per_k)
-    # a table written by hand, naming no model, is used by both; no coupling factor
-    for kind in ("lumped", "two-node"):
-        m = built("", kind)
-        assert m.calibrated and m.k_w_per_k == pytest.approx(1.2 * geo.k_w_per_k)
-    assert float(built("", "two-node").network.coupling_w_per_k[0, 1]) == pytest.approx(
-        geo.capacities.air_mass_w_per_k * 1.2
-    )

@@ -4,6 +4,7 @@ the heater's search against running every member, monotonicity, the JSON and the
 
 from __future__ import annotations
 
+import datetime as dt
 import json
 import math
 from pathlib import Path
@@ -31,7 +32,8 @@ def _constant_night(mdl: hm.Model, outside_c: float, sky_c: float, offset_k: flo
     n = len(times)
     out, sky = np.full(n, outside_c), np.full(n, sky_c)
     return hm.Boundary(
-        times=times,
+        utc_s=hm.epoch_s(times),
+        tz=dt.UTC,
         times_s=np.arange(n) * 600.0,
         outside_c=out,
         sky_c=sky,
@@ -321,12 +323,13 @@ def test_k_spread_from_the_fit_interval(tmp_path, capsys, monkeypatch):
     h = house.read(str(GABLE))
     spread, basis = chance.k_spread(h, "two-node", True)
     assert (spread, basis) == (chance.HANDBOOK_K_SPREAD, "handbook")
-    k = hm.build(h).k_w_per_k
-    c = hm.build(h).c_j_per_k
-    text = GABLE.read_text(encoding="utf-8") + (
-        f'\n[calibration]\nmodel = "two-node"\nk_w_per_k = {k:.6g}\nk_w_per_k_ci95 = {0.08 * k:.6g}\n'
-        f"c_j_per_k = {c:.6g}\n"
-    )
+    import tomllib
+
+    from .calibration_tables import format2
+
+    base = format2(GABLE.read_text(encoding="utf-8"))
+    k_out = tomllib.loads(base)["calibration"]["k_outside_w_per_k"]
+    text = base + f"k_outside_w_per_k_ci95 = {0.08 * k_out!r}\n"
     path = tmp_path / "fitted.toml"
     path.write_text(text, encoding="utf-8")
     fitted = house.read(str(path))

@@ -474,3 +474,25 @@ def test_after_the_fuel_runs_out_the_house_cools_as_scipy_integrates(tmp_path, c
     assert main([*args, "--threshold", "2C", "--start", start, "--on-hand", "30 L"]) == 0
     first = capsys.readouterr().out.splitlines()[0]
     assert first.startswith("The fuel runs out")
+
+
+def test_stock_on_an_older_calibration_runs_on_the_geometry(capsys, tmp_path):
+    """No `format` in [calibration]: the one-factor fit's table is not used (stock's fuel
+    is the geometry's), and the notes say why with the command to refit."""
+    from tests.calibration_tables import format2
+
+    text = MINIMAL + '\n[stock]\nfuel = "propane"\n'
+    fc = constant_forecast(tmp_path / "snap.csv", -10.0, 2)
+    argv = ["--setpoint", "10C", "--forecast", fc, "--start", "2026-12-01T00:00-05:00"]
+    plain = run_json(capsys, "stock", str(write_house(tmp_path, text, "a.toml")), *argv)
+    old = write_house(tmp_path, text + "\n[calibration]\nk_w_per_k = 969.0\n", "b.toml")
+    d = run_json(capsys, "stock", str(old), *argv)
+    assert d["calibrated"] is False and d["energy_kwh"] == plain["energy_kwh"]
+    [note] = [a for a in d["assumptions"] if "[calibration]" in a]
+    assert "older grower fit" in note and f"grower fit {old} --log RECORD.csv --write" in note
+    # a format-2 table is used, and a leakier fit burns more fuel: the conduction × 1.3
+    # (sky × 1) raises the heat, by less than 1.3 × (the sky's share is not scaled)
+    fitted = write_house(tmp_path, format2(text, conduction=1.3), "c.toml")
+    f = run_json(capsys, "stock", str(fitted), *argv)
+    assert f["calibrated"] is True
+    assert plain["energy_kwh"] < f["energy_kwh"] < 1.3 * plain["energy_kwh"]

@@ -87,7 +87,12 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         help="thermal model (default two-node)",
     )
     p.add_argument(
-        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+        "--no-calibration",
+        action="store_true",
+        help=(
+            "ignore the house file's [calibration] (grower fit): run on the geometry's K and C; "
+            "the file is left as it is"
+        ),
     )
     add_crop_options(p)
     add_forecast_options(p, live_days=16)

@@ -77,7 +77,12 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         "4 damage expected even with the installed heat",
     )
     p.add_argument(
-        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+        "--no-calibration",
+        action="store_true",
+        help=(
+            "ignore the house file's [calibration] (grower fit): run on the geometry's K and C; "
+            "the file is left as it is"
+        ),
     )
     p.set_defaults(run=run)
 

@@ -61,7 +61,6 @@ from dataclasses import dataclass, replace
 from typing import Literal
 
 import numpy as np
-import pandas as pd
 
 from grower import solver
 from grower.house import House
@@ -280,8 +279,9 @@ def _first_held(n: int, fails) -> int:
     return lo
 
 
-def _at(start: pd.Timestamp, seconds: float) -> dt.datetime:
-    return dt.datetime.fromtimestamp(round(start.timestamp() + float(seconds)), start.tz)
+def _at(b: hm.Boundary, seconds: float) -> dt.datetime:
+    """The instant `seconds` after the boundary's first time, to the second, in its zone."""
+    return dt.datetime.fromtimestamp(round(float(b.utc_s[0]) + float(seconds)), b.tz)
 
 
 def run(
@@ -311,7 +311,7 @@ def run(
     if spec.ensemble is not None:
         try:
             per = [
-                hm.boundary(house, mdl, fc, b.times, pressure_hpa=pressure_hpa)
+                hm.boundary(house, mdl, fc, b.utc_s, pressure_hpa=pressure_hpa, tz=b.tz)
                 for fc in spec.ensemble.members  # type: ignore[attr-defined]
             ]
         except ValueError:
@@ -362,7 +362,7 @@ def run(
             damaged_heated[cold[:held]] = True
     members = tuple(
         Member(
-            crossing_time=None if np.isnan(crossing_s[i]) else _at(b.times[0], crossing_s[i]),
+            crossing_time=None if np.isnan(crossing_s[i]) else _at(b, crossing_s[i]),
             min_plant_c=float(min_plant[i]),
             heated_damage=None if heater_w is None else bool(damaged_heated[i]),
             outside_shift_k=None if shifts is None else float(shifts[i]),

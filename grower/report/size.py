@@ -62,6 +62,7 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "installed_output_w": r.installed_output_w,
         "installed_holds": r.installed_holds,
         "notes": list(r.notes),
+        "calibration": r.calibration,
         "cautions": list(r.cautions),
         **({} if r.vapour is None else vapour_report.fields(r.vapour)),
     }
@@ -143,5 +144,8 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     vapour_report.render(console, r.vapour, system)
     console.print()
     for n in r.notes:
-        plain(console, f"· {note_text(n, system)}", "dim")
+        if n == r.calibration_warning:
+            plain(console, f"! {note_text(n, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(n, system)}", "dim")
     render_cautions(console, r.cautions, system)

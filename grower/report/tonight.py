@@ -446,7 +446,10 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     for w in r.forecast_warnings:
         plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
-        plain(console, f"· {note_text(a, system)}", "dim")
+        if a == r.calibration_warning:
+            plain(console, f"! {note_text(a, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(a, system)}", "dim")
     render_cautions(console, r.cautions, system)
 
 

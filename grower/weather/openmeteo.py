@@ -20,7 +20,7 @@ import os
 import re
 import sqlite3
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
@@ -453,13 +453,13 @@ def fetch_forecast(
     forecast = parse_openmeteo(got.document, site=site, url=got.url)
     warnings = forecast.warnings
     if got.stale:
-        when = got.retrieved_at.astimezone(forecast.frame.index.tz).isoformat(timespec="minutes")
+        when = got.retrieved_at.astimezone(forecast.tz).isoformat(timespec="minutes")
         warnings = (
             f"the forecast service at {got.url} could not be reached: using the forecast cached {_age_text(got.age_s)} ago (retrieved {when})",
             *warnings,
         )
-    return replace(
-        forecast,
+    return forecast.with_samples(
+        forecast.samples,
         retrieved_at=got.retrieved_at,
         from_cache=got.from_cache,
         age_s=got.age_s,
