@@ -423,3 +423,14 @@ def test_below_the_alarm_now_gives_no_crossing_times(capsys, monkeypatch):
     assert out.startswith("BELOW THE ALARM NOW")
     assert f"Chance of damage: {chance_text(40, 40)} with no heat" in out
     assert "at the earliest" not in out and "The coldest tenth of nights: plants" in out
+
+
+def test_the_plants_take_a_plural_verb(capsys, monkeypatch):
+    # with --threshold and no crop the subject is "the plants" (was "the plants reaches")
+    monkeypatch.setenv("COLUMNS", "200")
+    argv = ["tonight", str(GABLE), "--threshold", "1C", *ARGV[4:], "--brief"]
+    assert main(argv) == 0
+    out = capsys.readouterr().out
+    assert "With no heat: the plants reach 1.0 °C" in out and "plants reaches" not in out
+    assert main([*argv[:3], "-30C", *argv[4:]]) == 0
+    assert "the plants stay above -30.0 °C" in capsys.readouterr().out

@@ -193,6 +193,11 @@ def _what(r: TonightResult) -> str:
     return f"{r.crop} ({r.stage})" if r.crop else "the plants"
 
 
+def _does(r: TonightResult, singular: str, plural: str) -> str:
+    """`_what(r)` with its verb: "tomato (fruiting) reaches", "the plants reach"."""
+    return f"{_what(r)} {singular if r.crop else plural}"
+
+
 #: line 1's words, ours: what to do tonight for the house as equipped
 ACTION_WORDS = {
     "none": ("NO ACTION", "bold green"),
@@ -214,7 +219,7 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     head = f"[{style}]{word}[/{style}] [bold]{r.house_name}[/bold]: "
     v, h = r.verdict, r.heater
     if r.action == "none":
-        return head + f"{_what(r)} stays above {T(r.threshold_c)} tonight with no heat"
+        return head + f"{_does(r, 'stays', 'stay')} above {T(r.threshold_c)} tonight with no heat"
     if r.action == "heat":
         margin = power_text(h.output_w - r.hold_peak_w, system)
         fuel = f"; about {_fuel(h.fuel, system)} of {r.hold_fuel_label} tonight" if h.fuel else ""
@@ -229,10 +234,10 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
             else "heat it now"
             + (f"; at full output the plants reach {T(h.min_plant_c)}" if h else "")
         )
-        return head + f"{_what(r)} is at or below {T(r.threshold_c)} already — {tail}"
+        return head + f"{_does(r, 'is', 'are')} at or below {T(r.threshold_c)} already — {tail}"
     if h is None:
         return (
-            head + f"no heater installed; {_what(r)} reaches {T(r.threshold_c)} at "
+            head + f"no heater installed; {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
             f"[bold]{_clock(v.crossing_time, r.start)}[/bold]; "
             f"{power_text(r.hold_peak_w, system)} holds it"
         )
@@ -267,7 +272,7 @@ def _verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None 
     ref = now if abs((r.start - now).total_seconds()) < 600 else r.start
     rel = "from now" if ref is now else f"after the start ({_clock(r.start, r.start)})"
     return (
-        f"With no heat: {_what(r)} reaches {T(r.threshold_c)} at "
+        f"With no heat: {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
         f"{_clock(v.crossing_time, r.start)}, "
         f"{_span((v.crossing_time - ref).total_seconds())} {rel}; coldest plants "
         f"{T(v.min_plant_c)}"
