@@ -58,7 +58,7 @@ from __future__ import annotations
 import datetime as dt
 import math
 from dataclasses import dataclass, replace
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
@@ -67,6 +67,9 @@ from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
 from grower.plans.tonight import HOLD_TOLERANCE_K  # within it of the alarm, the heater holds
+
+if TYPE_CHECKING:
+    from grower.weather.members import Ensemble
 
 #: standard deviation of tomorrow's forecast temperature error [K]: the NWS forecast
 #: office's RMSE of next-day highs at Oklahoma City, 3.80 °F = 2.11 K (Brooks & Doswell
@@ -96,7 +99,7 @@ class Spec:
 
     draws: int = DEFAULT_DRAWS
     seed: int = DEFAULT_SEED
-    ensemble: object | None = None  # grower.weather.Ensemble
+    ensemble: Ensemble | None = None
     notes: tuple[str, ...] = ()  # said with the result (e.g. why no ensemble)
 
 
@@ -174,7 +177,9 @@ class Chance:
         return float(lows[n - 1])
 
 
-def k_spread(house: House, kind: hm.ModelKind, use_calibration: bool) -> tuple[float, str]:
+def k_spread(
+    house: House, kind: hm.ModelKind, use_calibration: bool
+) -> tuple[float, Literal["fit", "handbook"]]:
     """(95 % half-width of K as a fraction, "fit" or "handbook") for this run's K."""
     cal = hm.calibration_of(house, use_calibration, kind)
     raw = house.calibration or {}
@@ -312,10 +317,10 @@ def run(
         try:
             per = [
                 hm.boundary(house, mdl, fc, b.utc_s, pressure_hpa=pressure_hpa, tz=b.tz)
-                for fc in spec.ensemble.members  # type: ignore[attr-defined]
+                for fc in spec.ensemble.members
             ]
         except ValueError:
-            last = min(fc.end for fc in spec.ensemble.members)  # type: ignore[attr-defined]
+            last = min(fc.end for fc in spec.ensemble.members)
             notes.append(
                 f"the ensemble ends at {last:%a %H:%M}, before the night does: drawn nights instead"
             )
@@ -323,7 +328,7 @@ def run(
             boundaries = np.stack([p.solver_boundary(mdl) for p in per])
             offsets = np.stack([p.plant_offset_k for p in per])
             gain_sets = np.stack([p.solver_gains(mdl) for p in per])
-            label = spec.ensemble.label  # type: ignore[attr-defined]
+            label = spec.ensemble.label
     if boundaries is None:
         if spec.draws < 1:
             return None
@@ -377,7 +382,7 @@ def run(
         heater=heater_w is not None,
         forecast_error_k=FORECAST_ERROR_K if shifts is not None else None,
         k_spread=spread,
-        k_basis=basis,  # type: ignore[arg-type]
+        k_basis=basis,
         seed=spec.seed,
         ensemble_label=label,
         notes=tuple(notes),
