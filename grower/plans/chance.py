@@ -14,7 +14,8 @@ is the same in every member (the inside air now is what it is).
 **The house's K**: every member also gets a factor on the conductances to the outside
 air and the sky, 1 + s·z with s the 95 % half-width over 1.96: the fit's interval when
 the house file's ``[calibration]`` carries one (``k_w_per_k_ci95``, or
-``k_outside_w_per_k_ci95``), else the handbook spread the README states (U-values and air
+``k_outside_w_per_k_ci95`` with ``k_sky_w_per_k_ci95`` added to it, `k_spread`), else
+the handbook spread the README states (U-values and air
 changes put K within about ±30 % of a real house, taken as a 95 % range). The factors
 are stratified: `K_LEVELS` equally likely levels at the middle quantiles z_j of the
 normal distribution (scaled to unit variance, `k_levels`), one level per member in a
@@ -183,13 +184,21 @@ def k_spread(
     """(95 % half-width of K as a fraction, "fit" or "handbook") for this run's K."""
     cal = hm.calibration_of(house, use_calibration, kind)
     raw = house.calibration or {}
+
+    def pair(key: str) -> tuple[float, float] | None:  # (value, 95 % half-width)
+        value, ci = raw.get(key), raw.get(f"{key}_ci95")
+        ok = all(isinstance(x, int | float) and not isinstance(x, bool) for x in (value, ci))
+        if ok and value > 0 and math.isfinite(ci) and ci >= 0:
+            return float(value), float(ci)
+        return None
+
     if cal is not None:
-        spreads = []
-        for key in ("k_w_per_k", "k_outside_w_per_k"):
-            value, ci = raw.get(key), raw.get(f"{key}_ci95")
-            ok = all(isinstance(x, int | float) and not isinstance(x, bool) for x in (value, ci))
-            if ok and value > 0 and math.isfinite(ci) and ci >= 0:
-                spreads.append(float(ci) / float(value))
+        spreads = [ci / value for value, ci in filter(None, [pair("k_w_per_k")])]
+        out, sky = pair("k_outside_w_per_k"), pair("k_sky_w_per_k")
+        if out and sky:  # one factor on both: their half-widths added (the wide side)
+            spreads.append((out[1] + sky[1]) / (out[0] + sky[0]))
+        elif out:
+            spreads.append(out[1] / out[0])
         if spreads:
             return min(max(spreads), 0.9), "fit"
     return HANDBOOK_K_SPREAD, "handbook"
