@@ -81,7 +81,9 @@ OUTSIDE_TURNS = (
     ("2026-11-24 14:30", 2.0),
 )
 GAP = ("2026-11-23 08:50", 5)  # first lost reading, how many
-MISSING_INSIDE = "2026-11-22 03:20"
+MISSING_INSIDE = (
+    "2026-11-23 03:20"  # on a night without heat: the reader drops the row, heater state and all
+)
 SIGMA = 5.670374419e-8  # Stefan–Boltzmann [W m-2 K-4] (CODATA 2018)
 
 
@@ -248,7 +250,8 @@ def main() -> None:
         f"# examples/make_logger_record.py (seed {SEED}). Two-node house. k_sky_w_per_k: the sky",
         "# columns (cover faces to sky + floor to sky); k_sky_steady_w_per_k: the steady sky",
         "# part (the cover faces' plus the floor's through the air–floor coupling); k_w_per_k:",
-        "# k_outside_w_per_k + k_sky_steady_w_per_k, the steady conductance to T_eff.",
+        "# k_outside_w_per_k + k_sky_steady_w_per_k, the steady conductance to T_eff",
+        "# (`grower fit` reports K as k_outside_w_per_k + k_sky_w_per_k, the columns' sum).",
         "# [geometry]: examples/gable-house.toml's own network at the record's conditions",
         "# (calm, the nights' mean outside temperature); nothing here was measured.",
         "",
