@@ -629,10 +629,7 @@ def test_example_record_recovers_its_invented_house(example_fit):
     on both sensors, 0.1 °C steps. The truth is written beside the record. Issue 11's bar:
     K to the outside air within 5 %, C within 10 %, each truth inside the stated 95 %
     interval (the sky part and the coupling inside theirs)."""
-    import tomllib
-
-    with open(EXAMPLES / "logger-gable-house.truth.toml", "rb") as f:
-        doc = tomllib.load(f)
+    doc = json.loads((EXAMPLES / "logger-gable-house.truth.json").read_text(encoding="utf-8"))
     truth, geometry = doc["truth"], doc["geometry"]
     r = example_fit
     assert r.model == "two-node" and r.anchor == "heater rating" and r.quality == "good"
@@ -693,6 +690,15 @@ def test_write_appends_the_table_and_keeps_the_rest_byte_for_byte(tmp_path, exam
         cal["k_outside_w_per_k"], rel=1e-3
     )
     sky = cal["k_sky_w_per_k"] / cal["geometry_k_sky_w_per_k"]
+    # the stored parts give back the fit's own factors (5 significant digits stored)
+    scales = example_fit.chosen.scales
+    assert cal["k_outside_w_per_k"] / cal["geometry_k_outside_w_per_k"] == pytest.approx(
+        scales["k_scale"], rel=1e-4
+    )
+    assert sky == pytest.approx(scales["sky_scale"], rel=1e-4)
+    assert cal["c_j_per_k"] / cal["geometry_c_j_per_k"] == pytest.approx(
+        scales["c_scale"], rel=1e-4
+    )
     h_cal, h_geo = mdl.network.boundary_w_per_k, geo.network.boundary_w_per_k
     assert h_cal[0, 1] == pytest.approx(h_geo[0, 1] * sky, rel=1e-9)  # cover faces to sky
     assert h_cal[1, 1] == pytest.approx(h_geo[1, 1] * sky, rel=1e-9)  # floor to sky
