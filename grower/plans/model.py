@@ -342,7 +342,9 @@ def build(
     the air–mass coupling) by K_out,fit/K_out,geometry, the sky columns by
     K_sky,fit/K_sky,geometry (both geometries at the record's conditions), every capacity
     by C_fit/C_geometry, and a two-node fit's coupling further by its ``coupling_scale``
-    — the scaling `grower fit` fitted.
+    — the scaling `grower fit` fitted. A lumped fit whose deep-ground path was fitted
+    apart scales that path by its own factor; a sky fitted night by night is taken at
+    its clearest night (`Calibration.sky_factor`).
 
     `air_temp_c` is about the outside air: it linearises the cover faces' radiation.
     """

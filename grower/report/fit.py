@@ -334,7 +334,7 @@ def render_fit(
     if written:
         console.print(
             f"Calibration written to {written['file']} \\[calibration]; the previous file is "
-            f"kept as {written['backup']}. tonight and stock now use it (--no-calibration to ignore)."
+            f"kept as {written['backup']}. tonight, stock and size now use it (--no-calibration to ignore)."
         )
     else:
         console.print("[dim]Add --write to store this in the house file's \\[calibration].[/dim]")
