@@ -1020,3 +1020,46 @@ def test_cli_json_carries_the_conductance_to_the_outside_air_and_to_the_sky(tmp_
     assert main(args) == 0
     out = capsys.readouterr().out
     assert "of it to outside air" in out and "of it to the sky" in out
+
+
+def test_the_whole_chain_moves_the_plans_to_the_example_houses_truth(tmp_path, capsys):
+    """fit --write on a copy of the example house, then size and tonight: each lands
+    within a quarter of the way from the truth to the uncalibrated figure, where the
+    truth is the same house with the true parts of examples/logger-gable-house.truth.json
+    stored as its calibration (size: the conduction × 1.15 raises the heater; the sky
+    part × 0.70 is floored at the geometry's; tonight: less sky, a warmer night)."""
+    doc = json.loads((EXAMPLES / "logger-gable-house.truth.json").read_text(encoding="utf-8"))
+    t, g = doc["truth"], doc["geometry"]
+    src = (EXAMPLES / "gable-house.toml").read_text(encoding="utf-8")
+    paths = {name: tmp_path / f"{name}.toml" for name in ("geometry", "fitted", "truth")}
+    for path in paths.values():
+        path.write_text(src, encoding="utf-8")
+    paths["truth"].write_text(
+        src + '\n[calibration]\nformat = 2\nmodel = "two-node"\n'
+        f"k_outside_w_per_k = {t['k_outside_w_per_k']}\nk_sky_w_per_k = {t['k_sky_w_per_k']}\n"
+        f"c_j_per_k = {t['c_j_per_k']}\n"
+        f"geometry_k_outside_w_per_k = {g['k_outside_w_per_k']}\n"
+        f"geometry_k_sky_w_per_k = {g['k_sky_w_per_k']}\ngeometry_c_j_per_k = {g['c_j_per_k']}\n",
+        encoding="utf-8",
+    )
+    log = str(EXAMPLES / "logger-gable-house.csv")
+    assert main(["fit", str(paths["fitted"]), "--log", log, "--write", "--json"]) == 0
+    capsys.readouterr()
+
+    def run(*argv) -> dict:
+        assert main([*argv, "--json"]) in (0, 3)
+        return json.loads(capsys.readouterr().out)
+
+    night = ["--crop", "tomato", "--forecast", str(EXAMPLES / "forecast-cold-night.csv")]
+    night += ["--start", "2026-12-03T18:00"]
+    got = {
+        name: (
+            run("size", str(p), "--outside", "-20C", "--hold", "10C")["heat_loss_w"],
+            run("tonight", str(p), *night)["min_plant_c"],
+        )
+        for name, p in paths.items()
+    }
+    for i in range(2):
+        geometry, fitted, truth = (got[n][i] for n in ("geometry", "fitted", "truth"))
+        assert abs(fitted - truth) < 0.25 * abs(geometry - truth), (i, got)
+    assert got["truth"][0] > got["geometry"][0] and got["truth"][1] > got["geometry"][1]
