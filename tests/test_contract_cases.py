@@ -146,6 +146,11 @@ REFUSED_ARGUMENTS = [
     ("--start in the year 1000", ["tonight", "--crop", "tomato", "--low", "-2C", "--start", "1000-01-01T18:00"], ["1000", "1900–2200"]),
     ("--start in the year 3000", ["tonight", "--crop", "tomato", "--low", "-2C", "--start", "3000-01-01T18:00"], ["3000"]),
     ("a usage mistake", ["tonight", "--crop", "tomato", "--model", "three-node"], ["--model", "--help"]),
+    ("--draws -1", ["tonight", "--crop", "tomato", "--draws", "-1", "--forecast", NIGHT, *START], ["--draws", "negative"]),
+    ("--draws 1e9", ["tonight", "--crop", "tomato", "--draws", "1e9", "--forecast", NIGHT, *START], ["--draws", "whole number"]),
+    ("--draws 10**9", ["tonight", "--crop", "tomato", "--draws", "1000000000", "--forecast", NIGHT, *START], ["--draws", "0…20,000"]),
+    ("--seed x", ["tonight", "--crop", "tomato", "--seed", "x", "--forecast", NIGHT, *START], ["--seed", "whole number"]),
+    ("--seed 2**70", ["tonight", "--crop", "tomato", "--seed", str(2**70), "--forecast", NIGHT, *START], ["--seed", "too large"]),
 ]  # fmt: skip
 
 

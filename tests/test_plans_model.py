@@ -393,3 +393,46 @@ def test_a_calibration_of_a_house_since_changed_is_not_used(tmp_path):
     assert "has changed since its [calibration] was fitted" in note
     assert "K to outside air at the record's conditions is" in note and "higher than" in note
     assert "refit" in note
+
+
+def test_grid_in_utc_seconds_is_the_pandas_union_of_steps_and_samples():
+    # pandas (a general-purpose reference library) builds the same grid independently:
+    # date_range every step from the start, union the samples strictly inside, both ends
+    import pandas as pd
+
+    zone = dt.timezone(dt.timedelta(hours=-5))
+    start = pd.Timestamp("2026-12-03T16:07:30", tz=zone)
+    end = pd.Timestamp("2026-12-04T09:25:10.25", tz=zone)
+    samples = pd.date_range("2026-12-03T15:00", "2026-12-04T11:00", freq="h", tz=zone)
+    expected = (
+        pd.date_range(start, end, freq=pd.Timedelta(seconds=600.0))
+        .union(samples[(samples > start) & (samples < end)])
+        .union(pd.DatetimeIndex([start, end]))
+    )
+    sunset = 1796338327.123456789  # a float instant, rounded to ns as pandas rounds it
+    cut = pd.Timestamp(sunset, unit="s", tz="UTC")
+    assert hm.instant_ns(sunset) == cut.value
+    assert hm.instant_ns(start.to_pydatetime()) == start.value == hm.instant_ns(start)
+    got = hm.grid_ns(
+        hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(hm.epoch_s(samples)), 600.0
+    )
+    np.testing.assert_array_equal(got / 1e9, hm.epoch_s(expected))
+    np.testing.assert_array_equal(hm.epoch_s(hm.grid(start, end, samples, 600.0)), got / 1e9)
+    with_cut = hm.grid_ns(start.value, end.value, samples.as_unit("ns").asi8, 600.0, [cut.value])
+    np.testing.assert_array_equal(with_cut, expected.union(pd.DatetimeIndex([cut])).asi8)
+
+
+def test_boundary_on_utc_seconds_equals_boundary_on_an_index():
+    h = house.read(EXAMPLES / "gable-house.toml")
+    from grower import weather
+
+    fc = weather.read_forecast_csv(EXAMPLES / "forecast-cold-night.csv", site=h.site)
+    m = hm.build(h, wind_m_s=2.0, mean_radiant_temp_c=-5.0, air_temp_c=0.0)
+    t = hm.grid_ns(*(hm.samples_ns(fc.utc_s)[[0, -1]]), hm.samples_ns(fc.utc_s), 600.0) / 1e9
+    a = hm.boundary(h, m, fc, t)
+    b = hm.boundary(h, m, fc, hm.grid(fc.start, fc.end, fc.frame.index, 600.0))
+    np.testing.assert_array_equal(a.utc_s, b.utc_s)
+    for name in ("times_s", "outside_c", "sky_c", "effective_c", "sun_w", "plant_offset_k"):
+        np.testing.assert_array_equal(getattr(a, name), getattr(b, name))
+    assert a.local_times()[0] == fc.start and a.local_times()[-1] == fc.end
+    assert list(a.times) == [pd_t.to_pydatetime() for pd_t in b.times]

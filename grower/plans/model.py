@@ -6,11 +6,11 @@ the forecast's arrays and a few choices (model, wind, curtain).
 
 from __future__ import annotations
 
+import datetime as dt
 from dataclasses import dataclass, replace
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
-import pandas as pd
 
 from grower import network
 from grower.house import House
@@ -407,7 +407,8 @@ def build(
 class Boundary:
     """The forecast on the solver's time grid, with what the house makes of it."""
 
-    times: pd.DatetimeIndex  # tz-aware
+    utc_s: np.ndarray  # each time as UTC seconds since 1970
+    tz: dt.tzinfo  # the zone local times are shown in
     times_s: np.ndarray  # seconds since the first time (from UTC: right across DST)
     outside_c: np.ndarray
     sky_c: np.ndarray
@@ -417,6 +418,17 @@ class Boundary:
     wind_m_s: np.ndarray
     cloud_fraction: np.ndarray  # NaN where not given
     assumed_clear: bool
+
+    @property
+    def times(self) -> Any:
+        """The grid as a tz-aware pandas DatetimeIndex (imports pandas)."""
+        from grower.weather.forecast import _index
+
+        return _index(self.utc_s, self.tz)
+
+    def local_times(self) -> list[dt.datetime]:
+        """The grid as aware datetimes in `tz`, to the second."""
+        return [dt.datetime.fromtimestamp(round(t), self.tz) for t in self.utc_s]
 
     def solver_boundary(self, model: Model, deep_ground_c: float | None = None) -> np.ndarray:
         """(N, 3) boundary temperatures: outside air, sky, deep ground (`BOUNDARIES`)."""
@@ -448,18 +460,60 @@ def effective_temperature(model: Model, outside_c, sky_c) -> np.ndarray:
     return num / model.k_w_per_k
 
 
-def grid(
-    start: pd.Timestamp, end: pd.Timestamp, frame_index: pd.DatetimeIndex, step_s: float
-) -> pd.DatetimeIndex:
-    """A time grid from `start` to `end`: every `step_s` plus every forecast sample."""
-    regular = pd.date_range(start, end, freq=pd.Timedelta(seconds=step_s))
-    inside = frame_index[(frame_index > start) & (frame_index < end)]
-    out = regular.union(inside).union(pd.DatetimeIndex([start, end]))
-    return out.tz_convert(start.tz)
+def instant_ns(t: Any) -> int:
+    """An instant as integer nanoseconds since 1970 UTC.
+
+    `t` is an aware datetime (a pandas Timestamp keeps its nanoseconds) or float UTC
+    seconds, rounded the way ``pandas.Timestamp(t, unit="s")`` rounds them (whole
+    seconds, then the fraction to 9 decimals), so a grid built here is the grid pandas
+    builds.
+    """
+    if isinstance(t, dt.datetime):
+        if hasattr(t, "as_unit"):  # pandas Timestamp
+            return int(t.as_unit("ns").value)
+        return ((t - _EPOCH) // dt.timedelta(microseconds=1)) * 1000
+    t = float(t)
+    base = int(t)
+    return base * 10**9 + int(round(t - base, 9) * 1e9)
 
 
-def epoch_s(index: pd.DatetimeIndex) -> np.ndarray:
-    """UTC seconds since 1970 of a tz-aware index, whatever its resolution."""
+_EPOCH = dt.datetime(1970, 1, 1, tzinfo=dt.UTC)
+
+
+def duration_ns(seconds: float) -> int:
+    """A duration [s] as integer nanoseconds, truncated as ``pandas.Timedelta(seconds=…)``
+    truncates it."""
+    return int(float(seconds) * 1e9)
+
+
+def samples_ns(utc_s: np.ndarray) -> np.ndarray:
+    """A forecast's sample times (UTC seconds, kept to the microsecond) as int64 ns."""
+    return np.round(np.asarray(utc_s, dtype=float) * 1e6).astype(np.int64) * 1000
+
+
+def grid_ns(
+    start_ns: int, end_ns: int, at_ns: np.ndarray, step_s: float, cuts_ns: Any = ()
+) -> np.ndarray:
+    """A time grid [int64 ns since 1970 UTC] from `start_ns` to `end_ns`: every `step_s`
+    from the start, every time of `at_ns` (forecast samples) strictly between, the
+    `cuts_ns` and both ends; sorted, each once. UTC seconds: ``grid_ns(...) / 1e9``."""
+    step = int(round(step_s * 1e9))
+    regular = start_ns + step * np.arange((end_ns - start_ns) // step + 1, dtype=np.int64)
+    at = np.asarray(at_ns, dtype=np.int64)
+    extra = np.asarray(list(cuts_ns) + [start_ns, end_ns], dtype=np.int64)
+    return np.unique(np.concatenate([regular, at[(at > start_ns) & (at < end_ns)], extra]))
+
+
+def grid(start: Any, end: Any, frame_index: Any, step_s: float) -> Any:
+    """`grid_ns` as a tz-aware pandas DatetimeIndex in the start's zone (imports pandas)."""
+    import pandas as pd
+
+    t = grid_ns(instant_ns(start), instant_ns(end), frame_index.as_unit("ns").asi8, step_s)
+    return pd.DatetimeIndex(pd.to_datetime(t, unit="ns", utc=True)).tz_convert(start.tzinfo)
+
+
+def epoch_s(index: Any) -> np.ndarray:
+    """UTC seconds since 1970 of a tz-aware pandas index, whatever its resolution."""
     return index.as_unit("ns").asi8 / 1e9
 
 
@@ -467,11 +521,15 @@ def boundary(
     house: House,
     model: Model,
     forecast,
-    times: pd.DatetimeIndex,
+    times: Any,
     *,
     pressure_hpa: float | None = None,
+    tz: dt.tzinfo | None = None,
 ) -> Boundary:
     """Outside, sky and effective temperatures, sun gain and leaf offset on `times`.
+
+    `times` is a tz-aware pandas DatetimeIndex, or an array of UTC seconds (`grid_ns` / 1e9)
+    with `tz` the zone to show them in (default the forecast's).
 
     `forecast` is a `grower.weather.Forecast`, linear between its samples; it is sampled
     on the grid by `grower.weather.prepare_boundary` (sky temperature from Berdahl &
@@ -480,10 +538,12 @@ def boundary(
     """
     from grower import weather
 
-    at_s = epoch_s(times)
-    w = weather.prepare_boundary(
-        forecast, at_s - at_s[0], start=times[0], pressure_hpa=pressure_hpa
-    )
+    if isinstance(times, np.ndarray):
+        at_s, zone = times, tz or forecast.tz
+    else:
+        at_s, zone = epoch_s(times), times.tz
+    start = dt.datetime.fromtimestamp(float(at_s[0]), zone)
+    w = weather.prepare_boundary(forecast, at_s - at_s[0], start=start, pressure_hpa=pressure_hpa)
     eff = effective_temperature(model, w.temperature_c, w.sky_c)
     sw = w.shortwave_w_m2
     sun = sw * house.roof_material.solar_transmittance * house.floor_area_m2 * SUN_SENSIBLE_FRACTION
@@ -491,7 +551,8 @@ def boundary(
     offset = plant_offset(house, model, np.where(np.isfinite(cloud), cloud, 0.0), sw)
     wind = np.where(np.isfinite(w.wind_speed_m_s), w.wind_speed_m_s, 0.0)
     return Boundary(
-        times=times,
+        utc_s=at_s,
+        tz=zone,
         times_s=at_s - at_s[0],
         outside_c=w.temperature_c,
         sky_c=w.sky_c,

@@ -23,7 +23,6 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
 
 from grower import fuels, safety, vaporisation
 from grower.errors import InputError
@@ -175,9 +174,9 @@ class StockResult:
 # ---------------------------------------------------------------- steps
 
 
-def span(forecast, start, now) -> tuple[pd.Timestamp, pd.Timestamp, list[str]]:
+def span(forecast, start, now) -> tuple[dt.datetime, dt.datetime, list[str]]:
     """The stretch of the forecast to run: from now (or its start) to its end."""
-    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
+    now = now if now is not None else dt.datetime.now(forecast.tz).replace(microsecond=0)
     first, last = forecast.start, forecast.end
     notes: list[str] = []
     if start is None:
@@ -267,7 +266,7 @@ def not_held(run: tr.Run, warm_up_s: float = WARM_UP_S) -> np.ndarray:
     """Steps (N − 1) whose air is below the setpoint in force by more than `HELD_TOL_K`;
     within `warm_up_s` after a raise the setpoint before the raise is the one in force."""
     level = np.array(run.setpoint_c, dtype=float)
-    t = hm.epoch_s(run.times)[:-1]
+    t = run.utc_s[:-1]
     for k in np.flatnonzero(np.diff(level) > 0) + 1:
         level[(t >= t[k]) & (t < t[k] + warm_up_s)] = run.setpoint_c[k - 1]
     return run.air_c[:-1] < level - HELD_TOL_K
@@ -279,16 +278,17 @@ def fuel_left_j(run: tr.Run, stock: fuels.FuelStock, eff: float) -> np.ndarray:
     return stock.energy_j - burned
 
 
-def time_of_level(run: tr.Run, left_j: np.ndarray, level_j: float) -> pd.Timestamp | None:
-    """First time the fuel left falls to `level_j`, inside the step where it does."""
+def time_of_level(run: tr.Run, left_j: np.ndarray, level_j: float) -> int | None:
+    """First time [ns since 1970 UTC] the fuel left falls to `level_j`, inside the step
+    where it does (`tr.Run.time` gives it as a datetime)."""
     k = int(np.argmax(left_j <= level_j)) if np.any(left_j <= level_j) else -1
     if k < 0:
         return None
     if k == 0:
-        return run.times[0]
+        return int(run.times_ns[0])
     drop = left_j[k - 1] - left_j[k]
     frac = (left_j[k - 1] - level_j) / drop if drop > 0 else 0.0
-    return run.times[k - 1] + pd.Timedelta(seconds=float(frac * run.step_s[k - 1]))
+    return int(run.times_ns[k - 1]) + hm.duration_ns(frac * run.step_s[k - 1])
 
 
 def order(
@@ -298,7 +298,7 @@ def order(
     eff: float,
     reserve_pct: float,
     lead_time_days: float,
-    start: pd.Timestamp,
+    start: dt.datetime,
 ) -> Order:
     """The order-by date and amount (module docstring)."""
     j_per = fuel.j_per(stock.unit)
@@ -316,19 +316,21 @@ def order(
         seconds = float(run.step_s.sum())
         rate = (left[0] - left[-1]) / seconds if seconds > 0 else 0.0
         if rate > 0:
-            at = run.times[-1] + pd.Timedelta(seconds=float((left[-1] - level * j_per) / rate))
+            at = int(run.times_ns[-1]) + hm.duration_ns((left[-1] - level * j_per) / rate)
             extrapolated = True
     by = None
     now = False
     if at is not None:
-        day = (at - pd.Timedelta(days=lead_time_days)).date()
+        day = dt.datetime.fromtimestamp(
+            round((at - hm.duration_ns(lead_time_days * 86400.0)) / 1e9, 6), run.tz
+        ).date()
         now = day <= start.date()
         by = max(day, start.date())
     return Order(
         reserve_pct=reserve_pct,
         lead_time_days=lead_time_days,
         reserve_amount=level,
-        reserve_at=None if at is None else when(at),
+        reserve_at=None if at is None else run.time(at),
         order_by=by,
         order_now=now,
         amount=full - level,
@@ -343,7 +345,7 @@ def vapour(
     heat: Heating,
     stock: fuels.FuelStock | None,
     withdrawal: str,
-    runs_out: pd.Timestamp | None,
+    runs_out: dt.datetime | None,
 ) -> vaporisation.VapourCheck:
     """The containers' vapour on the day's coldest heated hour that gives least, at the
     fill they will have then, against the heaters' input (the unlimited one's peak)."""
@@ -362,7 +364,7 @@ def vapour(
     )
     firing = run.heat_w > 0
     if runs_out is not None:
-        firing &= hm.epoch_s(run.times) < runs_out.timestamp()
+        firing &= run.utc_s < runs_out.timestamp()
     if not firing.any():
         firing = np.ones_like(firing)
     dates, idx = tr.local_days(run)
@@ -380,7 +382,7 @@ def vapour(
             float(run.outside_c[k]),
             float(share[k]),
             withdrawal=withdrawal,
-            at=when(run.times[k]),
+            at=run.time(run.times_ns[k]),
         )
         if worst is None or c.supply.capacity_w < worst.supply.capacity_w:
             worst = c
@@ -398,27 +400,28 @@ def crop_check(run: tr.Run, crop: str | CropAlarm, alarm_c: float | None = None)
         damage_c=a.damage_c,
         margin_k=a.margin_k,
         basis=a.basis,
-        first_at=None if first is None else when(run.times[first]),
+        first_at=None if first is None else run.time(run.times_ns[first]),
         hours_below=float(run.step_s[below].sum() / 3600.0),
         min_plant_c=float(run.plant_c.min()),
         last_at=_last_end(run, below),
     )
 
 
-def after_run_out(dry: tr.Run, t_out: pd.Timestamp, crop: CropAlarm | None) -> AfterRunOut:
-    """What the house does from `t_out` on in `dry`, the run whose heater stops there."""
-    after = hm.epoch_s(dry.times) >= t_out.timestamp()
+def after_run_out(dry: tr.Run, t_out_ns: int, crop: CropAlarm | None) -> AfterRunOut:
+    """What the house does from `t_out_ns` [ns since 1970 UTC] on in `dry`, the run whose
+    heater stops there."""
+    after = dry.times_ns >= t_out_ns
     k = int(np.flatnonzero(after)[np.argmin(dry.air_c[after])])
     below = not_held(dry) & after[:-1]
     alarm_at = None
     if crop is not None:
         hit = (dry.plant_c[:-1] < crop.alarm_c) & after[:-1]
         if hit.any():
-            alarm_at = when(dry.times[int(np.argmax(hit))])
+            alarm_at = dry.time(dry.times_ns[int(np.argmax(hit))])
     return AfterRunOut(
         min_air_c=float(dry.air_c[after].min()),
         min_plant_c=float(dry.plant_c[after].min()),
-        coldest_at=when(dry.times[k]),
+        coldest_at=dry.time(dry.times_ns[k]),
         hours_below_setpoint=float(dry.step_s[below].sum() / 3600.0),
         crop_alarm_at=alarm_at,
     )
@@ -428,7 +431,7 @@ def _last_end(run: tr.Run, short: np.ndarray) -> dt.datetime | None:
     """The end of the last step flagged in `short` (N − 1), or None."""
     if not short.any():
         return None
-    return when(run.times[int(np.flatnonzero(short)[-1]) + 1])
+    return run.time(run.times_ns[int(np.flatnonzero(short)[-1]) + 1])
 
 
 def shortfalls(
@@ -450,7 +453,7 @@ def shortfalls(
         out.append(
             Shortfall(
                 "heater",
-                when(run.times[k]),
+                run.time(run.times_ns[k]),
                 float(run.step_s[below].sum() / 3600.0),
                 float(run.air_c.min()),
                 extra_w,
@@ -472,7 +475,7 @@ def _holding_peak(run: tr.Run, settle_s: float = 3600.0) -> float:
     """Peak heat [W] outside the hour after each raise of the setpoint (the morning
     warm-up an unlimited heater does at once is left out: that is a choice of how fast
     to warm up, not what holds the house)."""
-    t = hm.epoch_s(run.times)
+    t = run.utc_s
     raises = t[1:-1][np.diff(run.setpoint_c) > 0]
     keep = np.ones(t.size, dtype=bool)
     for r in raises:
@@ -495,8 +498,8 @@ def stock(
     price: float | None = None,
     unit: str | None = None,
     kind: hm.ModelKind = "two-node",
-    start: pd.Timestamp | None = None,
-    now: pd.Timestamp | None = None,
+    start: dt.datetime | None = None,
+    now: dt.datetime | None = None,
     use_calibration: bool = True,
     reserve_pct: float = DEFAULT_RESERVE_PCT,
     lead_time_days: float = 0.0,
@@ -547,8 +550,8 @@ def stock(
     if stock_ is not None:
         t_out = time_of_level(run, fuel_left_j(run, stock_, eff), 0.0)
         if t_out is not None and stock_.energy_j < total_j / eff:
-            runs_out = when(t_out)
-            lasts = (t_out - start).total_seconds() / 86400.0
+            runs_out = run.time(t_out)
+            lasts = (t_out - hm.instant_ns(start)) / 1e9 / 86400.0
         the_order = order(run, stock_, fuel, eff, reserve_pct, lead_time_days, start)
         if not the_order.capacity_known:
             notes.append(
@@ -556,16 +559,14 @@ def stock(
                 "fuel on hand"
             )
     withdrawal = str(house.stock.get("withdrawal", "vapour"))
-    vap = vapour(
-        run, heat, stock_, withdrawal, None if runs_out is None else pd.Timestamp(runs_out)
-    )
+    vap = vapour(run, heat, stock_, withdrawal, runs_out)
     if isinstance(crop, tuple):
         crop = CropAlarm(*crop)
     crop_result = crop_check(run, crop) if crop else None
     dry = None
     if runs_out is not None:
         # the same forecast with the heater stopping when the fuel is gone
-        dry = after_run_out(simulate(heat_until=t_out), t_out, crop)
+        dry = after_run_out(simulate(heat_until_ns=t_out), t_out, crop)
 
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)

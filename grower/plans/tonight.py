@@ -17,7 +17,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-import pandas as pd
 
 from grower import fuels, safety, solver, vaporisation
 from grower.errors import InputError
@@ -124,6 +123,7 @@ class TonightResult:
     colder_air_c: np.ndarray
     cautions: tuple[str, ...]
     vapour: Any = None  # grower.vaporisation.VapourCheck at the night's coldest hour
+    chance: Any = None  # grower.plans.chance.Chance: the members of the night, or None
     #: the house file's [calibration] not used (an older format): the line, also in
     #: `assumptions`, that the report shows as a warning
     calibration_warning: str | None = None
@@ -166,16 +166,21 @@ class TonightResult:
         return EXIT_DAMAGE
 
 
+def after(t: dt.datetime, seconds: float) -> dt.datetime:
+    """`seconds` after the aware time `t` (elapsed time, right across a clock change)."""
+    return dt.datetime.fromtimestamp(t.timestamp() + seconds, t.tzinfo)
+
+
 def night_window(
-    house: House, forecast, start: pd.Timestamp | None, now: pd.Timestamp
-) -> tuple[pd.Timestamp, pd.Timestamp, pd.Timestamp | None, list[str]]:
+    house: House, forecast, start: dt.datetime | None, now: dt.datetime
+) -> tuple[dt.datetime, dt.datetime, dt.datetime | None, list[str]]:
     """(start, end, sunrise, notes): from `start` (or now) to 2 h after the next sunrise."""
     from grower import diurnal
 
     notes: list[str] = []
     first, last = forecast.start, forecast.end
     if start is None:
-        if first - pd.Timedelta(minutes=5) <= now < first:
+        if after(first, -300.0) <= now < first:
             start = first  # a curve built "now" starts a moment after the plan's now
         elif now < first:
             start = first
@@ -201,10 +206,10 @@ def night_window(
             house.site.latitude_deg, house.site.longitude_deg, s0, s0 + 2 * 86400.0
         )
         nxt = rises[rises > s0 + 1800.0]  # sunrise in the next half hour is this morning's
-        sunrise = pd.Timestamp(float(nxt[0]), unit="s", tz="UTC").tz_convert(start.tz)
-        end = sunrise + pd.Timedelta(seconds=AFTER_SUNRISE_S)
+        sunrise = dt.datetime.fromtimestamp(float(nxt[0]), start.tzinfo)
+        end = after(sunrise, AFTER_SUNRISE_S)
     else:
-        end = start + pd.Timedelta(seconds=NIGHT_WITHOUT_SITE_S)
+        end = after(start, NIGHT_WITHOUT_SITE_S)
         notes.append("no [site] in the house file: the night is taken as 16 h (no sunrise known)")
     if end > last:
         raise InputError(
@@ -217,12 +222,13 @@ def night_window(
 
 def _at(b: hm.Boundary, seconds: float) -> dt.datetime:
     """The time `seconds` after the start, to the second, in the start's zone."""
-    return when(b.times[0], seconds)
+    return dt.datetime.fromtimestamp(round(float(b.utc_s[0]) + float(seconds)), b.tz)
 
 
-def when(start: pd.Timestamp, seconds: float = 0.0) -> dt.datetime:
+def when(start: dt.datetime, seconds: float = 0.0) -> dt.datetime:
+    """`seconds` after the aware time `start`, to the second, in its zone."""
     t0 = start.timestamp() + float(seconds)
-    return dt.datetime.fromtimestamp(round(t0), start.tz)
+    return dt.datetime.fromtimestamp(round(t0), start.tzinfo)
 
 
 def _verdict(b: hm.Boundary, air: np.ndarray, crossing, member: int) -> Verdict:
@@ -253,23 +259,33 @@ def tonight(
     kind: hm.ModelKind = "two-node",
     inside_now_c: float | None = None,
     soil_now_c: float | None = None,
-    start: pd.Timestamp | None = None,
-    now: pd.Timestamp | None = None,
+    start: dt.datetime | None = None,
+    now: dt.datetime | None = None,
     colder_by_k: float = COLDER_BY_K,
     use_calibration: bool = True,
+    members: Any = None,
 ) -> TonightResult:
-    """Tonight's frost verdict for one house; see the module docstring."""
+    """Tonight's frost verdict for one house; see the module docstring.
+
+    `members` (a `grower.plans.chance.Spec`) asks for the chance of damage: the night
+    run as drawn members or as the live ensemble's, with no heat and heated.
+    """
     from grower import weather
 
-    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
+    now = now if now is not None else dt.datetime.now(forecast.tz).replace(microsecond=0)
     start, end, sunrise, notes = night_window(house, forecast, start, now)
-    times = hm.grid(start, end, forecast.frame.index, STEP_S)
-    frame = forecast.frame
-    window = frame[(frame.index >= start - pd.Timedelta(hours=1)) & (frame.index <= end)]
-    wind = (
-        float(np.nanmean(window["wind_speed_m_s"])) if "wind_speed_m_s" in forecast.given else 0.0
+    times = (
+        hm.grid_ns(hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(forecast.utc_s), STEP_S)
+        / 1e9
     )
-    mean_out = float(window["temperature_c"].mean())
+    utc = forecast.utc_s
+    window = (utc >= start.timestamp() - 3600.0) & (utc <= end.timestamp())
+    wind = (
+        float(np.nanmean(forecast.values("wind_speed_m_s")[window]))
+        if "wind_speed_m_s" in forecast.given
+        else 0.0
+    )
+    mean_out = float(np.nanmean(forecast.values("temperature_c")[window]))
     pressure = house.site.pressure_hpa if house.site else None
     mdl = hm.build(
         house,
@@ -280,7 +296,7 @@ def tonight(
         air_temp_c=mean_out,
         use_calibration=use_calibration,
     )
-    b = hm.boundary(house, mdl, forecast, times, pressure_hpa=pressure)
+    b = hm.boundary(house, mdl, forecast, times, pressure_hpa=pressure, tz=start.tzinfo)
     bc = b.solver_boundary(mdl)
     gains = b.solver_gains(mdl)
 
@@ -369,6 +385,23 @@ def tonight(
             fuel=fuels.fuel_amount(float(run.heat_j[0]), fuel, eff, unit),
         )
 
+    odds = None
+    if members is not None:
+        from grower.plans import chance
+
+        odds = chance.run(
+            members,
+            house=house,
+            kind=kind,
+            use_calibration=use_calibration,
+            mdl=mdl,
+            b=b,
+            initial_c=x0,
+            threshold_c=threshold_c,
+            heater_w=check.output_w if check is not None else None,
+            pressure_hpa=pressure,
+        )
+
     chill = None
     if chill_c is not None and chill_c > threshold_c:
         c = solver.analyse(free, chill_c, b.plant_offset_k)
@@ -385,7 +418,7 @@ def tonight(
         need = hold_peak_w / eff if hold_peak_w > 0 else None
         cautions = safety.cautions(fuel, appliance, nameplate or need, short=True)
 
-    local = [when(t) for t in b.times]
+    local = b.local_times()
     return TonightResult(
         house_name=house.name,
         house_path=house.path,
@@ -439,6 +472,7 @@ def tonight(
             burned_j=hold_j / eff,
             at=local[int(np.argmin(b.outside_c))],
         ),
+        chance=odds,
     )
 
 

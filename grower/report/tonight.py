@@ -11,6 +11,7 @@ from grower.report import vapour as vapour_report
 from grower.report.common import Rows, iso, keep_units, plain, print_line, render_cautions
 from grower.report.quantities import (
     capacity_text,
+    chance_text,
     conductance_text,
     energy_text,
     fuel_text,
@@ -100,6 +101,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         },
         "cautions": list(r.cautions),
         **({} if r.vapour is None else vapour_report.fields(r.vapour)),
+        **chance_json(r.chance),
         "series": [
             {
                 "time": iso(t),
@@ -111,6 +113,49 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
             for t, o, e, a, p in zip(
                 r.times, r.outside_c, r.effective_outside_c, r.air_c, r.plant_c, strict=True
             )
+        ],
+    }
+
+
+def chance_json(c: Any) -> dict[str, Any]:
+    """The chance-of-damage keys of the tonight document (null without members)."""
+    if c is None:
+        return {
+            "chance_of_damage": None,
+            "chance_of_damage_heated": None,
+            "members_source": None,
+            "members_basis": None,
+            "earliest_crossing": None,
+            "median_crossing": None,
+            "coldest_tenth_min_plant_c": None,
+            "members": [],
+        }
+    return {
+        # shares of `members` whose plants reach the alarm: with no heat; with the
+        # installed heater on its thermostat (null: no heater)
+        "chance_of_damage": c.chance,
+        "chance_of_damage_heated": c.chance_heated,
+        "members_source": c.source,  # "ensemble" | "drawn"
+        "members_basis": {
+            "forecast_error_k": c.forecast_error_k,
+            "k_spread_95": c.k_spread,
+            "k_basis": c.k_basis,
+            "seed": c.seed,
+            "ensemble": c.ensemble_label,
+            "notes": list(c.notes),
+        },
+        "earliest_crossing": iso(c.earliest_crossing),
+        "median_crossing": iso(c.median_crossing),
+        "coldest_tenth_min_plant_c": c.coldest_tenth_min_plant_c,
+        "members": [
+            {
+                "crossing_time": iso(m.crossing_time),
+                "min_plant_c": m.min_plant_c,
+                "heated_damage": m.heated_damage,
+                "outside_shift_k": m.outside_shift_k,
+                "k_factor": m.k_factor,
+            }
+            for m in c.members
         ],
     }
 
@@ -310,6 +355,11 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     print_verdict(console, r, system)
     plain(console, f"{alarm_text(r, system)}", "dim")
+    how = members_line(r, system)
+    if how:
+        print_line(console, f"[dim]{how}[/dim]")
+        for note in r.chance.notes:
+            plain(console, f"! {note}", "yellow")
     console.print()
     v = r.verdict
     table = Rows()
@@ -402,10 +452,58 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     render_cautions(console, r.cautions, system)
 
 
+def chance_lines(r: TonightResult, system: UnitSystem) -> list[str]:
+    """The chance of damage with no heat and heated, and when and how cold (two lines)."""
+    c = r.chance
+    if c is None:
+        return []
+    T = lambda x: show_temperature(x, system).text(1)  # noqa: E731
+    of = (
+        f"of {c.count} drawn nights"
+        if c.source == "drawn"
+        else f"of the {c.count} {c.ensemble_label} ensemble members"
+    )
+    heated = (
+        f", {chance_text(c.damaged_heated, c.count)} with the installed heater" if c.heater else ""
+    )
+    first = f"Chance of damage: [bold]{chance_text(c.damaged, c.count)}[/bold] with no heat{heated} ({of})"
+    cold = f"the coldest tenth of nights: plants {T(c.coldest_tenth_min_plant_c)} or colder"
+    if c.damaged:
+        start = r.start
+        second = (
+            f"With no heat, the alarm comes at {_clock(c.earliest_crossing, start)} at the "
+            f"earliest, {_clock(c.median_crossing, start)} at the median; {cold}"
+        )
+    else:
+        second = cold[0].upper() + cold[1:]
+    return [keep_units(first), keep_units(second)]
+
+
+def members_line(r: TonightResult, system: UnitSystem) -> str | None:
+    """How the members were made, in one short line."""
+    c = r.chance
+    if c is None:
+        return None
+    k = f"K ±{c.k_spread:.0%}".replace("%", " %") + (
+        " (the fit's 95 % interval)" if c.k_basis == "fit" else " (handbook)"
+    )
+    if c.source == "ensemble":
+        return keep_units(
+            f"Nights: the {c.count} {c.ensemble_label} ensemble members (Open-Meteo), {k}"
+        )
+    sigma = show_temperature_difference(c.forecast_error_k, system).text(1)
+    return keep_units(
+        f"Nights drawn: forecast error σ {sigma} (Brooks & Doswell 1996), {k}, seed {c.seed}"
+    )
+
+
 def print_verdict(console, r: TonightResult, system: UnitSystem) -> None:
-    """The verdict lines: what to do, the night with no heat, when to check, what to read."""
+    """The verdict lines: what to do, the night with no heat, the chance of damage, when
+    to check, what to read."""
     print_line(console, action_line(r, system))
     print_line(console, verdict_line(r, system))
+    for line in chance_lines(r, system):
+        print_line(console, line)
     for line in (trip_wire_line(r, system), reading_line(r, system)):
         if line:
             print_line(console, f"[yellow]{line}[/yellow]")
@@ -434,6 +532,13 @@ def _margin_text(margin_k: float, system: UnitSystem) -> str:
     return f"[{style}]{text}[/{style}]"
 
 
+def _chance_cell(c: Any) -> str:
+    if c is None:
+        return "—"
+    text = chance_text(c.damaged, c.count)
+    return f"{text} ({chance_text(c.damaged_heated, c.count)})" if c.heater else text
+
+
 def render_summary(console, results: list[TonightResult], system: UnitSystem) -> None:
     """Several houses: one table, most urgent first."""
     from rich.table import Table
@@ -444,6 +549,8 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     if frost:
         print_line(console, action_line(frost[0], system))
         print_line(console, verdict_line(frost[0], system))
+        for line in chance_lines(frost[0], system):
+            print_line(console, line)
         if len(frost) > 1:
             console.print(
                 f"[bold red]{len(frost)} of {len(results)} houses reach the alarm tonight with no heat[/bold red]"
@@ -466,6 +573,10 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     table.add_column("to hold", justify="right", no_wrap=True)
     table.add_column("heater")
     table.add_column("margin", justify="right", no_wrap=True)
+    # the chance of damage, with the installed heater in brackets, where it fits
+    odds = console.width >= 96 and any(r.chance is not None for r in order)
+    if odds:
+        table.add_column("chance (heated)", justify="right", no_wrap=True)
     for r in order:
         when = (
             "[green]no[/green]"
@@ -477,20 +588,28 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
             if r.heater is None
             else ("holds" if r.heater.holds else f"[red]falls to {T(r.heater.min_plant_c)}[/red]")
         )
-        table.add_row(
+        cells = [
             r.house_name,
             when,
             T(r.verdict.min_plant_c),
             power_text(r.hold_peak_w, system, with_btu=False),  # the report's system only
             heater,
             _margin_text(margin_k(r), system),
-        )
+        ]
+        if odds:
+            cells.append(_chance_cell(r.chance))
+        table.add_row(*cells)
     console.print(table)
     plain(
         console,
         f"alarm {T(order[0].threshold_c)} ({order[0].threshold_basis}); coldest: plants with "
         "no heat; to hold: peak heat that holds the alarm; margin: coldest plants above the "
-        "alarm with no heat, smallest first",
+        "alarm with no heat, smallest first"
+        + (
+            "; chance: of reaching the alarm with no heat (with the installed heater)"
+            if odds
+            else ""
+        ),
         "dim",
     )
     for r in order:
