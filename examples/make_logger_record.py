@@ -30,7 +30,7 @@ after each reading. Both sensors read with Gaussian noise of NOISE_K and are rou
 0.1 °C, as a cheap logger prints them. A read-out gap of 50 minutes and one missing
 inside value are left in. Everything random comes from one seed, so the record is the
 same on every run; the truth is printed and written beside the record
-(examples/logger-gable-house.truth.toml).
+(examples/logger-gable-house.truth.json).
 
 Nothing here was measured: the farm, the weather and the house are invented.
 """
@@ -38,6 +38,7 @@ Nothing here was measured: the farm, the weather and the house are invented.
 from __future__ import annotations
 
 import datetime as dt
+import json
 import sys
 from pathlib import Path
 from zoneinfo import ZoneInfo
@@ -81,7 +82,9 @@ OUTSIDE_TURNS = (
     ("2026-11-24 14:30", 2.0),
 )
 GAP = ("2026-11-23 08:50", 5)  # first lost reading, how many
-MISSING_INSIDE = "2026-11-22 03:20"
+MISSING_INSIDE = (
+    "2026-11-23 03:20"  # on a night without heat: the reader drops the row, heater state and all
+)
 SIGMA = 5.670374419e-8  # Stefan–Boltzmann [W m-2 K-4] (CODATA 2018)
 
 
@@ -243,22 +246,23 @@ def main() -> None:
         "c_j_per_k": m.total_j_per_k,
         "coupling_w_per_k": m.air_mass_w_per_k,
     }
-    text = [
-        "# The invented truth examples/logger-gable-house.csv was computed from, by",
-        f"# examples/make_logger_record.py (seed {SEED}). Two-node house. k_sky_w_per_k: the sky",
-        "# columns (cover faces to sky + floor to sky); k_sky_steady_w_per_k: the steady sky",
-        "# part (the cover faces' plus the floor's through the air–floor coupling); k_w_per_k:",
-        "# k_outside_w_per_k + k_sky_steady_w_per_k, the steady conductance to T_eff.",
-        "# [geometry]: examples/gable-house.toml's own network at the record's conditions",
-        "# (calm, the nights' mean outside temperature); nothing here was measured.",
-        "",
-        "[truth]",
-        *(f"{k} = {v:.6g}" for k, v in truth.items()),
-        "",
-        "[geometry]",
-        *(f"{k} = {v:.6g}" for k, v in geometry.items()),
-    ]
-    (HERE / "logger-gable-house.truth.toml").write_text("\n".join(text) + "\n", encoding="utf-8")
+    doc = {
+        "about": (
+            "The invented truth examples/logger-gable-house.csv was computed from, by "
+            f"examples/make_logger_record.py (seed {SEED}); nothing here was measured. "
+            "Two-node house. k_sky_w_per_k: the sky columns (cover faces to sky + floor to "
+            "sky); k_sky_steady_w_per_k: the steady sky part (the cover faces' plus the "
+            "floor's through the air-floor coupling); k_w_per_k: k_outside_w_per_k + "
+            "k_sky_steady_w_per_k, the steady conductance to T_eff (grower fit reports K as "
+            "k_outside_w_per_k + k_sky_w_per_k, the columns' sum). geometry: "
+            "examples/gable-house.toml's own network at the record's conditions (calm, the "
+            "nights' mean outside temperature)."
+        ),
+        "truth": {k: float(f"{v:.6g}") for k, v in truth.items()},
+        "geometry": {k: float(f"{v:.6g}") for k, v in geometry.items()},
+    }
+    text = json.dumps(doc, indent=2, ensure_ascii=False)
+    (HERE / "logger-gable-house.truth.json").write_text(text + "\n", encoding="utf-8")
     for k, v in truth.items():
         beside = f"   (the geometry's {geometry[k]:.6g})" if k in geometry else ""
         print(f"{k:22s} {v:14.6g}{beside}")

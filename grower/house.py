@@ -659,6 +659,21 @@ def _calibration(table: Any, at) -> dict[str, Any]:
     for key in _CALIBRATION_NON_NEGATIVE:
         if key in table:
             _calibration_number(table[key], "non-negative", at(f"calibration.{key}"))
+    if ("k_ground_w_per_k" in table) != ("geometry_k_ground_w_per_k" in table):
+        raise InputError(
+            f"k_ground_w_per_k and geometry_k_ground_w_per_k go together {_CALIBRATION_REFIT}",
+            where=at("calibration"),
+        )
+    for key in ("k_ground_w_per_k", "geometry_k_ground_w_per_k"):
+        if key in table:
+            _calibration_number(table[key], "non-negative", at(f"calibration.{key}"))
+    if "k_sky_by_night_w_per_k" in table:
+        nights = table["k_sky_by_night_w_per_k"]
+        where = at("calibration.k_sky_by_night_w_per_k")
+        if not isinstance(nights, list) or not nights:
+            raise InputError(f"must be a list of numbers {_CALIBRATION_REFIT}", where=where)
+        for v in nights:
+            _calibration_number(v, "non-negative", where)
     if "record_mean_outside_c" in table:
         t = table["record_mean_outside_c"]
         where = at("calibration.record_mean_outside_c")

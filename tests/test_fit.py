@@ -26,7 +26,7 @@ from scipy.integrate import solve_ivp
 from grower import house, solver
 from grower.cli import main
 from grower.errors import InputError
-from grower.fit import calibration_values, fit_house, prepare, write_calibration
+from grower.fit import calibration_values, fit_house, prepare, synthetic, write_calibration
 from grower.fit.calibration import updated_text
 from grower.logger import read_logger_csv
 from grower.plans import model as hm
@@ -338,7 +338,7 @@ def test_the_heater_rating_anchors_k(tmp_path):
     _within(r, truth, ["k_w_per_k", "c_j_per_k"])
     # the other anchor on the same record: K held, the heater's output fitted instead
     g = _fit(hp, log, model="lumped", anchor="geometry")
-    assert g.anchor == "geometry" and g.chosen.get("k_w_per_k").half_width == 0.0
+    assert g.anchor == "geometry" and g.chosen.get("k_outside_w_per_k").half_width == 0.0
     lift = 9000.0 / truth["k_w_per_k"]  # what the record fixes: Q/K
     q = g.chosen.get("heater_output_w")
     assert abs(q.value / g.chosen.get("k_w_per_k").value - lift) <= WIDEN_TO_999 * q.half_width / (
@@ -400,33 +400,47 @@ def _with_unlogged_heat(log: Path, lift_k: float) -> None:
     frame.to_csv(log, index=False)
 
 
-def test_a_house_with_half_the_geometrys_sky_share_is_marked_rough(tmp_path):
-    """The geometry's sky share imposed on a house with half of it biases K low (about 20 %
-    here); the residual shows it — about 2.3 times the noise, in long waves — and the
-    fit says so rather than passing as good."""
+def test_a_house_with_half_the_geometrys_sky_share_now_fits_well(tmp_path):
+    """A house with half the geometry's sky share: with its own sky factor the fit follows
+    the record at the sensor's noise, with white residuals, and finds the sky part at
+    about half the geometry's (the single factor on every conductance left it 2.3 × the
+    noise, in long waves, and biased K low)."""
     hp = _house(tmp_path, heater_w=9000.0)
-    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, sky=0.5, heater="state", q_w=9000.0, seed=0)
+    log, truth = synth(
+        tmp_path, hp, nights=3, noise=0.1, sky=0.5, heater="state", q_w=9000.0, seed=0
+    )
     r = _fit(hp, log, model="lumped")
     assert r.noise_k == pytest.approx(0.1, rel=0.2)
-    assert r.quality == "rough" and r.rough and r.noise_ratio > 2.0
-    assert r.residual_lag1 > 0.5
+    assert r.quality == "good" and not r.rough and r.noise_ratio < 1.5
+    assert abs(r.residual_lag1) < 0.3
+    sky = r.chosen.get("k_sky_w_per_k")
+    assert sky.status == "fitted" and sky.ratio == pytest.approx(0.5, abs=0.1)
+    assert r.chosen.scales["sky_scale"] == pytest.approx(0.5, abs=0.1)
+    _within(r, truth, ["c_j_per_k"])
+    k_out = r.chosen.get("k_outside_w_per_k")  # the true house has the geometry's
+    assert abs(k_out.value - k_out.geometry) <= WIDEN_TO_999 * k_out.half_width
 
 
 def test_intervals_widen_for_residuals_that_run_in_waves(tmp_path, monkeypatch):
-    """The sky-share record's residuals have lag-1 autocorrelation near 0.8: the half-widths
-    grow by √((1 + ρ)/(1 − ρ)) (about 3) over the independent-error ones, times the ratio of
-    Student's t on the effective degrees of freedom to t on n − p."""
+    """The half-sky-share record fitted with the geometry's sky share held (the old single
+    factor) leaves residuals with lag-1 autocorrelation near 0.8: the half-widths grow by
+    √((1 + ρ)/(1 − ρ)) (about 3) over the independent-error ones, times the ratio of
+    Student's t on the effective degrees of freedom to t on n − p (the night-block
+    interval is switched off here to see the AR(1) widening alone)."""
     est = importlib.import_module("grower.fit.estimate")  # the package exports the function
     hp = _house(tmp_path, heater_w=9000.0)
     log, _ = synth(tmp_path, hp, nights=3, noise=0.1, sky=0.5, heater="state", q_w=9000.0, seed=0)
-    wide = _fit(hp, log, model="lumped")
+    h = house.read(hp)
+    data = prepare(h, read_logger_csv(log, timezone=h.site.timezone))
+    monkeypatch.setattr(est, "MIN_BLOCKS", 99)
+    wide = est.estimate(data, "lumped", "heater rating", sky="held", ground=False)
     rho = wide.residual_lag1
     assert rho > 0.5
     monkeypatch.setattr(est, "MAX_LAG1", 0.0)  # no widening
-    narrow = _fit(hp, log, model="lumped")
-    ratio = wide.chosen.get("k_w_per_k").half_width / narrow.chosen.get("k_w_per_k").half_width
+    narrow = est.estimate(data, "lumped", "heater rating", sky="held", ground=False)
+    ratio = wide.get("k_w_per_k").half_width / narrow.get("k_w_per_k").half_width
     inflation = (1 + rho) / (1 - rho)
-    n, p = wide.chosen.n_residuals, wide.chosen.n_free
+    n, p = wide.n_residuals, wide.n_free
     t_wide = special.stdtrit(int(n / inflation) - p, 0.975)  # Student's t, effective dof
     t_narrow = special.stdtrit(n - p, 0.975)
     assert ratio == pytest.approx(np.sqrt(inflation) * t_wide / t_narrow, rel=0.01)
@@ -455,14 +469,39 @@ def test_unlogged_heat_is_rough_and_not_written_without_keep_rough(tmp_path, cap
     assert "[calibration]" in hp.read_text(encoding="utf-8")
 
 
-def test_a_heater_left_out_of_the_record_is_refused(tmp_path):
-    """Three nights, the middle one heated, the heater column dropped: the residual is five
-    times the noise, and the refusal says to log the heater."""
+def test_a_heater_left_out_of_the_record_is_marked_rough(tmp_path):
+    """Three nights, the heater on for three hours in the middle one, the heater column
+    dropped: a step within the night that no sky factor (one per night) can follow; the
+    residual is well over twice the noise and the fit is marked rough (not stored by
+    --write without --keep-rough)."""
     hp = _house(tmp_path)
-    log, _ = synth(tmp_path, hp, nights=3, noise=0.1, heater="state", q_w=8000.0, seed=0)
+    log, _ = synth(
+        tmp_path,
+        hp,
+        nights=3,
+        noise=0.1,
+        heater="state",
+        q_w=8000.0,
+        heater_rows=slice(24, 42),
+        seed=0,
+    )
     pd.read_csv(log).drop(columns=["heater"]).to_csv(log, index=False)
-    with pytest.raises(InputError, match="times the sensor's noise.*heater's power"):
-        _fit(hp, log, model="lumped")
+    r = _fit(hp, log, model="lumped")
+    assert r.quality == "rough" and r.noise_ratio > 2.5
+    assert main(["fit", str(hp), "--log", str(log), "--model", "lumped", "--write"]) == 2
+
+
+def test_a_heater_on_all_of_one_night_unlogged_reads_as_a_warmer_sky(tmp_path):
+    """The same heater cycling all through the middle night, unlogged: a night's steady
+    extra heat looks like a warmer sky that night, which the sky factor per night takes
+    up (lower on that night) — the note says the sky is fitted night by night."""
+    hp = _house(tmp_path)
+    log, truth = synth(tmp_path, hp, nights=3, noise=0.1, heater="state", q_w=8000.0, seed=0)
+    pd.read_csv(log).drop(columns=["heater"]).to_csv(log, index=False)
+    r = _fit(hp, log, model="lumped")
+    sky = r.chosen.sky_by_segment
+    assert sky is not None and sky[1] < min(sky[0], sky[2]) - 0.1
+    assert any("night by night" in n for n in r.notes)
 
 
 # ------------------------------------------------------------------ refusals
@@ -581,31 +620,31 @@ def example_fit():
     return fit_house(h, rec, today=dt.date(2026, 11, 25))
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="the example record was made with the network before the sky fix; "
-    "regenerated by a script with the calibration rework",
-)
 def test_example_record_recovers_its_invented_house(example_fit):
-    """The example record was made (outside the repo) from the example house's two-node
-    model with every conductance × 1.15 and every capacity × 0.80, its heater at its
-    rating on the second night, 0.2 K logger noise and 0.1 °C steps on both sensors."""
+    """examples/make_logger_record.py made the example record from the example house's
+    own two-node network at the record's conditions with the conduction (outside air,
+    deep ground, coupling) × 1.15, the sky part × 0.70 and every capacity × 0.90, by a
+    solve_ivp integration of equations written in the script; the heater at its rating
+    on a 10-minute thermostat on the second and fourth nights, logged on/off; 0.1 K noise
+    on both sensors, 0.1 °C steps. The truth is written beside the record. Issue 11's bar:
+    K to the outside air within 5 %, C within 10 %, each truth inside the stated 95 %
+    interval (the sky part and the coupling inside theirs)."""
+    doc = json.loads((EXAMPLES / "logger-gable-house.truth.json").read_text(encoding="utf-8"))
+    truth, geometry = doc["truth"], doc["geometry"]
     r = example_fit
-    h = house.read(EXAMPLES / "gable-house.toml")
-    data = prepare(
-        h, read_logger_csv(EXAMPLES / "logger-gable-house.csv", timezone=h.site.timezone)
-    )
-    truth = {
-        "k_w_per_k": 1.15 * data.two_node.k_w_per_k,
-        "c_j_per_k": 0.80 * data.two_node.c_j_per_k,
-        "coupling_w_per_k": 1.15 * data.two_node.capacities.air_mass_w_per_k,
-    }
-    assert r.model == "two-node" and r.anchor == "heater rating"
-    # the outside sensor's noise is an error in the boundary, which the interval does not
-    # count: the check uses the stated 95 % interval as it is
-    _within(r, truth, list(truth), widen=1.0)
+    assert r.model == "two-node" and r.anchor == "heater rating" and r.quality == "good"
     assert len(r.chosen.segments) == 4
-    assert [s.heated for s in r.chosen.segments] == [False, True, False, False]
+    assert [s.heated for s in r.chosen.segments] == [False, True, False, True]
+    k_out, c = r.chosen.get("k_outside_w_per_k"), r.chosen.get("c_j_per_k")
+    # the fit's geometry is the script's: the same house at the same conditions
+    assert k_out.geometry == pytest.approx(geometry["k_outside_w_per_k"], rel=1e-3)
+    assert c.geometry == pytest.approx(geometry["c_j_per_k"], rel=1e-3)
+    assert k_out.value == pytest.approx(truth["k_outside_w_per_k"], rel=0.05)
+    assert c.value == pytest.approx(truth["c_j_per_k"], rel=0.10)
+    _within(r, truth, ["k_outside_w_per_k", "c_j_per_k", "coupling_w_per_k"], widen=1.0)
+    sky = r.chosen.get("k_sky_w_per_k")  # the sky columns, beside the geometry's
+    assert sky.geometry == pytest.approx(geometry["k_sky_w_per_k"], rel=1e-3)
+    assert abs(sky.value - truth["k_sky_w_per_k"]) <= sky.half_width
 
 
 def _outside_table(text: str) -> str:
@@ -651,6 +690,15 @@ def test_write_appends_the_table_and_keeps_the_rest_byte_for_byte(tmp_path, exam
         cal["k_outside_w_per_k"], rel=1e-3
     )
     sky = cal["k_sky_w_per_k"] / cal["geometry_k_sky_w_per_k"]
+    # the stored parts give back the fit's own factors (5 significant digits stored)
+    scales = example_fit.chosen.scales
+    assert cal["k_outside_w_per_k"] / cal["geometry_k_outside_w_per_k"] == pytest.approx(
+        scales["k_scale"], rel=1e-4
+    )
+    assert sky == pytest.approx(scales["sky_scale"], rel=1e-4)
+    assert cal["c_j_per_k"] / cal["geometry_c_j_per_k"] == pytest.approx(
+        scales["c_scale"], rel=1e-4
+    )
     h_cal, h_geo = mdl.network.boundary_w_per_k, geo.network.boundary_w_per_k
     assert h_cal[0, 1] == pytest.approx(h_geo[0, 1] * sky, rel=1e-9)  # cover faces to sky
     assert h_cal[1, 1] == pytest.approx(h_geo[1, 1] * sky, rel=1e-9)  # floor to sky
@@ -777,15 +825,13 @@ def test_cli_json(capsys):
     assert doc["written"] is None and doc["calibration"]["model"] == "two-node"
 
 
-def test_cli_one_node_fit_of_a_two_node_record_is_refused(capsys):
-    """The example house has a floor and water barrels; one node misses the record by
-    more than five times the sensor's noise, and the one line says what to do."""
-    args = [
-        "fit",
-        str(EXAMPLES / "gable-house.toml"),
-        "--log",
-        str(EXAMPLES / "logger-gable-house.csv"),
-    ]
+def test_cli_one_node_fit_of_a_two_node_record_is_refused(capsys, tmp_path):
+    """A two-node house whose floor and water are tied closely to the air (the coupling
+    × 3 more, grower.fit.synthetic) on a quiet sensor (0.05 K): one node misses the
+    record by more than five times the sensor's noise, and the one line says what to do.
+    (The example record's one-node fit is not refused: its nights fit within twice.)"""
+    rec = synthetic.two_node_house(tmp_path, coupling_scale=3.0, noise_k=0.05)
+    args = ["fit", str(rec.house_path), "--log", str(rec.log_path)]
     assert main([*args, "--model", "lumped"]) == 2
     err = capsys.readouterr().err.strip()
     assert "\n" not in err and "times the sensor's noise" in err and "--model auto" in err
@@ -875,3 +921,145 @@ def test_cli_unknown_column_role(tmp_path, capsys):
     hp = _house(tmp_path)
     assert main(["fit", str(hp), "--log", "x.csv", "--column", "humid=RH"]) == 2
     assert "--column" in capsys.readouterr().err
+
+
+# ------------------------------------------------- records made by independent means
+# grower.fit.synthetic writes the true house's equations out itself and integrates them
+# with scipy's solve_ivp (not grower.solver); the truth is the conductance from the air
+# to the outside air, the sky part and the heat capacity of that house.
+
+
+def test_the_synthetic_house_follows_the_exponential_of_a_first_order_house():
+    """One node, steady outside air and heat: T(t) = T∞ + (T0 − T∞)·exp(−t/τ) with
+    T∞ = T_o + Q/K and τ = C/K (the analytic solution of C dT/dt = K (T_o − T) + Q)."""
+    truth = synthetic.TrueHouse(k_outside_w_per_k=2500.0, c_air_j_per_k=30e6)
+    t = np.arange(0.0, 12 * 3600.0 + 1, 600.0)
+    air = synthetic.integrate(truth, t, np.full(t.size, -2.0), np.full(t.size, 15000.0), [12.0])
+    t_inf = -2.0 + 15000.0 / 2500.0
+    exact = t_inf + (12.0 - t_inf) * np.exp(-t / (30e6 / 2500.0))
+    assert np.max(np.abs(air - exact)) < 1e-6  # solve_ivp at rtol 1e-10
+
+
+def test_the_synthetic_sky_is_swinbanks():
+    """The record's sky temperature, written out in grower.fit.synthetic, agrees with
+    grower.sky's Swinbank (1963) T⁶ form that the fit's boundary uses."""
+    from grower import sky
+
+    t = np.linspace(-20.0, 15.0, 8)
+    assert synthetic.swinbank_sky_c(t) == pytest.approx(sky.swinbank_sky_temperature(t), abs=0.01)
+
+
+def _fit_record(rec, **kw):
+    h = house.read(rec.house_path)
+    return fit_house(h, read_logger_csv(rec.log_path, timezone=h.site.timezone), **kw)
+
+
+def _recovered(result, truth, name, tolerance):
+    """Within `tolerance` of the truth and the truth inside the stated 95 % interval."""
+    p = result.chosen.get(name)
+    assert abs(p.value / truth[name] - 1.0) < tolerance, (name, p.value, truth[name])
+    assert p.low <= truth[name] <= p.high, (name, p.value, p.half_width, truth[name])
+
+
+def test_a_plain_first_order_house_is_recovered(tmp_path):
+    """The issue's record: K = 2,500 W/K to the outside air only, C = 30 MJ/K, heater power
+    logged in 15 kW steps, 0.1 K noise, three nights. The single factor on every
+    conductance gave 969 W/K; with the conduction, the sky and the ground apart, K to
+    the outside air comes within 5 % and C within 10 %, the truth inside the intervals."""
+    rec = synthetic.plain_house(tmp_path)
+    r = _fit_record(rec)
+    assert r.model == "lumped" and r.anchor == "measured power" and r.quality == "good"
+    _recovered(r, rec.truth, "k_outside_w_per_k", 0.05)
+    _recovered(r, rec.truth, "c_j_per_k", 0.10)
+    sky = r.chosen.get("k_sky_w_per_k")
+    assert sky.low <= 0.0 and sky.high < 0.05 * 2500.0  # no sky path in this house
+    assert r.chosen.get("k_w_per_k").value == pytest.approx(2500.0, rel=0.05)
+
+
+def test_a_plain_house_with_its_heater_logged_on_and_off_rests_on_the_rating(tmp_path):
+    rec = synthetic.plain_house(tmp_path, heater="state", seed=1)
+    r = _fit_record(rec, model="lumped")
+    assert r.anchor == "heater rating"
+    _recovered(r, rec.truth, "k_outside_w_per_k", 0.05)
+    _recovered(r, rec.truth, "c_j_per_k", 0.10)
+
+
+@pytest.mark.parametrize("share", [0.5, 2.0])
+def test_a_house_whose_sky_share_differs_from_the_geometrys_is_recovered(tmp_path, share):
+    """The geometry's one-node house with the sky part × ½ and × 2 (condensation, dust, a
+    different film), heater power logged: K to the outside air within 5 %, C within 10 %,
+    the sky part found at its true share; every truth inside the stated interval."""
+    rec = synthetic.sky_share_house(tmp_path, share, k_scale=1.1, c_scale=0.9)
+    r = _fit_record(rec, model="lumped")
+    assert r.quality == "good"
+    _recovered(r, rec.truth, "k_outside_w_per_k", 0.05)
+    _recovered(r, rec.truth, "c_j_per_k", 0.10)
+    _recovered(r, rec.truth, "k_sky_w_per_k", 0.10)
+
+
+def test_a_two_node_house_is_recovered(tmp_path):
+    """The geometry's two-node house (air; floor, water and benches) with its conduction
+    × 1.1, the coupling × 1.2 more, every capacity × 0.9, heater power logged: the
+    two-node model is chosen, K to the outside air within 5 %, C within 10 %."""
+    rec = synthetic.two_node_house(tmp_path)
+    r = _fit_record(rec)
+    assert r.model == "two-node" and r.quality == "good"
+    _recovered(r, rec.truth, "k_outside_w_per_k", 0.05)
+    _recovered(r, rec.truth, "c_j_per_k", 0.10)
+    _recovered(r, rec.truth, "coupling_w_per_k", 0.10)
+
+
+def test_cli_json_carries_the_conductance_to_the_outside_air_and_to_the_sky(tmp_path, capsys):
+    rec = synthetic.sky_share_house(tmp_path, 0.5)
+    args = ["fit", str(rec.house_path), "--log", str(rec.log_path), "--model", "lumped"]
+    assert main([*args, "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["k_outside_w_per_k"] == pytest.approx(rec.truth["k_outside_w_per_k"], rel=0.05)
+    assert doc["k_sky_w_per_k"] == pytest.approx(rec.truth["k_sky_w_per_k"], rel=0.1)
+    assert doc["k_w_per_k"] >= doc["k_outside_w_per_k"] + doc["k_sky_w_per_k"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "of it to outside air" in out and "of it to the sky" in out
+
+
+def test_the_whole_chain_moves_the_plans_to_the_example_houses_truth(tmp_path, capsys):
+    """fit --write on a copy of the example house, then size and tonight: each lands
+    within a quarter of the way from the truth to the uncalibrated figure, where the
+    truth is the same house with the true parts of examples/logger-gable-house.truth.json
+    stored as its calibration (size: the conduction × 1.15 raises the heater; the sky
+    part × 0.70 is floored at the geometry's; tonight: less sky, a warmer night)."""
+    doc = json.loads((EXAMPLES / "logger-gable-house.truth.json").read_text(encoding="utf-8"))
+    t, g = doc["truth"], doc["geometry"]
+    src = (EXAMPLES / "gable-house.toml").read_text(encoding="utf-8")
+    paths = {name: tmp_path / f"{name}.toml" for name in ("geometry", "fitted", "truth")}
+    for path in paths.values():
+        path.write_text(src, encoding="utf-8")
+    paths["truth"].write_text(
+        src + '\n[calibration]\nformat = 2\nmodel = "two-node"\n'
+        f"k_outside_w_per_k = {t['k_outside_w_per_k']}\nk_sky_w_per_k = {t['k_sky_w_per_k']}\n"
+        f"c_j_per_k = {t['c_j_per_k']}\n"
+        f"geometry_k_outside_w_per_k = {g['k_outside_w_per_k']}\n"
+        f"geometry_k_sky_w_per_k = {g['k_sky_w_per_k']}\ngeometry_c_j_per_k = {g['c_j_per_k']}\n",
+        encoding="utf-8",
+    )
+    log = str(EXAMPLES / "logger-gable-house.csv")
+    assert main(["fit", str(paths["fitted"]), "--log", log, "--write", "--json"]) == 0
+    capsys.readouterr()
+
+    def run(*argv) -> dict:
+        assert main([*argv, "--json"]) in (0, 3)
+        return json.loads(capsys.readouterr().out)
+
+    night = ["--crop", "tomato", "--forecast", str(EXAMPLES / "forecast-cold-night.csv")]
+    night += ["--start", "2026-12-03T18:00"]
+    got = {
+        name: (
+            run("size", str(p), "--outside", "-20C", "--hold", "10C")["heat_loss_w"],
+            run("tonight", str(p), *night)["min_plant_c"],
+        )
+        for name, p in paths.items()
+    }
+    for i in range(2):
+        geometry, fitted, truth = (got[n][i] for n in ("geometry", "fitted", "truth"))
+        assert abs(fitted - truth) < 0.25 * abs(geometry - truth), (i, got)
+    assert got["truth"][0] > got["geometry"][0] and got["truth"][1] > got["geometry"][1]

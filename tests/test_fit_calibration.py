@@ -9,6 +9,7 @@ geometry's value at the record's conditions), so the writer is checked on known 
 from __future__ import annotations
 
 import datetime as dt
+from dataclasses import replace
 from pathlib import Path
 from zoneinfo import ZoneInfo
 
@@ -174,3 +175,63 @@ def test_a_rough_fit_is_stored_as_rough_and_used_with_a_note(gable):
     assert hm.build(h).calibrated
     note = hm.calibration_note(h, "two-node")
     assert "ROUGH fit (stored with --keep-rough, residual 2.5 × the sensor's noise)" in note
+
+
+def _lumped_fit(path: str, nights: tuple[float, ...] | None) -> FitResult:
+    """A lumped fit of the example house: conduction × 1.10, the deep-ground path × 0.40
+    fitted apart, the sky × 0.60 (or night by night, `nights`), C × 0.90."""
+    h = house.read(path)
+    kw = dict(mean_radiant_temp_c=MEAN_OUT - 5.0, air_temp_c=MEAN_OUT, use_calibration=False)
+    geo = hm.build(h, kind="lumped", wind_m_s=WIND, **kw)
+    k_o, k_s, k_g = geo.network.boundary_w_per_k[0]
+    sky = 0.6 if nights is None else float(np.mean(nights))
+    fit_out, fit_sky, fit_ground = 1.1 * k_o, sky * k_s, 0.4 * k_g
+    params = (
+        Parameter("k_w_per_k", fit_out + fit_sky + fit_ground, 40.0, k_o + k_s + k_g, "fitted"),
+        Parameter("c_j_per_k", 0.9 * geo.c_j_per_k, 1e5, geo.c_j_per_k, "fitted"),
+        Parameter("k_outside_w_per_k", fit_out, 20.0, k_o, "fitted"),
+        Parameter("k_sky_w_per_k", fit_sky, 15.0, k_s, "fitted"),
+    )
+    base = _fit(path)
+    chosen = replace(
+        base.chosen,
+        model="lumped",
+        parameters=params,
+        scales={"k_scale": 1.1, "sky_scale": sky, "c_scale": 0.9},
+        sky_by_segment=nights,
+    )
+    return replace(base, chosen=chosen)
+
+
+def test_a_lumped_fit_with_its_ground_path_apart_is_stored_and_applied(gable):
+    write_calibration(gable, _lumped_fit(str(gable), None))
+    h = house.read(gable)
+    table = h.calibration
+    assert table["model"] == "lumped" and "k_sky_by_night_w_per_k" not in table
+    assert table["k_ground_w_per_k"] / table["geometry_k_ground_w_per_k"] == pytest.approx(
+        0.4, rel=1e-4
+    )
+    kw = dict(wind_m_s=WIND, mean_radiant_temp_c=MEAN_OUT - 5.0, air_temp_c=MEAN_OUT)
+    geo = hm.build(h, kind="lumped", use_calibration=False, **kw)
+    cal = hm.build(h, kind="lumped", **kw)
+    ratio = cal.network.boundary_w_per_k[0] / geo.network.boundary_w_per_k[0]
+    assert list(ratio) == pytest.approx([1.1, 0.6, 0.4], rel=1e-4)  # air, sky, deep ground
+
+
+def test_a_sky_fitted_night_by_night_is_taken_at_its_clearest_night(gable):
+    """Without cloud in the record a cloudy night lowers that night's sky factor; the
+    runs take the largest (the clearest night), not the record's mean."""
+    write_calibration(gable, _lumped_fit(str(gable), (0.3, 0.8, 0.5)))
+    h = house.read(gable)
+    table = h.calibration
+    nights = table["k_sky_by_night_w_per_k"]
+    assert [n / table["geometry_k_sky_w_per_k"] for n in nights] == pytest.approx(
+        [0.3, 0.8, 0.5], rel=1e-4
+    )
+    assert table["k_sky_w_per_k"] / table["geometry_k_sky_w_per_k"] == pytest.approx(
+        np.mean([0.3, 0.8, 0.5]), rel=1e-4
+    )
+    cal = hm.calibration_of(h, kind="lumped")
+    assert cal.sky_factor == pytest.approx(0.8, rel=1e-4)
+    note = hm.calibration_note(h, "lumped")
+    assert "sky part × 0.80 (the clearest of the record's nights)" in note

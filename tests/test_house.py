@@ -278,6 +278,9 @@ def test_an_older_calibration_is_read_but_not_checked():
         (("k_sky_w_per_k = ", "k_sky_w_per_k = -"), ["calibration.k_sky_w_per_k", "non-negative"]),
         (('quality = "good"', 'quality = "meh"'), ["calibration.quality", "rough"]),
         (("rms_k = 0.3", "rms_k = nan"), ["calibration.rms_k"]),
+        (("rms_k = 0.3", "k_ground_w_per_k = 5.0"), ["go together"]),
+        (("rms_k = 0.3", "k_sky_by_night_w_per_k = 5.0"), ["k_sky_by_night", "list"]),
+        (("rms_k = 0.3", "k_sky_by_night_w_per_k = [1.0, -2.0]"), ["non-negative"]),
     ],
 )
 def test_a_malformed_format_2_table_is_one_line_exit_2(tmp_path, capsys, edit, words):

@@ -44,6 +44,8 @@ KEYS = (
     "k_outside_w_per_k_ci95",
     "k_sky_w_per_k",
     "k_sky_w_per_k_ci95",
+    "k_sky_by_night_w_per_k",
+    "k_ground_w_per_k",
     "k_w_per_k",
     "k_w_per_k_ci95",
     "c_j_per_k",
@@ -59,6 +61,7 @@ KEYS = (
     "geometry_k_outside_w_per_k",
     "geometry_k_sky_w_per_k",
     "geometry_c_j_per_k",
+    "geometry_k_ground_w_per_k",
     "record_wind_m_s",
     "record_mean_outside_c",
     "rms_k",
@@ -73,11 +76,12 @@ KEYS = (
 _HEADER_COMMENTS = (
     "format 2, written by `grower fit --write` from a logger record. k_outside_w_per_k:",
     "the fitted conductance from the inside air to the outside air; k_sky_w_per_k: the",
-    "fitted sky part (the extra loss per kelvin of clear sky below the air); geometry_*:",
-    "the geometry's values at the record's conditions (record_wind_m_s,",
-    "record_mean_outside_c). tonight, stock and size scale the geometry by",
-    "fitted/geometry at each night's own wind (size never below the geometry's figure);",
-    "--no-calibration ignores this table; delete it to use the geometry",
+    "fitted sky part (the extra loss per kelvin of clear sky below the air; by night, where",
+    "the record has no cloud: the runs take the clearest); geometry_*: the geometry's",
+    "values at the record's conditions (record_wind_m_s, record_mean_outside_c). tonight,",
+    "stock and size scale the geometry by fitted/geometry at each night's own wind (size",
+    "never below the geometry's figure); --no-calibration ignores this table; delete it",
+    "to use the geometry",
 )
 #: header lines an older `grower fit` wrote, replaced by `_HEADER_COMMENTS` on a refit
 _OLD_HEADER_COMMENTS = (
@@ -91,43 +95,26 @@ def _sig(value: float, digits: int = 5) -> float:
 
 
 def _parts(result: FitResult) -> dict[str, tuple[float, float, float]]:
-    """(value, 95 % half-width, the geometry's value) of K_out, K_sky and C.
+    """(value, 95 % half-width, the geometry's value) of K_out, K_sky, C and, for a lumped
+    fit whose path to the deep ground was fitted apart, K_ground.
 
-    The estimator fits the conduction to outside air and the sky part apart and reports
-    both beside the geometry's value at the record's conditions. A fit that scaled every
-    conductance by one factor reports K only: its two parts are that factor times the
-    geometry's (rebuilt here at the record's conditions, as `grower.fit.data.prepare`
-    builds them), with K's relative half-width. The sky part is the sum of the network's
-    sky columns (cover faces and floor to the sky), as the estimator reports it.
+    The estimator reports the conduction to outside air and the sky part beside the
+    geometry's at the record's conditions (`grower.fit.estimate`); the lumped model's
+    ground path is what K leaves of them (K = K_out + K_sky + K_ground, for the fit and
+    for the geometry alike).
     """
     fit = result.chosen
-    c = fit.get("c_j_per_k")
-    out = {"c_j_per_k": (c.value, c.half_width, c.geometry)}
-    k_out, k_sky = fit.get("k_outside_w_per_k"), fit.get("k_sky_w_per_k")
-    if k_out is not None and k_sky is not None:
-        out["k_outside_w_per_k"] = (k_out.value, k_out.half_width, k_out.geometry)
-        out["k_sky_w_per_k"] = (k_sky.value, k_sky.half_width, k_sky.geometry)
-        return out
-    from grower import house
-    from grower.plans import model as hm
-
-    mean_out = float(np.mean(result.outside_c))
-    geometry = hm.build(
-        house.read(result.house_path),
-        kind=fit.model,
-        wind_m_s=result.wind_m_s,
-        curtain_closed=True,
-        mean_radiant_temp_c=mean_out - 5.0,
-        air_temp_c=mean_out,
-        use_calibration=False,
-    )
+    got = {name: fit.get(name) for name in ("k_outside_w_per_k", "k_sky_w_per_k", "c_j_per_k")}
+    missing = [name for name, p in got.items() if p is None]
+    if missing:
+        raise ValueError(f"the fit reports no {', '.join(missing)}: cannot store format 2")
+    out = {name: (p.value, p.half_width, p.geometry) for name, p in got.items()}
     k = fit.get("k_w_per_k")
-    factor, rel = k.value / geometry.k_w_per_k, k.relative
-    for name, g in (
-        ("k_outside_w_per_k", geometry.k_conduction_w_per_k),
-        ("k_sky_w_per_k", float(np.asarray(geometry.network.boundary_w_per_k)[:, 1].sum())),
-    ):
-        out[name] = (factor * g, rel * factor * g, g)
+    if fit.model == "lumped" and k is not None and k.geometry:
+        k_out, k_sky = got["k_outside_w_per_k"], got["k_sky_w_per_k"]
+        ground_geo = k.geometry - k_out.geometry - k_sky.geometry
+        if ground_geo > 1e-9 * k.geometry:
+            out["k_ground_w_per_k"] = (k.value - k_out.value - k_sky.value, 0.0, ground_geo)
     return out
 
 
@@ -164,9 +151,17 @@ def calibration_values(result: FitResult) -> dict[str, Any]:
         out[p.name] = _sig(p.value)
         if p.status != "anchor":
             out[f"{p.name}_ci95"] = _sig(p.half_width, 3)
+    nights = fit.sky_by_segment
+    if nights:  # the sky fitted night by night: each night's, for the clearest
+        geo_sky = parts["k_sky_w_per_k"][2]
+        out["k_sky_by_night_w_per_k"] = [_sig(f * geo_sky) for f in nights]
+    if "k_ground_w_per_k" in parts:
+        out["k_ground_w_per_k"] = _sig(max(parts["k_ground_w_per_k"][0], 0.0))
     out["geometry_k_outside_w_per_k"] = _sig(parts["k_outside_w_per_k"][2])
     out["geometry_k_sky_w_per_k"] = _sig(parts["k_sky_w_per_k"][2])
     out["geometry_c_j_per_k"] = _sig(parts["c_j_per_k"][2])
+    if "k_ground_w_per_k" in parts:
+        out["geometry_k_ground_w_per_k"] = _sig(parts["k_ground_w_per_k"][2])
     out["record_wind_m_s"] = _sig(result.wind_m_s, 3)
     out["record_mean_outside_c"] = _sig(float(np.mean(result.outside_c)), 3)
     out["rms_k"] = _sig(fit.rms_k, 3)

@@ -104,6 +104,8 @@ class FitData:
     outside_source: str
     wind_m_s: float
     notes: tuple[str, ...]
+    #: the boundary has a cloud cover: one sky factor for the record, else one per segment
+    cloud_given: bool = False
 
     @property
     def rows(self) -> np.ndarray:
@@ -398,12 +400,7 @@ def prepare(
             "was the house open? log clear nights with the house closed",
             where=record.path,
         )
-    if "cloud_cover_pct" not in cols:
-        notes.append(
-            "no cloud cover: the nights are taken as clear (sky temperature from the outside "
-            "air); under cloud the sky is warmer and the fit is biased: give cloud_cover_pct in "
-            "an --outside file"
-        )
+    cloud = "cloud_cover_pct" in cols
     return FitData(
         house=house,
         record=record,
@@ -415,4 +412,5 @@ def prepare(
         outside_source=source,
         wind_m_s=wind,
         notes=tuple(notes),
+        cloud_given=cloud,
     )

@@ -65,12 +65,22 @@ MIN_EIGEN_RATIO = 1e-12
 #: (common practice, no source: logger accuracy ±0.5 K, model error a few tenths)
 MAX_RMS_K = 1.5
 CONFIDENCE = 0.95
+#: a variant with more parameters (its own sky or ground factor, a sky factor per night)
+#: replaces a simpler one only when its AIC is lower by more than this: a difference over
+#: 10 leaves "essentially no support" for the worse model (Burnham & Anderson 2002, §2.6;
+#: from memory)
+AIC_MARGIN = 10.0
+#: fewest nights (segments) for the night-block interval: with two, Student's t has one
+#: degree of freedom and the sandwich one score direction (common practice, no source)
+MIN_BLOCKS = 3
 #: the residuals' lag-1 autocorrelation used to widen the intervals is capped here (an
 #: inflation of 39): beyond it the record is one long wave and the fit is refused anyway
 MAX_LAG1 = 0.95
 #: allowed range of each scale factor on the geometry (common practice, no source: far
 #: outside the ±30 % of handbook U-values, so only a wrong record reaches it)
 SCALE_BOUNDS = (0.05, 20.0)
+#: columns of the boundary conductances (`grower.plans.model.BOUNDARIES`)
+OUTSIDE, SKY, GROUND = 0, 1, 2
 #: allowed range of a fitted starting temperature (air or mass) [°C]
 START_BOUNDS_C = (-40.0, 60.0)
 
@@ -78,7 +88,15 @@ START_BOUNDS_C = (-40.0, 60.0)
 class _Problem:
     """The residual function of one model on one record."""
 
-    def __init__(self, data: FitData, kind: str, anchor: str, fit_coupling: bool = True) -> None:
+    def __init__(
+        self,
+        data: FitData,
+        kind: str,
+        anchor: str,
+        fit_coupling: bool = True,
+        sky: str = "one",
+        free_ground: bool = False,
+    ) -> None:
         self.data, self.kind, self.anchor = data, kind, anchor
         mdl = data.lumped if kind == "lumped" else data.two_node
         net = mdl.network
@@ -87,25 +105,37 @@ class _Problem:
         self.g0 = np.array(net.coupling_w_per_k)
         self.h0 = np.array(net.boundary_w_per_k)
         self.k_geom, self.c_geom = mdl.k_w_per_k, mdl.c_j_per_k
+        self.k_out_geom = float(self.h0[:, OUTSIDE].sum())
+        self.k_sky_geom = float(self.h0[:, SKY].sum())
+        self.k_ground_geom = mdl.k_ground_w_per_k  # lumped: the node's; two-node: 0 (on the mass)
         self.coupling_geom = mdl.capacities.air_mass_w_per_k if kind == "two-node" else None
         house = data.house
         self.rating_w = house.heater_output_w if house.heaters else None
         self.q_ref = self.rating_w or self.k_geom * 10.0
+        nseg = len(data.segments)
         names, start, lo, hi = ["c"], [1.0], [SCALE_BOUNDS[0]], [SCALE_BOUNDS[1]]
         if anchor in ("measured power", "heater rating"):
             names.append("k")
+            if free_ground and self.h0[:, GROUND].sum() > 0:
+                names.append("kg")
         if kind == "two-node" and fit_coupling:
             names.append("g")
         if data.heater == "state" and anchor != "heater rating":
             names.append("q")
         if data.with_days:
             names.append("s")
+        if self.k_sky_geom > 0 and sky != "held":
+            # the sky part apart from the conduction: one factor, or one per segment (a
+            # cloud the record does not log warms the sky night by night)
+            names += [f"ks{i}" for i in range(nseg)] if sky == "night" and nseg > 1 else ["ks"]
         for n in names[1:]:
             start.append(1.0)
-            lo.append(0.0 if n in ("q", "s") else SCALE_BOUNDS[0])
+            lo.append(0.0 if n in ("q", "s", "kg") or n.startswith("ks") else SCALE_BOUNDS[0])
             hi.append(SCALE_BOUNDS[1])
-        self.globals = tuple(names)
-        nseg = len(data.segments)
+        self.globals = tuple(n for n in names if not n.startswith("ks"))
+        self.sky_names = tuple(n for n in names if n.startswith("ks"))
+        self.weights = np.array([s.rows.size for s in data.segments], dtype=float)
+        self.weights /= self.weights.sum()
         for i, seg in enumerate(data.segments):
             names.append(f"air{i}")
             start.append(float(seg.inside_c[0]))
@@ -116,7 +146,7 @@ class _Problem:
         lo += [START_BOUNDS_C[0]] * (len(names) - len(lo))
         hi += [START_BOUNDS_C[1]] * (len(names) - len(hi))
         self.names = tuple(names)
-        self.air_at = len(self.globals)
+        self.air_at = len(self.globals) + len(self.sky_names)
         self.mass_at = self.air_at + nseg if kind == "two-node" else None
         self.lo, self.hi = np.array(lo), np.array(hi)
         span = self.hi - self.lo
@@ -139,26 +169,44 @@ class _Problem:
     def values(self, theta: np.ndarray) -> dict[str, float]:
         p = dict(zip(self.names, theta, strict=True))
         q_w = self.rating_w if self.anchor == "heater rating" else p.get("q", 0.0) * self.q_ref
+        nseg = len(self.data.segments)
+        if "ks" in p:
+            sky = np.full(nseg, p["ks"])
+        elif self.sky_names:
+            sky = np.array([p[f"ks{i}"] for i in range(nseg)])
+        else:
+            sky = np.full(nseg, p.get("k", 1.0))
         return {
             "k": p.get("k", 1.0),
+            "kg": p.get("kg", p.get("k", 1.0)),
             "c": p["c"],
             "g": p.get("g", 1.0),
             "q_w": q_w or 0.0,
             "s": p.get("s", 0.0),
+            "sky": sky,
+            "ks": float(self.weights @ sky),  # the record's mean, weighted by rows
         }
 
-    def simulate(self, theta: np.ndarray) -> list[np.ndarray]:
-        v = self.values(theta)
-        net = solver.Network(
+    def network(self, v: dict, segment: int) -> solver.Network:
+        """The fitted network of one segment: the conduction (outside air, deep ground,
+        the air–mass coupling) × k, the coupling × g more, the sky × its factor."""
+        h = self.h0 * v["k"]
+        h[:, SKY] = self.h0[:, SKY] * v["sky"][segment]
+        h[:, GROUND] = self.h0[:, GROUND] * v["kg"]
+        return solver.Network(
             self.c0 * v["c"],
             self.g0 * v["k"] * v["g"],
-            self.h0 * v["k"],
+            h,
             self.net0.node_names,
             self.net0.boundary_names,
         )
+
+    def simulate(self, theta: np.ndarray) -> list[np.ndarray]:
+        v = self.values(theta)
         out = []
-        n = net.n_nodes
         for i, seg in enumerate(self.data.segments):
+            net = self.network(v, i)
+            n = net.n_nodes
             x0 = [theta[self.air_at + i]]
             if n == 2:
                 x0.append(theta[self.mass_at + i])
@@ -191,11 +239,15 @@ class _Problem:
 
     def reported(self, theta: np.ndarray) -> dict[str, float]:
         v = self.values(theta)
+        k_out = v["k"] * self.k_out_geom
+        k_sky = v["ks"] * self.k_sky_geom
         out = {
-            "k_w_per_k": v["k"] * self.k_geom,
+            "k_w_per_k": k_out + k_sky + v["kg"] * self.k_ground_geom,
             "c_j_per_k": v["c"] * self.c_geom,
         }
         out["time_constant_h"] = out["c_j_per_k"] / out["k_w_per_k"] / 3600.0
+        out["k_outside_w_per_k"] = k_out
+        out["k_sky_w_per_k"] = k_sky
         if self.kind == "two-node":
             out["coupling_w_per_k"] = v["k"] * v["g"] * self.coupling_geom
         if self.data.heater == "state":
@@ -205,10 +257,15 @@ class _Problem:
         return out
 
     def status(self, name: str) -> str:
+        conduction = "fitted" if "k" in self.globals else "anchor"
+        if name == "k_outside_w_per_k":
+            return conduction
         if name == "k_w_per_k":
-            return "fitted" if "k" in self.globals else "anchor"
+            return "fitted" if "k" in self.globals else "derived" if self.sky_names else "anchor"
+        if name == "k_sky_w_per_k":
+            return "fitted" if self.sky_names else conduction
         if name == "coupling_w_per_k" and "g" not in self.globals:
-            return "fitted" if "k" in self.globals else "anchor"  # scales with K only
+            return conduction  # scales with the conduction only
         if name == "heater_output_w":
             return "anchor" if self.anchor == "heater rating" else "fitted"
         if name == "time_constant_h":
@@ -218,6 +275,8 @@ class _Problem:
     def geometry(self, name: str) -> float | None:
         return {
             "k_w_per_k": self.k_geom,
+            "k_outside_w_per_k": self.k_out_geom,
+            "k_sky_w_per_k": self.k_sky_geom,
             "c_j_per_k": self.c_geom,
             "time_constant_h": self.c_geom / self.k_geom / 3600.0,
             "coupling_w_per_k": self.coupling_geom,
@@ -254,15 +313,22 @@ def _solve(prob: _Problem) -> optimize.OptimizeResult:
 def _at_bound(prob: _Problem, x: np.ndarray) -> list[str]:
     span = prob.hi - prob.lo
     near = (x - prob.lo < 1e-6 * span) | (prob.hi - x < 1e-6 * span)
-    return [n for n, b in zip(prob.names, near, strict=True) if b and n not in ("q", "s")]
+    # a heater, sun or sky factor at 0 is a possible answer (no heat, no sky excess)
+    return [
+        n
+        for n, b in zip(prob.names, near, strict=True)
+        if b and n not in ("q", "s", "kg") and not n.startswith("ks")
+    ]
 
 
 def _physical(name: str) -> str:
     if name.startswith("air"):
         return "time_constant_h"
+    if name.startswith("ks"):
+        return "k_sky_w_per_k"
     return {
         "c": "c_j_per_k",
-        "k": "k_w_per_k",
+        "k": "k_outside_w_per_k",
         "g": "coupling_w_per_k",
         "q": "heater_output_w",
         "s": "sun_factor",
@@ -274,16 +340,96 @@ def _pretty(name: str) -> str:
         return f"the floor's starting temperature (segment {int(name[4:]) + 1})"
     if name.startswith("air"):
         return f"the air's starting temperature (segment {int(name[3:]) + 1})"
+    if name.startswith("ks") and name != "ks":
+        return f"the sky part (segment {int(name[2:]) + 1})"
     return LABELS[_physical(name)]
 
 
-def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True) -> ModelFit:
+def cluster_covariance(
+    jac: np.ndarray, residuals: np.ndarray, blocks: list[np.ndarray]
+) -> np.ndarray | None:
+    """The cluster-robust (sandwich) covariance of the fitted parameters, whole blocks of
+    rows (nights) as clusters, or None with fewer than `MIN_BLOCKS` blocks.
+
+    ``(JᵀJ)⁻¹ (Σ_g J_gᵀ r_g r_gᵀ J_g) (JᵀJ)⁻¹ · G/(G − 1) · (n − 1)/(n − p)`` (the
+    CR1 small-sample factor), J the Jacobian at the optimum, r_g and J_g the residuals
+    and Jacobian rows of block g. It allows any correlation of the errors within a night
+    and none between nights. A parameter that belongs to one night only (its starting
+    state) has a zero score there at the optimum, so its own sandwich variance is not
+    meaningful; the values reported (K, C, …) are functions of the shared parameters.
+    """
+    g = len(blocks)
+    n, p = jac.shape
+    if g < MIN_BLOCKS or n <= p:
+        return None
+    norms = np.linalg.norm(jac, axis=0)
+    norms = np.where(norms == 0, 1.0, norms)
+    js = jac / norms
+    bread = np.linalg.pinv(js.T @ js)
+    scores = np.array([js[b].T @ residuals[b] for b in blocks])
+    meat = scores.T @ scores * (g / (g - 1)) * ((n - 1) / (n - p))
+    return bread @ meat @ bread / np.outer(norms, norms)
+
+
+def estimate(
+    data: FitData,
+    kind: str,
+    anchor: str,
+    *,
+    fit_coupling: bool = True,
+    sky: str | None = None,
+    ground: bool | None = None,
+) -> ModelFit:
+    """Fit one model (`kind` "lumped" or "two-node") to the prepared record.
+
+    `fit_coupling` False holds the two-node model's air–mass coupling at the geometry's
+    (times the conduction factor), for a record too thin to fit it. `sky`: "held" scales
+    the sky part with the conduction (the geometry's sky share), "one" fits one factor
+    on it for the record, "night" one per segment (not tried where the cloud is logged
+    or there is one segment); None (the default) tries each.
+    `ground` True fits the lumped model's path to the deep ground with a factor of its
+    own, False scales it with the conduction; None (the default, with a heater anchor):
+    both, kept by the same rule. Of the variants tried, the one not refused with the
+    lowest AIC is returned, else the first (conduction and ground together, one sky).
+    """
+    skies = ["held", "one", "night"] if sky is None else [sky]
+    if data.cloud_given or len(data.segments) < 2:
+        skies = [x for x in skies if x != "night"] or ["one"]
+    grounds = [False]
+    if kind == "lumped" and anchor in ("measured power", "heater rating") and ground is None:
+        grounds = [False, True]
+    elif ground:
+        grounds = [True]
+    fits = []
+    for free_ground in grounds:
+        for mode in skies:
+            fits.append(_estimate(data, kind, anchor, fit_coupling, mode, free_ground))
+            if "k" not in fits[-1].free_names and mode == "held" and fits[-1].refusal:
+                break  # the held fit is the simplest: if it says nothing, neither do the rest
+    good = sorted((f for f in fits if f.refusal is None), key=lambda f: f.n_free)
+    if not good:
+        return fits[0]
+    best = good[0]
+    for f in good[1:]:  # a richer variant must earn its parameters
+        if f.aic < best.aic - AIC_MARGIN:
+            best = f
+    return best
+
+
+def _estimate(
+    data: FitData,
+    kind: str,
+    anchor: str,
+    fit_coupling: bool,
+    sky: str,
+    free_ground: bool,
+) -> ModelFit:
     """Fit one model (`kind` "lumped" or "two-node") to the prepared record.
 
     `fit_coupling` False holds the two-node model's air–mass coupling at the geometry's
     (times the factor on every conductance), for a record too thin to fit it.
     """
-    prob = _Problem(data, kind, anchor, fit_coupling)
+    prob = _Problem(data, kind, anchor, fit_coupling, sky, free_ground)
     res = _solve(prob)
     theta = res.x
     r = prob.residuals(theta)
@@ -332,19 +478,38 @@ def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True
         ru, rd = prob.reported(up), prob.reported(dn)
         grad[:, j] = [(ru[k] - rd[k]) / (2 * h) for k in names]
     var = np.einsum("ij,jk,ik->i", grad, cov, grad)
+    half = tq * np.sqrt(np.clip(var, 0.0, None))
+    # whole nights as blocks: the cluster-robust (sandwich) covariance, Student's t on
+    # G − 1 degrees of freedom; each value keeps the wider of the two intervals
+    seg_rows = np.split(np.arange(n), sizes)
+    blocks = cluster_covariance(jac, r, seg_rows)
+    by_nights = np.zeros(len(names), dtype=bool)
+    if blocks is not None:
+        t_blocks = float(special.stdtrit(len(seg_rows) - 1, 0.5 + CONFIDENCE / 2.0))
+        half_blocks = t_blocks * np.sqrt(
+            np.clip(np.einsum("ij,jk,ik->i", grad, blocks, grad), 0.0, None)
+        )
+        by_nights = half_blocks > half
+        half = np.maximum(half, half_blocks)
     params = tuple(
         Parameter(
             name=k,
             value=float(rep[k]),
-            half_width=0.0 if prob.status(k) == "anchor" else float(tq * np.sqrt(max(var[i], 0.0))),
+            half_width=0.0 if prob.status(k) == "anchor" else float(half[i]),
             geometry=prob.geometry(k),
             status=prob.status(k),
         )
         for i, k in enumerate(names)
     )
+    wider = tuple(k for i, k in enumerate(names) if by_nights[i] and prob.status(k) != "anchor")
 
     if refusal is None:
         off = np.abs(np.nan_to_num(corr - np.eye(p)))
+        # night-by-night sky factors are nuisances: they may trade off with each other
+        # and the rest; what they leave of K and C is judged by its interval below
+        nuisance = [i for i, nm in enumerate(prob.names) if nm.startswith("ks") and nm != "ks"]
+        off[nuisance, :] = 0.0
+        off[:, nuisance] = 0.0
         i, j = np.unravel_index(int(np.argmax(off)), off.shape) if p > 1 else (0, 0)
         if p > 1 and off[i, j] > MAX_CORRELATION:
             a, b = prob.names[i], prob.names[j]
@@ -355,6 +520,9 @@ def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True
             )
     if refusal is None:
         for prm in params:
+            # the sky part may be near zero (glass, cloud): it is judged by its effect on K
+            if prm.name == "k_sky_w_per_k":
+                continue
             if prm.status != "anchor" and prm.relative > MAX_RELATIVE_CI:
                 refusal = (
                     f"{prm.label} is not pinned down by the record (95 % interval ±"
@@ -409,7 +577,7 @@ def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True
             )
         )
     v = prob.values(theta)
-    scales = {"k_scale": v["k"], "c_scale": v["c"]}
+    scales = {"k_scale": v["k"], "sky_scale": v["ks"], "c_scale": v["c"]}
     if kind == "two-node":
         scales["coupling_scale"] = v["g"]
     return ModelFit(
@@ -427,4 +595,6 @@ def estimate(data: FitData, kind: str, anchor: str, *, fit_coupling: bool = True
         scales=scales,
         refusal=refusal,
         residual_lag1=lag1,
+        sky_by_segment=tuple(float(x) for x in v["sky"]) if len(prob.sky_names) > 1 else None,
+        widened_by_nights=wider,
     )

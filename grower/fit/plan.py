@@ -196,6 +196,7 @@ def fit_house(
             where=where,
         )
 
+    notes = data.notes + sky_notes(chosen, data.cloud_given)
     rows = data.rows
     seg_of = np.concatenate([np.full(s.rows.size, i) for i, s in enumerate(data.segments)])
     return FitResult(
@@ -214,7 +215,7 @@ def fit_house(
         n_record_rows=record.n_rows,
         n_samples=data.n_rows,
         wind_m_s=data.wind_m_s,
-        notes=data.notes,
+        notes=notes,
         times=tuple(record.local(int(i)) for i in rows),
         measured_c=record.inside_c[rows],
         fitted_c=np.concatenate(chosen.fitted_c),
@@ -230,3 +231,27 @@ def fit_house(
 def _heater_at_rows(seg) -> np.ndarray | None:
     h = seg.heater_on if seg.heater_on is not None else seg.heater_w
     return None if h is None else np.asarray(h)[seg.obs]
+
+
+def sky_notes(fit: ModelFit, cloud_given: bool) -> tuple[str, ...]:
+    """What the report says about how the sky part (and the ground) was fitted."""
+    clear = "" if cloud_given else ", on the clear-sky temperature from the outside air"
+    out = []
+    if fit.sky_by_segment is not None:
+        out.append(
+            "no cloud cover logged: the sky part is fitted night by night (a cloud the record "
+            "does not log warms the sky, as would a steady heat nobody logged); K to the sky "
+            "is the nights' mean, weighted by their rows (give cloud_cover_pct in an "
+            "--outside file to fit one sky part)"
+        )
+    elif "ks" in fit.free_names:
+        out.append(f"the sky part is fitted apart from the conduction{clear}")
+    else:
+        out.append(
+            "the sky part is held at the geometry's share of the conduction (the record does "
+            "not tell them apart)"
+            + ("" if cloud_given else "; no cloud cover: the nights are taken as clear")
+        )
+    if "kg" in fit.free_names:
+        out.append("the path to the deep ground is fitted with a factor of its own")
+    return tuple(out)

@@ -10,6 +10,8 @@ import numpy as np
 #: what to log when a parameter is not identified
 ADVICE = {
     "k_w_per_k": "log nights with the heater both on and off, with its power (W)",
+    "k_outside_w_per_k": "log nights with the heater both on and off, with its power (W)",
+    "k_sky_w_per_k": "log the cloud cover (cloud_cover_pct in an --outside file), and nights both clear and cloudy",
     "c_j_per_k": "log at least two clear nights with the heater off, so the house cools at its own pace",
     "time_constant_h": "log at least two clear nights with the heater off, so the house cools at its own pace",
     "heater_output_w": "log the heater's on/off state on nights when it cycles on and off (running part of the time, not all night)",
@@ -19,6 +21,8 @@ ADVICE = {
 }
 LABELS = {
     "k_w_per_k": "conductance K",
+    "k_outside_w_per_k": "conductance to the outside air",
+    "k_sky_w_per_k": "conductance to the sky",
     "c_j_per_k": "heat capacity C",
     "time_constant_h": "time constant C/K",
     "coupling_w_per_k": "air–floor coupling",
@@ -27,6 +31,8 @@ LABELS = {
 }
 UNITS = {
     "k_w_per_k": "W/K",
+    "k_outside_w_per_k": "W/K",
+    "k_sky_w_per_k": "W/K",
     "c_j_per_k": "J/K",
     "time_constant_h": "h",
     "coupling_w_per_k": "W/K",
@@ -109,6 +115,10 @@ class ModelFit:
     refusal: str | None = None
     #: lag-1 autocorrelation of the residuals, within segments (NaN if too few)
     residual_lag1: float = float("nan")
+    #: the sky factor of each segment where it is fitted night by night (no cloud logged)
+    sky_by_segment: tuple[float, ...] | None = None
+    #: the reported values whose night-block (cluster-robust) interval was the wider one
+    widened_by_nights: tuple[str, ...] = ()
 
     def get(self, name: str) -> Parameter | None:
         return next((p for p in self.parameters if p.name == name), None)

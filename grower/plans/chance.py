@@ -14,7 +14,8 @@ is the same in every member (the inside air now is what it is).
 **The house's K**: every member also gets a factor on the conductances to the outside
 air and the sky, 1 + s·z with s the 95 % half-width over 1.96: the fit's interval when
 the house file's ``[calibration]`` carries one (``k_w_per_k_ci95``, or
-``k_outside_w_per_k_ci95``), else the handbook spread the README states (U-values and air
+``k_outside_w_per_k_ci95`` with ``k_sky_w_per_k_ci95`` added to it, `k_spread`), else
+the handbook spread the README states (U-values and air
 changes put K within about ±30 % of a real house, taken as a 95 % range). The factors
 are stratified: `K_LEVELS` equally likely levels at the middle quantiles z_j of the
 normal distribution (scaled to unit variance, `k_levels`), one level per member in a
@@ -23,7 +24,10 @@ run). The heat capacity C is not varied.
 
 **Ensemble members** carry their own air temperature, dew point, cloud, wind and sun
 (sky and leaf offset from each), with the K levels the same way. The network is the one
-built for the forecast's mean wind.
+built for the forecast given (its mean wind and outside temperature, at which the cover's
+radiation is linearised), as for tonight's "colder" night: a member 2.5 K colder than the
+forecast comes out within about 0.1 K of the network built for it
+(tests/test_weather_members.py).
 
 A member that never reaches the alarm with no heat never switches the thermostat on
 (the setpoint is the alarm plus the leaf offset, i.e. the air at which the plants reach
@@ -41,7 +45,11 @@ City next-day (12-24 h) high temperature, NWS forecast office RMSE 3.80 °F, MAE
 consensus MOS RMSE 4.04 °F.
 J. A. Baars and C. F. Mass (2005), *Weather and Forecasting* 20(6):1034-1047, and A. A.
 Taylor and L. M. Leslie (2005), *Weather and Forecasting* 20(6):1006-1020 (read: the
-abstracts; interior sites have larger minimum-temperature errors than coastal ones).
+abstracts, no figure quoted from them; interior sites have larger errors than coastal
+ones; page ranges from memory).
+C. J. Talsma, K. C. Solander, M. K. Mudunuru, B. Crawford and M. R. Powell (2023), "Frost
+prediction using machine learning and deep neural network models", *Frontiers in
+Artificial Intelligence* 5:963781, doi:10.3389/frai.2022.963781 (read: the abstract).
 J. A. Hanley and A. Lippman-Hand (1983), "If nothing goes wrong, is everything all
 right?", *JAMA* 249(13):1743-1745 (the rule of three; from memory).
 """
@@ -51,7 +59,7 @@ from __future__ import annotations
 import datetime as dt
 import math
 from dataclasses import dataclass, replace
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
@@ -59,13 +67,20 @@ from grower import solver
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.plans.tonight import HOLD_TOLERANCE_K  # within it of the alarm, the heater holds
+
+if TYPE_CHECKING:
+    from grower.weather.members import Ensemble
 
 #: standard deviation of tomorrow's forecast temperature error [K]: the NWS forecast
 #: office's RMSE of next-day highs at Oklahoma City, 3.80 °F = 2.11 K (Brooks & Doswell
 #: 1996, Table 1, read). Used for the overnight minimum: from memory, day-1 minimum
 #: errors are of the same size (MAE about 1.5-2.5 °C, Taylor & Leslie 2005; Baars & Mass
 #: 2005), larger on calm clear nights and inland; a normal error with this RMSE has an
-#: MAE of 1.7 K (the table's MAE/RMSE, 0.74, is close to a normal's 0.80).
+#: MAE of 1.7 K (the table's MAE/RMSE, 0.74, is close to a normal's 0.80). For scale
+#: (read): machine-learning models of one New Mexico farm's minima, trained on its own
+#: sensors, reach an RMSE of 1.53-1.72 °C 6 h ahead (Talsma et al. 2023), so a public
+#: forecast issued the day before doing 2.1 K is no worse than expected.
 FORECAST_ERROR_K = 3.80 / 1.8
 FORECAST_ERROR_SOURCE = "Brooks & Doswell 1996"
 #: the handbook spread of K the README states: ±30 %, taken as a 95 % range
@@ -77,9 +92,6 @@ DEFAULT_DRAWS = 300
 DEFAULT_SEED = 12
 #: the share of members called "the coldest tenth"
 COLDEST_SHARE = 0.1
-#: a heated member whose plants stay within this of the alarm holds it [K]
-#: (as `grower.plans.tonight.HOLD_TOLERANCE_K`)
-HOLD_TOLERANCE_K = 0.05
 
 
 @dataclass(frozen=True)
@@ -88,7 +100,7 @@ class Spec:
 
     draws: int = DEFAULT_DRAWS
     seed: int = DEFAULT_SEED
-    ensemble: object | None = None  # grower.weather.Ensemble
+    ensemble: Ensemble | None = None
     notes: tuple[str, ...] = ()  # said with the result (e.g. why no ensemble)
 
 
@@ -166,17 +178,27 @@ class Chance:
         return float(lows[n - 1])
 
 
-def k_spread(house: House, kind: hm.ModelKind, use_calibration: bool) -> tuple[float, str]:
+def k_spread(
+    house: House, kind: hm.ModelKind, use_calibration: bool
+) -> tuple[float, Literal["fit", "handbook"]]:
     """(95 % half-width of K as a fraction, "fit" or "handbook") for this run's K."""
     cal = hm.calibration_of(house, use_calibration, kind)
     raw = house.calibration or {}
+
+    def pair(key: str) -> tuple[float, float] | None:  # (value, 95 % half-width)
+        value, ci = raw.get(key), raw.get(f"{key}_ci95")
+        ok = all(isinstance(x, int | float) and not isinstance(x, bool) for x in (value, ci))
+        if ok and value > 0 and math.isfinite(ci) and ci >= 0:
+            return float(value), float(ci)
+        return None
+
     if cal is not None:
-        spreads = []
-        for key in ("k_w_per_k", "k_outside_w_per_k"):
-            value, ci = raw.get(key), raw.get(f"{key}_ci95")
-            ok = all(isinstance(x, int | float) and not isinstance(x, bool) for x in (value, ci))
-            if ok and value > 0 and math.isfinite(ci) and ci >= 0:
-                spreads.append(float(ci) / float(value))
+        spreads = [ci / value for value, ci in filter(None, [pair("k_w_per_k")])]
+        out, sky = pair("k_outside_w_per_k"), pair("k_sky_w_per_k")
+        if out and sky:  # one factor on both: their half-widths added (the wide side)
+            spreads.append((out[1] + sky[1]) / (out[0] + sky[0]))
+        elif out:
+            spreads.append(out[1] / out[0])
         if spreads:
             return min(max(spreads), 0.9), "fit"
     return HANDBOOK_K_SPREAD, "handbook"
@@ -304,10 +326,10 @@ def run(
         try:
             per = [
                 hm.boundary(house, mdl, fc, b.utc_s, pressure_hpa=pressure_hpa, tz=b.tz)
-                for fc in spec.ensemble.members  # type: ignore[attr-defined]
+                for fc in spec.ensemble.members
             ]
         except ValueError:
-            last = min(fc.end for fc in spec.ensemble.members)  # type: ignore[attr-defined]
+            last = min(fc.end for fc in spec.ensemble.members)
             notes.append(
                 f"the ensemble ends at {last:%a %H:%M}, before the night does: drawn nights instead"
             )
@@ -315,7 +337,7 @@ def run(
             boundaries = np.stack([p.solver_boundary(mdl) for p in per])
             offsets = np.stack([p.plant_offset_k for p in per])
             gain_sets = np.stack([p.solver_gains(mdl) for p in per])
-            label = spec.ensemble.label  # type: ignore[attr-defined]
+            label = spec.ensemble.label
     if boundaries is None:
         if spec.draws < 1:
             return None
@@ -369,7 +391,7 @@ def run(
         heater=heater_w is not None,
         forecast_error_k=FORECAST_ERROR_K if shifts is not None else None,
         k_spread=spread,
-        k_basis=basis,  # type: ignore[arg-type]
+        k_basis=basis,
         seed=spec.seed,
         ensemble_label=label,
         notes=tuple(notes),

@@ -76,6 +76,11 @@ class Calibration:
     geometry_k_sky_w_per_k: float
     geometry_c_j_per_k: float
     coupling_scale: float = 1.0  # two-node: the air–floor coupling's own factor
+    #: lumped, the path to the deep ground fitted apart: fitted and geometry [W/K]
+    k_ground_w_per_k: float | None = None
+    geometry_k_ground_w_per_k: float | None = None
+    #: the sky part fitted night by night (no cloud in the record) [W/K]
+    k_sky_by_night_w_per_k: tuple[float, ...] = ()
     quality: str = "good"  # "rough": stored with `grower fit --write --keep-rough`
     rms_k: float | None = None
     noise_k: float | None = None
@@ -89,10 +94,25 @@ class Calibration:
 
     @property
     def sky_factor(self) -> float:
-        """Fitted over geometric sky part: on the sky columns (1 where the geometry has none)."""
+        """Fitted over geometric sky part: on the sky columns (1 where the geometry has none).
+
+        Where the fit took the sky night by night (a record without cloud: a cloud it
+        does not log warms the sky and lowers that night's factor), the clearest night's
+        — the largest — stands for the house: tonight's cloud comes from the forecast,
+        and a clear night is the one that matters for frost.
+        """
         if self.geometry_k_sky_w_per_k <= 0:
             return 1.0
-        return self.k_sky_w_per_k / self.geometry_k_sky_w_per_k
+        sky = max(self.k_sky_by_night_w_per_k, default=self.k_sky_w_per_k)
+        return sky / self.geometry_k_sky_w_per_k
+
+    @property
+    def ground_factor(self) -> float:
+        """On the lumped node's path to the deep ground: its own fit, else the conduction's."""
+        g, geo = self.k_ground_w_per_k, self.geometry_k_ground_w_per_k
+        if self.model == "lumped" and g is not None and geo:
+            return g / geo
+        return self.conduction_factor
 
     @property
     def capacity_factor(self) -> float:
@@ -137,12 +157,19 @@ def calibration_of(
         geometry_k_sky_w_per_k=float(cal["geometry_k_sky_w_per_k"]),
         geometry_c_j_per_k=float(cal["geometry_c_j_per_k"]),
         coupling_scale=float(g),
+        k_ground_w_per_k=_float_or_none(cal.get("k_ground_w_per_k")),
+        geometry_k_ground_w_per_k=_float_or_none(cal.get("geometry_k_ground_w_per_k")),
+        k_sky_by_night_w_per_k=tuple(float(x) for x in cal.get("k_sky_by_night_w_per_k", ())),
         quality=str(cal.get("quality", "good")),
-        rms_k=None if rms is None else float(rms),
-        noise_k=None if noise is None else float(noise),
+        rms_k=_float_or_none(rms),
+        noise_k=_float_or_none(noise),
         record=cal.get("record"),
         fit_date=cal.get("fit_date"),
     )
+
+
+def _float_or_none(v) -> float | None:
+    return None if v is None else float(v)
 
 
 #: the geometry at the record's conditions may differ from the one stored with the fit by
@@ -244,9 +271,10 @@ def calibration_note(house: House, kind: ModelKind, use: bool = True) -> str | N
             f"the geometry (give --model {other} to use it)"
         )
     src = ", ".join(str(x) for x in (fitted.record, fitted.fit_date) if x)
+    clearest = " (the clearest of the record's nights)" if fitted.k_sky_by_night_w_per_k else ""
     text = (
-        f"conduction × {fitted.conduction_factor:.2f}, sky part × {fitted.sky_factor:.2f}, "
-        f"C × {fitted.capacity_factor:.2f} the geometry's, from the house file's "
+        f"conduction × {fitted.conduction_factor:.2f}, sky part × {fitted.sky_factor:.2f}"
+        f"{clearest}, C × {fitted.capacity_factor:.2f} the geometry's, from the house file's "
         f"[calibration] (grower fit{': ' + src if src else ''})"
     )
     if fitted.rough:
@@ -314,7 +342,9 @@ def build(
     the air–mass coupling) by K_out,fit/K_out,geometry, the sky columns by
     K_sky,fit/K_sky,geometry (both geometries at the record's conditions), every capacity
     by C_fit/C_geometry, and a two-node fit's coupling further by its ``coupling_scale``
-    — the scaling `grower fit` fitted.
+    — the scaling `grower fit` fitted. A lumped fit whose deep-ground path was fitted
+    apart scales that path by its own factor; a sky fitted night by night is taken at
+    its clearest night (`Calibration.sky_factor`).
 
     `air_temp_c` is about the outside air: it linearises the cover faces' radiation.
     """
@@ -340,7 +370,7 @@ def build(
     if kind == "lumped":
         red = network.lumped_reduction(cond, caps)
         k_out, k_sky = red.outside_w_per_k * fk, red.sky_w_per_k * fs
-        k_ground = red.deep_ground_w_per_k * fk
+        k_ground = red.deep_ground_w_per_k * (cal.ground_factor if cal else 1.0)
         c_model = red.capacitance_j_per_k * fc
         net = solver.Network(
             capacitance_j_per_k=np.array([c_model]),

@@ -34,6 +34,8 @@ NOISE_NOTE = (
 HIGH_LAG1 = 0.5
 SHORT = {
     "k_w_per_k": "K, conductance",
+    "k_outside_w_per_k": "  of it to outside air",
+    "k_sky_w_per_k": "  of it to the sky",
     "c_j_per_k": "C, heat capacity",
     "time_constant_h": "C/K",
     "coupling_w_per_k": "air–floor coupling",
@@ -93,6 +95,9 @@ def fit_json(r: FitResult, written: dict[str, str] | None = None) -> dict[str, A
         "heater": r.heater,
         "with_days": r.with_days,
         "k_w_per_k": values["k_w_per_k"].value,
+        "k_outside_w_per_k": values["k_outside_w_per_k"].value,
+        "k_sky_w_per_k": values["k_sky_w_per_k"].value,
+        "sky_by_night": None if f.sky_by_segment is None else list(f.sky_by_segment),
         "c_j_per_k": values["c_j_per_k"].value,
         "time_constant_h": values["time_constant_h"].value,
         "parameters": [_param_json(p) for p in f.parameters],
@@ -148,7 +153,7 @@ def fit_json(r: FitResult, written: dict[str, str] | None = None) -> dict[str, A
 
 def _show(name: str, value: float, system: UnitSystem) -> str:
     """A parameter's value in display units."""
-    if name in ("k_w_per_k", "coupling_w_per_k"):
+    if name in ("k_w_per_k", "k_outside_w_per_k", "k_sky_w_per_k", "coupling_w_per_k"):
         return show_conductance(value, system).text(0)
     if name == "c_j_per_k":
         if system == "us":
@@ -329,7 +334,7 @@ def render_fit(
     if written:
         console.print(
             f"Calibration written to {written['file']} \\[calibration]; the previous file is "
-            f"kept as {written['backup']}. tonight and stock now use it (--no-calibration to ignore)."
+            f"kept as {written['backup']}. tonight, stock and size now use it (--no-calibration to ignore)."
         )
     else:
         console.print("[dim]Add --write to store this in the house file's \\[calibration].[/dim]")
