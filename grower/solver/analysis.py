@@ -380,6 +380,19 @@ def analyse(
             r0 = np.zeros((j.sum(), 0))
             el = _ExpLin(np.zeros(0), r0, r0, r0, tc - offa[j] - th[pm[j]], e1[j], pcs.w[j])
             items.append((pm[j], t[pk[j]] + pcs.s0[j], el, np.ones(j.sum(), dtype=bool)))
+    # one exact profile per mode set (steps and pieces of the same modes together)
+    groups: dict[bytes, list] = {}
+    for it in items:
+        groups.setdefault(it[2].lam.tobytes(), []).append(it)
+    items = [
+        (
+            np.concatenate([g[0] for g in grp]),
+            np.concatenate([g[1] for g in grp]),
+            _ExpLin.join([g[2] for g in grp]),
+            np.concatenate([g[3] for g in grp]),
+        )
+        for grp in groups.values()
+    ]
     for member, t0, el, count in items:
         f, gmin, smin, blw = _profile(el)
         below += np.bincount(member[count], weights=blw[count], minlength=mm)
