@@ -151,3 +151,17 @@ def test_curved_input_takes_the_step_path():
     u = np.stack([rng.normal(0, 2, (40, t.size)), np.full((40, t.size), 8.0)], 2)
     tr = solver.free_float(net, t, u, np.full((40, 2), 9.0))
     assert tr.segments is None
+
+
+@pytest.mark.parametrize("bad", [np.nan, np.inf], ids=["nan", "inf"])
+def test_a_bad_value_in_a_big_ensemble_names_its_argument(bad):
+    # the knot search is the many-member path's check for NaN and inf
+    net = two_node()
+    _, _, t, u, x0 = ensemble(40)
+    u[17, 300, 0] = bad
+    with pytest.raises(ValueError, match="boundary_c contains NaN or inf"):
+        solver.free_float(net, t, u, x0)
+    gains = np.zeros((t.size, 2))
+    gains[5, 1] = bad
+    with pytest.raises(ValueError, match="gains_w contains NaN or inf"):
+        solver.free_float(net, t, u[:3], x0[:3], gains)

@@ -27,6 +27,7 @@ interpolation, ``h^2/8 max|g''|``, of elementary analysis.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -46,7 +47,8 @@ _CHUNK = 1 << 17
 
 def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
     """(N-2,) largest change of slope of ``a`` (M, N, w) at each interior grid time, over
-    members and columns, times the longest step [unit of a]; and the largest |a|."""
+    members and columns, times the longest step [unit of a]; and the largest |a| (NaN if
+    ``a`` holds a NaN or an infinity)."""
     ma, nt, w = a.shape
     if nt < 3:
         return np.zeros(0), float(np.abs(a).max(initial=0.0))
@@ -59,7 +61,8 @@ def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
     dd = np.empty((rows, nt - 2, w))
     for i in range(0, ma, rows):
         c = a[i : i + rows]
-        big = max(big, float(c.max()), -float(c.min()))
+        hi, lo = float(c.max()), float(c.min())
+        big = max(big, hi, -lo) if math.isfinite(hi) and math.isfinite(lo) else math.nan
         k = c.shape[0]
         dk, ddk = d[:k], dd[:k]
         np.subtract(c[:, 1:], c[:, :-1], out=dk)
@@ -71,12 +74,17 @@ def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
     return acc.max(axis=1), big
 
 
-def knots(h: np.ndarray, *series: np.ndarray) -> np.ndarray:
-    """Grid indices where some series (each (M, N, w)) bends, with the first and last."""
+def knots(h: np.ndarray, *series: np.ndarray, names: tuple[str, ...] = ()) -> np.ndarray:
+    """Grid indices where some series (each (M, N, w)) bends, with the first and last.
+
+    A series holding a NaN or an infinity is a ValueError naming it (``names``, in order).
+    """
     nt = h.size + 1
     bent = np.zeros(max(nt - 2, 0), dtype=bool)
-    for a in series:
+    for i, a in enumerate(series):
         bend, scale = bends(a, h)
+        if not math.isfinite(scale):
+            raise ValueError(f"{names[i] if i < len(names) else 'input'} contains NaN or inf")
         bent |= bend > KNOT_RTOL * scale
     return np.concatenate([[0], np.flatnonzero(bent) + 1, [nt - 1]])
 
