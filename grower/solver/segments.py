@@ -41,8 +41,8 @@ from .stepping import _phi123
 #: input that curves by less on every step of a run of n steps strays from its chord by
 #: at most n^2/8 of it (6e-12 of the input's size over 60 steps)
 KNOT_RTOL = 64.0 * float(np.finfo(float).eps)
-#: elements of the scratch arrays the knot search works in (a few MB: stays in cache)
-_CHUNK = 1 << 17
+#: elements of the scratch arrays the knot search works in (256 kB: stays in cache)
+_CHUNK = 1 << 15
 
 
 def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
@@ -57,18 +57,23 @@ def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
     uniform = bool(np.all(h == h[0]))
     ih = None if uniform else (h.max() / h)[None, :, None]
     rows = max(1, min(ma, _CHUNK // (nt * w)))
-    d = np.empty((rows, nt - 1, w))
+    d = np.empty((rows, nt - 1, w)) if ih is not None else None
     dd = np.empty((rows, nt - 2, w))
     for i in range(0, ma, rows):
         c = a[i : i + rows]
         hi, lo = float(c.max()), float(c.min())
         big = max(big, hi, -lo) if math.isfinite(hi) and math.isfinite(lo) else math.nan
         k = c.shape[0]
-        dk, ddk = d[:k], dd[:k]
-        np.subtract(c[:, 1:], c[:, :-1], out=dk)
-        if ih is not None:
+        ddk = dd[:k]
+        if ih is None:  # even steps: the second difference, without the first
+            np.add(c[:, 2:], c[:, :-2], out=ddk)
+            ddk -= c[:, 1:-1]
+            ddk -= c[:, 1:-1]
+        else:
+            dk = d[:k]  # type: ignore[index]
+            np.subtract(c[:, 1:], c[:, :-1], out=dk)
             dk *= ih
-        np.subtract(dk[:, 1:], dk[:, :-1], out=ddk)
+            np.subtract(dk[:, 1:], dk[:, :-1], out=ddk)
         np.abs(ddk, out=ddk)
         np.maximum(acc, ddk.max(axis=0), out=acc)  # over the outer axis: contiguous
     return acc.max(axis=1), big
