@@ -14,9 +14,9 @@ computed when they are asked for (`Segments.temps_c`), and `analyse` works on th
 themselves: each run's plant temperature is an exact ``a + b s + sum c_i exp(lam_i s)``
 (`explin`), screened by exact bounds before any root search (`analysis`).
 
-A knot is a grid time where the slope of some input changes by more than `KNOT_RTOL`
-of the input's largest magnitude (per step of the longest step length): round-off of a
-straight line sampled on the grid is far below it, any real bend far above.
+A knot is a grid time where the slope of some input changes, times the step there, by
+more than `KNOT_RTOL` of the input's largest magnitude: round-off of a straight line
+sampled on the grid is far below it, any real bend far above.
 
 References
 ----------
@@ -36,7 +36,7 @@ import numpy as np
 from .network import Network
 from .stepping import _phi123
 
-#: a change of slope (times the longest step) above this share of an input's largest
+#: a change of slope (times the step) above this share of an input's largest
 #: magnitude makes a knot; a straight line sampled by np.interp bends by a few 1e-16. An
 #: input that curves by less on every step of a run of n steps strays from its chord by
 #: at most n^2/8 of it (6e-12 of the input's size over 60 steps)
@@ -47,15 +47,19 @@ _CHUNK = 1 << 15
 
 def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
     """(N-2,) largest change of slope of ``a`` (M, N, w) at each interior grid time, over
-    members and columns, times the longest step [unit of a]; and the largest |a| (NaN if
-    ``a`` holds a NaN or an infinity)."""
+    members and columns, times the step [unit of a] (on uneven steps their harmonic mean);
+    and the largest |a| (NaN if ``a`` holds a NaN or an infinity)."""
     ma, nt, w = a.shape
     if nt < 3:
         return np.zeros(0), float(np.abs(a).max(initial=0.0))
     acc = np.zeros((nt - 2, w))
     big = 0.0
     uniform = bool(np.all(h == h[0]))
-    ih = None if uniform else (h.max() / h)[None, :, None]
+    # uneven steps: the change of slope at each time, weighed by 2/(1/h_left + 1/h_right)
+    # (h on even steps): a slope over a short step carries the round-off of its ends
+    # divided by that step, and over it a bend moves the solution by as little
+    ih = None if uniform else (1.0 / h)[None, :, None]
+    wk = None if uniform else (2.0 / (1.0 / h[1:] + 1.0 / h[:-1]))[None, :, None]
     rows = max(1, min(ma, _CHUNK // (nt * w)))
     d = np.empty((rows, nt - 1, w)) if ih is not None else None
     dd = np.empty((rows, nt - 2, w))
@@ -74,6 +78,7 @@ def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
             np.subtract(c[:, 1:], c[:, :-1], out=dk)
             dk *= ih
             np.subtract(dk[:, 1:], dk[:, :-1], out=ddk)
+            ddk *= wk
         np.abs(ddk, out=ddk)
         np.maximum(acc, ddk.max(axis=0), out=acc)  # over the outer axis: contiguous
     return acc.max(axis=1), big
