@@ -140,7 +140,10 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
         src += f". {r.attribution}"
     plain(console, src, "dim")
     for a in r.assumptions:
-        plain(console, f"· {note_text(a, system)}", "dim")
+        if a == r.calibration_warning:
+            plain(console, f"! {note_text(a, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(a, system)}", "dim")
     render_cautions(console, r.cautions, system)
 
 
