@@ -318,7 +318,8 @@ def test_the_chance_reads_right_after_the_verdict(capsys, monkeypatch, columns, 
     assert "Chance of damage:" in capsys.readouterr().out
 
 
-def test_k_spread_from_the_fit_interval(tmp_path):
+def test_k_spread_from_the_fit_interval(tmp_path, capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "100")
     h = house.read(str(GABLE))
     spread, basis = chance.k_spread(h, "two-node", True)
     assert (spread, basis) == (chance.HANDBOOK_K_SPREAD, "handbook")
@@ -336,6 +337,20 @@ def test_k_spread_from_the_fit_interval(tmp_path):
     # the lumped model does not use a two-node fit; --no-calibration ignores it
     assert chance.k_spread(fitted, "lumped", True)[1] == "handbook"
     assert chance.k_spread(fitted, "two-node", False)[1] == "handbook"
+    # the command uses it, and says so in its one line on the members
+    argv = ["tonight", str(path), *ARGV[2:]]
+    assert main([*argv, "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["members_basis"]["k_basis"] == "fit"
+    assert d["members_basis"]["k_spread_95"] == pytest.approx(0.08, rel=1e-5)
+    spread = d["members_basis"]["k_spread_95"]
+    np.testing.assert_allclose(
+        sorted({m["k_factor"] for m in d["members"]}), chance.k_levels(spread)
+    )
+    assert main([*argv, "--no-calibration", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["members_basis"]["k_basis"] == "handbook"
+    assert main(argv) == 0
+    assert "K ±8 % (the fit's 95 % interval)" in capsys.readouterr().out
 
 
 def test_the_commands_defaults_are_the_plans():
@@ -397,3 +412,25 @@ def test_draws_zero_leaves_the_chance_out_quietly(capsys):
     assert main([*ARGV, "--draws", "0", "--json"]) == 0
     d = json.loads(capsys.readouterr().out)
     assert d["chance_of_damage"] is None and d["members"] == [] and d["members_source"] is None
+
+
+def test_below_the_alarm_now_gives_no_crossing_times(capsys, monkeypatch):
+    # every night starts where the plants are: at the alarm already, so no "earliest"
+    monkeypatch.setenv("COLUMNS", "100")
+    argv = [*ARGV[:4], "--inside-now", "-3C", *ARGV[4:], "--draws", "40"]
+    assert main(argv) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("BELOW THE ALARM NOW")
+    assert f"Chance of damage: {chance_text(40, 40)} with no heat" in out
+    assert "at the earliest" not in out and "The coldest tenth of nights: plants" in out
+
+
+def test_the_plants_take_a_plural_verb(capsys, monkeypatch):
+    # with --threshold and no crop the subject is "the plants" (was "the plants reaches")
+    monkeypatch.setenv("COLUMNS", "200")
+    argv = ["tonight", str(GABLE), "--threshold", "1C", *ARGV[4:], "--brief"]
+    assert main(argv) == 0
+    out = capsys.readouterr().out
+    assert "With no heat: the plants reach 1.0 °C" in out and "plants reaches" not in out
+    assert main([*argv[:3], "-30C", *argv[4:]]) == 0
+    assert "the plants stay above -30.0 °C" in capsys.readouterr().out

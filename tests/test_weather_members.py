@@ -17,6 +17,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from pytest_httpserver import HTTPServer
 
 from grower import weather
@@ -185,3 +187,98 @@ def test_draws_zero_asks_no_ensemble(served, capsys):
     d = _run_json(capsys, [*ARGV, "--draws", "0"])
     assert d["chance_of_damage"] is None and d["members"] == []
     assert all(req.path != "/v1/ensemble" for req, _ in served.log)
+
+
+_VARIABLES = [
+    "temperature_2m",
+    "dew_point_2m",
+    "cloud_cover",
+    "wind_speed_10m",
+    "shortwave_radiation",
+]
+_JUNK = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.text(max_size=5),
+    st.floats(allow_nan=True, allow_infinity=True),
+    st.integers(-(10**30), 10**30),
+    st.lists(st.integers(-5, 5), max_size=3),
+    st.dictionaries(st.text(max_size=3), st.integers(), max_size=2),
+)
+
+
+@settings(max_examples=60, deadline=None, derandomize=True)
+@given(data=st.data())
+def test_a_mangled_ensemble_is_read_or_refused_in_one_line(data):
+    """Hostile answers (keys dropped, values of the wrong kind, series cut or padded):
+    `parse_ensemble` gives members or one `InputError`, never another exception."""
+    doc = _doc()
+    hourly = doc["hourly"]
+    for _ in range(data.draw(st.integers(1, 4))):
+        member = data.draw(st.integers(0, 5))
+        key = data.draw(st.sampled_from(_VARIABLES)) + (f"_member{member:02d}" if member else "")
+        if key not in hourly:
+            continue
+        action = data.draw(st.sampled_from(["drop", "junk", "value", "cut", "pad", "units"]))
+        if action == "drop":
+            del hourly[key]
+        elif action == "junk":
+            hourly[key] = data.draw(_JUNK)
+        elif action == "value":
+            series = hourly[key]
+            series[data.draw(st.integers(0, len(series) - 1))] = data.draw(_JUNK)
+        elif action == "cut":
+            hourly[key] = hourly[key][: data.draw(st.integers(0, len(hourly[key])))]
+        elif action == "pad":
+            hourly[key] = hourly[key] + [0.0] * data.draw(st.integers(1, 3))
+        else:
+            doc["hourly_units"][key] = data.draw(_JUNK)
+    if data.draw(st.booleans()):
+        doc[data.draw(st.sampled_from(["utc_offset_seconds", "hourly", "hourly_units"]))] = (
+            data.draw(_JUNK)
+        )
+    try:
+        members = weather.parse_ensemble(doc, site=FARM)
+    except InputError as exc:
+        assert "\n" not in str(exc)
+    else:
+        assert len(members) >= 2 and all(len(m.frame) >= 2 for m in members)
+
+
+def test_each_ensemble_member_is_the_night_tonight_gives_for_that_forecast(monkeypatch):
+    """With the K spread set to nothing, member i of the chance is `tonight` run on the
+    ensemble's member i as the forecast (same start, same readings): exactly for the
+    control, which is the forecast given; for the others within what the network's
+    linearisation costs — it is built once, at the forecast's mean outside temperature
+    and wind (grower.plans.chance), as the `colder` night is — a tenth of the member's
+    offset from the control."""
+    import pandas as pd
+
+    from grower import house
+    from grower.plans import chance, tonight
+
+    monkeypatch.setattr(chance, "HANDBOOK_K_SPREAD", 0.0)
+    h = house.read("examples/gable-house.toml")
+    members = weather.parse_ensemble(_doc(), site=h.site)
+    ensemble = weather.Ensemble(members, "gfs_seamless", "loopback")
+    start = pd.Timestamp("2026-12-03T17:00", tz="America/Toronto")
+    common = dict(
+        threshold_c=-6.5,
+        threshold_basis="test",
+        start=start,
+        now=start,
+        inside_now_c=6.0,
+        soil_now_c=7.0,
+    )
+    got = tonight.tonight(h, members[0], members=chance.Spec(ensemble=ensemble), **common)
+    assert got.chance.source == "ensemble" and got.chance.count == 5
+    for m, forecast, shift in zip(got.chance.members, members, SHIFTS, strict=True):
+        alone = tonight.tonight(h, forecast, **common)
+        assert m.k_factor == 1.0
+        if shift == 0.0:  # the control: the same run
+            assert m.min_plant_c == pytest.approx(alone.verdict.min_plant_c, abs=1e-9)
+            assert m.crossing_time == alone.verdict.crossing_time
+            assert m.heated_damage == (not alone.heater.holds)
+        else:
+            assert abs(m.min_plant_c - alone.verdict.min_plant_c) < 0.1 * abs(shift)
+    assert 0 < got.chance.damaged < 5  # members on both sides: a real test

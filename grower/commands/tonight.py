@@ -211,6 +211,10 @@ def _members(args: argparse.Namespace, house, draws: int, seed: int):
     return chance.Spec(draws=draws, seed=seed, ensemble=ensemble, notes=notes)
 
 
+#: the ensemble is a second opinion: wait for it less long than for the forecast [s]
+ENSEMBLE_TIMEOUT_S = 5.0
+
+
 def _live_ensemble(site, days: int):
     import sys
 
@@ -221,6 +225,9 @@ def _live_ensemble(site, days: int):
 
         with Console(stderr=True).status("fetching the ensemble…") as status:
             return weather.ensemble_forecasts(
-                site, days=days, status=lambda text: status.update(text)
+                site,
+                days=days,
+                timeout=ENSEMBLE_TIMEOUT_S,
+                status=lambda text: status.update(text),
             )
-    return weather.ensemble_forecasts(site, days=days)
+    return weather.ensemble_forecasts(site, days=days, timeout=ENSEMBLE_TIMEOUT_S)

@@ -23,7 +23,10 @@ run). The heat capacity C is not varied.
 
 **Ensemble members** carry their own air temperature, dew point, cloud, wind and sun
 (sky and leaf offset from each), with the K levels the same way. The network is the one
-built for the forecast's mean wind.
+built for the forecast given (its mean wind and outside temperature, at which the cover's
+radiation is linearised), as for tonight's "colder" night: a member 2.5 K colder than the
+forecast comes out within about 0.1 K of the network built for it
+(tests/test_weather_members.py).
 
 A member that never reaches the alarm with no heat never switches the thermostat on
 (the setpoint is the alarm plus the leaf offset, i.e. the air at which the plants reach
@@ -41,7 +44,11 @@ City next-day (12-24 h) high temperature, NWS forecast office RMSE 3.80 °F, MAE
 consensus MOS RMSE 4.04 °F.
 J. A. Baars and C. F. Mass (2005), *Weather and Forecasting* 20(6):1034-1047, and A. A.
 Taylor and L. M. Leslie (2005), *Weather and Forecasting* 20(6):1006-1020 (read: the
-abstracts; interior sites have larger minimum-temperature errors than coastal ones).
+abstracts, no figure quoted from them; interior sites have larger errors than coastal
+ones; page ranges from memory).
+C. J. Talsma, K. C. Solander, M. K. Mudunuru, B. Crawford and M. R. Powell (2023), "Frost
+prediction using machine learning and deep neural network models", *Frontiers in
+Artificial Intelligence* 5:963781, doi:10.3389/frai.2022.963781 (read: the abstract).
 J. A. Hanley and A. Lippman-Hand (1983), "If nothing goes wrong, is everything all
 right?", *JAMA* 249(13):1743-1745 (the rule of three; from memory).
 """
@@ -59,13 +66,17 @@ from grower import solver
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.plans.tonight import HOLD_TOLERANCE_K  # within it of the alarm, the heater holds
 
 #: standard deviation of tomorrow's forecast temperature error [K]: the NWS forecast
 #: office's RMSE of next-day highs at Oklahoma City, 3.80 °F = 2.11 K (Brooks & Doswell
 #: 1996, Table 1, read). Used for the overnight minimum: from memory, day-1 minimum
 #: errors are of the same size (MAE about 1.5-2.5 °C, Taylor & Leslie 2005; Baars & Mass
 #: 2005), larger on calm clear nights and inland; a normal error with this RMSE has an
-#: MAE of 1.7 K (the table's MAE/RMSE, 0.74, is close to a normal's 0.80).
+#: MAE of 1.7 K (the table's MAE/RMSE, 0.74, is close to a normal's 0.80). For scale
+#: (read): machine-learning models of one New Mexico farm's minima, trained on its own
+#: sensors, reach an RMSE of 1.53-1.72 °C 6 h ahead (Talsma et al. 2023), so a public
+#: forecast issued the day before doing 2.1 K is no worse than expected.
 FORECAST_ERROR_K = 3.80 / 1.8
 FORECAST_ERROR_SOURCE = "Brooks & Doswell 1996"
 #: the handbook spread of K the README states: ±30 %, taken as a 95 % range
@@ -77,9 +88,6 @@ DEFAULT_DRAWS = 300
 DEFAULT_SEED = 12
 #: the share of members called "the coldest tenth"
 COLDEST_SHARE = 0.1
-#: a heated member whose plants stay within this of the alarm holds it [K]
-#: (as `grower.plans.tonight.HOLD_TOLERANCE_K`)
-HOLD_TOLERANCE_K = 0.05
 
 
 @dataclass(frozen=True)

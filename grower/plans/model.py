@@ -422,9 +422,9 @@ class Boundary:
     @property
     def times(self) -> Any:
         """The grid as a tz-aware pandas DatetimeIndex (imports pandas)."""
-        from grower.weather.forecast import _index
+        from grower.weather.forecast import time_index
 
-        return _index(self.utc_s, self.tz)
+        return time_index(self.utc_s, self.tz)
 
     def local_times(self) -> list[dt.datetime]:
         """The grid as aware datetimes in `tz`, to the second."""

@@ -5,6 +5,7 @@ from __future__ import annotations
 import datetime as dt
 from typing import Any
 
+from grower.plans.chance import FORECAST_ERROR_SOURCE
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wire
 from grower.report import chart
 from grower.report import vapour as vapour_report
@@ -192,6 +193,11 @@ def _what(r: TonightResult) -> str:
     return f"{r.crop} ({r.stage})" if r.crop else "the plants"
 
 
+def _does(r: TonightResult, singular: str, plural: str) -> str:
+    """`_what(r)` with its verb: "tomato (fruiting) reaches", "the plants reach"."""
+    return f"{_what(r)} {singular if r.crop else plural}"
+
+
 #: line 1's words, ours: what to do tonight for the house as equipped
 ACTION_WORDS = {
     "none": ("NO ACTION", "bold green"),
@@ -213,7 +219,7 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     head = f"[{style}]{word}[/{style}] [bold]{r.house_name}[/bold]: "
     v, h = r.verdict, r.heater
     if r.action == "none":
-        return head + f"{_what(r)} stays above {T(r.threshold_c)} tonight with no heat"
+        return head + f"{_does(r, 'stays', 'stay')} above {T(r.threshold_c)} tonight with no heat"
     if r.action == "heat":
         margin = power_text(h.output_w - r.hold_peak_w, system)
         fuel = f"; about {_fuel(h.fuel, system)} of {r.hold_fuel_label} tonight" if h.fuel else ""
@@ -228,10 +234,10 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
             else "heat it now"
             + (f"; at full output the plants reach {T(h.min_plant_c)}" if h else "")
         )
-        return head + f"{_what(r)} is at or below {T(r.threshold_c)} already — {tail}"
+        return head + f"{_does(r, 'is', 'are')} at or below {T(r.threshold_c)} already — {tail}"
     if h is None:
         return (
-            head + f"no heater installed; {_what(r)} reaches {T(r.threshold_c)} at "
+            head + f"no heater installed; {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
             f"[bold]{_clock(v.crossing_time, r.start)}[/bold]; "
             f"{power_text(r.hold_peak_w, system)} holds it"
         )
@@ -266,7 +272,7 @@ def _verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None 
     ref = now if abs((r.start - now).total_seconds()) < 600 else r.start
     rel = "from now" if ref is now else f"after the start ({_clock(r.start, r.start)})"
     return (
-        f"With no heat: {_what(r)} reaches {T(r.threshold_c)} at "
+        f"With no heat: {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
         f"{_clock(v.crossing_time, r.start)}, "
         f"{_span((v.crossing_time - ref).total_seconds())} {rel}; coldest plants "
         f"{T(v.min_plant_c)}"
@@ -468,7 +474,7 @@ def chance_lines(r: TonightResult, system: UnitSystem) -> list[str]:
     )
     first = f"Chance of damage: [bold]{chance_text(c.damaged, c.count)}[/bold] with no heat{heated} ({of})"
     cold = f"the coldest tenth of nights: plants {T(c.coldest_tenth_min_plant_c)} or colder"
-    if c.damaged:
+    if c.damaged and not r.below_now:  # below now: every night starts at the alarm
         start = r.start
         second = (
             f"With no heat, the alarm comes at {_clock(c.earliest_crossing, start)} at the "
@@ -493,7 +499,7 @@ def members_line(r: TonightResult, system: UnitSystem) -> str | None:
         )
     sigma = show_temperature_difference(c.forecast_error_k, system).text(1)
     return keep_units(
-        f"Nights drawn: forecast error σ {sigma} (Brooks & Doswell 1996), {k}, seed {c.seed}"
+        f"Nights drawn: forecast error σ {sigma} ({FORECAST_ERROR_SOURCE}), {k}, seed {c.seed}"
     )
 
 

@@ -20,7 +20,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from grower import sky
-from grower.weather.forecast import Forecast, _index, _local
+from grower.weather.forecast import Forecast, local_time, time_index
 
 
 @dataclass(frozen=True, eq=False)
@@ -63,7 +63,7 @@ class Boundary:
     @property
     def index(self) -> Any:
         """The grid as a pandas DatetimeIndex in the start's zone (imports pandas)."""
-        return _index(self.start.timestamp() + self.times_s, self.start.tzinfo)
+        return time_index(self.start.timestamp() + self.times_s, self.start.tzinfo)
 
 
 def prepare_boundary(
@@ -139,7 +139,7 @@ def prepare_boundary(
         low_cloud_fraction=low,
     )
     return Boundary(
-        start=_local(t0, forecast.tz),
+        start=local_time(t0, forecast.tz),
         times_s=grid,
         temperature_c=temp,
         dew_point_c=dew,

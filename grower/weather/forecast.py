@@ -185,7 +185,7 @@ class Forecast:
         if cached is None:
             import pandas as pd
 
-            cached = pd.DataFrame(dict(s.values), index=_index(s.utc_s, s.tz))
+            cached = pd.DataFrame(dict(s.values), index=time_index(s.utc_s, s.tz))
             cached["utc_offset_s"] = np.asarray(s.utc_offset_s, dtype=np.int64)
             object.__setattr__(s, "_frame", cached)
         return cached
@@ -198,12 +198,12 @@ class Forecast:
     @property
     def start(self) -> dt.datetime:
         """The first sample, an aware datetime in `tz`."""
-        return _local(self.samples.utc_s[0], self.samples.tz)
+        return local_time(self.samples.utc_s[0], self.samples.tz)
 
     @property
     def end(self) -> dt.datetime:
         """The last sample, an aware datetime in `tz`."""
-        return _local(self.samples.utc_s[-1], self.samples.tz)
+        return local_time(self.samples.utc_s[-1], self.samples.tz)
 
     @property
     def utc_s(self) -> NDArray[np.float64]:
@@ -229,7 +229,7 @@ class Forecast:
                 dt.datetime.fromtimestamp(t, dt.timezone(dt.timedelta(seconds=int(off))))
                 for t, off in zip(s.utc_s, offsets, strict=True)
             ]
-        return [_local(t, s.tz) for t in s.utc_s]
+        return [local_time(t, s.tz) for t in s.utc_s]
 
     def with_samples(self, samples: Samples, **changes: Any) -> Forecast:
         """The same forecast on other samples (and other fields in `changes`).
@@ -249,8 +249,8 @@ class Forecast:
 Forecast.frame = property(Forecast._frame)  # type: ignore[assignment,method-assign]
 
 
-def _local(utc_s: float, tz: dt.tzinfo) -> dt.datetime:
-    """UTC seconds (to the microsecond) as an aware datetime in `tz`."""
+def local_time(utc_s: float, tz: dt.tzinfo) -> dt.datetime:
+    """UTC seconds (kept to the microsecond) as an aware datetime in `tz`."""
     micro = int(round(float(utc_s) * 1e6))
     whole, frac = divmod(micro, 1_000_000)
     return (_EPOCH + dt.timedelta(seconds=whole, microseconds=frac)).astimezone(tz)
@@ -316,7 +316,7 @@ def _epoch_seconds(index: Any) -> NDArray[np.float64]:
     return np.asarray(delta / pd.Timedelta(seconds=1), dtype=float)
 
 
-def _index(utc_s: NDArray[np.float64], tz: Any) -> Any:
+def time_index(utc_s: NDArray[np.float64], tz: Any) -> Any:
     """UTC seconds as a pandas DatetimeIndex ("time") in `tz`."""
     import pandas as pd
 
