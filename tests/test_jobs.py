@@ -518,6 +518,7 @@ def test_size_refuses_an_older_calibration_and_sizes_on_the_geometry(capsys, tmp
     [note] = [n for n in d["notes"] if "[calibration]" in n]
     assert "older grower fit (K × " in note and "understate K" in note
     assert f"grower fit {old} --log logger.csv --write" in note
+    assert d["calibration_warning"] == note
     assert main(["size", str(old), *argv]) == 0
     out = capsys.readouterr().out
     assert f"! {note[:40]}" in " ".join(out.split())

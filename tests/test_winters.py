@@ -274,6 +274,7 @@ def test_winters_on_an_older_calibration_runs_on_the_geometry(tmp_path, capsys):
     assert d["median_energy_kwh"] == plain["median_energy_kwh"]
     [note] = [a for a in d["assumptions"] if "[calibration]" in a]
     assert "older grower fit" in note and "refit" in note
+    assert d["calibration_warning"] == note
     assert main(["winters", str(old), *argv]) == 0
     assert "! the house file's [calibration] is from an older" in " ".join(
         capsys.readouterr().out.split()

@@ -68,6 +68,7 @@ def winters_json(r: WintersResult) -> dict[str, Any]:
         "source": r.source,
         "attribution": r.attribution,
         "assumptions": list(r.assumptions),
+        "calibration_warning": r.calibration_warning,
         "cautions": list(r.cautions),
     }
 
