@@ -337,6 +337,15 @@ def test_k_spread_from_the_fit_interval(tmp_path, capsys, monkeypatch):
     # the lumped model does not use a two-node fit; --no-calibration ignores it
     assert chance.k_spread(fitted, "lumped", True)[1] == "handbook"
     assert chance.k_spread(fitted, "two-node", False)[1] == "handbook"
+    # with the sky part's interval too, one factor on both: the half-widths add
+    k_sky = tomllib.loads(base)["calibration"]["k_sky_w_per_k"]
+    both = tmp_path / "both.toml"
+    both.write_text(text + f"k_sky_w_per_k_ci95 = {0.5 * k_sky!r}\n", encoding="utf-8")
+    wide = (0.08 * k_out + 0.5 * k_sky) / (k_out + k_sky)
+    assert chance.k_spread(house.read(str(both)), "two-node", True) == (
+        pytest.approx(wide, rel=1e-9),
+        "fit",
+    )
     # the command uses it, and says so in its one line on the members
     argv = ["tonight", str(path), *ARGV[2:]]
     assert main([*argv, "--json"]) == 0

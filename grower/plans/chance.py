@@ -14,7 +14,8 @@ is the same in every member (the inside air now is what it is).
 **The house's K**: every member also gets a factor on the conductances to the outside
 air and the sky, 1 + s·z with s the 95 % half-width over 1.96: the fit's interval when
 the house file's ``[calibration]`` carries one (``k_w_per_k_ci95``, or
-``k_outside_w_per_k_ci95``), else the handbook spread the README states (U-values and air
+``k_outside_w_per_k_ci95`` with ``k_sky_w_per_k_ci95`` added to it, `k_spread`), else
+the handbook spread the README states (U-values and air
 changes put K within about ±30 % of a real house, taken as a 95 % range). The factors
 are stratified: `K_LEVELS` equally likely levels at the middle quantiles z_j of the
 normal distribution (scaled to unit variance, `k_levels`), one level per member in a
@@ -58,7 +59,7 @@ from __future__ import annotations
 import datetime as dt
 import math
 from dataclasses import dataclass, replace
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
@@ -67,6 +68,9 @@ from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
 from grower.plans.tonight import HOLD_TOLERANCE_K  # within it of the alarm, the heater holds
+
+if TYPE_CHECKING:
+    from grower.weather.members import Ensemble
 
 #: standard deviation of tomorrow's forecast temperature error [K]: the NWS forecast
 #: office's RMSE of next-day highs at Oklahoma City, 3.80 °F = 2.11 K (Brooks & Doswell
@@ -96,7 +100,7 @@ class Spec:
 
     draws: int = DEFAULT_DRAWS
     seed: int = DEFAULT_SEED
-    ensemble: object | None = None  # grower.weather.Ensemble
+    ensemble: Ensemble | None = None
     notes: tuple[str, ...] = ()  # said with the result (e.g. why no ensemble)
 
 
@@ -174,17 +178,27 @@ class Chance:
         return float(lows[n - 1])
 
 
-def k_spread(house: House, kind: hm.ModelKind, use_calibration: bool) -> tuple[float, str]:
+def k_spread(
+    house: House, kind: hm.ModelKind, use_calibration: bool
+) -> tuple[float, Literal["fit", "handbook"]]:
     """(95 % half-width of K as a fraction, "fit" or "handbook") for this run's K."""
     cal = hm.calibration_of(house, use_calibration, kind)
     raw = house.calibration or {}
+
+    def pair(key: str) -> tuple[float, float] | None:  # (value, 95 % half-width)
+        value, ci = raw.get(key), raw.get(f"{key}_ci95")
+        ok = all(isinstance(x, int | float) and not isinstance(x, bool) for x in (value, ci))
+        if ok and value > 0 and math.isfinite(ci) and ci >= 0:
+            return float(value), float(ci)
+        return None
+
     if cal is not None:
-        spreads = []
-        for key in ("k_w_per_k", "k_outside_w_per_k"):
-            value, ci = raw.get(key), raw.get(f"{key}_ci95")
-            ok = all(isinstance(x, int | float) and not isinstance(x, bool) for x in (value, ci))
-            if ok and value > 0 and math.isfinite(ci) and ci >= 0:
-                spreads.append(float(ci) / float(value))
+        spreads = [ci / value for value, ci in filter(None, [pair("k_w_per_k")])]
+        out, sky = pair("k_outside_w_per_k"), pair("k_sky_w_per_k")
+        if out and sky:  # one factor on both: their half-widths added (the wide side)
+            spreads.append((out[1] + sky[1]) / (out[0] + sky[0]))
+        elif out:
+            spreads.append(out[1] / out[0])
         if spreads:
             return min(max(spreads), 0.9), "fit"
     return HANDBOOK_K_SPREAD, "handbook"
@@ -312,10 +326,10 @@ def run(
         try:
             per = [
                 hm.boundary(house, mdl, fc, b.utc_s, pressure_hpa=pressure_hpa, tz=b.tz)
-                for fc in spec.ensemble.members  # type: ignore[attr-defined]
+                for fc in spec.ensemble.members
             ]
         except ValueError:
-            last = min(fc.end for fc in spec.ensemble.members)  # type: ignore[attr-defined]
+            last = min(fc.end for fc in spec.ensemble.members)
             notes.append(
                 f"the ensemble ends at {last:%a %H:%M}, before the night does: drawn nights instead"
             )
@@ -323,7 +337,7 @@ def run(
             boundaries = np.stack([p.solver_boundary(mdl) for p in per])
             offsets = np.stack([p.plant_offset_k for p in per])
             gain_sets = np.stack([p.solver_gains(mdl) for p in per])
-            label = spec.ensemble.label  # type: ignore[attr-defined]
+            label = spec.ensemble.label
     if boundaries is None:
         if spec.draws < 1:
             return None
@@ -377,7 +391,7 @@ def run(
         heater=heater_w is not None,
         forecast_error_k=FORECAST_ERROR_K if shifts is not None else None,
         k_spread=spread,
-        k_basis=basis,  # type: ignore[arg-type]
+        k_basis=basis,
         seed=spec.seed,
         ensemble_label=label,
         notes=tuple(notes),
