@@ -75,7 +75,11 @@ def in_process(pairs: int, draws: int) -> dict:
     def timed(members) -> float:
         t0 = time.perf_counter()
         tonight.tonight(
-            h, f, threshold_c=-0.1, threshold_basis="bench", start=start, now=start, members=members
+            h,
+            f,
+            tonight.Alarm(-0.1, "bench"),
+            tonight.Readings(start=start, now=start),
+            members=members,
         )
         return time.perf_counter() - t0
 

@@ -157,10 +157,8 @@ def _gable_night(draws=300, seed=chance.DEFAULT_SEED, shift_k=0.0, threshold_c=-
     return tonight.tonight(
         h,
         f,
-        threshold_c=threshold_c,
-        threshold_basis="test",
-        start=start,
-        now=start,
+        tonight.Alarm(threshold_c, "test"),
+        tonight.Readings(start=start, now=start),
         members=chance.Spec(draws=draws, seed=seed),
     )
 

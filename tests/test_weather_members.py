@@ -262,14 +262,9 @@ def test_each_ensemble_member_is_the_night_tonight_gives_for_that_forecast(monke
     members = weather.parse_ensemble(_doc(), site=h.site)
     ensemble = weather.Ensemble(members, "gfs_seamless", "loopback")
     start = pd.Timestamp("2026-12-03T17:00", tz="America/Toronto")
-    common = dict(
-        threshold_c=-6.5,
-        threshold_basis="test",
-        start=start,
-        now=start,
-        inside_now_c=6.0,
-        soil_now_c=7.0,
-    )
+    alarm = tonight.Alarm(-6.5, "test")
+    readings = tonight.Readings(inside_c=6.0, soil_c=7.0, start=start, now=start)
+    common = dict(alarm=alarm, readings=readings)
     got = tonight.tonight(h, members[0], members=chance.Spec(ensemble=ensemble), **common)
     assert got.chance.source == "ensemble" and got.chance.count == 5
     for m, forecast, shift in zip(got.chance.members, members, SHIFTS, strict=True):

@@ -126,24 +126,25 @@ def run(args: argparse.Namespace) -> int:
         forecast = get_forecast(args, h)
         start = start_time(args, h, forecast)
         members = _members(args, h, draws, seed)
-        alarm, basis = alarm_basis(crop, stage, choice, override)
+        threshold, basis = alarm_basis(crop, stage, choice, override)
+        alarm = tonight.Alarm(
+            threshold_c=threshold,
+            basis=basis,
+            damage_c=choice.damage_c if choice else None,
+            margin_k=choice.margin_k if choice else 0.0,
+            crop=crop.name if crop else None,
+            stage=stage.name if stage else None,
+            crop_origin=(crop.path if crop and crop.origin == "user" else None),
+            chill_c=choice.chill_c if choice else None,
+            chill_hours=choice.chill_hours if choice else None,
+        )
         results.append(
             tonight.tonight(
                 h,
                 forecast,
-                threshold_c=alarm,
-                threshold_basis=basis,
-                damage_c=choice.damage_c if choice else None,
-                margin_k=choice.margin_k if choice else 0.0,
-                crop=crop.name if crop else None,
-                stage=stage.name if stage else None,
-                crop_origin=(crop.path if crop and crop.origin == "user" else None),
-                chill_c=choice.chill_c if choice else None,
-                chill_hours=choice.chill_hours if choice else None,
+                alarm,
+                tonight.Readings(inside_c=inside, soil_c=soil, start=start),
                 kind=args.model,
-                inside_now_c=inside,
-                soil_now_c=soil,
-                start=start,
                 colder_by_k=colder,
                 use_calibration=not args.no_calibration,
                 members=members,
