@@ -143,9 +143,8 @@ def test_heater_too_small_opens_the_report_never_a_green_line_above(capsys):
     r = plan.stock(
         h,
         weather.read_forecast_csv(SNAP, site=h.site),
-        setpoint_c=10.0,
-        night_setpoint_c=5.0,
-        on_hand_text="900 L",
+        plan.Setpoints(10.0, 5.0),
+        plan.FuelPlan(on_hand_text="900 L"),
     )
     con = Console(record=True, width=60, color_system=None)
     report.render_stock(con, r, "metric")

@@ -111,7 +111,7 @@ def test_one_winter_equals_stock_on_the_same_hours(tmp_path):
     season = history.season_of(record, *win)
     r = plan.winters(h, [season], setpoint_c=10.0, night_setpoint_c=5.0)
     s = stock_plan.stock(
-        h, season, setpoint_c=10.0, night_setpoint_c=5.0, start=season.start, now=season.start
+        h, season, stock_plan.Setpoints(10.0, 5.0), start=season.start, now=season.start
     )
     assert r.winters[0].energy_kwh == pytest.approx(s.energy_kwh, rel=1e-12)
     assert r.winters[0].hours_not_held == pytest.approx(s.hours_below_setpoint, rel=1e-12)

@@ -486,23 +486,41 @@ def _holding_peak(run: tr.Run, settle_s: float = 3600.0) -> float:
 # ---------------------------------------------------------------- the plan
 
 
+@dataclass(frozen=True)
+class Setpoints:
+    """The thermostat's setpoints [°C]: by day, and from sunset to sunrise."""
+
+    day_c: float
+    night_c: float | None = None  # None: the day's
+
+    @property
+    def night(self) -> float:
+        return self.day_c if self.night_c is None else self.night_c
+
+
+@dataclass(frozen=True)
+class FuelPlan:
+    """The fuel side of the question: which fuel, what is on hand, its price, when to order."""
+
+    fuel_name: str | None = None  # None: the house's heater's
+    on_hand_text: str | None = None  # --on-hand, else the house file's [stock] on_hand
+    fill_text: str | None = None
+    price: float | None = None  # per unit of the fuel as bought (the on-hand unit)
+    unit: str | None = None  # the unit to report the fuel in
+    reserve_pct: float = DEFAULT_RESERVE_PCT
+    lead_time_days: float = 0.0
+
+
 def stock(
     house: House,
     forecast,
+    setpoints: Setpoints,
+    plan: FuelPlan = FuelPlan(),
     *,
-    setpoint_c: float,
-    night_setpoint_c: float | None,
-    fuel_name: str | None = None,
-    on_hand_text: str | None = None,
-    fill_text: str | None = None,
-    price: float | None = None,
-    unit: str | None = None,
     kind: hm.ModelKind = "two-node",
     start: dt.datetime | None = None,
     now: dt.datetime | None = None,
     use_calibration: bool = True,
-    reserve_pct: float = DEFAULT_RESERVE_PCT,
-    lead_time_days: float = 0.0,
     crop: CropAlarm | tuple[str, float] | None = None,
     progress: Callable[[int, int], None] | None = None,
 ) -> StockResult:
@@ -512,14 +530,15 @@ def stock(
     """
     from grower import weather
 
-    night_set = setpoint_c if night_setpoint_c is None else night_setpoint_c
+    setpoint_c, night_set = setpoints.day_c, setpoints.night
     start, end, notes = span(forecast, start, now)
-    heat, more = heating(house, fuel_name, use_calibration)
+    heat, more = heating(house, plan.fuel_name, use_calibration)
     notes += more
     fuel, eff = heat.fuel, heat.efficiency
-    stock_ = on_hand(house, fuel, on_hand_text, fill_text)
-    out_unit = unit or (stock_.unit if stock_ else fuel.unit)
-    if price is None and house.stock.get("price") is not None and on_hand_text is None:
+    stock_ = on_hand(house, fuel, plan.on_hand_text, plan.fill_text)
+    out_unit = plan.unit or (stock_.unit if stock_ else fuel.unit)
+    price = plan.price
+    if price is None and house.stock.get("price") is not None and plan.on_hand_text is None:
         price = float(house.stock["price"])
 
     installed = math.inf if heat.heater_output_w is None else heat.heater_output_w
@@ -552,7 +571,7 @@ def stock(
         if t_out is not None and stock_.energy_j < total_j / eff:
             runs_out = run.time(t_out)
             lasts = (t_out - hm.instant_ns(start)) / 1e9 / 86400.0
-        the_order = order(run, stock_, fuel, eff, reserve_pct, lead_time_days, start)
+        the_order = order(run, stock_, fuel, eff, plan.reserve_pct, plan.lead_time_days, start)
         if not the_order.capacity_known:
             notes.append(
                 "the containers are not given: the refill level is taken as a share of the "
