@@ -8,7 +8,6 @@ import json
 from pathlib import Path
 
 import numpy as np
-import pint
 import pytest
 from scipy.integrate import solve_ivp
 
@@ -19,8 +18,7 @@ from grower.plans import runs
 
 from .calibration_tables import format2
 from .conftest import EXAMPLES
-
-UREG = pint.UnitRegistry()
+from .reference_units import UREG
 
 
 def _run_json(capsys, *argv: str) -> dict:
