@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import math
 import tomllib
 
@@ -308,3 +309,19 @@ def test_a_utf8_bom_crlf_and_a_fifo(tmp_path):
     big.write_bytes(b"#" * (2 << 20))
     with pytest.raises(InputError, match="larger than"):
         house.read(big)
+
+
+def test_the_house_breakdown_says_what_its_calibration_holds(tmp_path, capsys):
+    """`grower house` shows the geometry's figures and one line on the [calibration]: used
+    by the plans (a note), or not used and why (a warning); --json: calibration_note."""
+    plain = write_house(tmp_path, MINIMAL, "a.toml")
+    fitted = write_house(tmp_path, format2(MINIMAL, conduction=1.2, sky=0.5), "b.toml")
+    old = write_house(tmp_path, MINIMAL + "\n[calibration]\nk_w_per_k = 900.0\n", "c.toml")
+    assert main(["house", str(plain), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["calibration_note"] is None
+    assert main(["house", str(fitted), "--json"]) == 0
+    note = json.loads(capsys.readouterr().out)["calibration_note"]
+    assert "conduction × 1.20, sky part × 0.50" in note and "size use the fit's" in note
+    assert main(["house", str(old)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "! the house file's [calibration] is from an older grower fit" in out

@@ -12,6 +12,8 @@ import math
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from grower import fuels
 from grower.cli import main
@@ -518,6 +520,34 @@ def test_size_refuses_an_older_calibration_and_sizes_on_the_geometry(capsys, tmp
     [note] = [n for n in d["notes"] if "[calibration]" in n]
     assert "older grower fit (K × " in note and "understate K" in note
     assert f"grower fit {old} --log logger.csv --write" in note
+    assert d["calibration_warning"] == note
     assert main(["size", str(old), *argv]) == 0
     out = capsys.readouterr().out
     assert f"! {note[:40]}" in " ".join(out.split())
+
+
+@settings(max_examples=40, deadline=None, derandomize=True)
+@given(
+    conduction=st.floats(0.05, 5.0),
+    sky=st.floats(0.0, 5.0),
+    more=st.floats(0.0, 1.0),
+)
+def test_sizing_with_two_fitted_parts_never_goes_below_the_geometry(conduction, sky, more):
+    """The design loss is at least the geometry's for any fitted pair of factors, and
+    does not fall when either factor rises (common practice, no source: size for the
+    worse of two estimates; Q = f_k·K_out·ΔT + f_s·K_sky·(T_hold − T_sky), both terms
+    positive at a design night)."""
+    from grower import house
+    from grower.plans.size import design_heat_loss, sizing_factors
+
+    h = house.read("examples/gable-house.toml")
+
+    def loss(fk: float, fs: float) -> float:
+        kw = dict(conduction_factor=fk, sky_factor=fs, curtain_closed=False)
+        return design_heat_loss(h, -20.0, 10.0, 6.7, **kw).total_w
+
+    geometry = loss(1.0, 1.0)
+    sized = loss(*sizing_factors(conduction, sky))
+    assert sized >= geometry * (1 - 1e-12)
+    assert loss(*sizing_factors(conduction + more, sky)) >= sized * (1 - 1e-12)
+    assert loss(*sizing_factors(conduction, sky + more)) >= sized * (1 - 1e-12)

@@ -119,9 +119,11 @@ def test_an_older_calibration_is_refused_and_tonight_runs_on_the_geometry(capsys
     assert main([*argv, "--json"]) == 0
     d = json.loads(capsys.readouterr().out)
     assert d["calibrated"] is False and d["k_w_per_k"] == plain["k_w_per_k"]
+    assert plain["calibration_warning"] is None
     assert d["min_plant_c"] == plain["min_plant_c"]
     [note] = [a for a in d["assumptions"] if "[calibration]" in a]
     assert "older grower fit" in note and "understate K" in note
+    assert d["calibration_warning"] == note
     assert f"grower fit {path} --log logger-gable-house.csv --write" in note
     assert main(argv) == 0
     cap = capsys.readouterr()

@@ -489,6 +489,7 @@ def test_stock_on_an_older_calibration_runs_on_the_geometry(capsys, tmp_path):
     assert d["calibrated"] is False and d["energy_kwh"] == plain["energy_kwh"]
     [note] = [a for a in d["assumptions"] if "[calibration]" in a]
     assert "older grower fit" in note and f"grower fit {old} --log RECORD.csv --write" in note
+    assert d["calibration_warning"] == note and plain["calibration_warning"] is None
     # a format-2 table is used, and a leakier fit burns more fuel: the conduction × 1.3
     # (sky × 1) raises the heat, by less than 1.3 × (the sky's share is not scaled)
     fitted = write_house(tmp_path, format2(text, conduction=1.3), "c.toml")

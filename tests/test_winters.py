@@ -261,3 +261,21 @@ def test_fuel_table_heating_value_used():
     # the J per gal the winter's fuel uses is the table's (EIA 91,452 Btu/gal)
     assert fuels.get_fuel("propane").j_per("gal") == pytest.approx(91452 * J_PER_BTU)
     assert math.isclose(fuels.get_fuel("propane").j_per("gal"), 91452 * J_PER_BTU)
+
+
+def test_winters_on_an_older_calibration_runs_on_the_geometry(tmp_path, capsys):
+    """An older [calibration] (no `format`): not used; the season is the geometry's and
+    the report shows the one line that says why, as a warning."""
+    csv = history_csv(tmp_path / "w.csv", "2025-11-01", 121, temp=-5.0)
+    argv = ["--setpoint", "10C", "--history", csv, "--winters", "1", "--model", "lumped"]
+    plain = run_json(capsys, "winters", str(write_house(tmp_path, GLASS, "a.toml")), *argv)
+    old = write_house(tmp_path, GLASS + "\n[calibration]\nk_w_per_k = 500.0\n", "b.toml")
+    d = run_json(capsys, "winters", str(old), *argv)
+    assert d["median_energy_kwh"] == plain["median_energy_kwh"]
+    [note] = [a for a in d["assumptions"] if "[calibration]" in a]
+    assert "older grower fit" in note and "refit" in note
+    assert d["calibration_warning"] == note
+    assert main(["winters", str(old), *argv]) == 0
+    assert "! the house file's [calibration] is from an older" in " ".join(
+        capsys.readouterr().out.split()
+    )

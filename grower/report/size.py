@@ -63,6 +63,7 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "installed_holds": r.installed_holds,
         "notes": list(r.notes),
         "calibration": r.calibration,
+        "calibration_warning": r.calibration_warning,
         "cautions": list(r.cautions),
         **({} if r.vapour is None else vapour_report.fields(r.vapour)),
     }

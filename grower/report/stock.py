@@ -18,6 +18,7 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         "file": r.house_path,
         "model": r.model,
         "calibrated": r.calibrated,
+        "calibration_warning": r.calibration_warning,
         "k_w_per_k": r.k_w_per_k,
         "c_j_per_k": r.c_j_per_k,
         "setpoint_c": r.setpoint_c,

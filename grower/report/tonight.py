@@ -32,6 +32,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         "check_again": _trip_json(r),
         "model": r.model,
         "calibrated": r.calibrated,
+        "calibration_warning": r.calibration_warning,
         "k_w_per_k": r.k_w_per_k,
         "c_j_per_k": r.c_j_per_k,
         "time_constant_h": r.time_constant_h,

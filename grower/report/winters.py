@@ -68,6 +68,7 @@ def winters_json(r: WintersResult) -> dict[str, Any]:
         "source": r.source,
         "attribution": r.attribution,
         "assumptions": list(r.assumptions),
+        "calibration_warning": r.calibration_warning,
         "cautions": list(r.cautions),
     }
 
@@ -140,7 +141,10 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
         src += f". {r.attribution}"
     plain(console, src, "dim")
     for a in r.assumptions:
-        plain(console, f"· {note_text(a, system)}", "dim")
+        if a == r.calibration_warning:
+            plain(console, f"! {note_text(a, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(a, system)}", "dim")
     render_cautions(console, r.cautions, system)
 
 
