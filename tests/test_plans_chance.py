@@ -169,7 +169,7 @@ def test_the_heaters_search_finds_what_running_every_member_finds(monkeypatch):
     searched = _gable_night().chance
     seen: list[np.ndarray] = []
 
-    def every_member(n, fails):
+    def every_member(n, fails, guess=0):
         bad = np.asarray(fails(np.arange(n)), bool)
         seen.append(bad)
         return int(np.argmin(bad)) if not bad.all() else n
@@ -441,3 +441,20 @@ def test_the_plants_take_a_plural_verb(capsys, monkeypatch):
     assert "With no heat: the plants reach 1.0 °C" in out and "plants reaches" not in out
     assert main([*argv[:3], "-30C", *argv[4:]]) == 0
     assert "the plants stay above -30.0 °C" in capsys.readouterr().out
+
+
+@settings(max_examples=200, deadline=None)
+@given(data=st.data(), n=st.integers(1, 60))
+def test_the_search_finds_the_end_of_the_failures_from_any_guess(data, n):
+    # the guess only orders the probes: for every leading run of failures and every guess
+    # the search returns where the run ends, probing each member at most once
+    held = data.draw(st.integers(0, n), label="held")
+    guess = data.draw(st.integers(-3, n + 3), label="guess")
+    probed: list[int] = []
+
+    def fails(pos):
+        probed.extend(int(p) for p in pos)
+        return np.asarray(pos) < held
+
+    assert chance._first_held(n, fails, guess=guess) == held
+    assert len(probed) == len(set(probed)) and all(0 <= p < n for p in probed)

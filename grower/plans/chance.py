@@ -268,29 +268,55 @@ class _Heated:
         return solver.analyse(tr, self.threshold_c, off).min_c < self.threshold_c - HOLD_TOLERANCE_K
 
 
-def _first_held(n: int, fails) -> int:
+def _first_held(n: int, fails, guess: int = 0) -> int:
     """The first position whose member the heater holds, of `n` ordered coldest first.
 
     Colder nights are colder heated too (the network with its clipped thermostat is a
-    monotone system), so the members that fail are a leading run; it is found with up
-    to three probes a round (one solver call: a few members cost what one does).
-    `fails(positions)` runs those members and says which fail.
+    monotone system), so the members that fail are a leading run; its end is bracketed
+    by probes, a few members per solver call (a member costs about what a call does).
+    `guess` is where the end is expected (from the K levels already run): the first
+    round probes the members around it, and while
+    every probe lands on one side the next ones gallop away from it; once both sides
+    are seen, quarters of the bracket. The guess only orders the probes: the answer is
+    the same for any guess. `fails(positions)` runs those members and says which fail.
     """
     lo, hi = 0, n  # the answer lies in [lo, hi]
-    probes = np.unique([0, n // 2, n - 1])
+    guess = min(max(int(guess), 0), n)
+    # the members on either side of the guess, and one more on the held side (the guess
+    # comes from a level of lower K, so it tends to fall short); the coldest alone for 0
+    probes = np.arange(max(guess - 1, 0), min(guess + 2, n)) if guess > 0 else np.array([0])
+    up = down = 1  # galloping strides while only one side has been seen
     while lo < hi:
-        bad = fails(probes)
+        bad = np.asarray(fails(probes), bool)
         for pos, b in zip(probes, bad, strict=True):
             if b:
                 lo = max(lo, int(pos) + 1)
             else:
                 hi = min(hi, int(pos))
         width = hi - lo
-        probes = np.unique([lo + width * k // 4 for k in (1, 2, 3)]) if width > 0 else probes
-        probes = probes[(probes >= lo) & (probes < hi)]
-        if width > 0 and probes.size == 0:
-            probes = np.array([lo])
+        if width <= 0:
+            break
+        if width <= 3:
+            probes = np.arange(lo, hi)
+        elif bad.all() and hi == n:  # every member probed fails: further up
+            probes = np.unique(np.minimum(lo + up * np.array([0, 1, 3]), hi - 1))
+            up *= 4
+        elif not bad.any() and lo == 0:  # every member probed holds: further down
+            probes = np.unique(np.maximum(hi - 1 - down * np.array([0, 1, 3]), lo))
+            down *= 4
+        else:
+            probes = np.unique([lo + width * k // 4 for k in (1, 2, 3)])
     return lo
+
+
+def _edge(shifts: np.ndarray, held: int) -> float:
+    """The shift between the last member that fails and the first held, of `shifts`
+    (ascending); -inf when none fails, the last shift when all do."""
+    if held == 0:
+        return -math.inf
+    if held == shifts.size:
+        return float(shifts[-1])
+    return 0.5 * float(shifts[held - 1] + shifts[held])
 
 
 def _at(b: hm.Boundary, seconds: float) -> dt.datetime:
@@ -352,6 +378,7 @@ def run(
     crossing_s = np.full(m, np.nan)
     min_plant = np.empty(m)
     damaged_heated = np.zeros(m, dtype=bool)
+    edge = -math.inf  # where the heater's failures ended on the last K level run
     for j, factor in enumerate(factors):
         idx = np.flatnonzero(level == j)
         if idx.size == 0:
@@ -372,8 +399,14 @@ def run(
             damaged_heated[cold] = run.fails(cold)
         else:
             cold = cold[np.argsort(shifts[cold], kind="stable")]  # coldest first
-            held = _first_held(cold.size, lambda pos, cold=cold, run=run: run.fails(cold[pos]))
+            # the last level's end is a guess for this one's (the next K is a little
+            # colder: rarely a few members off); the answer does not depend on it
+            guess = int(np.searchsorted(shifts[cold], edge))
+            held = _first_held(
+                cold.size, lambda pos, cold=cold, run=run: run.fails(cold[pos]), guess=guess
+            )
             damaged_heated[cold[:held]] = True
+            edge = _edge(shifts[cold], held)
     members = tuple(
         Member(
             crossing_time=None if np.isnan(crossing_s[i]) else _at(b, crossing_s[i]),
