@@ -119,3 +119,10 @@ def test_the_quick_commands_do_not_import_pandas(argv):
     # pandas and rich, which it can only do without pandas; forecasts are arrays
     # (`grower.weather.Samples`) and the pandas frame is built only when asked for
     _loads_none_of(argv, ("pandas",))
+
+
+@pytest.mark.parametrize("argv", LIGHT, ids=[a[0] for a in LIGHT])
+def test_the_quick_commands_do_not_import_numpy_ma(argv):
+    # numpy.ma costs ~10 ms on its first import (np.unique and np.median ask it whether
+    # an array is masked): grower.arrays gives those values without it
+    _loads_none_of(argv, ("numpy.ma",))

@@ -63,7 +63,7 @@ from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
-from grower import solver
+from grower import arrays, solver
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
@@ -299,13 +299,13 @@ def _first_held(n: int, fails, guess: int = 0) -> int:
         if width <= 3:
             probes = np.arange(lo, hi)
         elif bad.all() and hi == n:  # every member probed fails: further up
-            probes = np.unique(np.minimum(lo + up * np.array([0, 1, 3]), hi - 1))
+            probes = arrays.unique(np.minimum(lo + up * np.array([0, 1, 3]), hi - 1))
             up *= 4
         elif not bad.any() and lo == 0:  # every member probed holds: further down
-            probes = np.unique(np.maximum(hi - 1 - down * np.array([0, 1, 3]), lo))
+            probes = arrays.unique(np.maximum(hi - 1 - down * np.array([0, 1, 3]), lo))
             down *= 4
         else:
-            probes = np.unique([lo + width * k // 4 for k in (1, 2, 3)])
+            probes = arrays.unique([lo + width * k // 4 for k in (1, 2, 3)])
     return lo
 
 

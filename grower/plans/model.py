@@ -12,7 +12,7 @@ from typing import Any, Literal
 
 import numpy as np
 
-from grower import network
+from grower import arrays, network
 from grower.house import House
 from grower.network import Capacities, Conductances
 
@@ -501,7 +501,7 @@ def grid_ns(
     regular = start_ns + step * np.arange((end_ns - start_ns) // step + 1, dtype=np.int64)
     at = np.asarray(at_ns, dtype=np.int64)
     extra = np.asarray(list(cuts_ns) + [start_ns, end_ns], dtype=np.int64)
-    return np.unique(np.concatenate([regular, at[(at > start_ns) & (at < end_ns)], extra]))
+    return arrays.unique(np.concatenate([regular, at[(at > start_ns) & (at < end_ns)], extra]))
 
 
 def grid(start: Any, end: Any, frame_index: Any, step_s: float) -> Any:

@@ -15,7 +15,7 @@ from collections.abc import Callable
 import numpy as np
 from numpy.typing import NDArray
 
-from grower import files, limits
+from grower import arrays, files, limits
 from grower.errors import InputError, did_you_mean, warn
 from grower.site import Site
 from grower.units import M_S_PER_MPH, f_to_c
@@ -162,7 +162,7 @@ def read_forecast_csv(
     if zone is not None:
         tz, tz_name = zone, zone_name
         offsets = _zone_offsets(utc_s, zone)
-    elif np.unique(offsets).size == 1:
+    elif arrays.unique(offsets).size == 1:
         tz, tz_name = dt.timezone(dt.timedelta(seconds=int(offsets[0]))), None
     else:
         # offsets change inside the file (a clock change) and no site zone is known: show
@@ -190,7 +190,7 @@ def _zone_keeping(utc_s, offsets) -> dt.tzinfo:
     from zoneinfo import ZoneInfo, available_timezones
 
     change = np.flatnonzero(np.diff(offsets))
-    probe = np.unique(np.concatenate(([0, offsets.size - 1], change, change + 1)))
+    probe = arrays.unique(np.concatenate(([0, offsets.size - 1], change, change + 1)))
     for name in sorted(available_timezones()):
         try:
             zone = ZoneInfo(name)
@@ -226,7 +226,7 @@ def _check_fahrenheit(values, label_unit, where: str) -> None:
     temp = values["temperature_c"]
     head = label_unit["temperature_c"][0]
     if head == "temperature_c" and np.isfinite(temp).any():
-        median = float(np.nanmedian(temp))
+        median = arrays.median(temp[~np.isnan(temp)])
         if median > CELSIUS_MEDIAN_WARN_C:
             warn(
                 f"column temperature_c has a median of {median:.1f} °C, hot for a frost or fuel "

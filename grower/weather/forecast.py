@@ -21,6 +21,7 @@ from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 import numpy as np
 from numpy.typing import NDArray
 
+from grower import arrays
 from grower.errors import InputError
 from grower.units import Note
 
@@ -224,7 +225,7 @@ class Forecast:
         """Each sample as an aware datetime in its local offset (for reports and JSON)."""
         s = self.samples
         offsets = s.utc_offset_s
-        if self.timezone is None and np.unique(offsets).size > 1:  # index in UTC
+        if self.timezone is None and arrays.unique(offsets).size > 1:  # index in UTC
             return [
                 dt.datetime.fromtimestamp(t, dt.timezone(dt.timedelta(seconds=int(off))))
                 for t, off in zip(s.utc_s, offsets, strict=True)
