@@ -10,7 +10,8 @@
     - ``scipy.integrate.solve_ivp`` (RK45, rtol = atol = 1e-6) run once on all members
       stacked, with a right-hand side vectorised over them (`ivp_vectorised_night`);
     - solve_ivp looped over the members (timed on a subset, scaled; said in the output).
-    The first three are timed the same way (best of 5, one BLAS thread). Errors are
+    grower and the first two are timed the same way (best of 5 in interleaved rounds, one
+    BLAS thread). Errors are
     measured against the exact solution; that our solver *is* the exact one is shown
     against solve_ivp at rtol = 1e-12 (DOP853, restarted at every sample) on a few members.
 (b) A 120-day season at 5-minute steps with a thermostat heater and venting:
@@ -18,7 +19,7 @@
     (the exact step of Van Loan's block exponential for state and energy, mode logic per
     step, switching instants by brentq on the exact intra-step solution, expm per
     evaluation). Both results are compared to show they are the same physics. Both are
-    timed as the best of several runs (7 and 2) in the same process.
+    timed as the best of 5 in interleaved rounds in the same process.
 
 The forecasts are invented (random but seeded); nothing here is data.
 """
@@ -63,13 +64,16 @@ def house() -> solver.Network:
     )
 
 
-def best_of(fn, repeat: int) -> float:
-    times = []
+def interleaved_best(fns: dict, repeat: int) -> dict:
+    """Best of `repeat` for each function, timed in rounds (one run of each per round), so
+    that a busy spell on the shared machine falls on every side alike."""
+    best = dict.fromkeys(fns, math.inf)
     for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+        for name, fn in fns.items():
+            t0 = time.perf_counter()
+            fn()
+            best[name] = min(best[name], time.perf_counter() - t0)
+    return best
 
 
 # -- (a) ensemble night -------------------------------------------------------------------
@@ -229,7 +233,6 @@ def bench_ensemble(members: int, subset: int, rng: np.random.Generator) -> dict:
         return solver.analyse(solver.free_float(net, t, u, x0), th, offset)
 
     cr = ours()
-    t_ours = best_of(ours, 5)
     tr = solver.free_float(net, t, u, x0)
     sel = rng.choice(members, size=min(subset, members), replace=False)
     t0 = time.perf_counter()
@@ -250,11 +253,19 @@ def bench_ensemble(members: int, subset: int, rng: np.random.Generator) -> dict:
         abs(r[1] - cr.time_s[i]) if not math.isnan(r[1]) else 0.0
         for r, i in zip(tight, sel[:3], strict=True)
     )
-    # the same night by a plain numpy loop and by one vectorised solve_ivp, timed the same way
+    # the same night by a plain numpy loop and by one vectorised solve_ivp, timed the same
+    # way as grower: best of 5, in interleaved rounds
     loop = numpy_loop_night(net, t, u, x0, th, off)
-    t_loop = best_of(lambda: numpy_loop_night(net, t, u, x0, th, off), 5)
     ivp = ivp_vectorised_night(net, t, u, x0, th, off)
-    t_ivp = best_of(lambda: ivp_vectorised_night(net, t, u, x0, th, off), 5)
+    best = interleaved_best(
+        {
+            "ours": ours,
+            "loop": lambda: numpy_loop_night(net, t, u, x0, th, off),
+            "ivp": lambda: ivp_vectorised_night(net, t, u, x0, th, off),
+        },
+        5,
+    )
+    t_ours, t_loop, t_ivp = best["ours"], best["loop"], best["ivp"]
 
     def diffs(res):
         x, first, gmin, below = res
@@ -459,10 +470,11 @@ def bench_season(days: int, rng: np.random.Generator) -> dict:
         return reference_thermostat(net, t, u, p, x0, sp, qmax, np.full(t.size, vent))
 
     tr = ours()
-    # both sides the best of several runs: a shared machine slows single runs by up to 2x
-    t_ours = best_of(ours, 7)
     temps, heat, vented = reference()
-    t_ref = best_of(reference, 2)
+    # both sides the best of 5 in interleaved rounds: a shared machine slows single runs
+    # by up to 2x, and a busy spell then falls on both sides alike
+    best = interleaved_best({"ours": ours, "reference": reference}, 5)
+    t_ours, t_ref = best["ours"], best["reference"]
     return {
         "days": days,
         "steps": t.size - 1,

@@ -172,12 +172,14 @@ class CropBook:
     crops: tuple[Crop, ...]
 
     @functools.cached_property
-    def _index(self) -> dict[str, Crop]:
+    def index(self) -> dict[str, Crop]:
+        """Every crop by its lookup key (name, aliases, plural); built once, on first use
+        (an alias two crops share is an `InputError` then)."""
         return _build_index(self.crops)
 
     def get(self, name: str) -> Crop | None:
         """The crop called `name` (or an alias, any case, plural), else None."""
-        return self._index.get(_key(name))
+        return self.index.get(_key(name))
 
     def find(self, name: str) -> Crop:
         """Like `get`, but an unknown name is an `InputError` with a suggestion."""
@@ -335,7 +337,7 @@ def load_crops(
                 crop = replace(crop, overrides=merged[key].path)
             merged[key] = crop
     book = CropBook(tuple(sorted(merged.values(), key=lambda c: c.name)))
-    _ = book._index  # alias clashes are reported at load time
+    _ = book.index  # alias clashes are reported at load time
     return book
 
 

@@ -589,67 +589,144 @@ def _stock(table: Mapping[str, Any], at) -> dict[str, Any]:
     return stock
 
 
-#: [calibration] keys that must be positive, finite numbers when present
+#: [calibration] keys that must be positive, finite numbers when present (any format)
 _CALIBRATION_POSITIVE = ("k_w_per_k", "c_j_per_k", "coupling_scale", "heater_output_w")
+#: format 2 (`grower.fit.calibration`): keys it must have, > 0 (or ≥ 0 for the sky part:
+#: a house under glass has next to none)
+_CALIBRATION_REQUIRED = {
+    "k_outside_w_per_k": "positive",
+    "k_sky_w_per_k": "non-negative",
+    "c_j_per_k": "positive",
+    "geometry_k_outside_w_per_k": "positive",
+    "geometry_k_sky_w_per_k": "non-negative",
+    "geometry_c_j_per_k": "positive",
+}
+#: format 2: further keys that must be non-negative numbers when present
+_CALIBRATION_NON_NEGATIVE = (
+    "k_outside_w_per_k_ci95",
+    "k_sky_w_per_k_ci95",
+    "k_w_per_k_ci95",
+    "c_j_per_k_ci95",
+    "record_wind_m_s",
+    "record_hours",
+    "rms_k",
+    "noise_k",
+    "time_constant_h",
+)
+_CALIBRATION_REFIT = (
+    "(written by `grower fit --write`; refit, or delete the [calibration] table to use "
+    "the geometry)"
+)
+
+
+def _calibration_number(v: Any, sign: str, where: str) -> None:
+    bad = isinstance(v, bool) or not isinstance(v, int | float) or not math.isfinite(v)
+    if bad or (v <= 0 if sign == "positive" else v < 0):
+        raise InputError(f"{v!r} must be a {sign} number {_CALIBRATION_REFIT}", where=where)
 
 
 def _calibration(table: Any, at) -> dict[str, Any]:
+    """The [calibration] table, checked: any format's K, C as numbers; format 2 whole.
+
+    A table without ``format`` is an older fit, read but not used (see
+    `grower.plans.model.calibration_note`); an integer format other than 2 likewise.
+    """
     if not isinstance(table, Mapping):
         raise InputError("must be a table", where=at("calibration"))
     for key in _CALIBRATION_POSITIVE:
         if key in table:
-            v = table[key]
-            if (
-                isinstance(v, bool)
-                or not isinstance(v, int | float)
-                or not math.isfinite(v)
-                or v <= 0
-            ):
-                raise InputError(
-                    f"{v!r} must be a positive number (written by `grower fit`; delete the "
-                    "[calibration] table to use the geometry)",
-                    where=at(f"calibration.{key}"),
-                )
+            _calibration_number(table[key], "positive", at(f"calibration.{key}"))
+    fmt = table.get("format")
+    if "format" in table and (isinstance(fmt, bool) or not isinstance(fmt, int)):
+        raise InputError(
+            f"{fmt!r} must be a whole number (2) {_CALIBRATION_REFIT}",
+            where=at("calibration.format"),
+        )
+    if fmt != 2:
+        return dict(table)
+    model = table.get("model")
+    if model not in ("lumped", "two-node"):
+        raise InputError(
+            f'{model!r} must be "lumped" or "two-node" {_CALIBRATION_REFIT}',
+            where=at("calibration.model"),
+        )
+    for key, sign in _CALIBRATION_REQUIRED.items():
+        if key not in table:
+            raise InputError(
+                f'missing key "{key}" (format 2) {_CALIBRATION_REFIT}', where=at("calibration")
+            )
+        _calibration_number(table[key], sign, at(f"calibration.{key}"))
+    for key in _CALIBRATION_NON_NEGATIVE:
+        if key in table:
+            _calibration_number(table[key], "non-negative", at(f"calibration.{key}"))
+    if ("k_ground_w_per_k" in table) != ("geometry_k_ground_w_per_k" in table):
+        raise InputError(
+            f"k_ground_w_per_k and geometry_k_ground_w_per_k go together {_CALIBRATION_REFIT}",
+            where=at("calibration"),
+        )
+    for key in ("k_ground_w_per_k", "geometry_k_ground_w_per_k"):
+        if key in table:
+            _calibration_number(table[key], "non-negative", at(f"calibration.{key}"))
+    if "k_sky_by_night_w_per_k" in table:
+        nights = table["k_sky_by_night_w_per_k"]
+        where = at("calibration.k_sky_by_night_w_per_k")
+        if not isinstance(nights, list) or not nights:
+            raise InputError(f"must be a list of numbers {_CALIBRATION_REFIT}", where=where)
+        for v in nights:
+            _calibration_number(v, "non-negative", where)
+    if "record_mean_outside_c" in table:
+        t = table["record_mean_outside_c"]
+        where = at("calibration.record_mean_outside_c")
+        if isinstance(t, bool) or not isinstance(t, int | float) or not math.isfinite(t):
+            raise InputError(f"{t!r} must be a temperature in °C {_CALIBRATION_REFIT}", where=where)
+        limits.check(float(t), limits.OUTSIDE_AIR_C, where)
+    quality = table.get("quality", "good")
+    if quality not in ("good", "rough"):
+        raise InputError(
+            f'{quality!r} must be "good" or "rough" {_CALIBRATION_REFIT}',
+            where=at("calibration.quality"),
+        )
     return dict(table)
 
 
-def check_calibration(
-    house: House, k_geometry_w_per_k: float | None = None, c_geometry_j_per_k: float | None = None
-) -> None:
-    """Refuse a ``[calibration]`` K or C that cannot describe this envelope; warn of an
+def check_calibration(house: House) -> None:
+    """Refuse a format-2 ``[calibration]`` that cannot describe this envelope; warn of an
     unusual one.
 
-    The fitted values are compared with the geometry's (`grower.network.describe`
-    unless given): K outside `limits.CALIBRATION_K_RATIO`\\[0] (0.2–5 ×) or C outside
-    `limits.CALIBRATION_C_RATIO`\\[0] (0.1–10 ×) is an `InputError` naming the file's
-    key; outside the usual ranges (0.5–2 ×, 0.33–3 ×) a warning. For the plans and the
-    commands to call before a calibrated run.
+    The fitted values are compared with the geometry's stored beside them (at the
+    record's conditions): the conduction K_out outside `limits.CALIBRATION_K_RATIO`\\[0]
+    (0.2–5 ×), the sky part outside `limits.CALIBRATION_SKY_RATIO`\\[0] (0–5 ×) or C
+    outside `limits.CALIBRATION_C_RATIO`\\[0] (0.1–10 ×) is an `InputError` naming the
+    file's key; outside the usual ranges a warning. A table of an older format is not
+    checked: it is not used (`grower.plans.model.calibration_note`). For the commands to
+    call before a calibrated run.
     """
     cal = house.calibration
-    k, c = cal.get("k_w_per_k"), cal.get("c_j_per_k")
-    if k is None and c is None:
+    if not cal or cal.get("format") != 2:
         return
-    if k_geometry_w_per_k is None or c_geometry_j_per_k is None:
-        from grower import network
-
-        summary = network.describe(house)
-        k_geometry_w_per_k = k_geometry_w_per_k or summary.k_w_per_k
-        c_geometry_j_per_k = c_geometry_j_per_k or summary.c_j_per_k
     where = f"{house.path}: calibration"
-    if k is not None:
+    k_out, g_out = float(cal["k_outside_w_per_k"]), float(cal["geometry_k_outside_w_per_k"])
+    limits.check_ratio(
+        k_out / g_out,
+        limits.CALIBRATION_K_RATIO,
+        f"K to outside air = {k_out:,.4g} W/K (the geometry's {g_out:,.4g} W/K)",
+        f"{where}.k_outside_w_per_k",
+    )
+    k_sky, g_sky = float(cal["k_sky_w_per_k"]), float(cal["geometry_k_sky_w_per_k"])
+    if g_sky > 0:
         limits.check_ratio(
-            float(k) / k_geometry_w_per_k,
-            limits.CALIBRATION_K_RATIO,
-            f"K = {float(k):,.4g} W/K (the geometry's {k_geometry_w_per_k:,.4g} W/K)",
-            f"{where}.k_w_per_k",
+            k_sky / g_sky,
+            limits.CALIBRATION_SKY_RATIO,
+            f"the sky part = {k_sky:,.4g} W/K (the geometry's {g_sky:,.4g} W/K)",
+            f"{where}.k_sky_w_per_k",
         )
-    if c is not None:
-        limits.check_ratio(
-            float(c) / c_geometry_j_per_k,
-            limits.CALIBRATION_C_RATIO,
-            f"C = {float(c) / 1e6:,.4g} MJ/K (the geometry's {c_geometry_j_per_k / 1e6:,.4g} MJ/K)",
-            f"{where}.c_j_per_k",
-        )
+    c, g_c = float(cal["c_j_per_k"]), float(cal["geometry_c_j_per_k"])
+    limits.check_ratio(
+        c / g_c,
+        limits.CALIBRATION_C_RATIO,
+        f"C = {c / 1e6:,.4g} MJ/K (the geometry's {g_c / 1e6:,.4g} MJ/K)",
+        f"{where}.c_j_per_k",
+    )
 
 
 def _list(doc: Mapping[str, Any], key: str, source: str) -> list[Mapping[str, Any]]:

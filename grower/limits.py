@@ -132,6 +132,18 @@ MARGIN_K = Bound(
     "alarm margins of 0.5–3 K are usual (common practice, no source)",
     "margin",
 )
+# Drawn nights for the chance of damage: the share of 300 is good to about ±3 % (one
+# binomial standard error at 50 %, sqrt(0.25/300)); past a few thousand only the run
+# time grows (common practice, no source)
+DRAWS = Bound(
+    0,
+    20000,
+    30,
+    3000,
+    "",
+    "0 leaves the chance out; a few hundred give it to a few per cent",
+    "number of drawn nights",
+)
 # Lengths [m]: single spans of high tunnels are 4–12 m, wide-span houses 12–40 m, Venlo
 # bays 3.2–12.8 m; gutters 2–8 m (common practice, no source).
 WIDTH_M = Bound(0.3, 100.0, 2.0, 40.0, "m", "a span is 0.5 m (a low tunnel) to about 40 m", "width")
@@ -272,6 +284,10 @@ MASS_AREA_PER_FLOOR = (20.0, 5.0)
 #: 5× away cannot describe the same envelope (common practice, no source).
 CALIBRATION_K_RATIO = ((0.2, 5.0), (0.5, 2.0))
 CALIBRATION_C_RATIO = ((0.1, 10.0), (0.33, 3.0))
+#: a fitted sky part over the geometry's: possible / usual (common practice, no source:
+#: condensation, dust and cloud during the record lower it, none raises it far; zero is
+#: possible, a house whose film passes no long-wave)
+CALIBRATION_SKY_RATIO = ((0.0, 5.0), (0.25, 2.0))
 #: a site's clock and its longitude's solar time: refuse beyond / warn beyond [h].
 #: The widest official offsets from solar time are about 3 h (western China on UTC+8),
 #: 4 h with summer time (from memory).

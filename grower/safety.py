@@ -18,7 +18,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from grower.units import W_PER_BTU_H
+from grower.units import W_PER_BTU_H, Note
 
 if TYPE_CHECKING:
     from grower.fuels import Appliance, Fuel
@@ -50,22 +50,34 @@ def cautions(
     out: list[str] = []
     if fuel.combustion:
         if btu_h is not None:
-            # Purdue Extension, "Greenhouse heating checklist": 1 in² inlet per 1,000 Btu/h.
-            inlet = btu_h / 1000.0
-            text = (
-                f"Combustion air: a {round(btu_h, -3):,.0f} Btu/h heater needs a fresh-air inlet of at "
-                f"least {inlet:,.0f} in² ({inlet * M2_PER_IN2 * 1e4:,.0f} cm²), 1 in² per "
-                "1,000 Btu/h of input (Purdue Extension, Greenhouse heating checklist)."
+            # Purdue Extension, "Greenhouse heating checklist": 1 in² inlet per 1,000 Btu/h
+            # (22 cm² per kW: 6.4516 cm² / 0.29307 kW)
+            inlet = btu_h / 1000.0 * M2_PER_IN2
+            metric = (
+                "Combustion air: a {input} heater needs a fresh-air inlet of at least {inlet}, "
+                "22 cm² per kW of input (1 in² per 1,000 Btu/h: Purdue Extension, Greenhouse "
+                "heating checklist)."
             )
+            us = (
+                "Combustion air: a {input} heater needs a fresh-air inlet of at least {inlet}, "
+                "1 in² per 1,000 Btu/h of input (Purdue Extension, Greenhouse heating "
+                "checklist)."
+            )
+            values = {"input": ("power", float(input_w)), "inlet": ("area", inlet)}
             if fuel.name in ("propane", "natural-gas") and not short:
                 # IFGC 304 / NFPA 54: 1 in² per 4,000 (outdoor air, vertical ducts),
                 # 2,000 (horizontal ducts), 1,000 Btu/h (air from indoors).
-                text += (
-                    " The fuel gas code (IFGC 304 / NFPA 54) asks "
-                    f"{btu_h / 4000:,.0f} in² from outdoors by vertical ducts, "
-                    f"{btu_h / 2000:,.0f} in² by horizontal ducts, or "
-                    f"{btu_h / 1000:,.0f} in² of indoor air."
+                code = (
+                    " The fuel gas code (IFGC 304 / NFPA 54) asks {vertical} from outdoors by "
+                    "vertical ducts, {horizontal} by horizontal ducts, or {indoor} of indoor air."
                 )
+                metric, us = metric + code, us + code
+                values |= {
+                    "vertical": ("area", inlet / 4.0),
+                    "horizontal": ("area", inlet / 2.0),
+                    "indoor": ("area", inlet),
+                }
+            text = Note(metric, us_template=us, **values)
             out.append(text)
         else:
             out.append(
@@ -138,12 +150,15 @@ def cautions(
         out.append(storage)
     if fuel.name == "propane" and not short:
         # the vapour check itself is grower.vaporisation (the trade's approximate tables)
-        need = f" {round(btu_h, -3):,.0f} Btu/h" if btu_h is not None else " the heater's input"
-        out.append(
+        text = (
             "Cold weather: a propane tank vaporises less gas as it gets colder and emptier; "
             "grower's vapour check uses the trade's approximate tables: have the supplier "
-            f"confirm the tank can supply{need} on the coldest night."
+            "confirm the tank can supply {need} on the coldest night."
         )
+        if input_w is None:
+            out.append(text.format(need="the heater's input"))
+        else:
+            out.append(Note(text, need=("power", float(input_w))))
     if fuel.name == "electricity":
         if input_w is not None:
             text = (

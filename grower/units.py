@@ -424,3 +424,58 @@ def show_conductance(k_w_per_k: float, system: UnitSystem) -> Shown:
 
 def show_speed(speed_m_s: float, system: UnitSystem) -> Shown:
     return Shown(speed_m_s / M_S_PER_MPH, "mph") if system == "us" else Shown(speed_m_s, "m/s")
+
+
+class Note(str):
+    """A report line whose quantities follow the report's unit system.
+
+    The string itself is the SI text (what ``--json`` carries and what tests compare);
+    `text` renders it in either system. `template` has `str.format` fields named after
+    `values`, each ``(kind, SI value)`` or ``(kind, SI value, digits)``; kinds:
+    "temp" [°C], "delta" [K], "cm", "km" (lengths of those sizes) [m], "speed" [m/s],
+    "power" [W], "area" (an opening: cm² or in²) [m²]. `us_template` is the wording in US
+    units where it differs (a rule quoted in its own units).
+    """
+
+    template: str
+    us_template: str
+    values: dict[str, tuple]
+
+    def __new__(cls, template: str, *, us_template: str | None = None, **values: tuple) -> Note:
+        self = super().__new__(cls, _note_text(template, values, "metric"))
+        self.template, self.us_template, self.values = template, us_template or template, values
+        return self
+
+    def text(self, system: UnitSystem) -> str:
+        template = self.us_template if system == "us" else self.template
+        return _note_text(template, self.values, system)
+
+
+def note_text(note: str, system: UnitSystem) -> str:
+    """`note` in `system` (a plain string is shown as it is)."""
+    return note.text(system) if isinstance(note, Note) else str(note)
+
+
+def _note_text(template: str, values: dict[str, tuple], system: UnitSystem) -> str:
+    return template.format(**{k: _quantity(*v, system=system) for k, v in values.items()})
+
+
+def _quantity(kind: str, value: float, digits: int = 1, *, system: UnitSystem) -> str:
+    us = system == "us"
+    if kind == "temp":
+        return show_temperature(value, system).text(digits)
+    if kind == "delta":
+        return show_temperature_difference(value, system).text(digits)
+    if kind == "speed":
+        return show_speed(value, system).text(digits)
+    if kind == "cm":  # a few cm: whole inches (common practice, no source)
+        return f"{value / M_PER_IN:,.0f} in" if us else f"{value * 100:,.0f} cm"
+    if kind == "km":  # a few km: feet to the nearest hundred (common practice, no source)
+        return f"{round(value / M_PER_FT, -2):,.0f} ft" if us else f"{value / 1e3:,.{digits}g} km"
+    if kind == "area":  # an opening: whole cm² or in²
+        return f"{value / M_PER_IN**2:,.0f} in²" if us else f"{value * 1e4:,.0f} cm²"
+    if kind == "power":
+        from grower.report.quantities import power_text
+
+        return power_text(value, system)
+    raise ValueError(f"unknown quantity kind {kind!r}")

@@ -45,3 +45,11 @@ changes_per_hour = 1.0
 def _metric_locale(monkeypatch):
     """Reports default to the locale's units: pin a neutral locale for every test."""
     monkeypatch.setenv("LC_ALL", "C.UTF-8")
+
+
+@pytest.fixture(autouse=True)
+def _no_live_ensemble(monkeypatch):
+    """A live `tonight` also asks for the forecast's ensemble: never the internet. Tests
+    that serve one point GROWER_ENSEMBLE_URL at their loopback server; the rest get a
+    port nobody listens on (the run falls back to drawn nights, with a note)."""
+    monkeypatch.setenv("GROWER_ENSEMBLE_URL", "http://127.0.0.1:9")

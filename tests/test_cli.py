@@ -77,18 +77,26 @@ LIGHT = [
     ["size", "examples/gable-house.toml", "--outside", "-15C", "--crop", "tomato"],
     ["house", "examples/gable-house.toml"],
     ["crops", "tomato"],
+    [
+        "stock",
+        "examples/gable-house.toml",
+        "--setpoint",
+        "10C",
+        "--night-setpoint",
+        "5C",
+        "--forecast",
+        "examples/forecast-cold-snap.csv",
+    ],
 ]
 
 
-@pytest.mark.parametrize("argv", LIGHT, ids=[a[0] for a in LIGHT])
-def test_the_quick_commands_import_neither_scipy_nor_matplotlib(argv):
-    # the fast path stays light (the project's rules): scipy and matplotlib are imported
-    # only where they run; a fresh interpreter shows what one command loads
+def _loads_none_of(argv: list[str], modules: tuple[str, ...]) -> None:
+    """Run one command in a fresh interpreter; fail if it imported any of `modules`."""
     code = (
         "import sys\n"
         "from grower.cli import main\n"
         f"status = main({argv!r})\n"
-        "heavy = sorted(m for m in ('scipy', 'matplotlib') if m in sys.modules)\n"
+        f"heavy = sorted(m for m in {modules!r} if m in sys.modules)\n"
         "print(heavy, file=sys.stderr)\n"
         "sys.exit(10 if heavy else status)\n"
     )
@@ -96,3 +104,18 @@ def test_the_quick_commands_import_neither_scipy_nor_matplotlib(argv):
         [sys.executable, "-c", code], cwd=ROOT, capture_output=True, text=True, check=False
     )
     assert done.returncode == 0, done.stderr[-2000:]
+
+
+@pytest.mark.parametrize("argv", LIGHT, ids=[a[0] for a in LIGHT])
+def test_the_quick_commands_import_neither_scipy_nor_matplotlib(argv):
+    # the fast path stays light (the project's rules): scipy and matplotlib are imported
+    # only where they run; a fresh interpreter shows what one command loads
+    _loads_none_of(argv, ("scipy", "matplotlib"))
+
+
+@pytest.mark.parametrize("argv", LIGHT, ids=[a[0] for a in LIGHT])
+def test_the_quick_commands_do_not_import_pandas(argv):
+    # issue 14: tonight on a file forecast starts in less than the bare import of numpy,
+    # pandas and rich, which it can only do without pandas; forecasts are arrays
+    # (`grower.weather.Samples`) and the pandas frame is built only when asked for
+    _loads_none_of(argv, ("pandas",))

@@ -145,7 +145,30 @@ def assert_contract(
             doc = json.loads(out)
             bad = [(p, v) for p, v in _numbers(doc) if not _sane(p, v)]
             assert not bad, (argv, bad[:5])
+            for d in doc.get("houses", [doc]) if isinstance(doc, dict) else []:
+                if "chance_of_damage" in d:
+                    _chance_adds_up(argv, d)
     return rc, out, err
+
+
+def _chance_adds_up(argv: list[str], d: dict) -> None:
+    """`tonight --json`: the chance is the share of `members` that cross (DESIGN: a
+    script can check the count), heated never above no heat, the summary from them."""
+    members = d["members"]
+    if d["chance_of_damage"] is None:
+        assert members == [], argv
+        return
+    n = len(members)
+    crossed = sorted(m["crossing_time"] for m in members if m["crossing_time"] is not None)
+    assert n >= 1 and d["chance_of_damage"] == len(crossed) / n, argv
+    assert d["members_source"] in ("ensemble", "drawn"), argv
+    assert d["earliest_crossing"] == (crossed[0] if crossed else None), argv
+    heated = d["chance_of_damage_heated"]
+    if heated is not None:
+        assert heated == sum(bool(m["heated_damage"]) for m in members) / n, argv
+        assert heated <= d["chance_of_damage"], argv
+    # a member that damages with the heater reaches the alarm with no heat
+    assert all(m["crossing_time"] is not None for m in members if m["heated_damage"]), argv
 
 
 def _digest(path: Path) -> str | None:
@@ -228,12 +251,28 @@ def house_text(draw, calm: bool = False) -> str:
             pass
     if draw(st.integers(0, 3)):
         doc.pop("calibration", None)
-    else:
+    elif draw(st.booleans()):  # an older table (no format): read, not used
         doc["calibration"] = {
             "model": draw(st.sampled_from(["lumped", "two-node", "other"])),
             "k_w_per_k": draw(st.one_of(st.floats(1, 1e5), NUMBERS)),
             "c_j_per_k": draw(st.one_of(st.floats(1e6, 1e9), NUMBERS)),
         }
+    else:  # format 2: the fitted parts beside the geometry's, any of them odd
+        table = {"format": draw(st.sampled_from([2, 2, 2, 3, "2"]))}
+        table["model"] = draw(st.sampled_from(["lumped", "two-node", "two-node", "other"]))
+        for key, typical in (
+            ("k_outside_w_per_k", st.floats(100, 5e3)),
+            ("k_sky_w_per_k", st.floats(0, 2e3)),
+            ("c_j_per_k", st.floats(1e6, 1e9)),
+            ("geometry_k_outside_w_per_k", st.floats(100, 5e3)),
+            ("geometry_k_sky_w_per_k", st.floats(0, 2e3)),
+            ("geometry_c_j_per_k", st.floats(1e6, 1e9)),
+        ):
+            if draw(st.integers(0, 9)):  # now and then a key left out
+                table[key] = draw(st.one_of(typical, typical, NUMBERS))
+        if draw(st.booleans()):
+            table["quality"] = draw(st.sampled_from(["good", "rough", "fine"]))
+        doc["calibration"] = table
     try:
         text = tomlkit.dumps(doc)
     except Exception:  # a value tomlkit will not write (NaN key, huge int): keep the base
@@ -432,6 +471,18 @@ class Inputs:
         return self.data.draw(logger_text(self.calm))
 
 
+def _draws(data: Inputs) -> list[str]:
+    """--draws and --seed: mostly left out, sometimes given, sometimes hostile."""
+    draws = data.pick(
+        st.sampled_from([None, None, "0", "1", "40"]),
+        st.sampled_from(["-1", "x", "1e3", "2.5", "99999999999999999999999"]),
+    )
+    seed = data.pick(st.sampled_from([None, "0", "7"]), st.sampled_from(["-5", "seed", ""]))
+    return (["--draws", draws] if draws is not None else []) + (
+        ["--seed", seed] if seed is not None else []
+    )
+
+
 GOOD_DIFFERENCE = st.sampled_from(["1K", "2", "1.5", "0.5 C", "3F"])
 GOOD_SPEED = st.sampled_from(["15 mph", "2 m/s", "5", "0"])
 
@@ -450,6 +501,7 @@ def test_tonight_with_a_forecast_file(tmp_path, data):
     margin = data.pick(st.one_of(st.none(), GOOD_DIFFERENCE), DIFFERENCE_ARG)
     argv += ["--margin", margin] if margin is not None else []
     argv += data.draw(UNITS_ARG) + (["--alert-status"] if data.draw(st.booleans()) else [])
+    argv += _draws(data)
     assert_contract(argv, [h, f], json_out=True)
 
 
@@ -471,6 +523,7 @@ def test_tonight_with_a_forecast_low(tmp_path, data):
     argv += ["--start", start] if start else []
     as_json = data.draw(st.booleans())
     argv += ["--json"] if as_json else []
+    argv += _draws(data)
     assert_contract(argv, [h], json_out=as_json)
 
 

@@ -14,6 +14,7 @@ from pathlib import Path
 
 import pytest
 
+from tests.calibration_tables import format2
 from tests.conftest import EXAMPLES
 from tests.test_contract import _quiet_environment, assert_contract, run_cli  # noqa: F401
 
@@ -87,8 +88,13 @@ REFUSED_HOUSES = [
     ),
     (
         "a [calibration] K a hundredth of the geometry's",
-        HOOP + "\n[calibration]\nk_w_per_k = 10.0\nc_j_per_k = 5.0e7\n",
-        ["K = 10 W/K", "0.2–5"],
+        format2(HOOP, conduction=0.01),
+        ["calibration.k_outside_w_per_k", "K to outside air", "0.01 ×", "0.2–5"],
+    ),
+    (
+        "a format-2 [calibration] without its sky part",
+        format2(HOOP).replace("k_sky_w_per_k = ", "sky = "),
+        ["calibration", 'missing key "k_sky_w_per_k"', "grower fit --write"],
     ),
     (
         "an infinite calibration K",
@@ -140,6 +146,11 @@ REFUSED_ARGUMENTS = [
     ("--start in the year 1000", ["tonight", "--crop", "tomato", "--low", "-2C", "--start", "1000-01-01T18:00"], ["1000", "1900–2200"]),
     ("--start in the year 3000", ["tonight", "--crop", "tomato", "--low", "-2C", "--start", "3000-01-01T18:00"], ["3000"]),
     ("a usage mistake", ["tonight", "--crop", "tomato", "--model", "three-node"], ["--model", "--help"]),
+    ("--draws -1", ["tonight", "--crop", "tomato", "--draws", "-1", "--forecast", NIGHT, *START], ["--draws", "negative"]),
+    ("--draws 1e9", ["tonight", "--crop", "tomato", "--draws", "1e9", "--forecast", NIGHT, *START], ["--draws", "whole number"]),
+    ("--draws 10**9", ["tonight", "--crop", "tomato", "--draws", "1000000000", "--forecast", NIGHT, *START], ["--draws", "0…20,000"]),
+    ("--seed x", ["tonight", "--crop", "tomato", "--seed", "x", "--forecast", NIGHT, *START], ["--seed", "whole number"]),
+    ("--seed 2**70", ["tonight", "--crop", "tomato", "--seed", str(2**70), "--forecast", NIGHT, *START], ["--seed", "too large"]),
 ]  # fmt: skip
 
 

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import json
 import math
+import tomllib
 
 import pytest
 
@@ -10,6 +12,7 @@ from grower import house
 from grower.cli import main
 from grower.errors import InputError
 
+from .calibration_tables import format2
 from .conftest import MINIMAL, write_house
 
 
@@ -235,27 +238,61 @@ def test_real_clocks_far_from_solar_time_pass(tmp_path):
         house.read(_h(tmp_path, extra))
 
 
-def test_check_calibration_against_the_geometry(tmp_path):
-    from grower import network
+@pytest.mark.parametrize(
+    ("factors", "ok"),
+    [
+        ({}, True),
+        ({"conduction": 0.01}, False),
+        ({"conduction": 50.0}, False),
+        ({"sky": 0.0}, True),  # possible: a film that passes no long-wave (warned)
+        ({"sky": 8.0}, False),
+        ({"capacity": 0.01}, False),
+    ],
+)
+def test_check_calibration_against_the_geometry(factors, ok):
+    from grower.errors import InputWarning
 
-    h = house.read(_h(tmp_path))
-    k = network.describe(h).k_w_per_k
-    c = network.describe(h).c_j_per_k
-    for ratio, ok in ((1.0, True), (0.01, False), (50.0, False)):
-        cal = house.from_mapping(
-            {**_doc(h), "calibration": {"k_w_per_k": k * ratio, "c_j_per_k": c}}, source="x"
-        )
-        if ok:
+    cal = house.from_mapping(tomllib.loads(format2(MINIMAL, **factors)), source="x")
+    if ok and factors:
+        with pytest.warns(InputWarning, match="usually"):
             house.check_calibration(cal)
-        else:
-            with pytest.raises(InputError, match="geometry's"):
-                house.check_calibration(cal)
+    elif ok:
+        house.check_calibration(cal)
+    else:
+        with pytest.raises(InputError, match="geometry's"):
+            house.check_calibration(cal)
 
 
-def _doc(_h):
-    import tomllib
+def test_an_older_calibration_is_read_but_not_checked():
+    """No `format`: the one-factor fit's table; not used, so not refused for its K."""
+    text = MINIMAL + "\n[calibration]\nk_w_per_k = 10.0\nc_j_per_k = 5.0e7\n"
+    house.check_calibration(house.from_mapping(tomllib.loads(text), source="x"))
 
-    return tomllib.loads(MINIMAL)
+
+@pytest.mark.parametrize(
+    ("edit", "words"),
+    [
+        (("format = 2", 'format = "2"'), ["calibration.format", "whole number"]),
+        (('model = "two-node"', 'model = "three-node"'), ["calibration.model", "lumped"]),
+        (("k_sky_w_per_k = ", "k_sky = "), ['missing key "k_sky_w_per_k"']),
+        (("geometry_c_j_per_k = ", "geometry_c_j_per_k = -"), ["calibration.geometry_c_j_per_k"]),
+        (("k_sky_w_per_k = ", "k_sky_w_per_k = -"), ["calibration.k_sky_w_per_k", "non-negative"]),
+        (('quality = "good"', 'quality = "meh"'), ["calibration.quality", "rough"]),
+        (("rms_k = 0.3", "rms_k = nan"), ["calibration.rms_k"]),
+        (("rms_k = 0.3", "k_ground_w_per_k = 5.0"), ["go together"]),
+        (("rms_k = 0.3", "k_sky_by_night_w_per_k = 5.0"), ["k_sky_by_night", "list"]),
+        (("rms_k = 0.3", "k_sky_by_night_w_per_k = [1.0, -2.0]"), ["non-negative"]),
+    ],
+)
+def test_a_malformed_format_2_table_is_one_line_exit_2(tmp_path, capsys, edit, words):
+    text = format2(MINIMAL).replace(*edit)
+    assert edit[1] in text
+    path = write_house(tmp_path, text, "h.toml")
+    assert main(["house", str(path)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert err.startswith(f"Error: {path}: calibration") and "\n" not in err
+    for w in words:
+        assert w in err, err
 
 
 def test_a_utf8_bom_crlf_and_a_fifo(tmp_path):
@@ -272,3 +309,19 @@ def test_a_utf8_bom_crlf_and_a_fifo(tmp_path):
     big.write_bytes(b"#" * (2 << 20))
     with pytest.raises(InputError, match="larger than"):
         house.read(big)
+
+
+def test_the_house_breakdown_says_what_its_calibration_holds(tmp_path, capsys):
+    """`grower house` shows the geometry's figures and one line on the [calibration]: used
+    by the plans (a note), or not used and why (a warning); --json: calibration_note."""
+    plain = write_house(tmp_path, MINIMAL, "a.toml")
+    fitted = write_house(tmp_path, format2(MINIMAL, conduction=1.2, sky=0.5), "b.toml")
+    old = write_house(tmp_path, MINIMAL + "\n[calibration]\nk_w_per_k = 900.0\n", "c.toml")
+    assert main(["house", str(plain), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["calibration_note"] is None
+    assert main(["house", str(fitted), "--json"]) == 0
+    note = json.loads(capsys.readouterr().out)["calibration_note"]
+    assert "conduction × 1.20, sky part × 0.50" in note and "size use the fit's" in note
+    assert main(["house", str(old)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "! the house file's [calibration] is from an older grower fit" in out

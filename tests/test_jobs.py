@@ -12,9 +12,13 @@ import math
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from grower import fuels
 from grower.cli import main
+
+from .calibration_tables import format2
 
 NIGHT = "examples/forecast-cold-night.csv"
 SNAP = "examples/forecast-cold-snap.csv"
@@ -469,25 +473,81 @@ def test_already_below_at_start_says_so(capsys, tmp_path):
     assert "at or below" in out.splitlines()[0]
 
 
-@pytest.mark.parametrize("factor", [0.34, 0.8, 1.5])
-def test_size_never_shrinks_the_heater_on_a_fitted_k(capsys, tmp_path, factor):
-    # A fitted K below the geometry's applied to the design night undersizes the heater
-    # (a fit of 0.34× recommended 34.7 kW for a house losing 62.5 kW); a fit may raise the
-    # heater, never lower it below the handbook-based figure (common practice, no source:
+@pytest.mark.parametrize(
+    ("conduction", "sky"),
+    [(0.34, 0.34), (0.8, 1.0), (1.0, 0.5), (1.5, 1.5), (1.3, 0.6), (0.9, 2.0)],
+)
+def test_size_never_shrinks_the_heater_on_a_fitted_k(capsys, tmp_path, conduction, sky):
+    # A fitted part below the geometry's applied to the design night undersizes the heater
+    # (a one-factor fit of 0.34× recommended 34.7 kW for a house losing 62.5 kW); a fit may
+    # raise each part, never lower it below the geometry's (common practice, no source:
     # size for the worse of two estimates).
     argv = ("--outside", "-20C", "--hold", "10C")
     plain = run_json(capsys, "size", "examples/gable-house.toml", *argv)
-    calm = run_json(capsys, "house", "examples/gable-house.toml")["calm_k_w_per_k"]
     text = Path("examples/gable-house.toml").read_text(encoding="utf-8")
     fitted = tmp_path / "fitted.toml"
-    fitted.write_text(
-        text + f"\n[calibration]\nk_w_per_k = {calm * factor}\nc_j_per_k = 9.0e7\n",
+    fitted.write_text(format2(text, conduction=conduction, sky=sky), encoding="utf-8")
+    d = run_json(capsys, "size", str(fitted), *argv)
+    # the steady loss by hand from the uncalibrated parts:
+    # Q = f_k·K_out·(T_hold − T_out) + f_s·K_sky·(T_hold − T_sky)
+    dt, dt_sky = plain["hold_c"] - plain["design_outside_c"], plain["hold_c"] - plain["sky_c"]
+    k_out, k_sky = plain["k_conduction_w_per_k"], plain["k_sky_w_per_k"]
+    assert plain["heat_loss_w"] == pytest.approx(k_out * dt + k_sky * dt_sky, rel=1e-9)
+    fk, fs = max(conduction, 1.0), max(sky, 1.0)
+    assert d["heat_loss_w"] == pytest.approx(fk * k_out * dt + fs * k_sky * dt_sky, rel=1e-4)
+    assert d["calibration"]["fitted"]["conduction_factor"] == pytest.approx(conduction, rel=1e-9)
+    assert d["calibration"]["applied"] == {"conduction_factor": fk, "sky_factor": fs}
+    if conduction < 1 or sky < 1:
+        assert any("not sized below the handbook" in n for n in d["notes"])
+    assert d["recommended_output_w"] >= plain["recommended_output_w"] * (1 - 1e-9)
+
+
+def test_size_refuses_an_older_calibration_and_sizes_on_the_geometry(capsys, tmp_path):
+    """A table from the one-factor fit (no `format`) is not used: size runs on the
+    geometry and says why, with the command to refit; --json carries it in notes."""
+    argv = ("--outside", "-20C", "--hold", "10C")
+    plain = run_json(capsys, "size", "examples/gable-house.toml", *argv)
+    text = Path("examples/gable-house.toml").read_text(encoding="utf-8")
+    old = tmp_path / "old.toml"
+    old.write_text(
+        text + '\n[calibration]\nmodel = "two-node"\nk_w_per_k = 969.0\nc_j_per_k = 9.0e7\n'
+        'record = "logger.csv"\n',
         encoding="utf-8",
     )
-    d = run_json(capsys, "size", str(fitted), *argv)
-    if factor < 1:
-        assert d["heat_loss_w"] == pytest.approx(plain["heat_loss_w"], rel=1e-9)
-        assert any("not sized below the handbook" in n for n in d["notes"])
-    else:
-        assert d["heat_loss_w"] == pytest.approx(plain["heat_loss_w"] * factor, rel=1e-6)
-    assert d["recommended_output_w"] >= plain["recommended_output_w"] * (1 - 1e-9)
+    d = run_json(capsys, "size", str(old), *argv)
+    assert d["heat_loss_w"] == pytest.approx(plain["heat_loss_w"], rel=1e-12)
+    assert d["calibration"] is None
+    [note] = [n for n in d["notes"] if "[calibration]" in n]
+    assert "older grower fit (K × " in note and "understate K" in note
+    assert f"grower fit {old} --log logger.csv --write" in note
+    assert d["calibration_warning"] == note
+    assert main(["size", str(old), *argv]) == 0
+    out = capsys.readouterr().out
+    assert f"! {note[:40]}" in " ".join(out.split())
+
+
+@settings(max_examples=40, deadline=None, derandomize=True)
+@given(
+    conduction=st.floats(0.05, 5.0),
+    sky=st.floats(0.0, 5.0),
+    more=st.floats(0.0, 1.0),
+)
+def test_sizing_with_two_fitted_parts_never_goes_below_the_geometry(conduction, sky, more):
+    """The design loss is at least the geometry's for any fitted pair of factors, and
+    does not fall when either factor rises (common practice, no source: size for the
+    worse of two estimates; Q = f_k·K_out·ΔT + f_s·K_sky·(T_hold − T_sky), both terms
+    positive at a design night)."""
+    from grower import house
+    from grower.plans.size import design_heat_loss, sizing_factors
+
+    h = house.read("examples/gable-house.toml")
+
+    def loss(fk: float, fs: float) -> float:
+        kw = dict(conduction_factor=fk, sky_factor=fs, curtain_closed=False)
+        return design_heat_loss(h, -20.0, 10.0, 6.7, **kw).total_w
+
+    geometry = loss(1.0, 1.0)
+    sized = loss(*sizing_factors(conduction, sky))
+    assert sized >= geometry * (1 - 1e-12)
+    assert loss(*sizing_factors(conduction + more, sky)) >= sized * (1 - 1e-12)
+    assert loss(*sizing_factors(conduction, sky + more)) >= sized * (1 - 1e-12)

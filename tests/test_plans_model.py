@@ -5,9 +5,9 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+from pathlib import Path
 
 import numpy as np
-import pint
 import pytest
 from scipy.integrate import solve_ivp
 
@@ -16,9 +16,9 @@ from grower.cli import main
 from grower.plans import model as hm
 from grower.plans import runs
 
+from .calibration_tables import format2
 from .conftest import EXAMPLES
-
-UREG = pint.UnitRegistry()
+from .reference_units import UREG
 
 
 def _run_json(capsys, *argv: str) -> dict:
@@ -38,38 +38,47 @@ def _constant_night(tmp_path, *, temp_c=-5.0, dew_c=-8.0, cloud=0, wind=1.0, hou
     return str(path)
 
 
-def _odes(cond: network.Conductances, caps: network.Capacities, t_out, t_sky):
+def _odes(
+    cond: network.Conductances,
+    caps: network.Capacities,
+    t_out,
+    t_sky,
+    factors: tuple[float, float, float, float] = (1.0, 1.0, 1.0, 1.0),
+):
     """The two-node equations as `grower.network`'s docstring writes them, by hand;
-    `t_sky` a function of time [s]."""
-    g, k_g = caps.air_mass_w_per_k, caps.ground_w_per_k
+    `t_sky` a function of time [s]. `factors` (conduction, sky, capacity, coupling) are a
+    calibration's, applied here by hand: the conduction on the outside air, the deep
+    ground and the coupling, the sky on both sky paths, the capacity on both nodes."""
+    fk, fs, fc, fg = factors
+    g, k_g = caps.air_mass_w_per_k * fk * fg, caps.ground_w_per_k * fk
+    c_a, c_m = caps.air_j_per_k * fc, caps.mass_j_per_k * fc
 
     def rhs(t, x):
         t_a, t_m = x
         t_s = t_sky(t)
         q_a = (
-            cond.outside_w_per_k * (t_out - t_a)
-            + cond.cover_sky_w_per_k * (t_s - t_a)
+            fk * cond.outside_w_per_k * (t_out - t_a)
+            + fs * cond.cover_sky_w_per_k * (t_s - t_a)
             + g * (t_m - t_a)
         )
         q_m = (
             g * (t_a - t_m)
-            + cond.floor_sky_w_per_k * (t_s - t_m)
+            + fs * cond.floor_sky_w_per_k * (t_s - t_m)
             + k_g * (caps.deep_ground_c - t_m)
         )
-        return [q_a / caps.air_j_per_k, q_m / caps.mass_j_per_k]
+        return [q_a / c_a, q_m / c_m]
 
     return rhs
 
 
-def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
-    # An independent integration (scipy's RK45 at rtol 1e-10) of the network's equations,
-    # written here from the conductances and capacities, on a constant clear night: the
-    # crossing time that `tonight` reports (to the second) and the peak heat to hold.
+def _constant_night_tonight(capsys, tmp_path, house_path: str) -> dict:
+    """`tonight --json` on `_constant_night` (−5 °C, wind 1 m/s), alarm 1 °C, from 8 °C air
+    and 9 °C soil at 16:00."""
     path = _constant_night(tmp_path)
-    d = _run_json(
+    return _run_json(
         capsys,
         "tonight",
-        str(EXAMPLES / "gable-house.toml"),
+        house_path,
         "--threshold",
         "1C",
         "--forecast",
@@ -81,10 +90,11 @@ def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
         "--start",
         "2026-12-03T16:00",
     )
-    h = house.read(EXAMPLES / "gable-house.toml")
-    mdl = hm.build(h, wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
-    # the sky the run used, from its effective temperature (the hour term of Martin &
-    # Berdahl moves it through the night), linear between the series' times
+
+
+def _sky_of_series(d: dict, mdl) -> tuple[np.ndarray, np.ndarray]:
+    """The sky the run used [s, °C], from its effective temperature (the hour term of
+    Martin & Berdahl moves it through the night), linear between the series' times."""
     k_o, k_s = mdl.k_conduction_w_per_k, mdl.k_sky_w_per_k
     start = dt.datetime.fromisoformat(d["start"])
     ts = np.array(
@@ -93,17 +103,36 @@ def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
     skies = np.array(
         [(r["effective_outside_c"] * (k_o + k_s) - k_o * -5.0) / k_s for r in d["series"]]
     )
+    return ts, skies
+
+
+def _crossing_checked(d: dict, rhs) -> float:
+    """Assert `tonight`'s crossing is solve_ivp's on `rhs` (to the second); the alarm air."""
     offset = d["series"][5]["air_c"] - d["series"][5]["plant_c"]
     t_alarm_air = d["threshold_c"] + offset
-    rhs = _odes(mdl.conductances, mdl.capacities, -5.0, lambda t: np.interp(t, ts, skies))
 
     def crossing(_t, x):
         return x[0] - t_alarm_air
 
     crossing.terminal, crossing.direction = True, -1
     sol = solve_ivp(rhs, (0, 20 * 3600), [8.0, 9.0], events=crossing, rtol=1e-10, atol=1e-10)
+    start = dt.datetime.fromisoformat(d["start"])
     got = (dt.datetime.fromisoformat(d["crossing_time"]) - start).total_seconds()
     assert got == pytest.approx(float(sol.t_events[0][0]), abs=1.0)  # printed to the second
+    return t_alarm_air
+
+
+def test_tonight_crossing_and_hold_against_solve_ivp(capsys, tmp_path):
+    # An independent integration (scipy's RK45 at rtol 1e-10) of the network's equations,
+    # written here from the conductances and capacities, on a constant clear night: the
+    # crossing time that `tonight` reports (to the second) and the peak heat to hold.
+    d = _constant_night_tonight(capsys, tmp_path, str(EXAMPLES / "gable-house.toml"))
+    h = house.read(EXAMPLES / "gable-house.toml")
+    mdl = hm.build(h, wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
+    ts, skies = _sky_of_series(d, mdl)
+    rhs = _odes(mdl.conductances, mdl.capacities, -5.0, lambda t: np.interp(t, ts, skies))
+    t_alarm_air = _crossing_checked(d, rhs)
+    start = dt.datetime.fromisoformat(d["start"])
 
     # hold: the air held at the alarm, the mass floats; the heat is the air's balance
     g = mdl.capacities.air_mass_w_per_k
@@ -232,3 +261,176 @@ def test_size_handbook_figure_is_the_trades_hand_method(capsys, tmp_path):
     # night (REFERENCES: Bartok) — the sky's part of the loss is less than that
     assert 0.0 < d["sky_allowance_w"] < 0.35 * d["heat_loss_w"]
     assert d["recommended_output_w"] == pytest.approx(1.2 * d["heat_loss_w"])
+
+
+# ------------------------------------------------------------------ [calibration]
+
+#: factors of the hand-written calibration below (tests/calibration_tables.py)
+FACTORS = {"conduction": 1.2, "sky": 0.5, "capacity": 0.8, "coupling": 1.5}
+
+
+def _calibrated(tmp_path, model: str = "two-node", **kw) -> house.House:
+    text = (EXAMPLES / "gable-house.toml").read_text(encoding="utf-8")
+    path = tmp_path / "calibrated.toml"
+    path.write_text(format2(text, model=model, **{**FACTORS, **kw}), encoding="utf-8")
+    return house.read(path)
+
+
+def test_tonight_on_a_calibration_against_solve_ivp(capsys, tmp_path):
+    # The same independent integration as above, of the geometry's network at the night's
+    # own wind with the calibration's factors applied by hand: the conduction (outside
+    # air, deep ground, coupling) × 1.2, the sky paths × 0.5, every capacity × 0.8 and
+    # the coupling × 1.5 more. The crossing `tonight` reports must be this network's.
+    h = _calibrated(tmp_path)
+    d = _constant_night_tonight(capsys, tmp_path, h.path)
+    assert d["calibrated"] is True
+    kw = dict(wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
+    geo = hm.build(h, use_calibration=False, **kw)
+    ts, skies = _sky_of_series(d, hm.build(h, **kw))
+    factors = tuple(FACTORS[k] for k in ("conduction", "sky", "capacity", "coupling"))
+    sky = lambda t: np.interp(t, ts, skies)  # noqa: E731
+    _crossing_checked(d, _odes(geo.conductances, geo.capacities, -5.0, sky, factors))
+
+
+def test_build_scales_the_conduction_and_the_sky_apart(tmp_path):
+    h = _calibrated(tmp_path)
+    for wind in (0.0, 6.0):  # the wind still acts: the factors ride on the night's geometry
+        kw = dict(wind_m_s=wind, mean_radiant_temp_c=-8.0, air_temp_c=-3.0)
+        geo, cal = hm.build(h, use_calibration=False, **kw), hm.build(h, **kw)
+        hg, hc = geo.network.boundary_w_per_k, cal.network.boundary_w_per_k
+        assert hc[0, 0] == pytest.approx(1.2 * hg[0, 0], rel=1e-12)  # air → outside air
+        assert hc[0, 1] == pytest.approx(0.5 * hg[0, 1], rel=1e-12)  # cover faces → sky
+        assert hc[1, 1] == pytest.approx(0.5 * hg[1, 1], rel=1e-12)  # floor → sky
+        assert hc[1, 2] == pytest.approx(1.2 * hg[1, 2], rel=1e-12)  # floor → deep ground
+        assert cal.network.coupling_w_per_k[0, 1] == pytest.approx(
+            1.2 * 1.5 * geo.network.coupling_w_per_k[0, 1], rel=1e-12
+        )
+        assert cal.c_j_per_k == pytest.approx(0.8 * geo.c_j_per_k, rel=1e-12)
+        # the steady sky share: the cover faces' plus the floor's through the coupling
+        g, k_r = cal.network.coupling_w_per_k[0, 1], hc[1, 1]
+        assert cal.k_sky_w_per_k == pytest.approx(hc[0, 1] + g * k_r / (g + k_r), rel=1e-12)
+    calm = hm.build(h, wind_m_s=0.0).k_conduction_w_per_k
+    assert hm.build(h, wind_m_s=6.0).k_conduction_w_per_k > calm
+
+
+def test_a_lumped_calibration_scales_the_lumped_columns(tmp_path):
+    h = _calibrated(tmp_path, model="lumped")
+    geo, cal = hm.build(h, kind="lumped", use_calibration=False), hm.build(h, kind="lumped")
+    hg, hc = geo.network.boundary_w_per_k[0], cal.network.boundary_w_per_k[0]
+    assert list(hc) == pytest.approx([1.2 * hg[0], 0.5 * hg[1], 1.2 * hg[2]], rel=1e-12)
+    assert cal.c_j_per_k == pytest.approx(0.8 * geo.c_j_per_k, rel=1e-12)
+    # a fit is used by the model it was fitted with only: their values differ
+    assert not hm.build(h, kind="two-node").calibrated
+    note = hm.calibration_note(h, "two-node")
+    assert "for the lumped model" in note and "--model lumped" in note
+    assert "conduction × 1.20, sky part × 0.50, C × 0.80" in hm.calibration_note(h, "lumped")
+
+
+def test_calibration_notes_say_what_is_used_and_why_not(tmp_path):
+    h = _calibrated(tmp_path)
+    assert "ROUGH" not in hm.calibration_note(h, "two-node")
+    rough = _calibrated(tmp_path, quality="rough")
+    note = hm.calibration_note(rough, "two-node")
+    assert hm.build(rough).calibrated and "ROUGH fit (stored with --keep-rough" in note
+    assert "3.0 × the sensor's noise" in note  # rms_k 0.3, noise_k 0.1 in the table
+    # --no-calibration: the geometry, whatever the table holds
+    assert not hm.build(h, use_calibration=False).calibrated
+    assert "--no-calibration" in hm.calibration_note(h, "two-node", use=False)
+    assert hm.calibration_warning(h, use=False) is None
+    # a format this version does not know: not used, with the command to refit
+    future = house.from_mapping(
+        {**_toml(h.path), "calibration": {**h.calibration, "format": 3}}, source=h.path
+    )
+    assert not hm.build(future).calibrated
+    assert "format 3" in hm.calibration_warning(future)
+
+
+def test_an_older_calibration_is_not_used(tmp_path):
+    text = (EXAMPLES / "gable-house.toml").read_text(encoding="utf-8")
+    path = tmp_path / "old.toml"
+    path.write_text(
+        text + '\n[calibration]\nmodel = "two-node"\nk_w_per_k = 969.0\nc_j_per_k = 9.0e7\n'
+        'record = "logger-gable-house.csv"\n',
+        encoding="utf-8",
+    )
+    h = house.read(path)
+    geo = hm.build(h, use_calibration=False)
+    mdl = hm.build(h)
+    assert not mdl.calibrated and mdl.k_w_per_k == geo.k_w_per_k
+    assert hm.calibration_of(h) is None and hm.calibrated_heater_output(h) is None
+    note = hm.calibration_note(h, "two-node")
+    assert note == hm.calibration_warning(h)
+    ratio = 969.0 / network.describe(h).calm.total_w_per_k  # what was found, unit-free
+    found = f"older grower fit (K × {ratio:.2f} the geometry's calm-night K, one factor on"
+    assert found in note and "every conductance): not used" in note
+    assert f"refit: grower fit {path} --log logger-gable-house.csv --write" in note
+
+
+def _toml(path) -> dict:
+    import tomllib
+
+    with open(path, "rb") as f:
+        doc = tomllib.load(f)
+    doc.pop("calibration", None)
+    return doc
+
+
+def test_a_calibration_of_a_house_since_changed_is_not_used(tmp_path):
+    """The fit's factors belong to the envelope it was fitted on: after the file's air
+    changes go from 0.75 to 1.5 per hour, the geometry at the record's conditions no
+    longer matches the stored one and the table is not used, with the command to refit."""
+    h = _calibrated(tmp_path)
+    assert hm.build(h).calibrated and hm.geometry_change(h) is None
+    text = Path(h.path).read_text(encoding="utf-8")
+    changed = tmp_path / "changed.toml"
+    changed.write_text(text.replace("changes_per_hour = 0.75", "changes_per_hour = 1.5"))
+    h2 = house.read(changed)
+    assert not hm.build(h2).calibrated
+    note = hm.calibration_warning(h2)
+    assert note == hm.calibration_note(h2, "two-node")
+    assert "has changed since its [calibration] was fitted" in note
+    assert "K to outside air at the record's conditions is" in note and "higher than" in note
+    assert "refit" in note
+
+
+def test_grid_in_utc_seconds_is_the_pandas_union_of_steps_and_samples():
+    # pandas (a general-purpose reference library) builds the same grid independently:
+    # date_range every step from the start, union the samples strictly inside, both ends
+    import pandas as pd
+
+    zone = dt.timezone(dt.timedelta(hours=-5))
+    start = pd.Timestamp("2026-12-03T16:07:30", tz=zone)
+    end = pd.Timestamp("2026-12-04T09:25:10.25", tz=zone)
+    samples = pd.date_range("2026-12-03T15:00", "2026-12-04T11:00", freq="h", tz=zone)
+    expected = (
+        pd.date_range(start, end, freq=pd.Timedelta(seconds=600.0))
+        .union(samples[(samples > start) & (samples < end)])
+        .union(pd.DatetimeIndex([start, end]))
+    )
+    sunset = 1796338327.123456789  # a float instant, rounded to ns as pandas rounds it
+    cut = pd.Timestamp(sunset, unit="s", tz="UTC")
+    assert hm.instant_ns(sunset) == cut.value
+    assert hm.instant_ns(start.to_pydatetime()) == start.value == hm.instant_ns(start)
+    got = hm.grid_ns(
+        hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(hm.epoch_s(samples)), 600.0
+    )
+    np.testing.assert_array_equal(got / 1e9, hm.epoch_s(expected))
+    np.testing.assert_array_equal(hm.epoch_s(hm.grid(start, end, samples, 600.0)), got / 1e9)
+    with_cut = hm.grid_ns(start.value, end.value, samples.as_unit("ns").asi8, 600.0, [cut.value])
+    np.testing.assert_array_equal(with_cut, expected.union(pd.DatetimeIndex([cut])).asi8)
+
+
+def test_boundary_on_utc_seconds_equals_boundary_on_an_index():
+    h = house.read(EXAMPLES / "gable-house.toml")
+    from grower import weather
+
+    fc = weather.read_forecast_csv(EXAMPLES / "forecast-cold-night.csv", site=h.site)
+    m = hm.build(h, wind_m_s=2.0, mean_radiant_temp_c=-5.0, air_temp_c=0.0)
+    t = hm.grid_ns(*(hm.samples_ns(fc.utc_s)[[0, -1]]), hm.samples_ns(fc.utc_s), 600.0) / 1e9
+    a = hm.boundary(h, m, fc, t)
+    b = hm.boundary(h, m, fc, hm.grid(fc.start, fc.end, fc.frame.index, 600.0))
+    np.testing.assert_array_equal(a.utc_s, b.utc_s)
+    for name in ("times_s", "outside_c", "sky_c", "effective_c", "sun_w", "plant_offset_k"):
+        np.testing.assert_array_equal(getattr(a, name), getattr(b, name))
+    assert a.local_times()[0] == fc.start and a.local_times()[-1] == fc.end
+    assert list(a.times) == [pd_t.to_pydatetime() for pd_t in b.times]

@@ -83,3 +83,53 @@ def test_an_assumed_start_below_the_alarm_asks_for_a_reading(capsys):
     assert "assumed (-3.9 °C), not read" in out and "--inside-now" in out
     main([*argv, "--inside-now", "-6C"])  # read, not assumed: no such line
     assert "not read" not in capsys.readouterr().out
+
+
+def test_a_read_air_with_an_assumed_soil_asks_for_the_soil(capsys):
+    # the two-node house's night rests on the soil as much as on the air: with the air
+    # read and the soil assumed, the verdict says which reading is missing (US: 2 in)
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", "8C", "--brief"]
+    main(argv)
+    out = " ".join(capsys.readouterr().out.split())
+    assert "The soil was assumed at the deep-ground temperature: a reading at 5 cm" in out
+    main([*argv, "--units", "us"])
+    assert "a reading at 2 in (--soil-now)" in " ".join(capsys.readouterr().out.split())
+    main([*argv, "--soil-now", "9C"])  # both read: no such line
+    assert "assumed" not in capsys.readouterr().out
+
+
+OLDER_CALIBRATION = (
+    '\n[calibration]\nmodel = "two-node"\nk_w_per_k = 969.0\nc_j_per_k = 9.0e7\n'
+    'record = "logger-gable-house.csv"\n'
+)
+
+
+def test_an_older_calibration_is_refused_and_tonight_runs_on_the_geometry(capsys, tmp_path):
+    """A table from the one-factor fit (no `format`): not used; the verdict is the
+    geometry's; one line says what was found, why not, and how to refit."""
+    from pathlib import Path
+
+    path = tmp_path / "old.toml"
+    text = Path("examples/gable-house.toml").read_text(encoding="utf-8")
+    path.write_text(text + OLDER_CALIBRATION, encoding="utf-8")
+    plain = _tonight(capsys, NIGHT)
+    argv = ["tonight", str(path), "--crop", "tomato", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", "8C", "--soil-now", "9C"]
+    assert main([*argv, "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["calibrated"] is False and d["k_w_per_k"] == plain["k_w_per_k"]
+    assert plain["calibration_warning"] is None
+    assert d["min_plant_c"] == plain["min_plant_c"]
+    [note] = [a for a in d["assumptions"] if "[calibration]" in a]
+    assert "older grower fit" in note and "understate K" in note
+    assert d["calibration_warning"] == note
+    assert f"grower fit {path} --log logger-gable-house.csv --write" in note
+    assert main(argv) == 0
+    cap = capsys.readouterr()
+    text = " ".join(cap.out.split())
+    assert text.count("[calibration] is from an older grower fit") == 1
+    assert "! the house file's [calibration] is from an older" in text
+    assert main([*argv, "--no-calibration", "--json"]) == 0
+    [ignored] = [a for a in json.loads(capsys.readouterr().out)["assumptions"] if "[cal" in a]
+    assert "ignored (--no-calibration)" in ignored

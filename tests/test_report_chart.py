@@ -45,3 +45,25 @@ def test_the_alarm_line_is_told_apart_from_every_series():
     marks = {s.mark for s in series}
     dashes = {text for row in rows for text, style in row if style == "red"}
     assert dashes and not (dashes & marks)
+
+
+@pytest.mark.parametrize(
+    "low, high, threshold",
+    [(-12.0, 7.0, 0.0), (19.0, 41.0, 31.8), (-3.3, 2.1, None), (0.0, 100.0, 50.0)],
+)
+def test_the_value_ticks_are_round_and_each_row_is_its_label(low, high, threshold):
+    # the labels are whole multiples of one step and evenly spaced, so the tick row's
+    # value is the label itself (before, rows were labelled 41 and 19 in °F)
+    times, _ = _night()
+    v = np.linspace(high, low, len(times))
+    rows = chart.layout(times, [chart.Series("air", v, "o", "")], threshold=threshold)
+    lines = ["".join(text for text, _ in row) for row in rows]
+    ticks = [(i, float(line.split("┤")[0])) for i, line in enumerate(lines) if "┤" in line]
+    assert len(ticks) >= 3
+    labels = np.array([value for _, value in ticks])
+    steps = -np.diff(labels)
+    assert np.allclose(steps, steps[0]) and steps[0] > 0
+    assert np.allclose(labels / steps[0], np.round(labels / steps[0]))
+    gaps = np.diff([i for i, _ in ticks])
+    assert np.all(gaps == gaps[0])  # a whole number of rows per tick
+    assert labels[0] >= high and labels[-1] <= low

@@ -1,4 +1,4 @@
-"""Exact output of the reports whose content is settled: `house` and `crops`.
+"""Exact output of each report on a few fixed cases: house, crops, tonight, stock, size.
 
 Each case is a command line and the screen it must print, byte for byte, at a fixed
 terminal width (rich wraps to it) and with a neutral locale (see conftest). The expected
@@ -25,12 +25,51 @@ from .conftest import ROOT
 EXPECTED = Path(__file__).parent / "data" / "reports"
 REGENERATE = os.environ.get("GROWER_REGENERATE_REPORTS") == "1"
 
+#: the bundled forecasts from a fixed start, so the screens do not depend on the clock
+NIGHT = ["--forecast", "examples/forecast-cold-night.csv", "--start", "2026-12-03T18:00"]
+SNAP = ["--forecast", "examples/forecast-cold-snap.csv", "--start", "2026-12-05T00:00"]
+HOUSES = ["examples/gable-house.toml", "examples/hoop-tunnel.toml", "examples/glass-range.toml"]
+
 CASES = {
     "house-gable-metric-100": (100, ["house", "examples/gable-house.toml"]),
     "house-hoop-us-60": (60, ["house", "examples/hoop-tunnel.toml", "--units", "us"]),
     "crops-tomato-metric-100": (100, ["crops", "tomato"]),
     "crops-basil-us-60": (60, ["crops", "basil", "--units", "us"]),
     "crops-kale-json": (100, ["crops", "kale", "--json"]),
+    "tonight-gable-metric-100": (
+        100,
+        ["tonight", "examples/gable-house.toml", "--crop", "tomato", *NIGHT, "--inside-now", "8C"],
+    ),
+    "tonight-gable-us-60": (
+        60,
+        ["tonight", "examples/gable-house.toml", "--crop", "tomato", *NIGHT, "--units", "us"],
+    ),
+    "tonight-three-brief-100": (
+        100,
+        ["tonight", *HOUSES, "--crop", "basil", *NIGHT, "--brief"],
+    ),
+    "tonight-hoop-json": (
+        100,
+        ["tonight", "examples/hoop-tunnel.toml", "--crop", "kale", *NIGHT, "--json"],
+    ),
+    "stock-gable-metric-100": (
+        100,
+        ["stock", "examples/gable-house.toml", "--setpoint", "10C", "--night-setpoint", "5C", *SNAP]
+        + ["--on-hand", "900 L", "--price", "0.85", "--crop", "tomato"],
+    ),
+    "stock-gable-us-60": (
+        60,
+        ["stock", "examples/gable-house.toml", "--setpoint", "50F", *SNAP, "--units", "us"]
+        + ["--on-hand", "2 100-lb cylinders", "--fill", "80%"],
+    ),
+    "size-gable-us-60": (
+        60,
+        ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C", "--units", "us"],
+    ),
+    "size-range-metric-100": (
+        100,
+        ["size", "examples/glass-range.toml", "--outside=-25C", "--hold", "12C"],
+    ),
 }
 
 
@@ -47,3 +86,41 @@ def test_report_is_exactly_as_expected(name, capsys, monkeypatch):
         path.write_text(out, encoding="utf-8")
     expected = path.read_text(encoding="utf-8")
     assert out == expected, f"{name}: the report changed; see the module docstring"
+
+
+#: a number followed by an SI unit: none may show on a US screen (material names such as
+#: "twin-wall-polycarbonate-8mm" are names, not quantities: no space before the unit)
+SI_UNIT = r"\d ?(°C|kW\b|W/K|MJ|MJ/K|L\b|cm|km|m/s|m²|m³|kg\b|W\b)"
+US_SCREENS = {
+    "tonight": ["tonight", "examples/gable-house.toml", "--crop", "tomato"],
+    "tonight, several houses": [
+        "tonight",
+        "examples/gable-house.toml",
+        "examples/hoop-tunnel.toml",
+        "examples/glass-range.toml",
+        "--crop",
+        "tomato",
+    ],
+    "stock": ["stock", "examples/gable-house.toml", "--crop", "tomato", "--setpoint", "50F"],
+    "size": ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C"],
+    "house": ["house", "examples/hoop-tunnel.toml"],
+}
+
+
+@pytest.mark.parametrize("name", sorted(US_SCREENS))
+@pytest.mark.parametrize("columns", [60, 100])
+def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch):
+    import re
+
+    argv = list(US_SCREENS[name])
+    if argv[0] == "tonight":
+        argv += ["--forecast", "examples/forecast-cold-night.csv"]
+    if argv[0] == "stock":
+        argv += ["--forecast", "examples/forecast-cold-snap.csv"]
+    monkeypatch.chdir(ROOT)
+    monkeypatch.setenv("COLUMNS", str(columns))
+    main([*argv, "--units", "us"])
+    out = capsys.readouterr().out
+    assert "°F" in out or name == "house"
+    found = [line for line in out.splitlines() if re.search(SI_UNIT, line)]
+    assert not found, f"{name} at {columns} columns shows SI units: {found}"

@@ -14,17 +14,30 @@ import pytest
 from grower import safety
 from grower.errors import InputError
 from grower.safety import cautions
-from grower.units import W_PER_BTU_H
+from grower.units import W_PER_BTU_H, note_text
+
+from .reference_units import UREG
 
 
 def test_combustion_cautions_with_opening_sizes():
     notes = cautions("propane", None, 100_000 * W_PER_BTU_H)
-    text = " ".join(notes)
+    text = " ".join(note_text(n, "us") for n in notes)
     # Purdue Extension: 1 in² per 1,000 Btu/h -> 100 in² for 100,000 Btu/h
-    assert "at least 100 in²" in text
+    assert "a 100,000 Btu/h heater needs a fresh-air inlet of at least 100 in²" in text
     # IFGC 304 / NFPA 54: 1 in² per 4,000 / 2,000 / 1,000 Btu/h -> 25 / 50 / 100 in²
     assert "25 in² from outdoors by vertical ducts" in text
     assert "50 in² by horizontal ducts" in text
+    assert "cm²" not in text  # one unit system on a US screen
+    # the same in SI, by pint's inch (1 in = 2.54 cm): 100 / 25 / 50 in² in cm², whole
+    cm2 = [UREG.Quantity(a, "inch**2").to("cm**2").m for a in (100, 25, 50)]
+    metric = " ".join(note_text(n, "metric") for n in notes)
+    assert (
+        f"a 29.3 kW (100,000 Btu/h) heater needs a fresh-air inlet of at least {cm2[0]:.0f} cm²"
+        in metric
+    )
+    assert f"asks {cm2[1]:.0f} cm² from outdoors" in metric
+    assert f"{cm2[2]:.0f} cm² by horizontal ducts" in metric
+    assert "in² from" not in metric
     # OSHA PEL 50 ppm; NIOSH REL 35 ppm, ceiling 200 ppm
     assert "50 ppm" in text and "35 ppm" in text and "200 ppm" in text
     assert "ethylene" in text and "0.05 ppm" in text  # Univ. of Arkansas
@@ -79,7 +92,7 @@ def test_the_short_set_keeps_the_nights_cautions_and_points_to_size():
     heads = [c.split(":")[0] for c in short[:-1]]
     assert heads == ["Combustion air", "Carbon monoxide"]
     # the opening stays (Purdue Extension: 1 in² per 1,000 Btu/h), the duct sizes go to size
-    assert "100 in²" in short[0] and "fuel gas code" not in short[0]
+    assert "100 in²" in note_text(short[0], "us") and "fuel gas code" not in short[0]
     assert "grower size" in short[-1] and "licensed installer" in short[-1]
     # an unvented heater's warning is never dropped from the short set
     unvented = " ".join(cautions("kerosene", "unvented", 20_000.0, short=True))
@@ -96,7 +109,7 @@ def test_tonight_cautions_quote_the_installed_nameplate(capsys):
     assert main(argv) == 0
     text = " ".join(json.loads(capsys.readouterr().out)["cautions"])
     # examples/gable-house.toml: a 100,000 Btu/h (input) unit heater
-    assert "a 100,000 Btu/h heater" in text and "grower size" in text
+    assert "a 29.3 kW (100,000 Btu/h) heater" in text and "grower size" in text
 
 
 def test_several_houses_get_their_own_cautions(capsys, monkeypatch):
@@ -109,4 +122,4 @@ def test_several_houses_get_their_own_cautions(capsys, monkeypatch):
     out = capsys.readouterr().out
     # the propane house and the natural-gas range: a set each, named, each from its nameplate
     assert "Safety for Propagation house" in out and "Safety for Glass range" in out
-    assert "a 100,000 Btu/h heater" in out
+    assert "a 29.3 kW (100,000 Btu/h) heater" in out

@@ -143,9 +143,8 @@ def test_heater_too_small_opens_the_report_never_a_green_line_above(capsys):
     r = plan.stock(
         h,
         weather.read_forecast_csv(SNAP, site=h.site),
-        setpoint_c=10.0,
-        night_setpoint_c=5.0,
-        on_hand_text="900 L",
+        plan.Setpoints(10.0, 5.0),
+        plan.FuelPlan(on_hand_text="900 L"),
     )
     con = Console(record=True, width=60, color_system=None)
     report.render_stock(con, r, "metric")
@@ -409,3 +408,91 @@ def test_crop_alarm_against_scipy_on_the_lumped_model(tmp_path, capsys):
     assert main([*args, "--threshold", "2C", "--start", start]) == 0
     first_line = capsys.readouterr().out.splitlines()[0]
     assert first_line.startswith("Crop alarm reached — your --threshold")
+
+
+def test_after_the_fuel_runs_out_the_house_cools_as_scipy_integrates(tmp_path, capsys):
+    # a steady −10 °C overcast calm night, the lumped model, a heater that holds 10 °C and
+    # 30 L of propane: once the fuel is gone the heater stops and the air decays from the
+    # setpoint towards T_eff, C·dT/dt = K·(T_eff − T), integrated here by scipy's
+    # solve_ivp (an independent solver) with the run's own K, C and effective outside
+    # temperature; the 2 °C alarm's crossing found by its event finder
+    from scipy.integrate import solve_ivp
+
+    from grower import weather
+    from grower.plans import thermostat_run as tr
+
+    heater = (
+        '\n[[heater]]\nname = "big"\nfuel = "propane"\n'
+        'appliance = "unit-heater-power-vented"\ninput = "300000 BTU/h"\n'
+    )
+    path = write_house(tmp_path, MINIMAL + heater)
+    fc = constant_forecast(tmp_path / "snap.csv", -10.0, 3)
+    start = "2026-12-01T00:00-05:00"
+    args = ["stock", str(path), "--setpoint", "10C", "--forecast", fc, "--model", "lumped"]
+    d = run_json(capsys, *args, "--threshold", "2C", "--start", start, "--on-hand", "30 L")
+    assert d["hours_below_setpoint"] == 0  # the heater holds while there is fuel
+    out_at = dt.datetime.fromisoformat(d["runs_out_at"])
+    after = d["after_run_out"]
+    k, c = d["k_w_per_k"], d["c_j_per_k"]
+    h = house.read(str(path))
+    f = weather.read_forecast_csv(fc, site=h.site)
+    t0 = pd.Timestamp(start)
+    run = tr.simulate(
+        h, f, t0, f.end, setpoint_c=10.0, night_setpoint_c=10.0, q_max_w=1e9, kind="lumped"
+    )
+    ts = (run.times - t0).total_seconds().to_numpy()
+    step = float(run.step_s.max())
+    # the heater stops at the first grid time at or after the run-out
+    t_off = float(np.ceil((out_at - t0.to_pydatetime()).total_seconds() / step) * step)
+
+    def rhs(t, y):
+        return [k * (np.interp(t, ts, run.effective_c) - y[0]) / c]
+
+    def cross(t, y):
+        return y[0] - 2.0
+
+    sol = solve_ivp(
+        rhs, (t_off, ts[-1]), [10.0], events=cross, rtol=1e-10, atol=1e-10, dense_output=True
+    )
+    # the coldest air after the run-out, on the run's grid (T_eff drifts a few hundredths
+    # of a kelvin over the days, so it need not be at the end)
+    grid = ts[ts >= t_off]
+    ref = sol.sol(grid)[0]
+    assert after["min_air_c"] == pytest.approx(float(ref.min()), abs=0.005)
+    coldest = dt.datetime.fromisoformat(after["coldest_at"])
+    assert (coldest - t0.to_pydatetime()).total_seconds() == pytest.approx(
+        float(grid[np.argmin(ref)]), abs=3 * 3600
+    )  # a flat minimum: its time is loose
+    t_alarm = float(sol.t_events[0][0])
+    alarm_at = dt.datetime.fromisoformat(after["crop_alarm_at"])
+    lag = (alarm_at - t0.to_pydatetime()).total_seconds() - t_alarm
+    assert 0.0 <= lag <= step + 1.0  # the first grid time below the alarm
+    assert after["hours_below_setpoint"] == pytest.approx((ts[-1] - t_off) / 3600.0, abs=0.2)
+    # the fuel shortfall comes first: the crop is hurt only because the fuel runs out
+    assert [s["kind"] for s in d["shortfalls"]] == ["fuel"]
+    assert main([*args, "--threshold", "2C", "--start", start, "--on-hand", "30 L"]) == 0
+    first = capsys.readouterr().out.splitlines()[0]
+    assert first.startswith("The fuel runs out")
+
+
+def test_stock_on_an_older_calibration_runs_on_the_geometry(capsys, tmp_path):
+    """No `format` in [calibration]: the one-factor fit's table is not used (stock's fuel
+    is the geometry's), and the notes say why with the command to refit."""
+    from tests.calibration_tables import format2
+
+    text = MINIMAL + '\n[stock]\nfuel = "propane"\n'
+    fc = constant_forecast(tmp_path / "snap.csv", -10.0, 2)
+    argv = ["--setpoint", "10C", "--forecast", fc, "--start", "2026-12-01T00:00-05:00"]
+    plain = run_json(capsys, "stock", str(write_house(tmp_path, text, "a.toml")), *argv)
+    old = write_house(tmp_path, text + "\n[calibration]\nk_w_per_k = 969.0\n", "b.toml")
+    d = run_json(capsys, "stock", str(old), *argv)
+    assert d["calibrated"] is False and d["energy_kwh"] == plain["energy_kwh"]
+    [note] = [a for a in d["assumptions"] if "[calibration]" in a]
+    assert "older grower fit" in note and f"grower fit {old} --log RECORD.csv --write" in note
+    assert d["calibration_warning"] == note and plain["calibration_warning"] is None
+    # a format-2 table is used, and a leakier fit burns more fuel: the conduction × 1.3
+    # (sky × 1) raises the heat, by less than 1.3 × (the sky's share is not scaled)
+    fitted = write_house(tmp_path, format2(text, conduction=1.3), "c.toml")
+    f = run_json(capsys, "stock", str(fitted), *argv)
+    assert f["calibrated"] is True
+    assert plain["energy_kwh"] < f["energy_kwh"] < 1.3 * plain["energy_kwh"]

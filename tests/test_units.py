@@ -296,3 +296,42 @@ def test_bare_temperature_in_fahrenheit_when_asked():
     assert units.parse_temperature_difference("9K", bare="F") == pytest.approx(9.0)
     with pytest.raises(InputError, match="absolute zero"):
         units.parse_temperature("-500", bare="F")
+
+
+# ---------------------------------------------------------------- notes in either system
+
+
+def test_a_note_is_its_si_text_and_renders_each_system_by_pint():
+    note = units.Note(
+        "soil (top {top}) at {soil}, cloud base {base}, {colder} colder, wind {wind}, inlet {a}",
+        top=("cm", 0.10),
+        soil=("temp", 6.0),
+        base=("km", 2000.0),
+        colder=("delta", 4.0, 0),
+        wind=("speed", 3.0),
+        a=("area", 0.0645),
+    )
+    assert (
+        note
+        == "soil (top 10 cm) at 6.0 °C, cloud base 2 km, 4 K colder, wind 3.0 m/s, inlet 645 cm²"
+    )
+    assert units.note_text(note, "metric") == str(note)
+    us = units.note_text(note, "us")
+    inches = Q_(10, "cm").to("inch").m  # 3.94 in: whole inches
+    feet = Q_(2, "km").to("foot").m  # 6,562 ft: to the nearest hundred
+    f = Q_(6.0, "degC").to("degF").m
+    mph = Q_(3.0, "m/s").to("mph").m
+    in2 = Q_(0.0645, "m**2").to("inch**2").m
+    assert us == (
+        f"soil (top {inches:.0f} in) at {f:.1f} °F, cloud base {round(feet, -2):,.0f} ft, "
+        f"{4 * 1.8:.0f} °F colder, wind {mph:.1f} mph, inlet {in2:.0f} in²"
+    )
+    # a plain string is shown as it is
+    assert units.note_text("no wind speed given", "us") == "no wind speed given"
+
+
+def test_a_note_may_word_a_rule_in_its_own_units():
+    note = units.Note(
+        "above {v}", v=("speed", 15 * units.M_S_PER_MPH, 1), us_template="above 15 mph"
+    )
+    assert note == "above 6.7 m/s" and note.text("us") == "above 15 mph"

@@ -770,3 +770,34 @@ def test_live_answers_of_the_wrong_shape_are_one_line(change, words):
         weather.parse_openmeteo(doc)
     with pytest.raises(InputError, match="a JSON list, not an object"):
         weather.parse_openmeteo([doc])
+
+
+def test_forecast_samples_and_frame_are_the_same_forecast():
+    # the arrays every computation reads, and the pandas frame built from them on demand
+    forecast = weather.read_forecast_csv(EXAMPLES / "forecast-cold-night.csv", site=FARM)
+    s = forecast.samples
+    frame = forecast.frame
+    assert list(frame.columns) == [*weather.COLUMNS, "utc_offset_s"]
+    np.testing.assert_array_equal(
+        forecast.utc_s, (frame.index - pd.Timestamp(0, tz="UTC")) / pd.Timedelta(seconds=1)
+    )
+    for c in weather.COLUMNS:
+        np.testing.assert_array_equal(s.values[c], frame[c].to_numpy(float))
+    assert forecast.start == frame.index[0] and forecast.end == frame.index[-1]
+    assert forecast.local_times() == [t.to_pydatetime() for t in frame.index]
+    assert forecast.tz == frame.index.tz
+    with pytest.raises(ValueError):
+        s.values["temperature_c"][0] = 99.0  # a forecast is a value: read-only arrays
+    # made from a frame, a forecast gives back the same arrays and the same frame
+    again = weather.Forecast(frame=frame, source="x", given=forecast.given)
+    np.testing.assert_array_equal(again.utc_s, forecast.utc_s)
+    assert again.frame is frame
+    # a part of it, by rows; dataclasses.replace keeps the samples
+    part = forecast.between(2, 5, source="part")
+    assert part.source == "part" and part.warnings == forecast.warnings
+    np.testing.assert_array_equal(part.values("temperature_c"), s.values["temperature_c"][2:5])
+    import dataclasses
+
+    moved = dataclasses.replace(forecast, source="moved")
+    np.testing.assert_array_equal(moved.utc_s, forecast.utc_s)
+    assert moved.source == "moved"

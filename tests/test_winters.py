@@ -111,7 +111,7 @@ def test_one_winter_equals_stock_on_the_same_hours(tmp_path):
     season = history.season_of(record, *win)
     r = plan.winters(h, [season], setpoint_c=10.0, night_setpoint_c=5.0)
     s = stock_plan.stock(
-        h, season, setpoint_c=10.0, night_setpoint_c=5.0, start=season.start, now=season.start
+        h, season, stock_plan.Setpoints(10.0, 5.0), start=season.start, now=season.start
     )
     assert r.winters[0].energy_kwh == pytest.approx(s.energy_kwh, rel=1e-12)
     assert r.winters[0].hours_not_held == pytest.approx(s.hours_below_setpoint, rel=1e-12)
@@ -261,3 +261,21 @@ def test_fuel_table_heating_value_used():
     # the J per gal the winter's fuel uses is the table's (EIA 91,452 Btu/gal)
     assert fuels.get_fuel("propane").j_per("gal") == pytest.approx(91452 * J_PER_BTU)
     assert math.isclose(fuels.get_fuel("propane").j_per("gal"), 91452 * J_PER_BTU)
+
+
+def test_winters_on_an_older_calibration_runs_on_the_geometry(tmp_path, capsys):
+    """An older [calibration] (no `format`): not used; the season is the geometry's and
+    the report shows the one line that says why, as a warning."""
+    csv = history_csv(tmp_path / "w.csv", "2025-11-01", 121, temp=-5.0)
+    argv = ["--setpoint", "10C", "--history", csv, "--winters", "1", "--model", "lumped"]
+    plain = run_json(capsys, "winters", str(write_house(tmp_path, GLASS, "a.toml")), *argv)
+    old = write_house(tmp_path, GLASS + "\n[calibration]\nk_w_per_k = 500.0\n", "b.toml")
+    d = run_json(capsys, "winters", str(old), *argv)
+    assert d["median_energy_kwh"] == plain["median_energy_kwh"]
+    [note] = [a for a in d["assumptions"] if "[calibration]" in a]
+    assert "older grower fit" in note and "refit" in note
+    assert d["calibration_warning"] == note
+    assert main(["winters", str(old), *argv]) == 0
+    assert "! the house file's [calibration] is from an older" in " ".join(
+        capsys.readouterr().out.split()
+    )

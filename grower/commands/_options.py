@@ -246,7 +246,7 @@ def start_time(args: argparse.Namespace, house, forecast):
     if not getattr(args, "start", None):
         return None
     tz = house.site.timezone if house.site else forecast.timezone
-    return _parse_time(args.start, tz, "--start").tz_convert(forecast.frame.index.tz)
+    return _parse_time(args.start, tz, "--start").tz_convert(forecast.tz)
 
 
 def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
@@ -331,21 +331,23 @@ def limit_days(forecast, start, days: int, option: str = "--days"):
     long simulation. `start` None means now, or the file's first row when it begins
     later; one row either side of the window is kept for interpolation.
     """
-    import dataclasses
+    import datetime as dt
 
-    import pandas as pd
+    import numpy as np
 
-    index = forecast.frame.index
-    now = pd.Timestamp.now(tz=index.tz)
-    begin = start if start is not None else (now if index[0] <= now <= index[-1] else index[0])
-    end = begin + pd.Timedelta(days=days)
-    if index[-1] <= end:
+    utc = forecast.utc_s
+    now = dt.datetime.now(forecast.tz).timestamp()
+    begin = (
+        start.timestamp() if start is not None else (now if utc[0] <= now <= utc[-1] else utc[0])
+    )
+    end = begin + days * 86400.0
+    if utc[-1] <= end:
         return forecast
-    last = int(index.searchsorted(end, side="left"))  # first row at or after the end
-    first = max(int(index.searchsorted(begin, side="right")) - 1, 0)
-    frame = forecast.frame.iloc[first : last + 1]
-    if len(frame) < 2:
+    last = int(np.searchsorted(utc, end, side="left"))  # first row at or after the end
+    first = max(int(np.searchsorted(utc, begin, side="right")) - 1, 0)
+    rows = last + 1 - first
+    if rows < 2:
         return forecast
     label = f"{option} {days}:" if option == "--days" else option
-    kept = f"{label} the forecast's {len(index):,} rows cut to the {len(frame):,} of the {days} day(s) from the start"
-    return dataclasses.replace(forecast, frame=frame, warnings=(*forecast.warnings, kept))
+    kept = f"{label} the forecast's {utc.size:,} rows cut to the {rows:,} of the {days} day(s) from the start"
+    return forecast.between(first, last + 1, warnings=(*forecast.warnings, kept))

@@ -15,8 +15,8 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
             "with the heater's on/off state or power if logged. Reports each value with its "
             "95 % confidence interval beside the geometry's, the residual and a chart of "
             "measured against fitted; refuses a record that cannot pin the values down and "
-            "says what to log. --write stores the result in the house file's [calibration], "
-            "which tonight and stock then use."
+            "says what to log. --write stores the fitted conductances in the house file's "
+            "[calibration], which tonight, stock and size then use (format 2)."
         ),
         epilog="Exit status: 0 done; 2 bad input or a record that cannot be fitted.",
     )

@@ -39,12 +39,33 @@ def run(args: argparse.Namespace) -> int:
 
         raise InputError("cannot be negative", where="--wind")
     summaries = [network.describe(house.read(f), wind_m_s=wind) for f in args.files]
+    notes = [calibration_line(s.house) for s in summaries]
     if args.json:
-        docs = [report.house_json(s) for s in summaries]
+        docs = [
+            {**report.house_json(s), "calibration_note": None if n is None else n[0]}
+            for s, n in zip(summaries, notes, strict=True)
+        ]
         common.emit_json(docs[0] if len(docs) == 1 else {"houses": docs})
         return 0
     out = common.console()
-    for s in summaries:
+    for s, n in zip(summaries, notes, strict=True):
         system = common.unit_system(args.units, s.house.units)
-        report.render_house(out, s, system)
+        report.render_house(out, s, system, n)
     return 0
+
+
+def calibration_line(h) -> tuple[str, bool] | None:
+    """What the house file's [calibration] holds and whether the plans use it (the
+    breakdown above is the geometry's either way); True when it is a warning."""
+    from grower.plans import model as hm
+
+    if not h.calibration:
+        return None
+    kind = h.calibration.get("model")
+    note = hm.calibration_note(h, kind if kind in ("lumped", "two-node") else "two-node")
+    if note is None:
+        return None
+    warning = hm.calibration_warning(h)
+    if warning is None and hm.calibration_of(h) is not None:
+        note += " — the figures above are the geometry's; tonight, stock and size use the fit's"
+    return note, warning is not None

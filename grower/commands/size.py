@@ -44,7 +44,12 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         help="output over heat loss (default 1.2)",
     )
     p.add_argument(
-        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+        "--no-calibration",
+        action="store_true",
+        help=(
+            "ignore the house file's [calibration] (grower fit): run on the geometry's K and C; "
+            "the file is left as it is"
+        ),
     )
     p.set_defaults(run=run)
 

@@ -87,7 +87,12 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         help="thermal model (default two-node)",
     )
     p.add_argument(
-        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+        "--no-calibration",
+        action="store_true",
+        help=(
+            "ignore the house file's [calibration] (grower fit): run on the geometry's K and C; "
+            "the file is left as it is"
+        ),
     )
     add_crop_options(p)
     add_forecast_options(p, live_days=16)
@@ -192,21 +197,23 @@ def run(args: argparse.Namespace) -> int:
             bar.update(task, completed=done, total=total)
 
     try:
-        result = stock.stock(
-            h,
-            forecast,
-            setpoint_c=setpoint,
-            night_setpoint_c=night,
+        plan = stock.FuelPlan(
             fuel_name=args.fuel,
             on_hand_text=args.on_hand,
             fill_text=args.fill,
             price=args.price,
             unit=args.fuel_unit,
+            reserve_pct=reserve,
+            lead_time_days=args.lead_time,
+        )
+        result = stock.stock(
+            h,
+            forecast,
+            stock.Setpoints(setpoint, night),
+            plan,
             kind=args.model,
             start=start,
             use_calibration=not args.no_calibration,
-            reserve_pct=reserve,
-            lead_time_days=args.lead_time,
             crop=crop_alarm,
             progress=progress,
         )

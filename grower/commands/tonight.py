@@ -6,6 +6,10 @@ import argparse
 
 from grower.commands._options import add_crop_options, add_forecast_options, temperature
 
+#: as grower.plans.chance (not imported here: `grower --help` stays light)
+DEFAULT_DRAWS = 300
+DEFAULT_SEED = 12
+
 
 def register(subparsers, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
@@ -46,6 +50,25 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         action="store_true",
         help="print only the verdict lines: what to do, and the night with no heat",
     )
+    g = p.add_argument_group(
+        "chance of damage",
+        "live: the forecast's own ensemble (Open-Meteo); from a file or --low: nights "
+        "drawn from a published forecast error and the house's K spread",
+    )
+    g.add_argument(
+        "--draws",
+        metavar="N",
+        default=str(DEFAULT_DRAWS),
+        help=f"nights to draw for a file or --low, or when the live ensemble cannot be had "
+        f"(default {DEFAULT_DRAWS}; 0 leaves the chance out)",
+    )
+    g.add_argument(
+        "--seed",
+        metavar="N",
+        default=str(DEFAULT_SEED),
+        help=f"seed of the drawn nights and K factors (default {DEFAULT_SEED}: the same "
+        "answer every run)",
+    )
     p.add_argument("--plot", metavar="FILE", help="write the chart as an image (.png or .svg)")
     p.add_argument(
         "--alert-status",
@@ -54,7 +77,12 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         "4 damage expected even with the installed heat",
     )
     p.add_argument(
-        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+        "--no-calibration",
+        action="store_true",
+        help=(
+            "ignore the house file's [calibration] (grower fit): run on the geometry's K and C; "
+            "the file is left as it is"
+        ),
     )
     p.set_defaults(run=run)
 
@@ -92,30 +120,34 @@ def run(args: argparse.Namespace) -> int:
     soil = temperature(args.soil_now, "--soil-now", system, limits.SOIL_C)
     for h in houses:
         check_house(h, use_calibration=not args.no_calibration)
+    draws, seed = _count(args.draws, "--draws", limits.DRAWS), _count(args.seed, "--seed")
     results = []
     for h in houses:
         forecast = get_forecast(args, h)
         start = start_time(args, h, forecast)
-        alarm, basis = alarm_basis(crop, stage, choice, override)
+        members = _members(args, h, draws, seed)
+        threshold, basis = alarm_basis(crop, stage, choice, override)
+        alarm = tonight.Alarm(
+            threshold_c=threshold,
+            basis=basis,
+            damage_c=choice.damage_c if choice else None,
+            margin_k=choice.margin_k if choice else 0.0,
+            crop=crop.name if crop else None,
+            stage=stage.name if stage else None,
+            crop_origin=(crop.path if crop and crop.origin == "user" else None),
+            chill_c=choice.chill_c if choice else None,
+            chill_hours=choice.chill_hours if choice else None,
+        )
         results.append(
             tonight.tonight(
                 h,
                 forecast,
-                threshold_c=alarm,
-                threshold_basis=basis,
-                damage_c=choice.damage_c if choice else None,
-                margin_k=choice.margin_k if choice else 0.0,
-                crop=crop.name if crop else None,
-                stage=stage.name if stage else None,
-                crop_origin=(crop.path if crop and crop.origin == "user" else None),
-                chill_c=choice.chill_c if choice else None,
-                chill_hours=choice.chill_hours if choice else None,
+                alarm,
+                tonight.Readings(inside_c=inside, soil_c=soil, start=start),
                 kind=args.model,
-                inside_now_c=inside,
-                soil_now_c=soil,
-                start=start,
                 colder_by_k=colder,
                 use_calibration=not args.no_calibration,
+                members=members,
             )
         )
     if args.plot:
@@ -135,3 +167,68 @@ def run(args: argparse.Namespace) -> int:
     if args.alert_status:
         return max((r.exit_status for r in results), default=EXIT_OK)
     return EXIT_OK
+
+
+def _count(text: str, option: str, bound=None) -> int:
+    """A whole number from the command line (0 or more)."""
+    from grower import limits
+    from grower.errors import InputError
+
+    try:
+        value = int(str(text).strip().replace("_", "").replace(",", ""))
+    except ValueError:
+        raise InputError(f'"{text}" is not a whole number', where=option) from None
+    if value < 0:
+        raise InputError(f'"{text}" cannot be negative', where=option)
+    if bound is not None and value != 0:  # 0: leave it out, said in the help
+        limits.check(
+            value, bound, option, shown=str(text), convert=lambda lo, hi: f"{lo:,.0f}…{hi:,.0f}"
+        )
+    if value >= 2**63:
+        raise InputError(f'"{text}" is too large', where=option)
+    return value
+
+
+def _members(args: argparse.Namespace, house, draws: int, seed: int):
+    """What the chance of damage runs: the live ensemble for a live forecast (drawn
+    nights, with a note, when it cannot be had), drawn nights for a file or --low."""
+    from grower.errors import InputError
+    from grower.plans import chance
+
+    if draws == 0:
+        return None
+    live = not args.forecast and not args.low
+    if not live:
+        return chance.Spec(draws=draws, seed=seed)
+    try:
+        ensemble = _live_ensemble(house.site, args.live_days)
+    except InputError as exc:
+        return chance.Spec(
+            draws=draws, seed=seed, notes=(f"no ensemble: {exc}; the nights are drawn instead",)
+        )
+    notes = ()
+    if ensemble.stale:
+        notes = ("the ensemble service could not be reached: its cached answer is used",)
+    return chance.Spec(draws=draws, seed=seed, ensemble=ensemble, notes=notes)
+
+
+#: the ensemble is a second opinion: wait for it less long than for the forecast [s]
+ENSEMBLE_TIMEOUT_S = 5.0
+
+
+def _live_ensemble(site, days: int):
+    import sys
+
+    from grower import weather
+
+    if sys.stderr.isatty():
+        from rich.console import Console
+
+        with Console(stderr=True).status("fetching the ensemble…") as status:
+            return weather.ensemble_forecasts(
+                site,
+                days=days,
+                timeout=ENSEMBLE_TIMEOUT_S,
+                status=lambda text: status.update(text),
+            )
+    return weather.ensemble_forecasts(site, days=days, timeout=ENSEMBLE_TIMEOUT_S)

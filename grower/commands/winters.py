@@ -54,7 +54,12 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         "--model", choices=("two-node", "lumped"), default="two-node", help="thermal model"
     )
     p.add_argument(
-        "--no-calibration", action="store_true", help="ignore the house file's [calibration]"
+        "--no-calibration",
+        action="store_true",
+        help=(
+            "ignore the house file's [calibration] (grower fit): run on the geometry's K and C; "
+            "the file is left as it is"
+        ),
     )
     p.add_argument("--plot", metavar="FILE", help="write fuel per month as an image (.png or .svg)")
     p.set_defaults(run=run)

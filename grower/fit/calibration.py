@@ -1,8 +1,12 @@
 """The house file's ``[calibration]`` table: what a fit stores, and writing it in place.
 
-`grower.plans.model.build` reads ``k_w_per_k`` and ``c_j_per_k`` (and, for the two-node
-model, ``coupling_scale``) and uses them in place of the geometry's K and C; the other
-keys say where the numbers came from. Writing keeps every comment and every other key
+Format 2 (``format = 2``) stores the fitted conductances themselves: from the inside air
+to the outside air (``k_outside_w_per_k``) and the sky part (``k_sky_w_per_k``), with C,
+each with its 95 % half-width, beside the geometry's values at the record's conditions
+(``geometry_*``, at the record's wind ``record_wind_m_s``), and the record's span and
+residual against the sensor's noise. `grower.plans.model.build` scales the geometry at a
+run's own conditions by fitted/geometry, part by part (`grower.plans.model.Calibration`);
+an older table (no ``format``: one factor on every conductance) is not used. Writing keeps every comment and every other key
 of the file (a tomlkit round trip: only the ``[calibration]`` table changes), checks
 that the result is still a valid house file, keeps the previous file as
 ``HOUSE.toml.bak`` (``.bak1``, ``.bak2``… when that exists) and replaces the file
@@ -14,6 +18,7 @@ is refused (see `write_calibration`).
 
 from __future__ import annotations
 
+import math
 import os
 import shutil
 import stat
@@ -22,13 +27,25 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from grower.errors import InputError
 from grower.fit.plan import FitResult
 
-#: every key `grower fit` writes (a refit removes the ones it no longer has)
+#: the format `calibration_values` writes (`grower.plans.model.CALIBRATION_FORMAT` reads)
+FORMAT = 2
+#: every key `grower fit` writes, in order (a refit removes the ones it no longer has)
 KEYS = (
+    "format",
     "model",
     "anchor",
+    "quality",
+    "k_outside_w_per_k",
+    "k_outside_w_per_k_ci95",
+    "k_sky_w_per_k",
+    "k_sky_w_per_k_ci95",
+    "k_sky_by_night_w_per_k",
+    "k_ground_w_per_k",
     "k_w_per_k",
     "k_w_per_k_ci95",
     "c_j_per_k",
@@ -41,14 +58,33 @@ KEYS = (
     "heater_output_w_ci95",
     "sun_factor",
     "sun_factor_ci95",
+    "geometry_k_outside_w_per_k",
+    "geometry_k_sky_w_per_k",
+    "geometry_c_j_per_k",
+    "geometry_k_ground_w_per_k",
+    "record_wind_m_s",
+    "record_mean_outside_c",
     "rms_k",
+    "noise_k",
     "n_samples",
     "record",
     "record_start",
     "record_end",
+    "record_hours",
     "fit_date",
 )
 _HEADER_COMMENTS = (
+    "format 2, written by `grower fit --write` from a logger record. k_outside_w_per_k:",
+    "the fitted conductance from the inside air to the outside air; k_sky_w_per_k: the",
+    "fitted sky part (the extra loss per kelvin of clear sky below the air; by night, where",
+    "the record has no cloud: the runs take the clearest); geometry_*: the geometry's",
+    "values at the record's conditions (record_wind_m_s, record_mean_outside_c). tonight,",
+    "stock and size scale the geometry by fitted/geometry at each night's own wind (size",
+    "never below the geometry's figure); --no-calibration ignores this table; delete it",
+    "to use the geometry",
+)
+#: header lines an older `grower fit` wrote, replaced by `_HEADER_COMMENTS` on a refit
+_OLD_HEADER_COMMENTS = (
     "written by `grower fit` from a logger record: tonight and stock use K and C from here",
     "(--no-calibration ignores it); delete this table to go back to the geometry's values",
 )
@@ -58,11 +94,53 @@ def _sig(value: float, digits: int = 5) -> float:
     return float(f"{value:.{digits}g}")
 
 
-def calibration_values(result: FitResult) -> dict[str, Any]:
-    """The ``[calibration]`` keys for `result`, in the order they are written."""
+def _parts(result: FitResult) -> dict[str, tuple[float, float, float]]:
+    """(value, 95 % half-width, the geometry's value) of K_out, K_sky, C and, for a lumped
+    fit whose path to the deep ground was fitted apart, K_ground.
+
+    The estimator reports the conduction to outside air and the sky part beside the
+    geometry's at the record's conditions (`grower.fit.estimate`); the lumped model's
+    ground path is what K leaves of them (K = K_out + K_sky + K_ground, for the fit and
+    for the geometry alike).
+    """
     fit = result.chosen
-    out: dict[str, Any] = {"model": fit.model, "anchor": result.anchor}
+    got = {name: fit.get(name) for name in ("k_outside_w_per_k", "k_sky_w_per_k", "c_j_per_k")}
+    missing = [name for name, p in got.items() if p is None]
+    if missing:
+        raise ValueError(f"the fit reports no {', '.join(missing)}: cannot store format 2")
+    out = {name: (p.value, p.half_width, p.geometry) for name, p in got.items()}
+    k = fit.get("k_w_per_k")
+    if fit.model == "lumped" and k is not None and k.geometry:
+        k_out, k_sky = got["k_outside_w_per_k"], got["k_sky_w_per_k"]
+        ground_geo = k.geometry - k_out.geometry - k_sky.geometry
+        if ground_geo > 1e-9 * k.geometry:
+            out["k_ground_w_per_k"] = (k.value - k_out.value - k_sky.value, 0.0, ground_geo)
+    return out
+
+
+def calibration_values(result: FitResult) -> dict[str, Any]:
+    """The ``[calibration]`` keys (format 2) for `result`, in the order they are written.
+
+    The fitted conductances themselves (W/K, each with its 95 % half-width as ``_ci95``)
+    beside the geometry's at the record's conditions, the record's span, wind and
+    residual against the sensor's noise, and the fit's quality (``"rough"`` only when
+    stored with ``--keep-rough``).
+    """
+    fit = result.chosen
+    parts = _parts(result)
+    out: dict[str, Any] = {
+        "format": FORMAT,
+        "model": fit.model,
+        "anchor": result.anchor,
+        "quality": result.quality,
+    }
+    for name in ("k_outside_w_per_k", "k_sky_w_per_k"):
+        value, half, _ = parts[name]
+        out[name] = _sig(value)
+        out[f"{name}_ci95"] = _sig(half, 3)
     for p in fit.parameters:
+        if p.name in ("k_outside_w_per_k", "k_sky_w_per_k"):
+            continue
         if p.name == "time_constant_h":
             out["time_constant_h"] = _sig(p.value, 4)
             continue
@@ -73,13 +151,30 @@ def calibration_values(result: FitResult) -> dict[str, Any]:
         out[p.name] = _sig(p.value)
         if p.status != "anchor":
             out[f"{p.name}_ci95"] = _sig(p.half_width, 3)
+    nights = fit.sky_by_segment
+    if nights:  # the sky fitted night by night: each night's, for the clearest
+        geo_sky = parts["k_sky_w_per_k"][2]
+        out["k_sky_by_night_w_per_k"] = [_sig(f * geo_sky) for f in nights]
+    if "k_ground_w_per_k" in parts:
+        out["k_ground_w_per_k"] = _sig(max(parts["k_ground_w_per_k"][0], 0.0))
+    out["geometry_k_outside_w_per_k"] = _sig(parts["k_outside_w_per_k"][2])
+    out["geometry_k_sky_w_per_k"] = _sig(parts["k_sky_w_per_k"][2])
+    out["geometry_c_j_per_k"] = _sig(parts["c_j_per_k"][2])
+    if "k_ground_w_per_k" in parts:
+        out["geometry_k_ground_w_per_k"] = _sig(parts["k_ground_w_per_k"][2])
+    out["record_wind_m_s"] = _sig(result.wind_m_s, 3)
+    out["record_mean_outside_c"] = _sig(float(np.mean(result.outside_c)), 3)
     out["rms_k"] = _sig(fit.rms_k, 3)
+    if math.isfinite(result.noise_k):
+        out["noise_k"] = _sig(result.noise_k, 3)
     out["n_samples"] = int(result.n_samples)
     out["record"] = os.path.basename(result.record_path)
     out["record_start"] = result.record_start.replace(microsecond=0)
     out["record_end"] = result.record_end.replace(microsecond=0)
+    hours = (result.record_end - result.record_start).total_seconds() / 3600.0
+    out["record_hours"] = _sig(hours, 4)
     out["fit_date"] = result.fit_date
-    return out
+    return {key: out[key] for key in KEYS if key in out}
 
 
 def _backup_path(path: Path) -> Path:
@@ -110,12 +205,45 @@ def updated_text(text: str, values: dict[str, Any], where: str) -> str:
         doc["calibration"] = table
     elif not isinstance(table, dict):
         raise InputError("[calibration] must be a table", where=where)
+    else:
+        renewed = _renewed_header(table)
+        if renewed is not None:
+            doc["calibration"] = table = renewed
     for key in KEYS:
         if key in table and key not in values:
             del table[key]
     for key, value in values.items():
         table[key] = value  # an existing key keeps its place
     return tomlkit.dumps(doc)
+
+
+def _renewed_header(table):
+    """The table with an older `grower fit`'s header comments replaced by this format's,
+    or None when it has none (the grower's own comments and keys stay, in order)."""
+    import tomlkit
+    from tomlkit.container import Container
+    from tomlkit.items import Comment, Table
+
+    def old(key, item) -> bool:
+        text = item.as_string().strip().lstrip("#").strip()
+        return key is None and isinstance(item, Comment) and text in _OLD_HEADER_COMMENTS
+
+    body = table.value.body
+    if not any(old(k, i) for k, i in body):
+        return None
+    new = Table(Container(), table.trivia, table.is_super_table())
+    done = False
+    for key, item in body:
+        if old(key, item):
+            if not done:
+                for line in _HEADER_COMMENTS:
+                    new.add(tomlkit.comment(line))
+                done = True
+        elif key is None:
+            new.add(item)
+        else:
+            new.add(key, item)
+    return new
 
 
 def write_calibration(path: str | os.PathLike[str], result: FitResult) -> Path:

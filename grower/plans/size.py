@@ -15,7 +15,7 @@ from typing import Any
 
 from grower import fuels, network, safety, sky, vaporisation
 from grower.house import House
-from grower.units import W_PER_BTU_H
+from grower.units import M_S_PER_MPH, W_PER_BTU_H, Note
 
 #: heater output over the design heat loss (common practice, no source: sizing methods
 #: add 10–25 % for pick-up after a setback, leakage as the cover ages, dirty burners)
@@ -82,6 +82,11 @@ class SizeResult:
     installed_holds: bool | None
     cautions: tuple[str, ...]
     notes: tuple[str, ...]
+    #: a format-2 calibration's factors as fitted and as sized with (None: the geometry)
+    calibration: dict[str, Any] | None = None
+    #: the house file's [calibration] not used (an older format): the line, also in
+    #: `notes`, that the report shows as a warning
+    calibration_warning: str | None = None
     vapour: Any = None  # grower.vaporisation.VapourCheck for the recommended input
 
 
@@ -95,7 +100,8 @@ class DesignLoss:
     handbook_w: float  # Σ U·A·ΔT (tables as published) + air exchange + perimeter
     wind_w: float  # what the design wind adds to (or takes from) the handbook figure
     sky_w: float  # what the clear sky adds: K_s·(T_out − T_sky)
-    k_ratio: float
+    conduction_factor: float  # on K_c − K_s, the conductance to the outside air
+    sky_factor: float  # on K_s, the sky part
 
     @property
     def total_w(self) -> float:
@@ -109,14 +115,18 @@ def design_heat_loss(
     wind_m_s: float,
     *,
     curtain_closed: bool,
-    k_ratio: float = 1.0,
+    conduction_factor: float = 1.0,
+    sky_factor: float = 1.0,
 ) -> DesignLoss:
     """Q = K_c·(T_hold − T_out) + K_s·(T_out − T_sky) at the design condition.
 
     The steady state of the two-node network with the deep ground left out (it helps for
     hours, not through a long cold night): the trade's conductance at the design wind
     times the difference to outside air, plus the clear sky's excess below the outside
-    air (see `grower.network`). `k_ratio` scales every conductance (a calibration).
+    air (see `grower.network`). A calibration's factors (`grower.plans.model.Calibration`)
+    scale the two parts the fit told apart: `conduction_factor` the conductance to the
+    outside air K_c − K_s, `sky_factor` the sky part K_s, so that
+    Q = f_k·(K_c − K_s)·(T_hold − T_out) + f_s·K_s·(T_hold − T_sky).
     """
     t_sky = float(sky.swinbank_sky_temperature(design_outside_c))
     cond = network.conductances(
@@ -127,9 +137,11 @@ def design_heat_loss(
         cover_temp_c=design_outside_c,
     )
     dt = hold_c - design_outside_c
-    k_c, k_s = cond.conduction_w_per_k * k_ratio, cond.sky_w_per_k * k_ratio
+    k_s = cond.sky_w_per_k * sky_factor
+    k_o = cond.outside_w_per_k * conduction_factor
+    k_c = k_o + k_s
     handbook = network.handbook_conductance(house) * dt
-    t_eff = float(network.effective_outside(k_c - k_s, k_s, design_outside_c, t_sky))
+    t_eff = float(network.effective_outside(k_o, k_s, design_outside_c, t_sky))
     return DesignLoss(
         conductances=cond,
         sky_c=t_sky,
@@ -137,7 +149,8 @@ def design_heat_loss(
         handbook_w=handbook,
         wind_w=k_c * dt - handbook,
         sky_w=k_s * (design_outside_c - t_sky),
-        k_ratio=k_ratio,
+        conduction_factor=conduction_factor,
+        sky_factor=sky_factor,
     )
 
 
@@ -185,16 +198,21 @@ def unit_choices(
     return tuple(out)
 
 
-def sizing_ratio(fitted_ratio: float) -> float:
-    """The calibration factor a heater is sized with: a fit may raise K, never lower it.
+def sizing_factors(conduction_factor: float, sky_factor: float) -> tuple[float, float]:
+    """The calibration factors a heater is sized with: a fit may raise a part, never
+    lower it.
 
-    A fitted K below the geometry's most often means the record's nights were cloudier
-    (or its sky share smaller) than the fit assumed, not a tighter house; applied to the
-    design night it undersizes the heater, the unsafe direction. Sizing therefore keeps
-    the geometry's K in that case and says so (common practice, no source: size for the
-    worse of two estimates).
+    Each part the fit told apart (conduction to the outside air, the sky part) is kept
+    at the geometry's where the fit puts it lower. A low fitted conduction most often
+    means the record held heat the fit did not see (a warm soil, cloud it took for
+    clear), not a tighter house; a low sky part, a record under cloud or condensation
+    that a clear design night will not have; and the two are fitted against each other,
+    so one low part can be the other's share. Applied to the design night, either
+    undersizes the heater, the unsafe direction; with both parts at least the
+    geometry's, the heater is never below the geometry's figure (common practice, no
+    source: size for the worse of two estimates).
     """
-    return max(float(fitted_ratio), 1.0)
+    return max(float(conduction_factor), 1.0), max(float(sky_factor), 1.0)
 
 
 def size(
@@ -212,16 +230,18 @@ def size(
     """Size a heater for `house` to hold `hold_c` at `design_outside_c` and `wind_m_s`."""
     from grower.plans import model as hm
 
-    fitted_ratio = hm.calibration_ratio(house, use_calibration) or 1.0
-    ratio = sizing_ratio(fitted_ratio)
+    cal = hm.calibration_of(house, use_calibration)
+    fitted = (cal.conduction_factor, cal.sky_factor) if cal else (1.0, 1.0)
+    fk, fs = sizing_factors(*fitted)
+    factors = {"conduction_factor": fk, "sky_factor": fs}
     design = design_heat_loss(
-        house, design_outside_c, hold_c, wind_m_s, curtain_closed=False, k_ratio=ratio
+        house, design_outside_c, hold_c, wind_m_s, curtain_closed=False, **factors
     )
     cond = design.conductances
     saving = None
     if house.curtain:
         closed = design_heat_loss(
-            house, design_outside_c, hold_c, wind_m_s, curtain_closed=True, k_ratio=ratio
+            house, design_outside_c, hold_c, wind_m_s, curtain_closed=True, **factors
         )
         saving = design.total_w - closed.total_w
     loss = max(design.total_w, 0.0)
@@ -242,26 +262,17 @@ def size(
         "grower adds only the sky's excess below it",
         "heat stored in soil and water and heat from the deep ground ignored (they help for "
         "hours, not a whole cold night)",
-        "outside films at the design wind: stronger wind than 15 mph (6.7 m/s) adds, calmer "
-        "takes away; air exchange raised above 15 mph",
+        Note(
+            "outside films at the design wind: stronger wind than {tables} adds, calmer takes "
+            "away; air exchange raised above {tables}",
+            tables=("speed", 15 * M_S_PER_MPH, 1),
+            us_template="outside films at the design wind: stronger wind than 15 mph adds, "
+            "calmer takes away; air exchange raised above 15 mph",
+        ),
     ]
     if house.curtain:
         notes.append("energy curtain taken as open (cautious); drawn, it saves the amount shown")
-    if ratio != 1.0:
-        notes.append(
-            f"every conductance × {ratio:.2f}: the house file's [calibration] (grower fit) "
-            "against the geometry's K on a calm clear night"
-        )
-    elif fitted_ratio < 1.0:
-        notes.append(
-            f"the house file's [calibration] K is × {fitted_ratio:.2f} the geometry's on a "
-            "calm clear night; "
-            "a heater is not sized below the handbook figure on a fit (the fit cannot yet "
-            "tell conduction from the sky's share on a record without cloud): the "
-            "geometry's K is used"
-        )
-    elif house.calibration and not use_calibration:
-        notes.append("the house file's [calibration] is ignored (--no-calibration)")
+    notes.extend(_calibration_notes(house, cal, fitted, (fk, fs), use_calibration))
     return SizeResult(
         house_name=house.name,
         house_path=house.path,
@@ -271,9 +282,9 @@ def size(
         wind_m_s=wind_m_s,
         sky_c=design.sky_c,
         effective_outside_c=design.effective_outside_c,
-        k_w_per_k=cond.total_w_per_k * ratio,
-        k_conduction_w_per_k=cond.outside_w_per_k * ratio,
-        k_sky_w_per_k=cond.sky_w_per_k * ratio,
+        k_w_per_k=cond.outside_w_per_k * fk + cond.sky_w_per_k * fs,
+        k_conduction_w_per_k=cond.outside_w_per_k * fk,
+        k_sky_w_per_k=cond.sky_w_per_k * fs,
         heat_loss_w=loss,
         handbook_loss_w=max(design.handbook_w, 0.0),
         wind_allowance_w=design.wind_w,
@@ -292,7 +303,52 @@ def size(
         installed_holds=(installed >= loss) if house.heaters else None,
         cautions=safety.cautions(fuel, appliance, inp),
         notes=tuple(notes),
+        calibration=None
+        if cal is None
+        else {
+            "model": cal.model,
+            "quality": cal.quality,
+            "fitted": {"conduction_factor": fitted[0], "sky_factor": fitted[1]},
+            "applied": {"conduction_factor": fk, "sky_factor": fs},
+        },
+        calibration_warning=hm.calibration_warning(house, use_calibration),
         vapour=vaporisation.house_check(
             house, replace(source, input_w=inp), design_outside_c, design_fill_pct=30.0
         ),
     )
+
+
+def _calibration_notes(
+    house: House,
+    cal,
+    fitted: tuple[float, float],
+    applied: tuple[float, float],
+    use: bool,
+) -> list[str]:
+    """What `size` made of the house file's [calibration], one line each."""
+    from grower.plans import model as hm
+
+    if cal is None:
+        note = hm.calibration_note(house, "two-node", use)
+        return [note] if note else []
+    (fk, fs), (ak, as_) = fitted, applied
+    src = ", ".join(str(x) for x in (cal.record, cal.fit_date) if x)
+    notes = [
+        f"sized with the conduction to outside air × {ak:.2f} and the sky part × {as_:.2f} "
+        f"the geometry's, from the house file's [calibration] (grower fit"
+        f"{': ' + src if src else ''}; the fit gave × {fk:.2f} and × {fs:.2f})"
+    ]
+    if fk < 1.0 or fs < 1.0:
+        low = [name for name, f in (("conduction", fk), ("sky part", fs)) if f < 1.0]
+        verb = "is" if len(low) == 1 else "are"
+        notes.append(
+            f"a heater is not sized below the handbook figure on a fit: the fitted "
+            f"{' and '.join(low)} {verb} below the geometry's, so sized at the geometry's (a "
+            "record's warm soil, cloud or condensation is not the design night's)"
+        )
+    if cal.rough:
+        notes.append(
+            "the calibration is a ROUGH fit (stored with grower fit --keep-rough): the model "
+            "missed part of its record"
+        )
+    return notes

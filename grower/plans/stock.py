@@ -23,7 +23,6 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
 
 from grower import fuels, safety, vaporisation
 from grower.errors import InputError
@@ -31,6 +30,7 @@ from grower.house import House
 from grower.plans import model as hm
 from grower.plans import thermostat_run as tr
 from grower.plans.tonight import when
+from grower.units import Note
 
 #: refill level when none is given [%]: the cautious end of the trade's 20–30 %
 DEFAULT_RESERVE_PCT = 30.0
@@ -106,6 +106,17 @@ class Shortfall:
 
 
 @dataclass(frozen=True)
+class AfterRunOut:
+    """The house once the fuel has run out: the same forecast, the heater off for good."""
+
+    min_air_c: float
+    min_plant_c: float
+    coldest_at: dt.datetime
+    hours_below_setpoint: float
+    crop_alarm_at: dt.datetime | None  # the plants first below the crop's alarm, if a crop
+
+
+@dataclass(frozen=True)
 class Heating:
     fuel: fuels.Fuel
     appliance: str  # its label
@@ -137,6 +148,7 @@ class StockResult:
     on_hand: fuels.FuelStock | None
     runs_out_at: dt.datetime | None
     lasts_days: float | None
+    after_run_out: AfterRunOut | None
     containers: tuple[fuels.ContainerCount, ...]
     price: float | None
     cost: float | None
@@ -154,14 +166,17 @@ class StockResult:
     forecast_age_s: float | None
     forecast_warnings: tuple[str, ...]
     cautions: tuple[str, ...]
+    #: the house file's [calibration] not used (an older format): the line, also in
+    #: `assumptions`, that the report shows as a warning
+    calibration_warning: str | None = None
 
 
 # ---------------------------------------------------------------- steps
 
 
-def span(forecast, start, now) -> tuple[pd.Timestamp, pd.Timestamp, list[str]]:
+def span(forecast, start, now) -> tuple[dt.datetime, dt.datetime, list[str]]:
     """The stretch of the forecast to run: from now (or its start) to its end."""
-    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
+    now = now if now is not None else dt.datetime.now(forecast.tz).replace(microsecond=0)
     first, last = forecast.start, forecast.end
     notes: list[str] = []
     if start is None:
@@ -189,7 +204,7 @@ def heating(
     measured = hm.calibrated_heater_output(house, use_calibration) if house.heaters else None
     if measured is not None:
         q_max = measured
-        notes.append(f"heater output {q_max / 1e3:.1f} kW as measured by grower fit")
+        notes.append(Note("heater output {q} as measured by grower fit", q=("power", q_max)))
     if not house.heaters:
         notes.append("no heater in the house file: an unlimited heater holds the setpoints")
     out = None if math.isinf(q_max) else q_max
@@ -251,7 +266,7 @@ def not_held(run: tr.Run, warm_up_s: float = WARM_UP_S) -> np.ndarray:
     """Steps (N − 1) whose air is below the setpoint in force by more than `HELD_TOL_K`;
     within `warm_up_s` after a raise the setpoint before the raise is the one in force."""
     level = np.array(run.setpoint_c, dtype=float)
-    t = hm.epoch_s(run.times)[:-1]
+    t = run.utc_s[:-1]
     for k in np.flatnonzero(np.diff(level) > 0) + 1:
         level[(t >= t[k]) & (t < t[k] + warm_up_s)] = run.setpoint_c[k - 1]
     return run.air_c[:-1] < level - HELD_TOL_K
@@ -263,16 +278,17 @@ def fuel_left_j(run: tr.Run, stock: fuels.FuelStock, eff: float) -> np.ndarray:
     return stock.energy_j - burned
 
 
-def time_of_level(run: tr.Run, left_j: np.ndarray, level_j: float) -> pd.Timestamp | None:
-    """First time the fuel left falls to `level_j`, inside the step where it does."""
+def time_of_level(run: tr.Run, left_j: np.ndarray, level_j: float) -> int | None:
+    """First time [ns since 1970 UTC] the fuel left falls to `level_j`, inside the step
+    where it does (`tr.Run.time` gives it as a datetime)."""
     k = int(np.argmax(left_j <= level_j)) if np.any(left_j <= level_j) else -1
     if k < 0:
         return None
     if k == 0:
-        return run.times[0]
+        return int(run.times_ns[0])
     drop = left_j[k - 1] - left_j[k]
     frac = (left_j[k - 1] - level_j) / drop if drop > 0 else 0.0
-    return run.times[k - 1] + pd.Timedelta(seconds=float(frac * run.step_s[k - 1]))
+    return int(run.times_ns[k - 1]) + hm.duration_ns(frac * run.step_s[k - 1])
 
 
 def order(
@@ -282,7 +298,7 @@ def order(
     eff: float,
     reserve_pct: float,
     lead_time_days: float,
-    start: pd.Timestamp,
+    start: dt.datetime,
 ) -> Order:
     """The order-by date and amount (module docstring)."""
     j_per = fuel.j_per(stock.unit)
@@ -300,19 +316,21 @@ def order(
         seconds = float(run.step_s.sum())
         rate = (left[0] - left[-1]) / seconds if seconds > 0 else 0.0
         if rate > 0:
-            at = run.times[-1] + pd.Timedelta(seconds=float((left[-1] - level * j_per) / rate))
+            at = int(run.times_ns[-1]) + hm.duration_ns((left[-1] - level * j_per) / rate)
             extrapolated = True
     by = None
     now = False
     if at is not None:
-        day = (at - pd.Timedelta(days=lead_time_days)).date()
+        day = dt.datetime.fromtimestamp(
+            round((at - hm.duration_ns(lead_time_days * 86400.0)) / 1e9, 6), run.tz
+        ).date()
         now = day <= start.date()
         by = max(day, start.date())
     return Order(
         reserve_pct=reserve_pct,
         lead_time_days=lead_time_days,
         reserve_amount=level,
-        reserve_at=None if at is None else when(at),
+        reserve_at=None if at is None else run.time(at),
         order_by=by,
         order_now=now,
         amount=full - level,
@@ -327,7 +345,7 @@ def vapour(
     heat: Heating,
     stock: fuels.FuelStock | None,
     withdrawal: str,
-    runs_out: pd.Timestamp | None,
+    runs_out: dt.datetime | None,
 ) -> vaporisation.VapourCheck:
     """The containers' vapour on the day's coldest heated hour that gives least, at the
     fill they will have then, against the heaters' input (the unlimited one's peak)."""
@@ -346,7 +364,7 @@ def vapour(
     )
     firing = run.heat_w > 0
     if runs_out is not None:
-        firing &= hm.epoch_s(run.times) < runs_out.timestamp()
+        firing &= run.utc_s < runs_out.timestamp()
     if not firing.any():
         firing = np.ones_like(firing)
     dates, idx = tr.local_days(run)
@@ -364,7 +382,7 @@ def vapour(
             float(run.outside_c[k]),
             float(share[k]),
             withdrawal=withdrawal,
-            at=when(run.times[k]),
+            at=run.time(run.times_ns[k]),
         )
         if worst is None or c.supply.capacity_w < worst.supply.capacity_w:
             worst = c
@@ -382,10 +400,30 @@ def crop_check(run: tr.Run, crop: str | CropAlarm, alarm_c: float | None = None)
         damage_c=a.damage_c,
         margin_k=a.margin_k,
         basis=a.basis,
-        first_at=None if first is None else when(run.times[first]),
+        first_at=None if first is None else run.time(run.times_ns[first]),
         hours_below=float(run.step_s[below].sum() / 3600.0),
         min_plant_c=float(run.plant_c.min()),
         last_at=_last_end(run, below),
+    )
+
+
+def after_run_out(dry: tr.Run, t_out_ns: int, crop: CropAlarm | None) -> AfterRunOut:
+    """What the house does from `t_out_ns` [ns since 1970 UTC] on in `dry`, the run whose
+    heater stops there."""
+    after = dry.times_ns >= t_out_ns
+    k = int(np.flatnonzero(after)[np.argmin(dry.air_c[after])])
+    below = not_held(dry) & after[:-1]
+    alarm_at = None
+    if crop is not None:
+        hit = (dry.plant_c[:-1] < crop.alarm_c) & after[:-1]
+        if hit.any():
+            alarm_at = dry.time(dry.times_ns[int(np.argmax(hit))])
+    return AfterRunOut(
+        min_air_c=float(dry.air_c[after].min()),
+        min_plant_c=float(dry.plant_c[after].min()),
+        coldest_at=dry.time(dry.times_ns[k]),
+        hours_below_setpoint=float(dry.step_s[below].sum() / 3600.0),
+        crop_alarm_at=alarm_at,
     )
 
 
@@ -393,13 +431,17 @@ def _last_end(run: tr.Run, short: np.ndarray) -> dt.datetime | None:
     """The end of the last step flagged in `short` (N − 1), or None."""
     if not short.any():
         return None
-    return when(run.times[int(np.flatnonzero(short)[-1]) + 1])
+    return run.time(run.times_ns[int(np.flatnonzero(short)[-1]) + 1])
 
 
-def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall, ...]:
-    """What falls short, worst first: the crop, the heater, the fuel, the vapour.
+def shortfalls(
+    run, crop, runs_out, lasts, vap, extra_w=None, after: AfterRunOut | None = None
+) -> tuple[Shortfall, ...]:
+    """What falls short, worst first: the crop, the heater, the fuel, the vapour — the
+    fuel before the heater when the plants reach their alarm once it has run out.
 
-    `extra_w`: the output the heater lacks (an unlimited heater's peak less its own)."""
+    `extra_w`: the output the heater lacks (an unlimited heater's peak less its own);
+    `after`: the house once the fuel has run out."""
     out = []
     if crop is not None and crop.first_at is not None:
         out.append(
@@ -411,7 +453,7 @@ def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall
         out.append(
             Shortfall(
                 "heater",
-                when(run.times[k]),
+                run.time(run.times_ns[k]),
                 float(run.step_s[below].sum() / 3600.0),
                 float(run.air_c.min()),
                 extra_w,
@@ -419,7 +461,11 @@ def shortfalls(run, crop, runs_out, lasts, vap, extra_w=None) -> tuple[Shortfall
             )
         )
     if runs_out is not None:
-        out.append(Shortfall("fuel", runs_out, None, lasts))
+        fuel = Shortfall("fuel", runs_out, None, lasts)
+        if after is not None and after.crop_alarm_at is not None:
+            out.insert(1 if out and out[0].kind == "crop" else 0, fuel)
+        else:
+            out.append(fuel)
     if vap.applies and vap.short:
         out.append(Shortfall("vapour", vap.at, None, vap.supply.capacity_w))
     return tuple(out)
@@ -429,7 +475,7 @@ def _holding_peak(run: tr.Run, settle_s: float = 3600.0) -> float:
     """Peak heat [W] outside the hour after each raise of the setpoint (the morning
     warm-up an unlimited heater does at once is left out: that is a choice of how fast
     to warm up, not what holds the house)."""
-    t = hm.epoch_s(run.times)
+    t = run.utc_s
     raises = t[1:-1][np.diff(run.setpoint_c) > 0]
     keep = np.ones(t.size, dtype=bool)
     for r in raises:
@@ -440,23 +486,41 @@ def _holding_peak(run: tr.Run, settle_s: float = 3600.0) -> float:
 # ---------------------------------------------------------------- the plan
 
 
+@dataclass(frozen=True)
+class Setpoints:
+    """The thermostat's setpoints [°C]: by day, and from sunset to sunrise."""
+
+    day_c: float
+    night_c: float | None = None  # None: the day's
+
+    @property
+    def night(self) -> float:
+        return self.day_c if self.night_c is None else self.night_c
+
+
+@dataclass(frozen=True)
+class FuelPlan:
+    """The fuel side of the question: which fuel, what is on hand, its price, when to order."""
+
+    fuel_name: str | None = None  # None: the house's heater's
+    on_hand_text: str | None = None  # --on-hand, else the house file's [stock] on_hand
+    fill_text: str | None = None
+    price: float | None = None  # per unit of the fuel as bought (the on-hand unit)
+    unit: str | None = None  # the unit to report the fuel in
+    reserve_pct: float = DEFAULT_RESERVE_PCT
+    lead_time_days: float = 0.0
+
+
 def stock(
     house: House,
     forecast,
+    setpoints: Setpoints,
+    plan: FuelPlan = FuelPlan(),
     *,
-    setpoint_c: float,
-    night_setpoint_c: float | None,
-    fuel_name: str | None = None,
-    on_hand_text: str | None = None,
-    fill_text: str | None = None,
-    price: float | None = None,
-    unit: str | None = None,
     kind: hm.ModelKind = "two-node",
-    start: pd.Timestamp | None = None,
-    now: pd.Timestamp | None = None,
+    start: dt.datetime | None = None,
+    now: dt.datetime | None = None,
     use_calibration: bool = True,
-    reserve_pct: float = DEFAULT_RESERVE_PCT,
-    lead_time_days: float = 0.0,
     crop: CropAlarm | tuple[str, float] | None = None,
     progress: Callable[[int, int], None] | None = None,
 ) -> StockResult:
@@ -466,28 +530,35 @@ def stock(
     """
     from grower import weather
 
-    night_set = setpoint_c if night_setpoint_c is None else night_setpoint_c
+    setpoint_c, night_set = setpoints.day_c, setpoints.night
     start, end, notes = span(forecast, start, now)
-    heat, more = heating(house, fuel_name, use_calibration)
+    heat, more = heating(house, plan.fuel_name, use_calibration)
     notes += more
     fuel, eff = heat.fuel, heat.efficiency
-    stock_ = on_hand(house, fuel, on_hand_text, fill_text)
-    out_unit = unit or (stock_.unit if stock_ else fuel.unit)
-    if price is None and house.stock.get("price") is not None and on_hand_text is None:
+    stock_ = on_hand(house, fuel, plan.on_hand_text, plan.fill_text)
+    out_unit = plan.unit or (stock_.unit if stock_ else fuel.unit)
+    price = plan.price
+    if price is None and house.stock.get("price") is not None and plan.on_hand_text is None:
         price = float(house.stock["price"])
 
-    run = tr.simulate(
-        house,
-        forecast,
-        start,
-        end,
-        setpoint_c=setpoint_c,
-        night_setpoint_c=night_set,
-        q_max_w=math.inf if heat.heater_output_w is None else heat.heater_output_w,
-        kind=kind,
-        use_calibration=use_calibration,
-        progress=progress,
-    )
+    installed = math.inf if heat.heater_output_w is None else heat.heater_output_w
+
+    def simulate(q_max_w: float = installed, **more) -> tr.Run:
+        """The house on its thermostat through this forecast, with heater `q_max_w`."""
+        return tr.simulate(
+            house,
+            forecast,
+            start,
+            end,
+            setpoint_c=setpoint_c,
+            night_setpoint_c=night_set,
+            q_max_w=q_max_w,
+            kind=kind,
+            use_calibration=use_calibration,
+            **more,
+        )
+
+    run = simulate(progress=progress)
     notes += run.notes
     days = daily(run, fuel.j_per(out_unit), eff, price)
     total_j = run.energy_j
@@ -498,21 +569,23 @@ def stock(
     if stock_ is not None:
         t_out = time_of_level(run, fuel_left_j(run, stock_, eff), 0.0)
         if t_out is not None and stock_.energy_j < total_j / eff:
-            runs_out = when(t_out)
-            lasts = (t_out - start).total_seconds() / 86400.0
-        the_order = order(run, stock_, fuel, eff, reserve_pct, lead_time_days, start)
+            runs_out = run.time(t_out)
+            lasts = (t_out - hm.instant_ns(start)) / 1e9 / 86400.0
+        the_order = order(run, stock_, fuel, eff, plan.reserve_pct, plan.lead_time_days, start)
         if not the_order.capacity_known:
             notes.append(
                 "the containers are not given: the refill level is taken as a share of the "
                 "fuel on hand"
             )
     withdrawal = str(house.stock.get("withdrawal", "vapour"))
-    vap = vapour(
-        run, heat, stock_, withdrawal, None if runs_out is None else pd.Timestamp(runs_out)
-    )
+    vap = vapour(run, heat, stock_, withdrawal, runs_out)
     if isinstance(crop, tuple):
         crop = CropAlarm(*crop)
     crop_result = crop_check(run, crop) if crop else None
+    dry = None
+    if runs_out is not None:
+        # the same forecast with the heater stopping when the fuel is gone
+        dry = after_run_out(simulate(heat_until_ns=t_out), t_out, crop)
 
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)
@@ -523,18 +596,7 @@ def stock(
     extra = None
     if below.any() and heat.heater_output_w is not None:
         # the same forecast with an unlimited heater: its peak is the output that holds
-        unlimited = tr.simulate(
-            house,
-            forecast,
-            start,
-            end,
-            setpoint_c=setpoint_c,
-            night_setpoint_c=night_set,
-            q_max_w=math.inf,
-            kind=kind,
-            use_calibration=use_calibration,
-        )
-        extra = max(_holding_peak(unlimited) - heat.heater_output_w, 0.0) or None
+        extra = max(_holding_peak(simulate(math.inf)) - heat.heater_output_w, 0.0) or None
     return StockResult(
         house_name=house.name,
         house_path=house.path,
@@ -556,6 +618,7 @@ def stock(
         on_hand=stock_,
         runs_out_at=runs_out,
         lasts_days=lasts,
+        after_run_out=dry,
         containers=fuels.containers_needed(amount, fuel),
         price=price,
         cost=None if price is None else float(amount.amount) * price,
@@ -565,7 +628,7 @@ def stock(
         order=the_order,
         vapour=vap,
         crop=crop_result,
-        shortfalls=shortfalls(run, crop_result, runs_out, lasts, vap, extra),
+        shortfalls=shortfalls(run, crop_result, runs_out, lasts, vap, extra, dry),
         n_runs=run.n_runs,
         assumptions=tuple(notes),
         forecast_source=forecast.source,
@@ -575,4 +638,5 @@ def stock(
         cautions=safety.cautions(
             fuel, heat.appliance_key, heat.input_w or (peak / eff or None), short=True
         ),
+        calibration_warning=hm.calibration_warning(house, use_calibration),
     )

@@ -16,25 +16,30 @@ cube of the absolute temperature, so one set holds the heating hours to a few pe
 
 from __future__ import annotations
 
+import datetime as dt
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
-import pandas as pd
 
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.units import Note
 
 #: solver grid step [s]
 STEP_S = 600.0
+#: a setpoint no house falls to: the heater never fires [°C]
+OFF_C = -273.15
 
 
 @dataclass(frozen=True)
 class Run:
     """The run on its grid: per grid time (N) and per step (N − 1), SI."""
 
-    times: pd.DatetimeIndex  # tz-aware, N
+    times_ns: np.ndarray  # N grid times, int64 ns since 1970 UTC
+    tz: dt.tzinfo  # the zone local times and dates are in
     step_s: np.ndarray  # step lengths [s], N − 1
     outside_c: np.ndarray  # N
     effective_c: np.ndarray  # N: the outside, sky and deep ground as one temperature
@@ -53,45 +58,66 @@ class Run:
     def energy_j(self) -> float:
         return float(self.step_heat_j.sum())
 
+    @property
+    def utc_s(self) -> np.ndarray:
+        """The grid times as UTC seconds since 1970 (N)."""
+        return self.times_ns / 1e9
 
-def segments(
-    house: House, start: pd.Timestamp, end: pd.Timestamp
-) -> list[tuple[pd.Timestamp, pd.Timestamp, bool]]:
-    """(from, to, is_night) between sunrises and sunsets (one night without a site)."""
+    @property
+    def times(self) -> Any:
+        """The grid as a tz-aware pandas DatetimeIndex (imports pandas)."""
+        import pandas as pd
+
+        return pd.DatetimeIndex(pd.to_datetime(self.times_ns, unit="ns", utc=True)).tz_convert(
+            self.tz
+        )
+
+    def time(self, ns: int) -> dt.datetime:
+        """The instant `ns` [ns since 1970 UTC] to the second, in the run's zone."""
+        return dt.datetime.fromtimestamp(round(round(ns / 1e9, 6)), self.tz)
+
+
+def _cuts(house: House, start_ns: int, end_ns: int) -> tuple[list[int], list[bool]]:
+    """The sunrises and sunsets strictly inside the run [ns] and the night flag of each
+    of the ``len(cuts) + 1`` segments between them (one night without a site)."""
     if house.site is None:
-        return [(start, end, True)]
+        return [], [True]
     from grower import diurnal
 
-    rises, sets = diurnal.sun_events(
-        house.site.latitude_deg, house.site.longitude_deg, start.timestamp(), end.timestamp()
-    )
+    t0, t1 = round(start_ns / 1e9, 6), round(end_ns / 1e9, 6)
+    rises, sets = diurnal.sun_events(house.site.latitude_deg, house.site.longitude_deg, t0, t1)
     events = sorted([(t, "rise") for t in rises] + [(t, "set") for t in sets])
-    t0, t1 = start.timestamp(), end.timestamp()
     # night at the start when the last event before it was a sunset
     night = next((kind == "set" for t, kind in reversed(events) if t <= t0), True)
-    out: list[tuple[pd.Timestamp, pd.Timestamp, bool]] = []
-    cut = start
+    cuts, nights = [], [night]
     for t, kind in events:
         if t0 < t < t1:
-            ts = pd.Timestamp(t, unit="s", tz="UTC").tz_convert(start.tz)
-            out.append((cut, ts, night))
-            cut, night = ts, kind == "set"
-    out.append((cut, end, night))
-    return out
+            cuts.append(hm.instant_ns(float(t)))
+            nights.append(kind == "set")
+    return cuts, nights
 
 
-def _grid(segs, frame_index: pd.DatetimeIndex) -> tuple[pd.DatetimeIndex, np.ndarray]:
-    """The grid over all segments (their cuts included) and each step's night flag."""
-    start, end = segs[0][0], segs[-1][1]
-    times = hm.grid(start, end, frame_index, STEP_S)
-    if len(segs) > 1:
-        cuts = pd.DatetimeIndex([a for a, _, _ in segs[1:]]).tz_convert(start.tz)
-        times = times.union(cuts).tz_convert(start.tz)
-    t = hm.epoch_s(times)
-    cut_s = np.array([a.timestamp() for a, _, _ in segs])
+def segments(house: House, start: Any, end: Any) -> list[tuple[Any, Any, bool]]:
+    """(from, to, is_night) between sunrises and sunsets as pandas Timestamps in the
+    start's zone (one night without a site); `simulate` runs them as one grid."""
+    import pandas as pd
+
+    a, b = pd.Timestamp(start), pd.Timestamp(end)
+    cuts, nights = _cuts(house, a.as_unit("ns").value, b.as_unit("ns").value)
+    at = [a, *(pd.Timestamp(c, unit="ns", tz="UTC").tz_convert(a.tzinfo) for c in cuts), b]
+    return [(at[i], at[i + 1], n) for i, n in enumerate(nights)]
+
+
+def _grid(
+    house: House, start_ns: int, end_ns: int, samples_ns: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """The grid [ns] over all segments (their cuts included) and each step's night flag."""
+    cuts, nights = _cuts(house, start_ns, end_ns)
+    times = hm.grid_ns(start_ns, end_ns, samples_ns, STEP_S, cuts)
+    t = times / 1e9
+    cut_s = np.array([round(c / 1e9, 6) for c in [start_ns, *cuts]])
     which = np.searchsorted(cut_s, t[:-1], side="right") - 1
-    flags = np.array([n for _, _, n in segs], dtype=bool)
-    return times, flags[which]
+    return times, np.array(nights, dtype=bool)[which]
 
 
 def _weighted(values: np.ndarray, weights: np.ndarray) -> float:
@@ -102,8 +128,8 @@ def _weighted(values: np.ndarray, weights: np.ndarray) -> float:
 def simulate(
     house: House,
     forecast,
-    start: pd.Timestamp,
-    end: pd.Timestamp,
+    start: dt.datetime,
+    end: dt.datetime,
     *,
     setpoint_c: float,
     night_setpoint_c: float,
@@ -111,28 +137,37 @@ def simulate(
     kind: hm.ModelKind = "two-node",
     use_calibration: bool = True,
     progress: Callable[[int, int], None] | None = None,
+    heat_until_ns: int | None = None,
 ) -> Run:
-    """Run `house` through `forecast` from `start` to `end` on its thermostat (see module)."""
-    segs = segments(house, start, end)
-    times, night = _grid(segs, forecast.frame.index)
-    t_s = hm.epoch_s(times)
+    """Run `house` through `forecast` from `start` to `end` on its thermostat (see module).
+
+    `heat_until_ns` [ns since 1970 UTC]: the heater stops for good at the first grid time
+    at or after it (the fuel ran out there; within one grid step); the setpoints in the
+    result stay the plan's.
+    """
+    times, night = _grid(
+        house, hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(forecast.utc_s)
+    )
+    t_s = times / 1e9
     step = np.diff(t_s)
     sp = np.where(night, night_setpoint_c, setpoint_c)
-    frame = forecast.frame
     pressure = house.site.pressure_hpa if house.site else None
 
     # conditions of the heating hours (module docstring)
-    at = hm.epoch_s(frame.index)
-    out_grid = np.interp(t_s, at, frame["temperature_c"].to_numpy(float))
+    at = forecast.utc_s
+    out_grid = np.interp(t_s, at, forecast.values("temperature_c"))
     w = np.maximum(np.append(sp, sp[-1]) - out_grid, 0.0)
     if "wind_speed_m_s" in forecast.given:
-        wind_raw = frame["wind_speed_m_s"].to_numpy(float)
+        wind_raw = forecast.values("wind_speed_m_s")
         ok = np.isfinite(wind_raw)
         wind_grid = np.interp(t_s, at[ok], wind_raw[ok]) if ok.any() else np.zeros_like(t_s)
     else:
         wind_grid = np.zeros_like(t_s)
     wind = _weighted(wind_grid, w)
     mean_out = _weighted(out_grid, w)
+    fire = sp  # the setpoint the heater works to: none once it has stopped for good
+    if heat_until_ns is not None:
+        fire = np.where(times[:-1] >= heat_until_ns, OFF_C, sp)
     curtain_nightly = bool(house.curtain and house.curtain.closed_at_night)
     states = sorted({bool(n) and curtain_nightly for n in night}) if curtain_nightly else [False]
 
@@ -147,7 +182,9 @@ def simulate(
             air_temp_c=mean_out,
             use_calibration=use_calibration,
         )
-        bounds[closed] = hm.boundary(house, models[closed], forecast, times, pressure_hpa=pressure)
+        bounds[closed] = hm.boundary(
+            house, models[closed], forecast, t_s, pressure_hpa=pressure, tz=start.tzinfo
+        )
     state = (night & curtain_nightly) if curtain_nightly else np.zeros(step.size, dtype=bool)
     ref = models[states[-1]]
     b0 = bounds[states[-1]]
@@ -175,7 +212,7 @@ def simulate(
             # the mass at its steady state with the air there (common practice, no source)
             x = runs.held_steady_state(mdl, bc[0], gains[0], float(sp[0]))
             notes.append("the house is taken to start at its setpoint, the soil in balance with it")
-        setp = np.append(sp[i0:i1], sp[i1 - 1])
+        setp = np.append(fire[i0:i1], fire[i1 - 1])
         res = runs.thermostat(
             mdl, t_s[sl] - t_s[i0], bc, x, setp, q_max_w, gains, house.vent_temperature_c
         )
@@ -190,11 +227,15 @@ def simulate(
         progress(len(edges) - 1, len(edges) - 1)
     if "wind_speed_m_s" in forecast.given:
         notes.append(
-            f"conductances at the heating hours' mean wind, {wind:.1f} m/s, and air, "
-            f"{mean_out:.1f} °C"
+            Note(
+                "conductances at the heating hours' mean wind, {wind}, and air, {air}",
+                wind=("speed", wind),
+                air=("temp", mean_out),
+            )
         )
     return Run(
-        times=times,
+        times_ns=times,
+        tz=start.tzinfo,
         step_s=step,
         outside_c=b0.outside_c,
         effective_c=eff,
@@ -213,8 +254,10 @@ def simulate(
 
 def local_days(run: Run) -> tuple[np.ndarray, np.ndarray]:
     """(dates, index of each step's local date) — the dates computed once, not per day."""
-    starts = run.times[:-1]
-    keys = starts.tz_localize(None).normalize().as_unit("ns").asi8
-    days, inverse = np.unique(keys, return_inverse=True)
-    dates = pd.DatetimeIndex(days).date
+    tz = run.tz
+    days = np.fromiter(
+        (dt.datetime.fromtimestamp(t, tz).toordinal() for t in run.utc_s[:-1]), dtype=np.int64
+    )
+    keys, inverse = np.unique(days, return_inverse=True)
+    dates = np.array([dt.date.fromordinal(int(k)) for k in keys], dtype=object)
     return dates, inverse

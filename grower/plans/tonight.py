@@ -17,13 +17,13 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-import pandas as pd
 
 from grower import fuels, safety, solver, vaporisation
 from grower.errors import InputError
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
+from grower.units import Note
 
 #: step of the solver's grid [s]; the forecast's own samples are added to it. The
 #: solution is exact for piecewise-linear inputs, so the step only sets the resolution of
@@ -123,6 +123,10 @@ class TonightResult:
     colder_air_c: np.ndarray
     cautions: tuple[str, ...]
     vapour: Any = None  # grower.vaporisation.VapourCheck at the night's coldest hour
+    chance: Any = None  # grower.plans.chance.Chance: the members of the night, or None
+    #: the house file's [calibration] not used (an older format): the line, also in
+    #: `assumptions`, that the report shows as a warning
+    calibration_warning: str | None = None
 
     @property
     def safe(self) -> bool:
@@ -162,16 +166,21 @@ class TonightResult:
         return EXIT_DAMAGE
 
 
+def after(t: dt.datetime, seconds: float) -> dt.datetime:
+    """`seconds` after the aware time `t` (elapsed time, right across a clock change)."""
+    return dt.datetime.fromtimestamp(t.timestamp() + seconds, t.tzinfo)
+
+
 def night_window(
-    house: House, forecast, start: pd.Timestamp | None, now: pd.Timestamp
-) -> tuple[pd.Timestamp, pd.Timestamp, pd.Timestamp | None, list[str]]:
+    house: House, forecast, start: dt.datetime | None, now: dt.datetime
+) -> tuple[dt.datetime, dt.datetime, dt.datetime | None, list[str]]:
     """(start, end, sunrise, notes): from `start` (or now) to 2 h after the next sunrise."""
     from grower import diurnal
 
     notes: list[str] = []
     first, last = forecast.start, forecast.end
     if start is None:
-        if first - pd.Timedelta(minutes=5) <= now < first:
+        if after(first, -300.0) <= now < first:
             start = first  # a curve built "now" starts a moment after the plan's now
         elif now < first:
             start = first
@@ -197,10 +206,10 @@ def night_window(
             house.site.latitude_deg, house.site.longitude_deg, s0, s0 + 2 * 86400.0
         )
         nxt = rises[rises > s0 + 1800.0]  # sunrise in the next half hour is this morning's
-        sunrise = pd.Timestamp(float(nxt[0]), unit="s", tz="UTC").tz_convert(start.tz)
-        end = sunrise + pd.Timedelta(seconds=AFTER_SUNRISE_S)
+        sunrise = dt.datetime.fromtimestamp(float(nxt[0]), start.tzinfo)
+        end = after(sunrise, AFTER_SUNRISE_S)
     else:
-        end = start + pd.Timedelta(seconds=NIGHT_WITHOUT_SITE_S)
+        end = after(start, NIGHT_WITHOUT_SITE_S)
         notes.append("no [site] in the house file: the night is taken as 16 h (no sunrise known)")
     if end > last:
         raise InputError(
@@ -213,12 +222,13 @@ def night_window(
 
 def _at(b: hm.Boundary, seconds: float) -> dt.datetime:
     """The time `seconds` after the start, to the second, in the start's zone."""
-    return when(b.times[0], seconds)
+    return dt.datetime.fromtimestamp(round(float(b.utc_s[0]) + float(seconds)), b.tz)
 
 
-def when(start: pd.Timestamp, seconds: float = 0.0) -> dt.datetime:
+def when(start: dt.datetime, seconds: float = 0.0) -> dt.datetime:
+    """`seconds` after the aware time `start`, to the second, in its zone."""
     t0 = start.timestamp() + float(seconds)
-    return dt.datetime.fromtimestamp(round(t0), start.tz)
+    return dt.datetime.fromtimestamp(round(t0), start.tzinfo)
 
 
 def _verdict(b: hm.Boundary, air: np.ndarray, crossing, member: int) -> Verdict:
@@ -233,39 +243,95 @@ def _verdict(b: hm.Boundary, air: np.ndarray, crossing, member: int) -> Verdict:
     )
 
 
-def tonight(
+@dataclass(frozen=True)
+class Alarm:
+    """What the plants are checked against tonight (°C), and where it comes from."""
+
+    threshold_c: float  # the alarm: damage + margin, or the grower's own --threshold
+    basis: str  # where the alarm comes from (crop, stage, source), for the report
+    damage_c: float | None = None
+    margin_k: float = 0.0
+    crop: str | None = None
+    stage: str | None = None
+    crop_origin: str | None = None  # a user's own crop file
+    chill_c: float | None = None  # chilling below this harms a chilling-sensitive crop
+    chill_hours: float | None = None  # after about this long below `chill_c`
+
+
+@dataclass(frozen=True)
+class Readings:
+    """What the grower read now (None: assumed) and the start of the night."""
+
+    inside_c: float | None = None
+    soil_c: float | None = None
+    start: dt.datetime | None = None  # None: now
+    now: dt.datetime | None = None  # None: the clock
+
+
+@dataclass(frozen=True)
+class NightModel:
+    """The house's network at tonight's conditions and the forecast on its grid."""
+
+    model: hm.Model
+    boundary: hm.Boundary
+    pressure_hpa: float | None
+
+
+@dataclass(frozen=True)
+class StartState:
+    """The state the night starts from, and what was assumed for it."""
+
+    x0: np.ndarray  # node temperatures [°C]
+    inside_c: float
+    soil_c: float
+    soil_assumed: bool
+    notes: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class FreeRuns:
+    """The night with no heat: as forecast, colder, and (two-node) the soil colder."""
+
+    air_c: np.ndarray  # members × N
+    forecast: Verdict
+    colder: Verdict
+    soil_colder: Verdict | None
+    free: Any  # the solver's trajectory (for further analyses: chilling)
+
+
+@dataclass(frozen=True)
+class Hold:
+    """The heat that holds the plants at the alarm all night, and its fuel."""
+
+    peak_w: float
+    energy_j: float
+    source: fuels.HeatSource
+    unit: str | None  # the unit the grower buys the fuel in, if the house file says
+    fuel: fuels.FuelAmount
+
+
+def night_model(
     house: House,
     forecast,
-    *,
-    threshold_c: float,
-    threshold_basis: str,
-    damage_c: float | None = None,
-    margin_k: float = 0.0,
-    crop: str | None = None,
-    stage: str | None = None,
-    crop_origin: str | None = None,
-    chill_c: float | None = None,
-    chill_hours: float | None = None,
-    kind: hm.ModelKind = "two-node",
-    inside_now_c: float | None = None,
-    soil_now_c: float | None = None,
-    start: pd.Timestamp | None = None,
-    now: pd.Timestamp | None = None,
-    colder_by_k: float = COLDER_BY_K,
-    use_calibration: bool = True,
-) -> TonightResult:
-    """Tonight's frost verdict for one house; see the module docstring."""
-    from grower import weather
-
-    now = now if now is not None else pd.Timestamp.now(tz=forecast.start.tz).floor("s")
-    start, end, sunrise, notes = night_window(house, forecast, start, now)
-    times = hm.grid(start, end, forecast.frame.index, STEP_S)
-    frame = forecast.frame
-    window = frame[(frame.index >= start - pd.Timedelta(hours=1)) & (frame.index <= end)]
-    wind = (
-        float(np.nanmean(window["wind_speed_m_s"])) if "wind_speed_m_s" in forecast.given else 0.0
+    start: dt.datetime,
+    end: dt.datetime,
+    kind: hm.ModelKind,
+    use_calibration: bool,
+) -> NightModel:
+    """The network at the night's mean wind and outside air, and the forecast on the
+    solver's grid (every `STEP_S` and every forecast sample)."""
+    times = (
+        hm.grid_ns(hm.instant_ns(start), hm.instant_ns(end), hm.samples_ns(forecast.utc_s), STEP_S)
+        / 1e9
     )
-    mean_out = float(window["temperature_c"].mean())
+    utc = forecast.utc_s
+    window = (utc >= start.timestamp() - 3600.0) & (utc <= end.timestamp())
+    wind = (
+        float(np.nanmean(forecast.values("wind_speed_m_s")[window]))
+        if "wind_speed_m_s" in forecast.given
+        else 0.0
+    )
+    mean_out = float(np.nanmean(forecast.values("temperature_c")[window]))
     pressure = house.site.pressure_hpa if house.site else None
     mdl = hm.build(
         house,
@@ -276,105 +342,211 @@ def tonight(
         air_temp_c=mean_out,
         use_calibration=use_calibration,
     )
-    b = hm.boundary(house, mdl, forecast, times, pressure_hpa=pressure)
-    bc = b.solver_boundary(mdl)
-    gains = b.solver_gains(mdl)
+    b = hm.boundary(house, mdl, forecast, times, pressure_hpa=pressure, tz=start.tzinfo)
+    return NightModel(mdl, b, pressure)
 
-    assumptions = list(notes)
-    deep = mdl.capacities.deep_ground_c
-    soil_assumed = soil_now_c is None
+
+def start_state(night: NightModel, readings: Readings) -> StartState:
+    """The starting temperatures: the readings, else the soil at the deep ground's and
+    the air in balance with it and the outside, each assumption said in a note."""
+    mdl, b = night.model, night.boundary
+    notes = []
+    soil, inside = readings.soil_c, readings.inside_c
+    soil_assumed = soil is None
     if soil_assumed:
-        soil_now_c = deep
-        assumptions.append(
-            f"soil (top 10 cm) and water assumed at {soil_now_c:.1f} °C now, the deep-ground "
-            "temperature"
-            + (
-                " (itself assumed: set [floor] deep_ground_temperature)"
-                if mdl.capacities.deep_ground_assumed
-                else ""
+        soil = mdl.capacities.deep_ground_c
+        notes.append(
+            Note(
+                "soil (top {top}) and water assumed at {soil} now, the deep-ground temperature"
+                + (
+                    " (itself assumed: set [floor] deep_ground_temperature)"
+                    if mdl.capacities.deep_ground_assumed
+                    else ""
+                )
+                + "; measure it at {depth} and give --soil-now",
+                top=("cm", 0.10),
+                soil=("temp", soil),
+                depth=("cm", 0.05),
             )
-            + "; measure it at 5 cm and give --soil-now"
         )
-    if inside_now_c is None:
-        inside_now_c = hm.quasi_steady_air(mdl, bc, gains, soil_now_c)
-        assumptions.append(
-            f"inside air assumed at {inside_now_c:.1f} °C now (in balance with the soil and "
-            "the outside); give --inside-now with a reading"
+    if inside is None:
+        inside = hm.quasi_steady_air(mdl, b.solver_boundary(mdl), b.solver_gains(mdl), soil)
+        notes.append(
+            Note(
+                "inside air assumed at {air} now (in balance with the soil and the outside); "
+                "give --inside-now with a reading",
+                air=("temp", inside),
+            )
         )
-    for note in weather.assumptions(forecast):
-        assumptions.append(note)
-    note = hm.calibration_note(house, kind, use_calibration)
-    if note:
-        assumptions.append(note)
-    x0 = hm.initial_state(mdl, inside_now_c, soil_now_c)
+    x0 = hm.initial_state(mdl, inside, soil)
+    return StartState(x0, float(inside), float(soil), soil_assumed, tuple(notes))
 
-    # free float as members run at once: this forecast; the night colder; the soil colder
+
+def free_runs(
+    night: NightModel, state: StartState, threshold_c: float, colder_by_k: float
+) -> FreeRuns:
+    """The night with no heat, run as members at once: as forecast, `colder_by_k`
+    colder, and (two-node) the soil `SOIL_COLDER_K` colder than assumed."""
+    mdl, b = night.model, night.boundary
+    bc = b.solver_boundary(mdl)
     colder = b.shifted(-colder_by_k, mdl)
     members_bc = [bc, colder.solver_boundary(mdl)]
-    members_x0 = [x0, x0]
-    if kind == "two-node":
+    members_x0 = [state.x0, state.x0]
+    two = mdl.kind == "two-node"
+    if two:
         members_bc.append(bc)
-        members_x0.append(np.array([inside_now_c, soil_now_c - SOIL_COLDER_K]))
-    free = runs.free_float(mdl, b.times_s, np.stack(members_bc), np.stack(members_x0), gains)
+        members_x0.append(np.array([state.inside_c, state.soil_c - SOIL_COLDER_K]))
+    free = runs.free_float(
+        mdl, b.times_s, np.stack(members_bc), np.stack(members_x0), b.solver_gains(mdl)
+    )
     crossing = solver.analyse(free, threshold_c, b.plant_offset_k)
     air = free.air_c
-    verdict = _verdict(b, air[0], crossing, 0)
-    cold = _verdict(colder, air[1], crossing, 1)
-    soil_colder = _verdict(b, air[2], crossing, 2) if kind == "two-node" else None
+    return FreeRuns(
+        air_c=air,
+        forecast=_verdict(b, air[0], crossing, 0),
+        colder=_verdict(colder, air[1], crossing, 1),
+        soil_colder=_verdict(b, air[2], crossing, 2) if two else None,
+        free=free,
+    )
 
-    # heat that holds the plants at the alarm temperature: the air at alarm + leaf offset
+
+def hold(house: House, night: NightModel, state: StartState, threshold_c: float) -> Hold:
+    """The heat that holds the plants at the alarm (the air at alarm + leaf offset) all
+    night, and the fuel the house's heat source burns for it."""
+    mdl, b = night.model, night.boundary
     setpoint = threshold_c + b.plant_offset_k
-    held = runs.hold(mdl, b.times_s, bc, x0, setpoint, gains)
-    hold_peak_w, hold_j = float(held.peak_w[0]), float(held.energy_j[0])
+    held = runs.hold(
+        mdl, b.times_s, b.solver_boundary(mdl), state.x0, setpoint, b.solver_gains(mdl)
+    )
     source = fuels.heat_source(house)
-    fuel, appliance, eff = source.fuel, source.appliance.name, source.efficiency
-    assumptions.extend(source.notes)
+    fuel = source.fuel
     # in the unit the grower buys it in, when the house file says so ([stock] on_hand)
     unit = None
     if house.stock.get("on_hand") and fuels.get_fuel(house.stock.get("fuel") or fuel.name) == fuel:
         unit = fuels.parse_amount(
             house.stock["on_hand"], fuel, where=f"{house.path}: stock.on_hand"
         ).unit
-    amount = fuels.fuel_amount(hold_j, fuel, eff, unit)
+    energy = float(held.energy_j[0])
+    amount = fuels.fuel_amount(energy, fuel, source.efficiency, unit)
+    return Hold(float(held.peak_w[0]), energy, source, unit, amount)
 
-    check = None
-    if house.heaters:
-        q = house.heater_output_w
-        measured = hm.calibrated_heater_output(house, use_calibration)
-        if measured is not None:
-            q = measured
-            assumptions.append(
-                f"installed heater output {q / 1e3:.1f} kW as measured by grower fit"
-            )
-        run = runs.thermostat(mdl, b.times_s, bc, x0, setpoint, q, gains)
-        c = solver.analyse(run, threshold_c, b.plant_offset_k)
-        check = HeaterCheck(
-            output_w=q,
-            # the thermostat holds the plants *at* the alarm: allow for round-off
-            holds=bool(c.min_c[0] >= threshold_c - HOLD_TOLERANCE_K),
-            min_plant_c=float(c.min_c[0]),
-            min_time=_at(b, c.min_time_s[0]),
-            energy_kwh=float(run.heat_j[0]) / 3.6e6,
-            fuel=fuels.fuel_amount(float(run.heat_j[0]), fuel, eff, unit),
+
+def heater_check(
+    house: House,
+    night: NightModel,
+    state: StartState,
+    threshold_c: float,
+    heat: Hold,
+    use_calibration: bool,
+) -> tuple[HeaterCheck | None, tuple[str, ...]]:
+    """The installed heater on its thermostat at the alarm: does it hold the plants?
+    (None without a heater.) The note says when fit's measured output is used."""
+    if not house.heaters:
+        return None, ()
+    mdl, b = night.model, night.boundary
+    notes = ()
+    q = house.heater_output_w
+    measured = hm.calibrated_heater_output(house, use_calibration)
+    if measured is not None:
+        q = measured
+        notes = (Note("installed heater output {q} as measured by grower fit", q=("power", q)),)
+    setpoint = threshold_c + b.plant_offset_k
+    bc, gains = b.solver_boundary(mdl), b.solver_gains(mdl)
+    run = runs.thermostat(mdl, b.times_s, bc, state.x0, setpoint, q, gains)
+    c = solver.analyse(run, threshold_c, b.plant_offset_k)
+    energy = float(run.heat_j[0])
+    check = HeaterCheck(
+        output_w=q,
+        # the thermostat holds the plants *at* the alarm: allow for round-off
+        holds=bool(c.min_c[0] >= threshold_c - HOLD_TOLERANCE_K),
+        min_plant_c=float(c.min_c[0]),
+        min_time=_at(b, c.min_time_s[0]),
+        energy_kwh=energy / 3.6e6,
+        fuel=fuels.fuel_amount(energy, heat.source.fuel, heat.source.efficiency, heat.unit),
+    )
+    return check, notes
+
+
+def chilling(runs_: FreeRuns, alarm: Alarm, b: hm.Boundary) -> Chill | None:
+    """Hours the plants spend below the crop's chilling temperature with no heat."""
+    if alarm.chill_c is None or alarm.chill_c <= alarm.threshold_c:
+        return None
+    c = solver.analyse(runs_.free, alarm.chill_c, b.plant_offset_k)
+    hours = float(c.hours_below[0])
+    if hours <= 0:
+        return None
+    harmful = alarm.chill_hours is None or hours >= alarm.chill_hours
+    return Chill(alarm.chill_c, hours, alarm.chill_hours, harmful)
+
+
+def night_cautions(verdict: Verdict, check: HeaterCheck | None, heat: Hold) -> tuple[str, ...]:
+    """The short cautions when heat is needed or installed: for the installed nameplate
+    (the opening serves the heater as fitted), else for the input that holds the alarm."""
+    if verdict.crossing_time is None and check is None:
+        return ()
+    src = heat.source
+    nameplate = src.input_w if src.installed else None
+    need = heat.peak_w / src.efficiency if heat.peak_w > 0 else None
+    return safety.cautions(src.fuel, src.appliance.name, nameplate or need, short=True)
+
+
+def tonight(
+    house: House,
+    forecast,
+    alarm: Alarm,
+    readings: Readings = Readings(),
+    *,
+    kind: hm.ModelKind = "two-node",
+    colder_by_k: float = COLDER_BY_K,
+    use_calibration: bool = True,
+    members: Any = None,
+) -> TonightResult:
+    """Tonight's frost verdict for one house; see the module docstring.
+
+    The steps: the night's span, the network and boundary, the starting state, the
+    free-floating runs, the heat that holds the alarm, the installed heater, the
+    members (`members`, a `grower.plans.chance.Spec`: the chance of damage), chilling,
+    the cautions.
+    """
+    from grower import weather
+
+    now = readings.now or dt.datetime.now(forecast.tz).replace(microsecond=0)
+    start, end, sunrise, span_notes = night_window(house, forecast, readings.start, now)
+    night = night_model(house, forecast, start, end, kind, use_calibration)
+    mdl, b = night.model, night.boundary
+    state = start_state(night, readings)
+    free = free_runs(night, state, alarm.threshold_c, colder_by_k)
+    heat = hold(house, night, state, alarm.threshold_c)
+    check, heater_notes = heater_check(
+        house, night, state, alarm.threshold_c, heat, use_calibration
+    )
+    odds = None
+    if members is not None:
+        from grower.plans import chance
+
+        odds = chance.run(
+            members,
+            house=house,
+            kind=kind,
+            use_calibration=use_calibration,
+            mdl=mdl,
+            b=b,
+            initial_c=state.x0,
+            threshold_c=alarm.threshold_c,
+            heater_w=check.output_w if check is not None else None,
+            pressure_hpa=night.pressure_hpa,
         )
-
-    chill = None
-    if chill_c is not None and chill_c > threshold_c:
-        c = solver.analyse(free, chill_c, b.plant_offset_k)
-        hours = float(c.hours_below[0])
-        if hours > 0:
-            harmful = chill_hours is None or hours >= chill_hours
-            chill = Chill(chill_c, hours, chill_hours, harmful)
-
-    cautions: tuple[str, ...] = ()
-    if verdict.crossing_time is not None or check is not None:
-        # the installed nameplate when there is one (the opening serves the heater as
-        # fitted), else the input that would hold tonight's alarm
-        nameplate = source.input_w if source.installed else None
-        need = hold_peak_w / eff if hold_peak_w > 0 else None
-        cautions = safety.cautions(fuel, appliance, nameplate or need, short=True)
-
-    local = [when(t) for t in b.times]
+    calibration = hm.calibration_note(house, kind, use_calibration)
+    assumptions = (
+        *span_notes,
+        *state.notes,
+        *weather.assumptions(forecast),
+        *((calibration,) if calibration else ()),
+        *heat.source.notes,
+        *heater_notes,
+    )
+    src, eff = heat.source, heat.source.efficiency
+    local = b.local_times()
     return TonightResult(
         house_name=house.name,
         house_path=house.path,
@@ -383,31 +555,31 @@ def tonight(
         k_w_per_k=mdl.k_w_per_k,
         c_j_per_k=mdl.c_j_per_k,
         time_constant_h=mdl.time_constant_h,
-        crop=crop,
-        stage=stage,
-        crop_origin=crop_origin,
-        threshold_c=threshold_c,
-        damage_c=damage_c,
-        margin_k=margin_k,
-        threshold_basis=threshold_basis,
+        crop=alarm.crop,
+        stage=alarm.stage,
+        crop_origin=alarm.crop_origin,
+        threshold_c=alarm.threshold_c,
+        damage_c=alarm.damage_c,
+        margin_k=alarm.margin_k,
+        threshold_basis=alarm.basis,
         start=when(start),
         end=when(end),
         sunrise=when(sunrise) if sunrise is not None else None,
-        verdict=verdict,
+        verdict=free.forecast,
         colder_by_k=colder_by_k,
-        colder=cold,
-        hold_peak_w=hold_peak_w,
-        hold_energy_kwh=hold_j / 3.6e6,
-        hold_fuel=amount,
-        hold_fuel_label=fuel.label,
-        hold_appliance=fuels.get_appliance(appliance).label,
+        colder=free.colder,
+        hold_peak_w=heat.peak_w,
+        hold_energy_kwh=heat.energy_j / 3.6e6,
+        hold_fuel=heat.fuel,
+        hold_fuel_label=src.fuel.label,
+        hold_appliance=src.appliance.label,
         heater=check,
-        chill=chill,
-        soil_colder=soil_colder,
-        soil_assumed=soil_assumed,
-        initial_air_c=float(inside_now_c),
-        initial_mass_c=None if kind == "lumped" else float(soil_now_c),
-        assumptions=tuple(assumptions),
+        chill=chilling(free, alarm, b),
+        soil_colder=free.soil_colder,
+        soil_assumed=state.soil_assumed,
+        initial_air_c=state.inside_c,
+        initial_mass_c=None if kind == "lumped" else state.soil_c,
+        assumptions=assumptions,
         forecast_source=forecast.source,
         forecast_attribution=forecast.attribution,
         forecast_issued_at=forecast.issued_at,
@@ -416,17 +588,19 @@ def tonight(
         times=tuple(local),
         outside_c=b.outside_c,
         effective_outside_c=b.effective_c,
-        air_c=air[0],
-        plant_c=air[0] - b.plant_offset_k,
-        colder_air_c=air[1],
-        cautions=cautions,
+        air_c=free.air_c[0],
+        plant_c=free.air_c[0] - b.plant_offset_k,
+        calibration_warning=hm.calibration_warning(house, use_calibration),
+        colder_air_c=free.air_c[1],
+        cautions=night_cautions(free.forecast, check, heat),
         vapour=vaporisation.house_check(
             house,
-            source,
+            src,
             float(b.outside_c.min()),
-            burned_j=hold_j / eff,
+            burned_j=heat.energy_j / eff,
             at=local[int(np.argmin(b.outside_c))],
         ),
+        chance=odds,
     )
 
 

@@ -74,6 +74,9 @@ class WintersResult:
     attribution: str | None
     assumptions: tuple[str, ...]
     cautions: tuple[str, ...]
+    #: the house file's [calibration] not used (an older format, a house changed since
+    #: the fit): the line, also in `assumptions`, that the report shows as a warning
+    calibration_warning: str | None = None
 
 
 def season(
@@ -214,5 +217,6 @@ def winters(
         source=source or seasons[0].source,
         attribution=seasons[0].attribution,
         assumptions=tuple(dict.fromkeys(notes)),
+        calibration_warning=hm.calibration_warning(house, use_calibration),
         cautions=safety.cautions(heat.fuel, heat.appliance_key, peak_in or None),
     )

@@ -63,6 +63,10 @@ def layout(
     step = _nice_step(hi - lo, 5)
     lo = math.floor(lo / step) * step
     hi = math.ceil(hi / step) * step
+    # a whole number of rows per tick, so every tick row is exactly its labelled value
+    n_ticks = max(round((hi - lo) / step), 1)
+    per_tick = max(1, round((height - 1) / n_ticks))
+    height = n_ticks * per_tick + 1
 
     label_w = max(len(f"{hi:.0f}"), len(f"{lo:.0f}")) + 1
     if columns is not None:
@@ -97,12 +101,8 @@ def layout(
                 grid[row_of(threshold)][c] = ("✕", "bold red")
     rows: list[list[tuple[str, str]]] = []
     for r in range(height):
-        value = hi - r * (hi - lo) / (height - 1)
-        on_tick = (
-            abs((value - lo) / step - round((value - lo) / step))
-            < (hi - lo) / (height - 1) / step / 2
-        )
-        label = f"{value:>{label_w}.0f}" if on_tick else " " * label_w
+        on_tick = r % per_tick == 0
+        label = f"{hi - r // per_tick * step:>{label_w}.0f}" if on_tick else " " * label_w
         rows.append([(label + " ┤" if on_tick else label + " │", "dim"), *grid[r]])
     # time axis: a tick every 2 or 3 hours, labelled with the local hour
     axis = [" "] * width

@@ -6,6 +6,7 @@ import dataclasses
 import datetime as dt
 import json
 import math
+import re
 import sys
 from typing import Any
 
@@ -82,8 +83,13 @@ def unit_system(requested: str | None, default: str | None = None) -> UnitSystem
     return "us" if choice == "us" else "metric"
 
 
-def render_cautions(console, cautions, houses: str | None = None) -> None:
-    """The safety cautions, always last; `houses` names whose they are (several houses)."""
+def render_cautions(
+    console, cautions, system: UnitSystem = "metric", houses: str | None = None
+) -> None:
+    """The safety cautions, always last, in `system`'s units; `houses` names whose they
+    are (several houses)."""
+    from grower.units import note_text
+
     if not cautions:
         return
     from rich.markup import escape
@@ -94,11 +100,97 @@ def render_cautions(console, cautions, houses: str | None = None) -> None:
         f"[bold]Safety{whose}[/bold] — general cautions, not a substitute for a licensed installer:"
     )
     for c in cautions:
-        plain(console, f"  ⚠ {c}")
+        plain(console, f"  ⚠ {note_text(c, system)}", hang=4)
 
 
-def plain(console, text: str, style: str | None = None) -> None:
-    """Print `text` as it is: brackets in it ("[calibration]") are not markup."""
+#: a number followed by a space and a unit (the space becomes a no-break one)
+_NUMBER_UNIT = re.compile(
+    r"(\d) (?=°|K\b|kW|Btu|h\b|min\b|L\b|gal\b|therm|W\b|kWh|in\b|in²|cm|km|m\b|m/s|mph|ft|"
+    r"%|lb\b|kg\b|ppm|(?:Mon|Tue|Wed|Thu|Fri|Sat|Sun)\b)"
+)
+
+
+def keep_units(text: str) -> str:
+    """No-break spaces between a number and its unit, so wrapping never splits them."""
+    return _NUMBER_UNIT.sub("\\1\u00a0", text)
+
+
+def wrapped(text, width: int, hang: int = 0) -> list:
+    """`text` (a rich Text) cut into lines of at most `width` columns at ordinary spaces
+    only, so a number keeps its unit (joined by a no-break space, see `keep_units`); the
+    lines after the first are `hang` columns narrower. No-break spaces come back as
+    spaces. Rich's own wrapping breaks at any whitespace, the no-break space included.
+    """
     from rich.text import Text
 
-    console.print(Text(text, style=style or ""))
+    plain_text = text.plain
+    cuts, start, last_space, room = [], 0, None, width
+    for i, ch in enumerate(plain_text):
+        if ch == " " and i > start:
+            last_space = i
+        if i - start >= room and last_space is not None and last_space > start:
+            cuts.append(last_space + 1)
+            start, last_space, room = last_space + 1, None, max(width - hang, 10)
+    out = []
+    for piece in text.divide(cuts):
+        piece.rstrip()
+        out.append(Text(piece.plain.replace("\u00a0", " "), spans=piece.spans, style=piece.style))
+    return out
+
+
+def print_text(console, text, hang: int | None = None) -> None:
+    """Print a rich Text wrapped at the console's width by `wrapped`.
+
+    Continuation lines are indented by `hang` columns (default: the text's own leading
+    indent plus two, so a list item's second line sits under its words).
+    """
+    from rich.text import Text
+
+    plain_text = text.plain
+    if hang is None:
+        lead = len(plain_text) - len(plain_text.lstrip(" "))
+        hang = lead + 2 if lead or plain_text[:2] in ("· ", "! ") else 0
+    for n, line in enumerate(wrapped(text, max(console.width, 20), hang)):
+        if n and hang:
+            line = Text(" " * hang) + line
+        console.print(line, no_wrap=True, crop=False)
+
+
+class Rows:
+    """Label–value rows to print (a rich renderable): the labels in a column, each value
+    (rich markup) wrapped in the room left beside them by `wrapped`, so no number is
+    split from its unit (rich's Table wraps cells at any space)."""
+
+    def __init__(self, label_style: str = "dim") -> None:
+        self.rows: list[tuple[str, str]] = []
+        self.label_style = label_style
+
+    def add_row(self, label: str, value: str) -> None:
+        self.rows.append((label, value))
+
+    def __rich_console__(self, console, options):
+        from rich.text import Text
+
+        w = max((len(label) for label, _ in self.rows), default=0)
+        room = max(options.max_width - w - 2, 20)
+        for label, value in self.rows:
+            for n, line in enumerate(wrapped(Text.from_markup(keep_units(value)), room)):
+                out = Text((label if n == 0 else "").ljust(w) + "  ", style=self.label_style)
+                out.append_text(line)
+                out.no_wrap = True
+                yield out
+
+
+def print_line(console, markup: str, hang: int | None = None) -> None:
+    """Print rich `markup`, wrapped at ordinary spaces only (see `print_text`)."""
+    from rich.text import Text
+
+    print_text(console, Text.from_markup(markup), hang)
+
+
+def plain(console, text: str, style: str | None = None, hang: int | None = None) -> None:
+    """Print `text` as it is (brackets in it, "[calibration]", are not markup), wrapped
+    at ordinary spaces with no number split from its unit (see `print_text`)."""
+    from rich.text import Text
+
+    print_text(console, Text(keep_units(text), style=style or ""), hang)

@@ -14,6 +14,7 @@ from grower.report.common import plain
 from grower.units import (
     J_PER_BTU,
     UnitSystem,
+    note_text,
     show_conductance,
     show_power,
     show_temperature,
@@ -338,11 +339,11 @@ def render_fit(
     plain(console, f"· {r.anchor_note}", "dim")
     plain(console, f"· {INTERVAL_NOTE}", "dim")
     for n in r.notes:
-        plain(console, f"· {n}", "dim")
+        plain(console, f"· {note_text(n, system)}", "dim")
     if written:
         console.print(
             f"Calibration written to {written['file']} \\[calibration]; the previous file is "
-            f"kept as {written['backup']}. tonight and stock now use it (--no-calibration to ignore)."
+            f"kept as {written['backup']}. tonight, stock and size now use it (--no-calibration to ignore)."
         )
     else:
         console.print("[dim]Add --write to store this in the house file's \\[calibration].[/dim]")

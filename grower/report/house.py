@@ -5,9 +5,11 @@ from __future__ import annotations
 from typing import Any
 
 from grower.network import HouseSummary
+from grower.report.common import plain
 from grower.report.quantities import capacity_unit, capacity_value, conductance_text
 from grower.units import (
     M_PER_IN,
+    M_S_PER_MPH,
     UnitSystem,
     show_area,
     show_conductance,
@@ -65,8 +67,11 @@ def _num(value: float, digits: int = 0) -> str:
     return f"{value:,.{digits}f}"
 
 
-def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
-    """Print the breakdown of one house."""
+def render_house(
+    console, s: HouseSummary, system: UnitSystem, calibration: tuple[str, bool] | None = None
+) -> None:
+    """Print the breakdown of one house; `calibration`: the line on its [calibration] and
+    whether it is a warning (`grower.plans.model.calibration_note`), shown last."""
     from rich.table import Table
 
     h, k, c = s.house, s.conductances, s.capacities
@@ -167,7 +172,8 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
     tau = h.roof_material.longwave_transmittance
     fast, slow = s.time_scales_h
     console.print(
-        f"At {show_speed(k.wind_m_s, system).text(1)} wind (the tables' U-values hold at 15 mph); "
+        f"At {show_speed(k.wind_m_s, system).text(1)} wind (the tables' U-values hold at "
+        f"{show_speed(15 * M_S_PER_MPH, system).text(0 if system == 'us' else 1)}); "
         "in calm air K = "
         f"{_num(show_conductance(s.calm.total_w_per_k, system).value)} {ua_unit}. "
         f"A clear night adds {_num(show_conductance(k.sky_w_per_k, system).value)} {ua_unit} per "
@@ -175,4 +181,7 @@ def render_house(console, s: HouseSummary, system: UnitSystem) -> None:
         f"{tau:.0%} of thermal IR; cover faces {_num(show_conductance(k.cover_sky_w_per_k, system).value)}). "
         f"The air settles in {fast * 60:.0f} min, the floor and water in {slow:.1f} h."
     )
+    if calibration is not None:
+        text, warning = calibration
+        plain(console, f"! {text}" if warning else f"· {text}", "yellow" if warning else "dim")
     console.print()

@@ -89,3 +89,29 @@ def fuel_value(amount: float, unit: str, fuel: str, system: UnitSystem) -> tuple
             j_per_unit = f.purchase_unit(unit).j_per_unit
             return float(amount) * j_per_unit / offered[us_unit].j_per_unit, us_unit
     return float(amount), unit
+
+
+def chance_text(count: int, total: int) -> str:
+    """A share of `total` members as a whole per cent: "35 %".
+
+    None of them, or all, is not said as 0 % or 100 %: the members cannot show a chance
+    much smaller than 3/total (the rule of three: with none of n members, the 95 % upper
+    bound is about 3/n — Hanley & Lippman-Hand 1983, *JAMA* 249:1743, from memory), so
+    "under 1 %" (300 members) or "under 10 %" (31), and "over 99 %" or "over 90 %".
+    Shares between round to the whole per cent, "under 1 %" and "over 99 %" at the ends.
+    """
+    import math
+
+    if total < 1 or not 0 <= count <= total:
+        raise ValueError("count must be within 0…total, total >= 1")
+    bound = max(1, math.ceil(300 / total))
+    if count == 0:
+        return f"under {bound} %"
+    if count == total:
+        return f"over {100 - bound} %"
+    p = 100.0 * count / total
+    if p < 1:
+        return "under 1 %"
+    if p > 99:
+        return "over 99 %"
+    return f"{p:.0f} %"

@@ -9,7 +9,9 @@ from grower.report import vapour as vapour_report
 from grower.report.common import plain, render_cautions
 from grower.report.quantities import fuel_text, power_text
 from grower.units import (
+    M_S_PER_MPH,
     UnitSystem,
+    note_text,
     show_speed,
     show_temperature,
 )
@@ -60,6 +62,8 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "installed_output_w": r.installed_output_w,
         "installed_holds": r.installed_holds,
         "notes": list(r.notes),
+        "calibration": r.calibration,
+        "calibration_warning": r.calibration_warning,
         "cautions": list(r.cautions),
         **({} if r.vapour is None else vapour_report.fields(r.vapour)),
     }
@@ -89,8 +93,10 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
         power_text(r.handbook_loss_w, system),
     )
     sign = "+" if r.wind_allowance_w >= 0 else "−"
+    digits = 0 if system == "us" else 1
     table.add_row(
-        f"{sign} wind {show_speed(r.wind_m_s, system).text(0)} against the tables' 15 mph",
+        f"{sign} wind {show_speed(r.wind_m_s, system).text(digits)} against the tables' "
+        + show_speed(15 * M_S_PER_MPH, system).text(digits),
         power_text(abs(r.wind_allowance_w), system),
     )
     table.add_row(
@@ -130,25 +136,17 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
             "—" if u.count == 1 else f"{u.one_down_share:.0%} of the loss",
         )
     console.print(units)
-    if r.combustion_air_in2:
-        a = r.combustion_air_in2
-        # the code's figure is in in²; SI screens add cm² (1 in² = 6.4516 cm², exact)
-        cm2 = "" if system == "us" else f" ({a['rule_of_thumb_in2'] * 6.4516:,.0f} cm²)"
-        console.print(
-            f"Combustion air for {power_text(r.recommended_input_w, system)} input: "
-            f"[bold]{a['rule_of_thumb_in2']:,.0f} in²[/bold]{cm2} "
-            "of free inlet area (1 in² per 1,000 Btu/h); by the fuel gas code, "
-            f"{a['outdoor_vertical_duct_in2']:,.0f} in² from outdoors through vertical ducts or "
-            f"{a['outdoor_horizontal_duct_in2']:,.0f} in² through horizontal ones."
-        )
     if r.installed_holds is not None:
         verdict = "holds it" if r.installed_holds else "[bold red]does not hold it[/bold red]"
         console.print(
-            f"Installed heat: {power_text(r.installed_output_w, system)} output — {verdict} "
-            f"(design loss {power_text(r.heat_loss_w, system)})."
+            f"Installed heat: {power_text(r.installed_output_w, system)} output — {verdict}; "
+            f"the design loss is {power_text(r.heat_loss_w, system)}."
         )
     vapour_report.render(console, r.vapour, system)
     console.print()
     for n in r.notes:
-        plain(console, f"· {n}", "dim")
-    render_cautions(console, r.cautions)
+        if n == r.calibration_warning:
+            plain(console, f"! {note_text(n, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(n, system)}", "dim")
+    render_cautions(console, r.cautions, system)

@@ -8,7 +8,7 @@ from grower.plans.stock import Order, Shortfall, StockResult
 from grower.report import vapour
 from grower.report.common import iso, plain, render_cautions
 from grower.report.quantities import fuel_text, fuel_value
-from grower.units import J_PER_THERM, UnitSystem, show_temperature
+from grower.units import J_PER_THERM, UnitSystem, note_text, show_temperature
 
 
 def stock_json(r: StockResult) -> dict[str, Any]:
@@ -18,6 +18,7 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         "file": r.house_path,
         "model": r.model,
         "calibrated": r.calibrated,
+        "calibration_warning": r.calibration_warning,
         "k_w_per_k": r.k_w_per_k,
         "c_j_per_k": r.c_j_per_k,
         "setpoint_c": r.setpoint_c,
@@ -108,6 +109,16 @@ def stock_json(r: StockResult) -> dict[str, Any]:
             }
             for f in r.shortfalls
         ],
+        # the same forecast with the heater off from the run-out on (null: the fuel lasts)
+        "after_run_out": None
+        if r.after_run_out is None
+        else {
+            "min_air_c": r.after_run_out.min_air_c,
+            "min_plant_c": r.after_run_out.min_plant_c,
+            "coldest_at": iso(r.after_run_out.coldest_at),
+            "hours_below_setpoint": r.after_run_out.hours_below_setpoint,
+            "crop_alarm_at": iso(r.after_run_out.crop_alarm_at),
+        },
         "thermostat_runs": r.n_runs,
         "cautions": list(r.cautions),
     }
@@ -156,10 +167,22 @@ def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
             )
         )
     if f.kind == "fuel":
-        return (
+        line = (
             f"The fuel runs out {_when(f.at)}, {f.value:.1f} days from the start, before the "
-            f"forecast ends; order more now."
+            "forecast ends"
         )
+        a = r.after_run_out
+        if a is not None:
+            line += (
+                f"; then, without heat, the air falls to {T(a.min_air_c)} by {_when(a.coldest_at)}"
+            )
+            if r.crop is not None:
+                line += (
+                    f" and the plants pass the {r.crop.crop} alarm at {_when(a.crop_alarm_at)}"
+                    if a.crop_alarm_at
+                    else f" (the plants stay above the {r.crop.crop} alarm)"
+                )
+        return line + "; order more now."
     line, _ = vapour.sentence(r.vapour, system)
     return "Not enough vapour: " + line
 
@@ -221,7 +244,7 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
         f"({_when(r.start)} to {_when(r.end)})"
     )
     if r.cost is not None:
-        head += f", cost {r.cost:,.2f}"
+        head += f", cost {r.cost:,.2f} at {r.price:,.2f} per {r.fuel.unit}"
     plain(console, head, "bold")
     if lasts and r.shortfalls:
         plain(console, lasts)
@@ -309,5 +332,8 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     for w in r.forecast_warnings:
         plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
-        plain(console, f"· {a}", "dim")
-    render_cautions(console, r.cautions)
+        if a == r.calibration_warning:
+            plain(console, f"! {note_text(a, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(a, system)}", "dim")
+    render_cautions(console, r.cautions, system)

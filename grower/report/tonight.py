@@ -3,21 +3,22 @@
 from __future__ import annotations
 
 import datetime as dt
-import re
 from typing import Any
 
+from grower.plans.chance import FORECAST_ERROR_SOURCE
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wire
 from grower.report import chart
 from grower.report import vapour as vapour_report
-from grower.report.common import iso, plain, render_cautions
+from grower.report.common import Rows, iso, keep_units, plain, print_line, render_cautions
 from grower.report.quantities import (
     capacity_text,
+    chance_text,
     conductance_text,
     energy_text,
     fuel_text,
     power_text,
 )
-from grower.units import UnitSystem, show_temperature, show_temperature_difference
+from grower.units import Note, UnitSystem, note_text, show_temperature, show_temperature_difference
 
 
 def tonight_json(r: TonightResult) -> dict[str, Any]:
@@ -31,6 +32,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         "check_again": _trip_json(r),
         "model": r.model,
         "calibrated": r.calibrated,
+        "calibration_warning": r.calibration_warning,
         "k_w_per_k": r.k_w_per_k,
         "c_j_per_k": r.c_j_per_k,
         "time_constant_h": r.time_constant_h,
@@ -101,6 +103,7 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
         },
         "cautions": list(r.cautions),
         **({} if r.vapour is None else vapour_report.fields(r.vapour)),
+        **chance_json(r.chance),
         "series": [
             {
                 "time": iso(t),
@@ -112,6 +115,49 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
             for t, o, e, a, p in zip(
                 r.times, r.outside_c, r.effective_outside_c, r.air_c, r.plant_c, strict=True
             )
+        ],
+    }
+
+
+def chance_json(c: Any) -> dict[str, Any]:
+    """The chance-of-damage keys of the tonight document (null without members)."""
+    if c is None:
+        return {
+            "chance_of_damage": None,
+            "chance_of_damage_heated": None,
+            "members_source": None,
+            "members_basis": None,
+            "earliest_crossing": None,
+            "median_crossing": None,
+            "coldest_tenth_min_plant_c": None,
+            "members": [],
+        }
+    return {
+        # shares of `members` whose plants reach the alarm: with no heat; with the
+        # installed heater on its thermostat (null: no heater)
+        "chance_of_damage": c.chance,
+        "chance_of_damage_heated": c.chance_heated,
+        "members_source": c.source,  # "ensemble" | "drawn"
+        "members_basis": {
+            "forecast_error_k": c.forecast_error_k,
+            "k_spread_95": c.k_spread,
+            "k_basis": c.k_basis,
+            "seed": c.seed,
+            "ensemble": c.ensemble_label,
+            "notes": list(c.notes),
+        },
+        "earliest_crossing": iso(c.earliest_crossing),
+        "median_crossing": iso(c.median_crossing),
+        "coldest_tenth_min_plant_c": c.coldest_tenth_min_plant_c,
+        "members": [
+            {
+                "crossing_time": iso(m.crossing_time),
+                "min_plant_c": m.min_plant_c,
+                "heated_damage": m.heated_damage,
+                "outside_shift_k": m.outside_shift_k,
+                "k_factor": m.k_factor,
+            }
+            for m in c.members
         ],
     }
 
@@ -148,6 +194,11 @@ def _what(r: TonightResult) -> str:
     return f"{r.crop} ({r.stage})" if r.crop else "the plants"
 
 
+def _does(r: TonightResult, singular: str, plural: str) -> str:
+    """`_what(r)` with its verb: "tomato (fruiting) reaches", "the plants reach"."""
+    return f"{_what(r)} {singular if r.crop else plural}"
+
+
 #: line 1's words, ours: what to do tonight for the house as equipped
 ACTION_WORDS = {
     "none": ("NO ACTION", "bold green"),
@@ -156,40 +207,6 @@ ACTION_WORDS = {
     "below": ("BELOW THE ALARM NOW", "bold red"),
     "unheated": ("NO HEATER FOR TONIGHT", "bold red"),
 }
-
-
-_NUMBER_UNIT = re.compile(r"(\d) (?=°|K\b|kW|Btu|h\b|min\b|L\b|gal\b|therm|W\b|kWh)")
-
-
-def keep_units(text: str) -> str:
-    """No-break spaces between a number and its unit, so wrapping never splits them."""
-    return _NUMBER_UNIT.sub("\\1\u00a0", text)
-
-
-def print_line(console, markup: str) -> None:
-    """Print `markup`, wrapped at ordinary spaces only: a number keeps its unit.
-
-    Rich wraps at any whitespace, the no-break space included, so the breaks are chosen
-    here and each piece is printed unwrapped (no-break spaces shown as spaces).
-    """
-    from rich.text import Text
-
-    text = Text.from_markup(markup)
-    plain_text, width = text.plain, max(console.width, 20)
-    cuts, start, last_space = [], 0, None
-    for i, ch in enumerate(plain_text):
-        if ch == " ":
-            last_space = i
-        if i - start >= width and last_space is not None and last_space > start:
-            cuts.append(last_space + 1)
-            start, last_space = last_space + 1, None
-    for piece in text.divide(cuts):
-        piece.rstrip()
-        console.print(
-            Text(piece.plain.replace("\u00a0", " "), spans=piece.spans, style=piece.style),
-            no_wrap=True,
-            crop=False,
-        )
 
 
 def action_line(r: TonightResult, system: UnitSystem) -> str:
@@ -203,7 +220,7 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     head = f"[{style}]{word}[/{style}] [bold]{r.house_name}[/bold]: "
     v, h = r.verdict, r.heater
     if r.action == "none":
-        return head + f"{_what(r)} stays above {T(r.threshold_c)} tonight with no heat"
+        return head + f"{_does(r, 'stays', 'stay')} above {T(r.threshold_c)} tonight with no heat"
     if r.action == "heat":
         margin = power_text(h.output_w - r.hold_peak_w, system)
         fuel = f"; about {_fuel(h.fuel, system)} of {r.hold_fuel_label} tonight" if h.fuel else ""
@@ -218,10 +235,10 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
             else "heat it now"
             + (f"; at full output the plants reach {T(h.min_plant_c)}" if h else "")
         )
-        return head + f"{_what(r)} is at or below {T(r.threshold_c)} already — {tail}"
+        return head + f"{_does(r, 'is', 'are')} at or below {T(r.threshold_c)} already — {tail}"
     if h is None:
         return (
-            head + f"no heater installed; {_what(r)} reaches {T(r.threshold_c)} at "
+            head + f"no heater installed; {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
             f"[bold]{_clock(v.crossing_time, r.start)}[/bold]; "
             f"{power_text(r.hold_peak_w, system)} holds it"
         )
@@ -256,7 +273,7 @@ def _verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None 
     ref = now if abs((r.start - now).total_seconds()) < 600 else r.start
     rel = "from now" if ref is now else f"after the start ({_clock(r.start, r.start)})"
     return (
-        f"With no heat: {_what(r)} reaches {T(r.threshold_c)} at "
+        f"With no heat: {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
         f"{_clock(v.crossing_time, r.start)}, "
         f"{_span((v.crossing_time - ref).total_seconds())} {rel}; coldest plants "
         f"{T(v.min_plant_c)}"
@@ -287,7 +304,15 @@ def _air_assumed(r: TonightResult) -> bool:
 
 def reading_line(r: TonightResult, system: UnitSystem) -> str | None:
     """When the start was assumed, which reading would change the answer."""
-    if r.safe or not _air_assumed(r):
+    if r.safe:
+        return None
+    if not _air_assumed(r):
+        if r.soil_assumed and r.model == "two-node":
+            return Note(
+                "The soil was assumed at the deep-ground temperature: a reading at {depth} "
+                "(--soil-now) can change this answer.",
+                depth=("cm", 0.05),
+            ).text(system)
         return None
     if r.below_now:
         T = show_temperature(r.initial_air_c, system).text(1)
@@ -333,16 +358,18 @@ def _verdict_text(v: Verdict, r: TonightResult, system: UnitSystem) -> str:
 
 
 def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
-    from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     print_verdict(console, r, system)
     plain(console, f"{alarm_text(r, system)}", "dim")
+    how = members_line(r, system)
+    if how:
+        print_line(console, f"[dim]{how}[/dim]")
+        for note in r.chance.notes:
+            plain(console, f"! {note}", "yellow")
     console.print()
     v = r.verdict
-    table = Table(show_header=False, box=None, pad_edge=False)
-    table.add_column(style="dim", no_wrap=True)
-    table.add_column()
+    table = Rows()
     table.add_row(
         "night",
         f"{r.start:%a %d %b %H:%M} to {_clock(r.end, r.start)}"
@@ -364,10 +391,10 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     if r.heater is not None:
         h = r.heater
         if h.holds:
-            text = f"[green]holds it[/green] ({power_text(h.output_w, system)} output)"
+            text = f"[green]holds it[/green] with {power_text(h.output_w, system)} output"
         else:
             text = (
-                f"[bold red]does not hold it[/bold red]: at full output ({power_text(h.output_w, system)}) "
+                f"[bold red]does not hold it[/bold red]: at its full {power_text(h.output_w, system)} "
                 f"the plants fall to {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
             )
         table.add_row("installed heater", text)
@@ -425,14 +452,65 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     for w in r.forecast_warnings:
         plain(console, f"! {w}", "yellow")
     for a in r.assumptions:
-        plain(console, f"· {a}", "dim")
-    render_cautions(console, r.cautions)
+        if a == r.calibration_warning:
+            plain(console, f"! {note_text(a, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(a, system)}", "dim")
+    render_cautions(console, r.cautions, system)
+
+
+def chance_lines(r: TonightResult, system: UnitSystem) -> list[str]:
+    """The chance of damage with no heat and heated, and when and how cold (two lines)."""
+    c = r.chance
+    if c is None:
+        return []
+    T = lambda x: show_temperature(x, system).text(1)  # noqa: E731
+    of = (
+        f"of {c.count} drawn nights"
+        if c.source == "drawn"
+        else f"of the {c.count} {c.ensemble_label} ensemble members"
+    )
+    heated = (
+        f", {chance_text(c.damaged_heated, c.count)} with the installed heater" if c.heater else ""
+    )
+    first = f"Chance of damage: [bold]{chance_text(c.damaged, c.count)}[/bold] with no heat{heated} ({of})"
+    cold = f"the coldest tenth of nights: plants {T(c.coldest_tenth_min_plant_c)} or colder"
+    if c.damaged and not r.below_now:  # below now: every night starts at the alarm
+        start = r.start
+        second = (
+            f"With no heat, the alarm comes at {_clock(c.earliest_crossing, start)} at the "
+            f"earliest, {_clock(c.median_crossing, start)} at the median; {cold}"
+        )
+    else:
+        second = cold[0].upper() + cold[1:]
+    return [keep_units(first), keep_units(second)]
+
+
+def members_line(r: TonightResult, system: UnitSystem) -> str | None:
+    """How the members were made, in one short line."""
+    c = r.chance
+    if c is None:
+        return None
+    k = f"K ±{c.k_spread:.0%}".replace("%", " %") + (
+        " (the fit's 95 % interval)" if c.k_basis == "fit" else " (handbook)"
+    )
+    if c.source == "ensemble":
+        return keep_units(
+            f"Nights: the {c.count} {c.ensemble_label} ensemble members (Open-Meteo), {k}"
+        )
+    sigma = show_temperature_difference(c.forecast_error_k, system).text(1)
+    return keep_units(
+        f"Nights drawn: forecast error σ {sigma} ({FORECAST_ERROR_SOURCE}), {k}, seed {c.seed}"
+    )
 
 
 def print_verdict(console, r: TonightResult, system: UnitSystem) -> None:
-    """The verdict lines: what to do, the night with no heat, when to check, what to read."""
+    """The verdict lines: what to do, the night with no heat, the chance of damage, when
+    to check, what to read."""
     print_line(console, action_line(r, system))
     print_line(console, verdict_line(r, system))
+    for line in chance_lines(r, system):
+        print_line(console, line)
     for line in (trip_wire_line(r, system), reading_line(r, system)):
         if line:
             print_line(console, f"[yellow]{line}[/yellow]")
@@ -461,6 +539,13 @@ def _margin_text(margin_k: float, system: UnitSystem) -> str:
     return f"[{style}]{text}[/{style}]"
 
 
+def _chance_cell(c: Any) -> str:
+    if c is None:
+        return "—"
+    text = chance_text(c.damaged, c.count)
+    return f"{text} ({chance_text(c.damaged_heated, c.count)})" if c.heater else text
+
+
 def render_summary(console, results: list[TonightResult], system: UnitSystem) -> None:
     """Several houses: one table, most urgent first."""
     from rich.table import Table
@@ -471,6 +556,8 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     if frost:
         print_line(console, action_line(frost[0], system))
         print_line(console, verdict_line(frost[0], system))
+        for line in chance_lines(frost[0], system):
+            print_line(console, line)
         if len(frost) > 1:
             console.print(
                 f"[bold red]{len(frost)} of {len(results)} houses reach the alarm tonight with no heat[/bold red]"
@@ -493,6 +580,10 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     table.add_column("to hold", justify="right", no_wrap=True)
     table.add_column("heater")
     table.add_column("margin", justify="right", no_wrap=True)
+    # the chance of damage, with the installed heater in brackets, where it fits
+    odds = console.width >= 96 and any(r.chance is not None for r in order)
+    if odds:
+        table.add_column("chance (heated)", justify="right", no_wrap=True)
     for r in order:
         when = (
             "[green]no[/green]"
@@ -504,20 +595,28 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
             if r.heater is None
             else ("holds" if r.heater.holds else f"[red]falls to {T(r.heater.min_plant_c)}[/red]")
         )
-        table.add_row(
+        cells = [
             r.house_name,
             when,
             T(r.verdict.min_plant_c),
             power_text(r.hold_peak_w, system, with_btu=False),  # the report's system only
             heater,
             _margin_text(margin_k(r), system),
-        )
+        ]
+        if odds:
+            cells.append(_chance_cell(r.chance))
+        table.add_row(*cells)
     console.print(table)
     plain(
         console,
         f"alarm {T(order[0].threshold_c)} ({order[0].threshold_basis}); coldest: plants with "
         "no heat; to hold: peak heat that holds the alarm; margin: coldest plants above the "
-        "alarm with no heat, smallest first",
+        "alarm with no heat, smallest first"
+        + (
+            "; chance: of reaching the alarm with no heat (with the installed heater)"
+            if odds
+            else ""
+        ),
         "dim",
     )
     for r in order:
@@ -533,7 +632,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
         if r.cautions:
             sets.setdefault(tuple(r.cautions), []).append(r.house_name)
     for cautions, names in sets.items():
-        render_cautions(console, cautions, ", ".join(names))
+        render_cautions(console, cautions, system, ", ".join(names))
 
 
 def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
@@ -553,5 +652,5 @@ def write_image(path: str, r: TonightResult, system: UnitSystem) -> None:
         threshold=conv(r.threshold_c),
         crossing=r.verdict.crossing_time,
         unit=show_temperature(0, system).unit,
-        title=f"{r.house_name} — {r.crop or 'threshold'}: tonight with no heat",
+        title=f"{r.house_name} — {r.crop or 'your alarm'}: tonight with no heat",
     )

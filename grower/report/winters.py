@@ -8,7 +8,7 @@ from typing import Any
 from grower.errors import InputError
 from grower.plans.winters import Winter, WintersResult
 from grower.report.common import iso, plain, render_cautions
-from grower.units import J_PER_THERM, UnitSystem, show_temperature
+from grower.units import J_PER_THERM, UnitSystem, note_text, show_temperature
 
 #: one colour per winter (Okabe–Ito palette, colour-blind safe)
 PALETTE = ("#0072B2", "#E69F00", "#009E73", "#CC79A7", "#56B4E9", "#D55E00", "#F0E442")
@@ -68,6 +68,7 @@ def winters_json(r: WintersResult) -> dict[str, Any]:
         "source": r.source,
         "attribution": r.attribution,
         "assumptions": list(r.assumptions),
+        "calibration_warning": r.calibration_warning,
         "cautions": list(r.cautions),
     }
 
@@ -140,8 +141,11 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
         src += f". {r.attribution}"
     plain(console, src, "dim")
     for a in r.assumptions:
-        plain(console, f"· {a}", "dim")
-    render_cautions(console, r.cautions)
+        if a == r.calibration_warning:
+            plain(console, f"! {note_text(a, system)}", "yellow")
+        else:
+            plain(console, f"· {note_text(a, system)}", "dim")
+    render_cautions(console, r.cautions, system)
 
 
 def _season_order(r: WintersResult):

@@ -38,12 +38,15 @@ Setpoint and vent temperature are piecewise constant, the value at a step's star
 
 Reading order: `network` (the network and its public modal solution, `Modes`),
 `stepping` (phi functions, step tables, the recurrence of whole steps), `problem` (input
-validation, modal forcing), `freefloat` (the free run: one recurrence per mode),
-`explin` (the exact solution inside a step as arrays: roots and extrema), `analysis`
-(crossings, minima, hours below), then the thermostat: `modes` (the four modes), `runs`
-(a run's inputs and results), `serial` (the one mode machine, a member at a time: strides
-of whole steps in one mode) and `scalar` (the steps in which the mode changes, split at
-the exact instants), `control` (`thermostat`, `hold`). `results` holds the dataclasses.
+validation, modal forcing), `freefloat` (the free run: one recurrence per mode; for many
+members, `segments`: one exact step per run of collinear input, the state kept at the
+knots where an input bends and the grid values computed when asked for), `explin` (the
+exact solution inside a step as arrays: roots and extrema), `analysis` (crossings,
+minima, hours below, on the steps or on the runs), then the thermostat: `modes` (the
+four modes), `runs` (a run's inputs and results), `serial` (the one mode machine, a
+member at a time: strides of whole steps in one mode) and `scalar` (the steps in which
+the mode changes, split at the exact instants), `control` (`thermostat`, `hold`).
+`results` holds the dataclasses.
 A raise of the setpoint with an unlimited heater, or a vent temperature below the air,
 moves the air node at once (an impulse of heat or of vent removal, counted in the
 energies; temperatures are stored as the value just before such a jump).

@@ -52,24 +52,43 @@ class _ExpLin:
         return ((em + 1.0) * self.k2[sh]).sum(axis=-1)
 
 
-def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
+def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None) -> np.ndarray:  # type: ignore[no-untyped-def]
     """Root in [a, b] of f (fd(s) -> (f, f')), f(a) and f(b) of opposite sign: Newton
-    steps kept inside a shrinking bracket, else bisection (Numerical Recipes sec. 9.4)."""
+    steps kept inside a shrinking bracket, else bisection (Numerical Recipes sec. 9.4),
+    from ``x0`` inside the bracket (default its middle).
+
+    Two cases where Newton would crawl are cut short: f(a) at round-off against f inside
+    (a double root at a: Newton only halves the distance) is the root a itself; a step
+    past an end of the bracket goes to that end first (a root next to it, which Newton
+    from inside overshoots), and bisects only if the step before went to an end too.
+    """
     lo, hi = a.copy(), b.copy()
     pos = fa > 0
-    x = 0.5 * (lo + hi)
+    x = 0.5 * (lo + hi) if x0 is None else np.clip(x0, np.minimum(lo, hi), np.maximum(lo, hi))
     tol = 1e-13 * (b - a) + 1e-300
+    flat = None
+    ended = np.zeros(np.shape(x), dtype=bool)
     for _ in range(200):
         f, df = fd(x)
+        if flat is None:
+            flat = np.abs(fa) <= 1e-13 * np.abs(f)
+            if flat.any():
+                x = np.where(flat, a, x)
+                f, df = fd(x)
+        if flat.any():
+            f = np.where(flat, 0.0, f)
         same = (f > 0) == pos
         lo = np.where(same, x, lo)
         hi = np.where(same, hi, x)
         with np.errstate(divide="ignore", invalid="ignore"):
             xn = x - f / df
-        out = ~np.isfinite(xn) | (xn <= np.minimum(lo, hi)) | (xn >= np.maximum(lo, hi))
-        # out of the bracket: bisection. A step below round-off (xn == x, x at the
-        # bracket's end) is convergence, not a reason to bisect down to the tolerance
-        xn = np.where(out & (xn != x), 0.5 * (lo + hi), xn)
+        low, high = np.minimum(lo, hi), np.maximum(lo, hi)
+        # a step below round-off (xn == x, x at the bracket's end) is convergence, not a
+        # reason to bisect down to the tolerance
+        out = (~np.isfinite(xn) | (xn <= low) | (xn >= high)) & (xn != x)
+        past = np.where(xn <= low, low, high)
+        xn = np.where(out, np.where(ended | ~np.isfinite(xn), 0.5 * (lo + hi), past), xn)
+        ended = out & ~ended
         done = (f == 0) | (np.abs(xn - x) <= tol) | (np.abs(hi - lo) <= tol)
         x = np.where(f == 0, x, xn)
         if done.all():

@@ -14,9 +14,10 @@ import numpy as np
 
 from .analysis import analyse
 from .network import Network
-from .problem import _problem, _series
+from .problem import _Problem, _problem, _series
 from .results import Trajectory, _no_switches
-from .stepping import recurrence
+from .segments import Segments, forcing_at, knots, step_runs
+from .stepping import _MANY, recurrence
 
 
 def free_float(
@@ -49,35 +50,39 @@ def free_float(
     ----------
     Van Loan (1978); Franklin, Powell and Workman (1998) (see the module notes).
     """
-    prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w)
+    # no copy of the inputs: everything drawn from them is computed before returning
+    prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w, copy=False)
     mm, nt = prob.n_members, prob.times_s.size
     full, tab = network.modes, prob.full
-    z0 = prob.initial_c @ full.w.T  # (Mi, r)
-    # f = f1 b[k] + f2 (b[k+1] - b[k]), written without the difference array
-    bt = prob.bt
-    f = (tab.f1 - tab.f2).T[:, None, :] * bt[:, :, :-1]
-    f += tab.f2.T[:, None, :] * bt[:, :, 1:]
-    if f.shape[1] != mm:  # shared forcing, member-specific start
-        f = np.broadcast_to(f, (f.shape[0], mm, nt - 1))
-    z = recurrence(tab.e, prob.uniform, f, np.broadcast_to(z0.T, (full.lam.size, mm)))
-    temps = np.tensordot(full.v, z, axes=([1], [0]))  # (n, M, N)
-    temps[:, :, 0] = np.broadcast_to(prob.initial_c, (mm, network.n_nodes)).T
-    temps = np.moveaxis(temps, 0, -1)
     if heat_w is None:
-        q, step_q = np.zeros((mm, nt)), np.zeros((mm, nt - 1))
+        q, step_q, heat_j = np.zeros((mm, nt)), np.zeros((mm, nt - 1)), np.zeros(mm)
     else:
         q = np.array(np.broadcast_to(_series(heat_w, "heat_w", nt, None), (mm, nt)))
         step_q = 0.5 * prob.h * (q[:, :-1] + q[:, 1:])
-    zero = np.zeros((mm, nt - 1))
+        heat_j = step_q.sum(axis=1)
+    seg = _runs(prob) if mm >= _MANY else None
+    temps = z = None
+    if seg is None:
+        z0 = prob.initial_c @ full.w.T  # (Mi, r)
+        # f = f1 b[k] + f2 (b[k+1] - b[k]), written without the difference array
+        bt = prob.bt
+        f = (tab.f1 - tab.f2).T[:, None, :] * bt[:, :, :-1]
+        f += tab.f2.T[:, None, :] * bt[:, :, 1:]
+        if f.shape[1] != mm:  # shared forcing, member-specific start
+            f = np.broadcast_to(f, (f.shape[0], mm, nt - 1))
+        z = recurrence(tab.e, prob.uniform, f, np.broadcast_to(z0.T, (full.lam.size, mm)))
+        temps = np.tensordot(full.v, z, axes=([1], [0]))  # (n, M, N)
+        temps[:, :, 0] = np.broadcast_to(prob.initial_c, (mm, network.n_nodes)).T
+        temps = np.moveaxis(temps, 0, -1)
     return Trajectory(
         prob.times_s,
         temps,
         q,
         np.zeros((mm, nt)),
-        step_q.sum(axis=1),
+        heat_j,
         np.zeros(mm),
         step_q,
-        zero,
+        np.zeros((mm, nt - 1)),
         None,
         np.zeros((mm, nt - 1), dtype=np.int8),
         _no_switches(network.n_nodes),
@@ -85,7 +90,21 @@ def free_float(
         prob,
         None,
         z,
+        seg,
     )
+
+
+def _runs(prob: _Problem) -> Segments | None:
+    """The free float as `Segments` when its inputs run collinear over four or more steps
+    on average (one exact step per run), else None (step by step)."""
+    net, mm, nt = prob.network, prob.n_members, prob.times_s.size
+    kn = knots(prob.h, prob.boundary_c, prob.gains_w)
+    if 4 * (kn.size - 1) > nt - 1:
+        return None
+    b = forcing_at(net, prob.boundary_c, prob.gains_w, kn)
+    z0 = np.broadcast_to((prob.initial_c @ net.modes.w.T).T, (net.modes.lam.size, mm))
+    x0 = np.broadcast_to(prob.initial_c, (mm, net.n_nodes))
+    return Segments(net, prob.times_s, kn, step_runs(net, prob.times_s, kn, b, z0), b, x0)
 
 
 def first_crossing(

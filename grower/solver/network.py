@@ -78,9 +78,9 @@ def modal_decomposition(c: np.ndarray, lap: np.ndarray, inputs: np.ndarray) -> M
     return Modes(lam, v, w, w @ (inputs / c[:, None]))
 
 
-def _float_array(value: object, name: str) -> np.ndarray:
+def _float_array(value: object, name: str, copy: bool = True) -> np.ndarray:
     try:
-        return np.array(value, dtype=float)
+        return np.array(value, dtype=float) if copy else np.asarray(value, dtype=float)
     except (TypeError, ValueError):
         raise ValueError(f"{name} must be numeric") from None
 

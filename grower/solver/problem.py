@@ -24,9 +24,13 @@ class _Problem:
     initial_c: np.ndarray  # (Mi, n)
     uniform: bool
     full: _Table
-    bt: np.ndarray  # (r, Mu, N) modal forcing of (U, P), mode axis first
     unique_h: np.ndarray  # distinct step lengths [s]
     kind: np.ndarray  # (N-1,) index of each step's length in unique_h
+
+    @cached_property
+    def bt(self) -> np.ndarray:  # (r, Mu, N) modal forcing of (U, P), mode axis first
+        bm, m = self.network.modes.bm, self.network.n_boundaries
+        return _project(bm[:, :m], self.boundary_c) + _project(bm[:, m:], self.gains_w)
 
     @cached_property
     def dbt(self) -> np.ndarray:  # (r, Mu, N-1) step increments of the modal forcing
@@ -73,9 +77,10 @@ def _times(times_s: object) -> np.ndarray:
     return t
 
 
-def _series(value: object, name: str, n_t: int, width: int | None) -> np.ndarray:
-    """(N,) / (N, w) / (M, N, w) -> (M', N, w); width None: (N,) / (M, N) -> (M', N)."""
-    a = _float_array(value, name)
+def _series(value: object, name: str, n_t: int, width: int | None, copy: bool = True) -> np.ndarray:
+    """(N,) / (N, w) / (M, N, w) -> (M', N, w); width None: (N,) / (M, N) -> (M', N).
+    ``copy=False``: the caller's array itself where it is already float (read only)."""
+    a = _float_array(value, name, copy)
     if width is None:
         if a.ndim == 0:
             a = np.full((1, n_t), float(a))
@@ -114,14 +119,17 @@ def _problem(
     gains_w: object,
     heat_w: object = None,
     extra: dict[str, np.ndarray | None] | None = None,
+    copy: bool = True,
 ) -> _Problem:
+    """Validated inputs. ``copy=False`` keeps the caller's boundary and gains arrays (no
+    copy of a big ensemble): only for a caller that uses them before it returns."""
     if not isinstance(network, Network):
         raise ValueError("network must be a grower.solver.Network")
     n, m = network.n_nodes, network.n_boundaries
     t = _times(times_s)
     nt = t.size
-    u = _series(boundary_c, "boundary_c", nt, m)
-    p = np.zeros((1, nt, n)) if gains_w is None else _series(gains_w, "gains_w", nt, n)
+    u = _series(boundary_c, "boundary_c", nt, m, copy)
+    p = np.zeros((1, nt, n)) if gains_w is None else _series(gains_w, "gains_w", nt, n, copy)
     x0 = _float_array(initial_c, "initial_c")
     if x0.ndim == 0 and n == 1:
         x0 = x0.reshape(1)
@@ -143,7 +151,6 @@ def _problem(
     hu, kind = np.unique(hq, return_inverse=True)
     hu = np.maximum(hu, np.finfo(float).tiny)
     full = network.modes
-    bt = _project(full.bm[:, :m], u) + _project(full.bm[:, m:], p)
     return _Problem(
         network,
         t,
@@ -154,7 +161,6 @@ def _problem(
         x0,
         hu.size == 1,
         _table(full.lam, hu, kind),
-        bt,
         hu,
         kind,
     )

@@ -8,6 +8,7 @@ import numpy as np
 
 from .network import Network
 from .problem import _Problem
+from .segments import Segments
 
 
 @dataclass(frozen=True, eq=False)
@@ -53,13 +54,15 @@ class Trajectory:
     switches : `Switches` inside steps (empty for `free_float`)
     network : the `Network`
 
-    The remaining fields (``problem``, ``control``, ``tint``, ``modal_z``) hold the
-    validated inputs and intermediate results that `analyse` needs to re-evaluate the
-    exact solution inside the steps; they are not part of the interface.
+    The remaining fields (``grid_c``, ``problem``, ``control``, ``tint``, ``modal_z``,
+    ``segments``) hold the validated inputs and intermediate results that `analyse` needs
+    to re-evaluate the exact solution inside the steps; they are not part of the
+    interface. A free float of many members stored at its knots (`segments.Segments`)
+    computes ``temps_c`` on first use.
     """
 
     times_s: np.ndarray
-    temps_c: np.ndarray
+    grid_c: np.ndarray | None = field(repr=False)
     heat_w: np.ndarray
     vent_w: np.ndarray
     heat_j: np.ndarray
@@ -73,17 +76,32 @@ class Trajectory:
     problem: _Problem = field(repr=False)
     control: _Control | None = field(repr=False, default=None)
     modal_z: np.ndarray | None = field(repr=False, default=None)  # free float: (r, M, N)
+    segments: Segments | None = field(repr=False, default=None)
+
+    @property
+    def temps_c(self) -> np.ndarray:
+        """(M, N, n) node temperatures [degC] at the grid times (left limits at a jump)."""
+        if self.grid_c is None:
+            object.__setattr__(self, "grid_c", self.segments.temps_c)  # type: ignore[union-attr]
+        return self.grid_c  # type: ignore[return-value]
+
+    def modal(self) -> np.ndarray:
+        """(r, M, N) modal state of a free float at the grid times."""
+        if self.modal_z is None and self.segments is not None:
+            return self.segments.modal
+        return self.modal_z  # type: ignore[return-value]
 
     @property
     def temp_integral_c_s(self) -> np.ndarray:
         """(M, N-1, n) exact integral of each node temperature over each step [degC s]."""
         if self.tint is None:
             p, full = self.problem, self.network.modes
-            z, t = self.modal_z, p.full  # z: (r, M, N)
+            z, t = self.modal(), p.full  # z: (r, M, N)
+            bt = p.bt if self.segments is None else self.segments.forcing
             iz = (
                 t.f1.T[:, None] * z[:, :, :-1]
-                + t.i2.T[:, None] * p.bt[:, :, :-1]
-                + t.i3.T[:, None] * p.dbt
+                + t.i2.T[:, None] * bt[:, :, :-1]
+                + t.i3.T[:, None] * np.diff(bt, axis=2)
             )  # type: ignore[index]
             object.__setattr__(
                 self, "tint", np.moveaxis(np.tensordot(full.v, iz, axes=([1], [0])), 0, -1)
@@ -97,7 +115,7 @@ class Trajectory:
 
     @property
     def n_members(self) -> int:
-        return self.temps_c.shape[0]
+        return self.heat_w.shape[0]
 
 
 @dataclass(frozen=True, eq=False)

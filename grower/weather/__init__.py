@@ -11,6 +11,8 @@ time-zone-aware index and the columns of `COLUMNS`, NaN where the source gave no
   `grower.diurnal`.
 * `fetch_forecast` — Open-Meteo's forecast API through a persistent requests-cache
   (split into `fetch_openmeteo`, HTTP only, and `parse_openmeteo`, pure).
+* `ensemble_forecasts` — the same service's ensemble, one `Forecast` per member
+  (`fetch_ensemble`, `parse_ensemble`; module `members`).
 
 Then, pure functions on arrays: `prepare_boundary` puts a forecast on the solver's time
 grid (piecewise linear between samples) with the sky temperature of `grower.sky`;
@@ -43,6 +45,15 @@ from grower.weather.forecast import (
     assumptions,
 )
 from grower.weather.low import DEFAULT_DIURNAL_RANGE_K, forecast_from_low
+from grower.weather.members import (
+    DEFAULT_ENSEMBLE_MODEL,
+    DEFAULT_ENSEMBLE_URL,
+    Ensemble,
+    ensemble_forecasts,
+    ensemble_url,
+    fetch_ensemble,
+    parse_ensemble,
+)
 from grower.weather.openmeteo import (
     DEFAULT_FORECAST_URL,
     OPEN_METEO_ATTRIBUTION,
@@ -57,22 +68,29 @@ from grower.weather.openmeteo import (
 __all__ = [
     "COLUMNS",
     "DEFAULT_DIURNAL_RANGE_K",
+    "DEFAULT_ENSEMBLE_MODEL",
+    "DEFAULT_ENSEMBLE_URL",
     "DEFAULT_FORECAST_URL",
     "DEW_POINT_EXCESS_K",
     "MAX_GAP_S",
     "OPEN_METEO_ATTRIBUTION",
     "RANGES",
     "Boundary",
+    "Ensemble",
     "Fetched",
     "Forecast",
     "ar1_errors",
     "assumptions",
     "cache_file",
     "ensemble",
+    "ensemble_forecasts",
+    "ensemble_url",
+    "fetch_ensemble",
     "fetch_forecast",
     "fetch_openmeteo",
     "forecast_from_low",
     "forecast_url",
+    "parse_ensemble",
     "parse_openmeteo",
     "prepare_boundary",
     "read_forecast_csv",

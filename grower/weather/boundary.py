@@ -14,13 +14,13 @@ from __future__ import annotations
 
 import datetime as dt
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
-import pandas as pd
 from numpy.typing import ArrayLike, NDArray
 
 from grower import sky
-from grower.weather.forecast import Forecast, _epoch_seconds, _index
+from grower.weather.forecast import Forecast, local_time, time_index
 
 
 @dataclass(frozen=True, eq=False)
@@ -29,8 +29,8 @@ class Boundary:
 
     Attributes
     ----------
-    start : pandas.Timestamp
-        Time of ``times_s == 0``.
+    start : datetime
+        Time of ``times_s == 0`` (aware, in the forecast's zone).
     times_s : numpy.ndarray
         Grid [s since `start`].
     temperature_c, dew_point_c : numpy.ndarray
@@ -49,7 +49,7 @@ class Boundary:
         The forecast had no cloud data.
     """
 
-    start: pd.Timestamp
+    start: dt.datetime
     times_s: NDArray[np.float64]
     temperature_c: NDArray[np.float64]
     dew_point_c: NDArray[np.float64]
@@ -61,11 +61,9 @@ class Boundary:
     assumed_clear: bool
 
     @property
-    def index(self) -> pd.DatetimeIndex:
-        """The grid as times in the start's zone."""
-        return _index(
-            _epoch_seconds(pd.DatetimeIndex([self.start]))[0] + self.times_s, self.start.tz
-        )
+    def index(self) -> Any:
+        """The grid as a pandas DatetimeIndex in the start's zone (imports pandas)."""
+        return time_index(self.start.timestamp() + self.times_s, self.start.tzinfo)
 
 
 def prepare_boundary(
@@ -108,7 +106,7 @@ def prepare_boundary(
     if grid.ndim != 1 or grid.size == 0 or np.any(np.diff(grid) < 0) or not np.isfinite(grid).all():
         raise ValueError("times_s must be a non-empty, finite, non-decreasing 1-D array")
     utc = forecast.utc_s
-    t0 = utc[0] if start is None else pd.Timestamp(start).timestamp()
+    t0 = utc[0] if start is None else start.timestamp()
     t = t0 + grid
     if t[0] < utc[0] - 1e-6 or t[-1] > utc[-1] + 1e-6:
         raise ValueError(f"times_s runs outside the forecast ({forecast.start} to {forecast.end})")
@@ -128,7 +126,7 @@ def prepare_boundary(
         cloud = np.maximum(cloud, low)  # low cloud is part of the total
     hour = None
     if hour_term:
-        offsets = forecast.frame["utc_offset_s"].to_numpy(dtype=float)
+        offsets = forecast.samples.utc_offset_s.astype(float)
         local = t + offsets[np.clip(np.searchsorted(utc, t, side="right") - 1, 0, utc.size - 1)]
         hour = (local % 86400.0) / 3600.0
     sky_c = sky.sky_temperature(
@@ -141,7 +139,7 @@ def prepare_boundary(
         low_cloud_fraction=low,
     )
     return Boundary(
-        start=_index(np.array([t0]), forecast.frame.index.tz)[0],
+        start=local_time(t0, forecast.tz),
         times_s=grid,
         temperature_c=temp,
         dew_point_c=dew,
@@ -154,8 +152,10 @@ def prepare_boundary(
     )
 
 
-def sky_temperature(forecast: Forecast, *, pressure_hpa: float | None = None) -> pd.Series:
-    """Sky temperature [°C] at the forecast's own samples, as a Series on its index."""
+def sky_temperature(forecast: Forecast, *, pressure_hpa: float | None = None) -> Any:
+    """Sky temperature [°C] at the forecast's own samples, as a pandas Series on its index."""
+    import pandas as pd
+
     bound = prepare_boundary(forecast, forecast.times_s, pressure_hpa=pressure_hpa)
     return pd.Series(bound.sky_c, index=forecast.frame.index, name="sky_c")
 
@@ -169,11 +169,14 @@ def shifted(forecast: Forecast, delta_k: float) -> Forecast:
     Air temperature and dew point move together (the same air mass, the same dew-point
     depression), so a colder night also has a colder, drier sky.
     """
-    frame = forecast.frame.copy()
-    frame["temperature_c"] += delta_k
-    frame["dew_point_c"] += delta_k
+    s = forecast.samples
+    values = dict(s.values)
+    for c in ("temperature_c", "dew_point_c"):
+        values[c] = values[c] + delta_k
     way = "colder" if delta_k < 0 else "warmer"
-    return replace(forecast, frame=frame, source=f"{forecast.source}, {abs(delta_k):g} K {way}")
+    return forecast.with_samples(
+        replace(s, values=values), source=f"{forecast.source}, {abs(delta_k):g} K {way}"
+    )
 
 
 def ar1_errors(

@@ -14,15 +14,15 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import InitVar, dataclass, field, fields
 from typing import Any
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
 import numpy as np
-import pandas as pd
 from numpy.typing import NDArray
 
 from grower.errors import InputError
+from grower.units import Note
 
 #: the frame's variables, SI-ish units in the names
 COLUMNS = (
@@ -65,16 +65,68 @@ def _num(value: float) -> str:
 
 
 @dataclass(frozen=True, eq=False)
+class Samples:
+    """A forecast's samples as plain arrays: what every computation reads.
+
+    Attributes
+    ----------
+    utc_s : numpy.ndarray
+        Each sample as seconds since 1970-01-01 UTC, strictly increasing (to the
+        microsecond, as the times are kept).
+    utc_offset_s : numpy.ndarray
+        The UTC offset of each sample's local clock [s] (int).
+    values : mapping of str to numpy.ndarray
+        Each column of `COLUMNS` (NaN where the source gave nothing).
+    tz : datetime.tzinfo
+        The zone local times are shown in (the site's zone, the file's single offset, or
+        a zone keeping the file's own offsets).
+
+    The arrays are read-only: a forecast is a value.
+    """
+
+    utc_s: NDArray[np.float64]
+    utc_offset_s: NDArray[np.int64]
+    values: Mapping[str, NDArray[np.float64]]
+    tz: dt.tzinfo
+
+    def __post_init__(self) -> None:
+        for a in (self.utc_s, self.utc_offset_s, *self.values.values()):
+            a.setflags(write=False)
+
+    def rows(self, first: int, stop: int) -> Samples:
+        """Rows ``first:stop`` (as a slice)."""
+        return Samples(
+            self.utc_s[first:stop].copy(),
+            self.utc_offset_s[first:stop].copy(),
+            {c: v[first:stop].copy() for c, v in self.values.items()},
+            self.tz,
+        )
+
+
+def _samples(utc_s, offsets_s, values: Mapping[str, Any], tz: dt.tzinfo) -> Samples:
+    """Samples with times kept to the microsecond (as a pandas index keeps them)."""
+    micro = np.round(np.asarray(utc_s, dtype=float) * 1e6).astype(np.int64)
+    n = micro.size
+    cols = {c: np.array(values.get(c, np.full(n, np.nan)), dtype=float) for c in COLUMNS}
+    # ns / 1e9, exactly as `pandas.DatetimeIndex.asi8 / 1e9` gives it
+    return Samples((micro * 1000) / 1e9, np.asarray(offsets_s, dtype=np.int64).copy(), cols, tz)
+
+
+@dataclass(frozen=True, eq=False)
 class Forecast:
     """A forecast on its own samples.
 
     Attributes
     ----------
+    samples : Samples
+        Times, offsets and columns as arrays (what the computations read; no pandas).
     frame : pandas.DataFrame
-        Index: tz-aware DatetimeIndex ("time"), strictly increasing — in the site's zone,
-        in the single offset a file gave, or in UTC when a file mixed offsets with no
-        zone known. Columns: `COLUMNS` (NaN where the source gave nothing) and
-        ``utc_offset_s``, the UTC offset of each row's local clock [s].
+        The same as a frame, built on first use (pandas is imported then). Index:
+        tz-aware DatetimeIndex ("time"), strictly increasing — in the site's zone, in
+        the single offset a file gave, or in UTC when a file mixed offsets with no zone
+        known. Columns: `COLUMNS` (NaN where the source gave nothing) and
+        ``utc_offset_s``, the UTC offset of each row's local clock [s]. A forecast may
+        also be made from a frame: ``Forecast(frame=..., source=..., given=...)``.
     source : str
         "file examples/x.csv", "forecast low −4 °C", "Open-Meteo".
     given : tuple of str
@@ -98,9 +150,9 @@ class Forecast:
         No cloud data: the sky is taken as clear (the cautious side); reports say so.
     """
 
-    frame: pd.DataFrame
-    source: str
-    given: tuple[str, ...]
+    frame: InitVar[Any] = None
+    source: str = ""
+    given: tuple[str, ...] = ()
     issued_at: dt.datetime | None = None
     retrieved_at: dt.datetime | None = None
     from_cache: bool = False
@@ -109,31 +161,54 @@ class Forecast:
     warnings: tuple[str, ...] = ()
     timezone: str | None = None
     shortwave_offset_s: float = 0.0
+    samples: Samples | None = None
     assumed_clear: bool = field(init=False)
 
-    def __post_init__(self) -> None:
-        index = self.frame.index
-        if not isinstance(index, pd.DatetimeIndex) or index.tz is None:
-            raise ValueError("frame must have a tz-aware DatetimeIndex")
-        if len(index) < 2 or not index.is_monotonic_increasing or not index.is_unique:
+    def __post_init__(self, frame: Any) -> None:
+        cached = getattr(self.samples, "_frame", None)
+        if frame is not None and frame is not cached:
+            object.__setattr__(self, "samples", _from_frame(frame))
+        elif self.samples is None:
+            raise ValueError("a Forecast needs samples or a frame")
+        s = self.samples
+        if s.utc_s.ndim != 1 or s.utc_s.size < 2 or np.any(np.diff(s.utc_s) <= 0):
             raise ValueError("frame index must hold two or more strictly increasing times")
-        missing = [c for c in (*COLUMNS, "utc_offset_s") if c not in self.frame.columns]
+        missing = [c for c in COLUMNS if c not in s.values]
         if missing or not set(self.given) <= set(COLUMNS) or "temperature_c" not in self.given:
             raise ValueError(f"frame lacks columns {missing} or given is wrong: {self.given}")
         object.__setattr__(self, "assumed_clear", "cloud_cover_pct" not in self.given)
 
-    @property
-    def start(self) -> pd.Timestamp:
-        return self.frame.index[0]
+    def _frame(self) -> Any:
+        """The samples as a pandas frame (built once, on first use)."""
+        s = self.samples
+        cached = getattr(s, "_frame", None)
+        if cached is None:
+            import pandas as pd
+
+            cached = pd.DataFrame(dict(s.values), index=time_index(s.utc_s, s.tz))
+            cached["utc_offset_s"] = np.asarray(s.utc_offset_s, dtype=np.int64)
+            object.__setattr__(s, "_frame", cached)
+        return cached
 
     @property
-    def end(self) -> pd.Timestamp:
-        return self.frame.index[-1]
+    def tz(self) -> dt.tzinfo:
+        """The zone local times are shown in (`Samples.tz`)."""
+        return self.samples.tz
+
+    @property
+    def start(self) -> dt.datetime:
+        """The first sample, an aware datetime in `tz`."""
+        return local_time(self.samples.utc_s[0], self.samples.tz)
+
+    @property
+    def end(self) -> dt.datetime:
+        """The last sample, an aware datetime in `tz`."""
+        return local_time(self.samples.utc_s[-1], self.samples.tz)
 
     @property
     def utc_s(self) -> NDArray[np.float64]:
-        """Each sample as seconds since 1970-01-01 UTC."""
-        return _epoch_seconds(self.frame.index)
+        """Each sample as seconds since 1970-01-01 UTC (read-only)."""
+        return self.samples.utc_s
 
     @property
     def times_s(self) -> NDArray[np.float64]:
@@ -142,18 +217,67 @@ class Forecast:
         return utc - utc[0]
 
     def values(self, column: str) -> NDArray[np.float64]:
-        """One column as a float array (NaN where not given)."""
-        return self.frame[column].to_numpy(dtype=float)
+        """One column as a float array (NaN where not given; read-only)."""
+        return self.samples.values[column]
 
     def local_times(self) -> list[dt.datetime]:
         """Each sample as an aware datetime in its local offset (for reports and JSON)."""
-        offsets = self.frame["utc_offset_s"].to_numpy()
+        s = self.samples
+        offsets = s.utc_offset_s
         if self.timezone is None and np.unique(offsets).size > 1:  # index in UTC
             return [
                 dt.datetime.fromtimestamp(t, dt.timezone(dt.timedelta(seconds=int(off))))
-                for t, off in zip(self.utc_s, offsets, strict=True)
+                for t, off in zip(s.utc_s, offsets, strict=True)
             ]
-        return [ts.to_pydatetime() for ts in self.frame.index]
+        return [local_time(t, s.tz) for t in s.utc_s]
+
+    def with_samples(self, samples: Samples, **changes: Any) -> Forecast:
+        """The same forecast on other samples (and other fields in `changes`).
+
+        ``dataclasses.replace`` works too, but builds the pandas frame to pass it on.
+        """
+        kept = {f.name: getattr(self, f.name) for f in fields(self) if f.init}
+        return Forecast(**{**kept, **changes, "samples": samples})
+
+    def between(self, first: int, stop: int, **changes: Any) -> Forecast:
+        """Rows ``first:stop`` of the forecast (as a slice), other fields in `changes`."""
+        return self.with_samples(self.samples.rows(first, stop), **changes)
+
+
+# `frame` is an init-only argument (a forecast may be made from a frame) and, once made,
+# a property that builds the frame from the samples on first use
+Forecast.frame = property(Forecast._frame)  # type: ignore[assignment,method-assign]
+
+
+def local_time(utc_s: float, tz: dt.tzinfo) -> dt.datetime:
+    """UTC seconds (kept to the microsecond) as an aware datetime in `tz`."""
+    micro = int(round(float(utc_s) * 1e6))
+    whole, frac = divmod(micro, 1_000_000)
+    return (_EPOCH + dt.timedelta(seconds=whole, microseconds=frac)).astimezone(tz)
+
+
+_EPOCH = dt.datetime(1970, 1, 1, tzinfo=dt.UTC)
+
+
+def _from_frame(frame: Any) -> Samples:
+    import pandas as pd
+
+    index = frame.index
+    if not isinstance(index, pd.DatetimeIndex) or index.tz is None:
+        raise ValueError("frame must have a tz-aware DatetimeIndex")
+    if len(index) < 2 or not index.is_monotonic_increasing or not index.is_unique:
+        raise ValueError("frame index must hold two or more strictly increasing times")
+    missing = [c for c in (*COLUMNS, "utc_offset_s") if c not in frame.columns]
+    if missing:
+        raise ValueError(f"frame lacks columns {missing}")
+    samples = Samples(
+        np.array(_epoch_seconds(index), dtype=float),
+        frame["utc_offset_s"].to_numpy(dtype=np.int64).copy(),
+        {c: frame[c].to_numpy(dtype=float).copy() for c in COLUMNS},
+        index.tz,
+    )
+    object.__setattr__(samples, "_frame", frame)
+    return samples
 
 
 def assumptions(forecast: Forecast) -> tuple[str, ...]:
@@ -166,8 +290,12 @@ def assumptions(forecast: Forecast) -> tuple[str, ...]:
         and np.nanmax(forecast.values("cloud_cover_pct")) > 0.0
     ):
         notes.append(
-            "cloud height not given: cloud taken with its base at 2 km, an overcast about "
-            "4 K colder than low stratus (the cautious side)"
+            Note(
+                "cloud height not given: cloud taken with its base at {base}, an overcast "
+                "about {colder} colder than low stratus (the cautious side)",
+                base=("km", 2000.0),
+                colder=("delta", 4.0, 0),
+            )
         )
     if "dew_point_c" not in forecast.given:
         notes.append(
@@ -180,12 +308,18 @@ def assumptions(forecast: Forecast) -> tuple[str, ...]:
     return tuple(notes)
 
 
-def _epoch_seconds(index: pd.DatetimeIndex) -> NDArray[np.float64]:
+def _epoch_seconds(index: Any) -> NDArray[np.float64]:
+    """UTC seconds of a tz-aware pandas DatetimeIndex."""
+    import pandas as pd
+
     delta = index - pd.Timestamp(0, tz="UTC")
     return np.asarray(delta / pd.Timedelta(seconds=1), dtype=float)
 
 
-def _index(utc_s: NDArray[np.float64], tz: Any) -> pd.DatetimeIndex:
+def time_index(utc_s: NDArray[np.float64], tz: Any) -> Any:
+    """UTC seconds as a pandas DatetimeIndex ("time") in `tz`."""
+    import pandas as pd
+
     micro = np.round(np.asarray(utc_s) * 1e6).astype("int64")
     return pd.DatetimeIndex(pd.to_datetime(micro, unit="us", utc=True), name="time").tz_convert(tz)
 
@@ -200,12 +334,11 @@ def _zone(name: str, where: str) -> ZoneInfo:
 
 
 def _make(utc_s, offsets_s, values, given, *, tz, timezone, **meta) -> Forecast:
-    frame = pd.DataFrame(
-        {c: values.get(c, np.full(len(utc_s), np.nan)) for c in COLUMNS}, index=_index(utc_s, tz)
-    )
-    frame["utc_offset_s"] = np.asarray(offsets_s, dtype=np.int64)
     return Forecast(
-        frame=frame, given=tuple(c for c in COLUMNS if c in given), timezone=timezone, **meta
+        samples=_samples(utc_s, offsets_s, values, tz),
+        given=tuple(c for c in COLUMNS if c in given),
+        timezone=timezone,
+        **meta,
     )
 
 

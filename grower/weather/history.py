@@ -23,10 +23,9 @@ from __future__ import annotations
 import datetime as dt
 import os
 import sqlite3
-from dataclasses import replace
 from pathlib import Path
 
-import pandas as pd
+import numpy as np
 
 from grower.errors import InputError
 from grower.site import Site
@@ -129,8 +128,8 @@ def fetch_history(site: Site, start: dt.date, end: dt.date, *, timeout: float = 
     if not isinstance(document, dict):
         raise InputError(f"the weather history service at {base} sent JSON that is not an object")
     forecast = parse_openmeteo(document, site=site, url=base)
-    return replace(
-        forecast,
+    return forecast.with_samples(
+        forecast.samples,
         source=f"Open-Meteo history {span}",
         from_cache=bool(getattr(response, "from_cache", False)),
     )
@@ -159,8 +158,8 @@ def winter_windows(
 
 def season_of(forecast: Forecast, start: dt.date, end: dt.date) -> Forecast:
     """The part of `forecast` from local midnight of `start` to that of `end`."""
-    tz = forecast.frame.index.tz
-    a = pd.Timestamp(start).tz_localize(tz)
-    b = pd.Timestamp(end).tz_localize(tz)
-    frame = forecast.frame[(forecast.frame.index >= a) & (forecast.frame.index <= b)]
-    return replace(forecast, frame=frame)
+    tz, utc = forecast.tz, forecast.utc_s
+    a = dt.datetime.combine(start, dt.time(), tz).timestamp()
+    b = dt.datetime.combine(end, dt.time(), tz).timestamp()
+    first, stop = np.searchsorted(utc, a, side="left"), np.searchsorted(utc, b, side="right")
+    return forecast.between(int(first), int(stop))

@@ -20,7 +20,7 @@ import os
 import re
 import sqlite3
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
@@ -121,23 +121,53 @@ def fetch_openmeteo(
         One line: unreachable with nothing cached, HTTP 400 (with the service's reason)
         or another error status, an answer that is not JSON.
     """
-    import requests
-    import requests_cache
+    return get_cached_json(
+        forecast_url(),
+        "/v1/forecast",
+        site_query(site, days),
+        what="forecast",
+        timeout=timeout,
+        status=status,
+        expire_after_s=expire_after_s,
+        now=now,
+    )
 
+
+def site_query(site: Site, days: int, **more: str) -> dict[str, str]:
+    """The hourly query for the site (the variables the forecast needs, SI wind, local
+    times with their offset), `days` days from today, plus `more` parameters."""
     if not 1 <= days <= 16:
         raise ValueError("days must be within 1…16")
-    base = forecast_url()
-    path = cache_file()
-    params = {
+    return {
         "latitude": f"{site.latitude_deg:.4f}",
         "longitude": f"{site.longitude_deg:.4f}",
         "hourly": ",".join([*_OPEN_METEO_VARS, *_OPTIONAL_VARS]),
+        **more,
         "timezone": "auto",
         "forecast_days": str(days),
         "wind_speed_unit": "ms",
     }
+
+
+def get_cached_json(
+    base: str,
+    endpoint: str,
+    params: Mapping[str, str],
+    *,
+    what: str,
+    timeout: float = 10.0,
+    status: Callable[[str], None] | None = None,
+    expire_after_s: float = 3600.0,
+    now: dt.datetime | None = None,
+) -> Fetched:
+    """GET ``base + endpoint`` through the persistent cache: one JSON object with hourly
+    data, or one `InputError` line naming the `what` service ("forecast", "ensemble")."""
+    import requests
+    import requests_cache
+
+    path = cache_file()
     if status:
-        status(f"fetching the forecast from {base}")
+        status(f"fetching the {what} from {base}")
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         session = requests_cache.CachedSession(
@@ -154,21 +184,22 @@ def fetch_openmeteo(
         ) from None
     from grower import __version__
 
+    service = f"the {what} service at {base}"
     with session:
         try:
             response = session.get(
-                f"{base}/v1/forecast",
-                params=params,
+                f"{base}{endpoint}",
+                params=dict(params),
                 timeout=timeout,
                 headers={"User-Agent": f"grower/{__version__}"},
             )
         except requests.exceptions.Timeout:
             raise InputError(
-                f"cannot reach the forecast service at {base} (no answer within {timeout:g} s) and no cached forecast for this site"
+                f"cannot reach {service} (no answer within {timeout:g} s) and no cached {what} for this site"
             ) from None
         except requests.exceptions.RequestException as exc:
             raise InputError(
-                f"cannot reach the forecast service at {base} ({_reason(exc)}) and no cached forecast for this site"
+                f"cannot reach {service} ({_reason(exc)}) and no cached {what} for this site"
             ) from None
         except sqlite3.Error as exc:
             raise InputError(
@@ -179,19 +210,19 @@ def fetch_openmeteo(
             reason = response.json().get("reason") or "no reason given"
         except Exception:
             reason = "no reason given"
-        raise InputError(f"the forecast service at {base} refused the request: {reason}")
+        raise InputError(f"{service} refused the request: {reason}")
     if response.status_code != 200:
         raise InputError(
-            f"the forecast service at {base} answered HTTP {response.status_code} {response.reason or ''} and no cached forecast for this site"
+            f"{service} answered HTTP {response.status_code} {response.reason or ''} and no cached {what} for this site"
         )
     try:
         document = response.json()
     except (ValueError, RecursionError):
         raise InputError(
-            f"the forecast service at {base} sent an answer that is not JSON ({response.text[:40]!r})"
+            f"{service} sent an answer that is not JSON ({response.text[:40]!r})"
         ) from None
     if not isinstance(document, dict):
-        raise InputError(f"the forecast service at {base} sent JSON that is not an object")
+        raise InputError(f"{service} sent JSON that is not an object")
     created = getattr(response, "created_at", None) or dt.datetime.now(dt.UTC)
     created = created if created.tzinfo else created.replace(tzinfo=dt.UTC)
     now = now or dt.datetime.now(dt.UTC)
@@ -204,6 +235,19 @@ def fetch_openmeteo(
         stale=from_cache and bool(getattr(response, "is_expired", False)),
         age_s=max(0.0, (now - created).total_seconds()),
     )
+
+
+def check_answer(document: Any, where: str) -> None:
+    """Refuse an answer that is not a JSON object, or an error document (its reason)."""
+    if not isinstance(document, Mapping):
+        raise InputError(
+            f"the answer is a JSON {type(document).__name__}, not an object", where=where
+        )
+    if document.get("error"):
+        raise InputError(
+            f"the service reported an error: {document.get('reason') or 'no reason given'}",
+            where=where,
+        )
 
 
 def parse_openmeteo(
@@ -222,15 +266,7 @@ def parse_openmeteo(
         An error document, a missing or malformed field or variable.
     """
     where = f"forecast from {url}"
-    if not isinstance(document, Mapping):
-        raise InputError(
-            f"the answer is a JSON {type(document).__name__}, not an object", where=where
-        )
-    if document.get("error"):
-        raise InputError(
-            f"the service reported an error: {document.get('reason') or 'no reason given'}",
-            where=where,
-        )
+    check_answer(document, where)
     hourly, offset = document.get("hourly"), document.get("utc_offset_seconds")
     if not isinstance(hourly, Mapping) or not isinstance(hourly.get("time"), list):
         raise InputError("the answer has no hourly.time list", where=where)
@@ -417,13 +453,13 @@ def fetch_forecast(
     forecast = parse_openmeteo(got.document, site=site, url=got.url)
     warnings = forecast.warnings
     if got.stale:
-        when = got.retrieved_at.astimezone(forecast.frame.index.tz).isoformat(timespec="minutes")
+        when = got.retrieved_at.astimezone(forecast.tz).isoformat(timespec="minutes")
         warnings = (
             f"the forecast service at {got.url} could not be reached: using the forecast cached {_age_text(got.age_s)} ago (retrieved {when})",
             *warnings,
         )
-    return replace(
-        forecast,
+    return forecast.with_samples(
+        forecast.samples,
         retrieved_at=got.retrieved_at,
         from_cache=got.from_cache,
         age_s=got.age_s,

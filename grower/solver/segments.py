@@ -1,0 +1,194 @@
+"""Runs of collinear input: the free float of many members, one exact step per run.
+
+A forecast is linear between its samples, and a solver grid finer than the samples (a
+minute between hourly values) carries the same straight lines. Where every input of
+every member (boundary temperatures, gains, a prescribed heater) is collinear over a run
+of grid steps, one exact step over the whole run gives the state at its end, and the
+state anywhere inside is the same closed form at an offset ``s`` from the run's start:
+
+    z(s) = e^(lam s) z0 + s phi1(lam s) beta + s^2 phi2(lam s) gamma
+
+(the first-order hold of `stepping`, exact for linear input). So the modal state is
+needed only at the *knots*, the grid times where some input bends; the grid values are
+computed when they are asked for (`Segments.temps_c`), and `analyse` works on the runs
+themselves: each run's plant temperature is an exact ``a + b s + sum c_i exp(lam_i s)``
+(`explin`), screened by the bounds of `bounds` before any root search.
+
+A knot is a grid time where the slope of some input changes by more than `KNOT_RTOL`
+of the input's largest magnitude (per step of the longest step length): round-off of a
+straight line sampled on the grid is far below it, any real bend far above.
+
+References
+----------
+Van Loan (1978) and Franklin, Powell and Workman (1998), cited in full in `grower.solver`
+(the exact step and the first-order hold); the bounds are the remainder of linear
+interpolation, ``h^2/8 max|g''|``, of elementary analysis.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from .network import Network
+from .stepping import _phi123
+
+#: a change of slope (times the longest step) above this share of an input's largest
+#: magnitude makes a knot; a straight line sampled by np.interp bends by a few 1e-16
+KNOT_RTOL = 64.0 * float(np.finfo(float).eps)
+#: elements of the scratch arrays the knot search works in (a few MB: stays in cache)
+_CHUNK = 1 << 17
+
+
+def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
+    """(N-2,) largest change of slope of ``a`` (M, N, w) at each interior grid time, over
+    members and columns, times the longest step [unit of a]; and the largest |a|."""
+    ma, nt, w = a.shape
+    if nt < 3:
+        return np.zeros(0), float(np.abs(a).max(initial=0.0))
+    acc = np.zeros((nt - 2, w))
+    big = 0.0
+    uniform = bool(np.all(h == h[0]))
+    ih = None if uniform else (h.max() / h)[None, :, None]
+    rows = max(1, min(ma, _CHUNK // (nt * w)))
+    d = np.empty((rows, nt - 1, w))
+    dd = np.empty((rows, nt - 2, w))
+    for i in range(0, ma, rows):
+        c = a[i : i + rows]
+        big = max(big, float(c.max()), -float(c.min()))
+        k = c.shape[0]
+        dk, ddk = d[:k], dd[:k]
+        np.subtract(c[:, 1:], c[:, :-1], out=dk)
+        if ih is not None:
+            dk *= ih
+        np.subtract(dk[:, 1:], dk[:, :-1], out=ddk)
+        np.abs(ddk, out=ddk)
+        np.maximum(acc, ddk.max(axis=0), out=acc)  # over the outer axis: contiguous
+    return acc.max(axis=1), big
+
+
+def knots(h: np.ndarray, *series: np.ndarray) -> np.ndarray:
+    """Grid indices where some series (each (M, N, w)) bends, with the first and last."""
+    nt = h.size + 1
+    bent = np.zeros(max(nt - 2, 0), dtype=bool)
+    for a in series:
+        bend, scale = bends(a, h)
+        bent |= bend > KNOT_RTOL * scale
+    return np.concatenate([[0], np.flatnonzero(bent) + 1, [nt - 1]])
+
+
+def hold_coefficients(lam: np.ndarray, s: np.ndarray) -> tuple[np.ndarray, ...]:
+    """``e^(lam s)``, ``s phi1(lam s)``, ``s^2 phi2(lam s)`` for offsets s (K,): (K, r) each."""
+    sc = np.asarray(s, dtype=float)[:, None]
+    e, p1, p2, _ = _phi123(lam[None, :] * sc)
+    return e, sc * p1, sc * sc * p2
+
+
+def forcing_at(network: Network, boundary_c: np.ndarray, gains_w: np.ndarray, ks) -> np.ndarray:
+    """(r, Mu, K) modal forcing of the inputs at grid indices ``ks``."""
+    bm, m = network.modes.bm, network.n_boundaries
+    u, p = boundary_c[:, ks], gains_w[:, ks]
+    return np.tensordot(bm[:, :m], u, axes=([1], [2])) + np.tensordot(bm[:, m:], p, axes=([1], [2]))
+
+
+@dataclass(frozen=True, eq=False)
+class Segments:
+    """A free float stored at its knots: runs of collinear input between them.
+
+    Attributes
+    ----------
+    network : `Network`
+    times_s : (N,) grid [s]
+    knots : (K,) grid indices of the knots, the first and last included
+    z : (r, M, K) modal state at the knots
+    b : (r, Mu, K) modal forcing at the knots (Mu is 1 or M)
+    initial_c : (M, n) node temperatures at the first grid time [degC]
+    """
+
+    network: Network
+    times_s: np.ndarray
+    knots: np.ndarray
+    z: np.ndarray
+    b: np.ndarray
+    initial_c: np.ndarray
+
+    @property
+    def slope(self) -> np.ndarray:
+        """(r, Mu, K-1) modal forcing slope on each run [1/s per unit of b]."""
+        return np.diff(self.b, axis=2) / np.diff(self.times_s[self.knots])
+
+    def forcing_at(self, ks: np.ndarray) -> np.ndarray:
+        """(r, Mu, len(ks)) modal forcing at grid indices ``ks`` (linear inside each run)."""
+        ks = np.asarray(ks)
+        kn, t = self.knots, self.times_s
+        j = np.clip(np.searchsorted(kn, ks, side="right") - 1, 0, kn.size - 2)
+        return self.b[:, :, j] + self.slope[:, :, j] * (t[ks] - t[kn[j]])
+
+    @cached_property
+    def forcing(self) -> np.ndarray:
+        """(r, Mu, N) modal forcing at every grid time."""
+        return self.forcing_at(np.arange(self.times_s.size))
+
+    def modal_at(self, ks: np.ndarray) -> np.ndarray:
+        """(r, M, len(ks)) modal state at grid indices ``ks``, exact from each run's start."""
+        ks = np.asarray(ks)
+        kn, t = self.knots, self.times_s
+        j = np.clip(np.searchsorted(kn, ks, side="right") - 1, 0, kn.size - 2)
+        e, f1, f2 = hold_coefficients(self.network.modes.lam, t[ks] - t[kn[j]])
+        out = e.T[:, None, :] * self.z[:, :, j]
+        out += f1.T[:, None, :] * self.b[:, :, j]
+        out += f2.T[:, None, :] * self.slope[:, :, j]
+        return out
+
+    @cached_property
+    def modal(self) -> np.ndarray:
+        """(r, M, N) modal state at every grid time."""
+        return self.modal_at(np.arange(self.times_s.size))
+
+    @cached_property
+    def temps_c(self) -> np.ndarray:
+        """(M, N, n) node temperatures at every grid time [degC]."""
+        temps = np.tensordot(self.network.modes.v, self.modal, axes=([1], [0]))  # (n, M, N)
+        temps[:, :, 0] = self.initial_c.T
+        return np.moveaxis(temps, 0, -1)
+
+
+def step_runs(network: Network, times_s: np.ndarray, kn: np.ndarray, b: np.ndarray, z0):
+    """(r, M, K) modal state at the knots ``kn``: one exact step per run of collinear input
+    (forcing ``b`` (r, Mu, K) at the knots; ``z0`` (r, M) at the first)."""
+    lam = network.modes.lam
+    length = np.diff(times_s[kn])
+    e, f1, f2 = hold_coefficients(lam, length)
+    r, mm = z0.shape
+    z = np.empty((r, mm, kn.size))
+    z[:, :, 0] = z0
+    slope = np.diff(b, axis=2) / length
+    for j in range(kn.size - 1):
+        zj = z[:, :, j] * e[j][:, None]
+        zj += f1[j][:, None] * b[:, :, j]
+        zj += f2[j][:, None] * slope[:, :, j]
+        z[:, :, j + 1] = zj
+    return z
+
+
+def bounds(
+    lam: np.ndarray, z: np.ndarray, b: np.ndarray, c: np.ndarray, g0: np.ndarray, e1, w
+) -> tuple[np.ndarray, np.ndarray]:
+    """Lower and upper bounds on ``[0, w]`` of ``g(s) = g0 + e1 s + sum_i (z_i(s) - z_i(0))``,
+    each mode ``z_i' = lam_i z_i + b_i + c_i s`` from ``z_i(0) = z_i`` (items (K, r)).
+
+    Each mode is ``A + B s + C exp(lam s)`` with ``B = -c/lam``, ``A = (B - b)/lam`` and
+    ``C = z - A``: a straight line plus a monotone exponential, so its range on the run
+    lies between the values at the ends of each part.
+    """
+    bb = -c / lam
+    aa = (bb - b) / lam
+    cc = z - aa
+    ew = np.exp(lam * w[:, None])
+    lin0 = g0 + (aa - z).sum(axis=1)  # g(0) = g0: the constant part of g - exponentials
+    lin1 = lin0 + (e1 + bb.sum(axis=1)) * w
+    lo = np.minimum(lin0, lin1) + np.minimum(cc, cc * ew).sum(axis=1)
+    hi = np.maximum(lin0, lin1) + np.maximum(cc, cc * ew).sum(axis=1)
+    return lo, hi
