@@ -33,7 +33,9 @@ A member that never reaches the alarm with no heat never switches the thermostat
 (the setpoint is the alarm plus the leaf offset, i.e. the air at which the plants reach
 the alarm), so its heated night is its free night: the heated run is made only for the
 members that reach the alarm. Of drawn members on one K level, those the heater cannot
-hold are the coldest ones (`_first_held`), so a few runs find them.
+hold are the coldest ones (`_first_held`), so a few runs find them; the search starts
+where the failures ended on the level of next lower K (usually within a member or two),
+so most levels take one thermostat run of one to three members.
 
 References
 ----------
