@@ -29,5 +29,7 @@ def median(values) -> float:
     a = np.asarray(values, dtype=float).ravel()
     n = a.size
     lo, hi = (n - 1) // 2, n // 2
+    if lo == hi:  # an odd count: the middle value itself
+        return float(np.partition(a, lo)[lo])
     part = np.partition(a, [lo, hi])
     return float(np.mean(part[[lo, hi]]))

@@ -40,5 +40,6 @@ def test_median_is_numpys_to_the_bit(a):
 
 
 def test_median_of_integers_and_lists():
+    assert arrays.median([8.98846567431158e307]) == 8.98846567431158e307  # no x + x overflow
     assert arrays.median([3, 1, 2]) == 2.0
     assert arrays.median([4, 1, 2, 3]) == 2.5
