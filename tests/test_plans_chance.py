@@ -15,9 +15,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from grower import house, weather
+from grower import house, solver, weather
 from grower.cli import main
-from grower.plans import chance, tonight
+from grower.plans import chance, runs, tonight
 from grower.plans import model as hm
 from grower.report.quantities import chance_text
 
@@ -458,3 +458,48 @@ def test_the_search_finds_the_end_of_the_failures_from_any_guess(data, n):
 
     assert chance._first_held(n, fails, guess=guess) == held
     assert len(probed) == len(set(probed)) and all(0 <= p < n for p in probed)
+
+
+@pytest.mark.parametrize("threshold", [-0.1, 1.0, 3.0])
+@pytest.mark.parametrize("heater_w", [0.0, 12e3, 23e3, 40e3])
+def test_members_held_without_an_analysis_are_held(threshold, heater_w):
+    # `_held_unsaturated` spares the analysis of members whose heater never ran at full
+    # output (their plants cannot fall further below the alarm than the leaf offset rises
+    # within a step): the exact analysis of the same run must find each of them held, and
+    # by more than the half tolerance the argument leaves; members at full output are left
+    # to the analysis
+    ctx = _heater_context()
+    mdl, b = chance._scaled(ctx["mdl"], 1.1), ctx["b"]
+    base = b.solver_boundary(mdl)
+    shifts = np.linspace(-7.0, 3.0, 21)
+    bc = np.repeat(base[None], shifts.size, axis=0)
+    bc[:, :, :2] += shifts[:, None, None]
+    off = b.plant_offset_k
+    tr = runs.thermostat(
+        mdl, b.times_s, bc, np.array([6.0, 8.0]), threshold + off, heater_w, b.solver_gains(mdl)
+    )
+    sure = chance._held_unsaturated(tr, off)
+    low = solver.analyse(tr, threshold, off).min_c
+    assert np.all(low[sure] >= threshold - chance.HOLD_TOLERANCE_K / 2)
+    if heater_w == 0.0:
+        assert not sure.any()  # no output: every member that reaches the alarm saturates
+    elif heater_w == 40e3 and threshold < 3.0:
+        assert sure.any()  # a real test: some members are spared the analysis
+
+
+def test_a_rising_leaf_offset_leaves_members_to_the_analysis():
+    # a clearing sky raises the leaf offset within a step: held air need not mean held
+    # plants, so no member is called held without the analysis
+    ctx = _heater_context()
+    mdl, b = ctx["mdl"], ctx["b"]
+    risen = np.asarray(b.plant_offset_k, float).copy()
+    risen[40:] += chance.HOLD_TOLERANCE_K  # one step rises by the whole tolerance
+
+    def run(off):
+        bc, gains = b.solver_boundary(mdl)[None], b.solver_gains(mdl)
+        return runs.thermostat(mdl, b.times_s, bc, np.array([6.0, 8.0]), -0.1 + off, 60e3, gains)
+
+    held = run(b.plant_offset_k)  # never at full output
+    assert chance._held_unsaturated(held, b.plant_offset_k).all()
+    assert not chance._held_unsaturated(held, risen).any()  # the same run, the offset risen
+    assert not chance._held_unsaturated(run(risen), risen).any()

@@ -267,7 +267,36 @@ class _Heated:
             self.heater_w,
             g,
         )
+        if _held_unsaturated(tr, off).all():  # no analysis needed: all held
+            return np.zeros(len(which), dtype=bool)
         return solver.analyse(tr, self.threshold_c, off).min_c < self.threshold_c - HOLD_TOLERANCE_K
+
+
+def _held_unsaturated(tr: solver.Trajectory, offset_k: np.ndarray) -> np.ndarray:
+    """Members of a thermostat run at the alarm that are held for certain, without
+    analysing them: those whose heater (of some output) never ran at full output, on a
+    night whose leaf offset never rises by more than half the holding tolerance within a
+    step.
+
+    Below full output the air is at or above the setpoint, alarm + offset at each step's
+    start, throughout that step (the thermostat floats above it or holds it, switching
+    at the exact instant the air reaches it); the offset is linear within the step, so
+    the plants (air - offset) stay above the alarm less the offset's rise over the step.
+    A rise under HOLD_TOLERANCE_K / 2 leaves a margin far above round-off, so
+    `solver.analyse` would find these members held too: the answer is the same.
+    """
+    off = np.atleast_2d(offset_k)
+    rise = np.max(np.diff(off, axis=1), axis=1, initial=0.0)  # per member or one for all
+    full = (tr.mode == solver.FULL).any(axis=1)
+    sw = tr.switches
+    full[sw.member[sw.mode == solver.FULL]] = True
+    # a heater of no output floats below the setpoint (no FULL mode): never spared; and
+    # the air at every grid time at or above the setpoint, as the argument has it
+    setpoint = np.broadcast_to(tr.control.setpoint_c, tr.heat_w.shape)[:, :-1]
+    air = tr.temps_c[:, :, 0]
+    above = np.all((air[:, :-1] >= setpoint - 1e-6) & (air[:, 1:] >= setpoint - 1e-6), axis=1)
+    powered = np.broadcast_to(tr.control.q_max_w > 0, full.shape)
+    return ~full & powered & above & (rise < HOLD_TOLERANCE_K / 2)
 
 
 def _first_held(n: int, fails, guess: int = 0) -> int:
