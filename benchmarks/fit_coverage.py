@@ -11,11 +11,14 @@ noise on the inside sensor) from a randomly drawn house:
 - ``sky share``: the geometry's one-node house (random width, length, cover, air
   changes) with its conduction × 0.7–1.4, its sky part × a further 0.5–2 (log-uniform:
   physics the geometry does not assume) and its capacity × 0.6–1.5;
+- ``cloudy``: as ``sky share``, with a cloud the record does not log taking 0–80 % of
+  the clear sky's depression away, a different share each night;
 - ``two-node``: the geometry's two-node house with its conduction × 0.8–1.3, the sky
   part × 0.5–2 more, the air–floor coupling × 0.8–1.3 more, every capacity × 0.7–1.3.
 
-Half the records log the heater's power (steps of 15 kW or about twice the house's K in
-W per K), half its on/off state with the rating in the house file. The one-node records
+Half the records log the heater's power (steps of 15 kW or about three times the house's
+K to the outside air in W per K), half its on/off state with the rating in the house
+file; the records run three, four or five nights (the night-block interval needs four). The one-node records
 are fitted with ``model="lumped"``, the two-node ones with the default ``"auto"`` (which
 also fits the lumped model and picks by AIC). For each fitted record the script counts
 whether the stated 95 % interval of K to the outside air and of C holds the truth;
@@ -42,18 +45,22 @@ from pathlib import Path  # noqa: E402
 
 import numpy as np  # noqa: E402
 
-KINDS = ("plain", "sky share", "two-node")
+KINDS = ("plain", "sky share", "cloudy", "two-node")
 COVERS = ("single-poly", "double-poly", "ir-double-poly")
 
 
-def one_record(job: tuple[int, str, str]) -> dict:
+def one_record(job: tuple[int, str, str, int, bool]) -> dict:
     """Make one record, fit it, and say whether the intervals cover the truth."""
+    import importlib
+
     from grower import house
     from grower.errors import InputError
     from grower.fit import fit_house, synthetic
     from grower.logger import read_logger_csv
 
-    seed, kind, heater = job
+    seed, kind, heater, nights, night_blocks = job
+    if not night_blocks:  # the AR(1) widening alone, for comparison
+        importlib.import_module("grower.fit.estimate").MIN_BLOCKS = 10**6
     rng = np.random.default_rng(seed)
     noise = float(rng.uniform(0.05, 0.2))
     geo = dict(
@@ -73,8 +80,12 @@ def one_record(job: tuple[int, str, str]) -> dict:
                 heater=heater,
                 noise_k=noise,
                 seed=seed,
+                nights=nights,
             )
-        elif kind == "sky share":
+        elif kind in ("sky share", "cloudy"):
+            cloud = None
+            if kind == "cloudy":
+                cloud = tuple(float(x) for x in rng.uniform(0.0, 0.8, nights))
             rec = synthetic.sky_share_house(
                 folder,
                 share,
@@ -83,6 +94,8 @@ def one_record(job: tuple[int, str, str]) -> dict:
                 heater=heater,
                 noise_k=noise,
                 seed=seed,
+                nights=nights,
+                cloud=cloud,
                 **geo,
             )
         else:
@@ -95,16 +108,20 @@ def one_record(job: tuple[int, str, str]) -> dict:
                 heater=heater,
                 noise_k=noise,
                 seed=seed,
+                nights=nights,
                 **geo,
             )
         h = house.read(rec.house_path)
         log = read_logger_csv(rec.log_path, timezone=h.site.timezone)
-        out = {"seed": seed, "kind": kind, "heater": heater, "sky_share": share}
+        out = {"seed": seed, "kind": kind, "heater": heater, "nights": nights, "sky_share": share}
         try:
             r = fit_house(h, log, model="auto" if kind == "two-node" else "lumped")
         except InputError as exc:
             return {**out, "refused": str(exc)}
+    f = r.chosen
+    sky = "night" if f.sky_by_segment else "one" if "ks" in f.free_names else "held"
     out.update(refused=None, model=r.model, quality=r.quality, rms_to_noise=r.noise_ratio)
+    out.update(sky=sky, ground_apart="kg" in f.free_names, variants=f.variants_spanned)
     for name in ("k_outside_w_per_k", "c_j_per_k"):
         p, truth = r.chosen.get(name), rec.truth[name]
         out[name] = {
@@ -133,6 +150,8 @@ def summarise(results: list[dict]) -> dict:
         groups[kind] = [r for r in results if r["kind"] == kind]
     for heater in ("power", "state"):
         groups[f"heater {heater}"] = [r for r in results if r["heater"] == heater]
+    for nights in (3, 4, 5):
+        groups[f"{nights} nights"] = [r for r in results if r["nights"] == nights]
     out = {}
     for name, rs in groups.items():
         fitted = [r for r in rs if r["refused"] is None]
@@ -155,25 +174,38 @@ def summarise(results: list[dict]) -> dict:
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--records", type=int, default=120, help="records in all (default 120)")
+    ap.add_argument("--records", type=int, default=96, help="records in all (default 96)")
     ap.add_argument("--jobs", type=int, default=2, help="worker processes (default 2)")
     ap.add_argument("--seed", type=int, default=20261120, help="first seed")
     ap.add_argument("--json", action="store_true", help="one JSON document on stdout")
+    ap.add_argument(
+        "--ar1-only",
+        action="store_true",
+        help="leave out the night-block interval (the AR(1)-widened one alone)",
+    )
     args = ap.parse_args()
     jobs = []
     for i in range(args.records):
-        kind = ("sky share", "sky share", "plain", "two-node")[i % 4]
-        jobs.append((args.seed + i, kind, ("power", "state")[(i // 4) % 2]))
+        kind = KINDS[i % 4]
+        heater = ("power", "state")[(i // 4) % 2]
+        nights = 3 + (i // 8) % 3
+        jobs.append((args.seed + i, kind, heater, nights, not args.ar1_only))
     t0 = time.perf_counter()
     with ProcessPoolExecutor(max_workers=args.jobs) as pool:
         results = list(pool.map(one_record, jobs))
     elapsed = time.perf_counter() - t0
     summary = summarise(results)
     if args.json:
-        doc = {"seconds": elapsed, "summary": summary, "records": results}
+        doc = {
+            "seconds": elapsed,
+            "night_blocks": not args.ar1_only,
+            "summary": summary,
+            "records": results,
+        }
         print(json.dumps(doc, indent=2))
         return
-    print(f"{args.records} synthetic records, {elapsed:.0f} s on {args.jobs} worker(s)")
+    how = "AR(1) intervals alone" if args.ar1_only else "the wider of AR(1) and night blocks"
+    print(f"{args.records} synthetic records, {elapsed:.0f} s on {args.jobs} worker(s); {how}")
     print(
         f"{'':16} {'fitted':>6} {'refused':>7} {'rough':>5}  "
         f"{'K_out covered':>22}  {'C covered':>22}  {'|err| K_out, C':>14}"

@@ -1,33 +1,53 @@
-"""Least squares on the exact stepped model: scale factors on the geometry's network.
+"""Least squares on the exact stepped model: factors on the geometry's network.
 
-The fitted network is the geometry's (`grower.plans.model.build`) with every conductance
-times ``k``, every heat capacity times ``c`` and, in the two-node model, the air–mass
-coupling times a further ``g`` — the same scaling `build` applies to a stored
-calibration. The residuals are the solver's air temperature (`grower.solver.free_float`,
-exact for the piecewise-linear boundary) less the logged one at every row. Each segment
-starts from its own state: the air's starting temperature is fitted, from the first
-logged value (one reading carries the logger's noise, and held fixed that error would
-run through the whole night, biasing C/K and making the intervals too narrow); in the
-two-node model the mass node's starting temperature is fitted too.
+The fitted network is the geometry's (`grower.plans.model.build`) with
 
-What temperatures alone can tell: without a known heat input, ``k``, ``c`` and the
-heater output Q scale together (``C dT/dt = K (T_eff − T) + Q`` is unchanged when all
-three are multiplied by one number), so a record fixes the time constant C/K and the
-heater's lift Q/K, not K itself. One absolute heat flow sets the scale (the *anchor*):
+- the *conduction* times ``k``: the outside-air column, the air–mass coupling and (unless
+  fitted apart, below) the deep-ground column;
+- the *sky part* (the sky column: the cover faces' and the floor's excess radiation on a
+  clear night) times its own ``ks`` ≥ 0 — one factor for the record, or one per segment
+  (``ks0``, ``ks1``…) where the cloud is not logged: an unlogged cloud warms the sky
+  night by night, and that is a nuisance to fit, not a clear sky to assume;
+- in the lumped model with a heater anchor, optionally the deep-ground column times its
+  own ``kg`` ≥ 0 (a house whose floor loses less, or more, than the geometry says; the
+  plain first-order house of issue #11 has no ground path at all);
+- every heat capacity times ``c``; in the two-node model the coupling times a further
+  ``g``; a heater output ``q`` (on/off records) and a sun factor ``s`` (``--with-days``).
 
-- ``"measured power"``: the record logs the heater's power: K, C are both fitted;
+The residuals are the solver's air temperature (`grower.solver.free_float`, exact for the
+piecewise-linear boundary) less the logged one at every row. Each segment starts from
+its own state: the air's starting temperature is fitted (one reading carries the
+logger's noise), and in the two-node model the mass node's too.
+
+What temperatures alone can tell: without a known heat input, ``k``, ``ks``, ``c`` and
+the heater output scale together (``C dT/dt = K (T_eff − T) + Q`` is unchanged when all
+are multiplied by one number), so a record fixes the time constant, the sky's share and
+the heater's lift Q/K, not K itself. One absolute heat flow sets the scale (the anchor):
+
+- ``"measured power"``: the record logs the heater's power: K and C are both fitted;
 - ``"heater rating"``: the record logs the heater's on/off state and the house file
   gives its output: Q is that output, K and C are fitted;
-- ``"geometry"``: K stays the geometry's; C (and Q, from its on/off state) are fitted.
+- ``"geometry"``: the conduction stays the geometry's; the sky part, C (and Q, from its
+  on/off state) are fitted.
 
-Confidence intervals are the linearised ones: covariance ``s² (JᵀJ)⁻¹`` with J the
-Jacobian at the optimum (central differences) and ``s²`` the residual variance, 95 %
-with Student's t on n − p degrees of freedom; derived values by the delta method. For
-errors that are not independent, the residuals' lag-1 autocorrelation ρ (within each
-segment, `grower.fit.sensor.lag1_autocorrelation`) widens them as for AR(1) errors: the
-covariance times (1 + ρ)/(1 − ρ) and n replaced by the effective sample size
-n (1 − ρ)/(1 + ρ) (ρ < 0 is taken as 0). That is an approximation: a model error in long
-waves still leaves them somewhat narrow, which the report's quality verdict flags.
+Which variant: `estimate` fits the sky held at the geometry's share (``ks`` = ``k``, the
+old single factor), one sky factor, one per night, and (lumped, heater anchor) each with
+the ground apart. The base is one sky factor where it is identified (the geometry's share
+only where it is not); a richer variant replaces it only when its AIC is lower by more
+than `AIC_MARGIN`; and the intervals are widened to span the simpler variants the record
+cannot rule out (within `AIC_MARGIN`), so an assumption the record cannot test does not
+hide in a narrow interval.
+
+Confidence intervals: the linearised ones, covariance ``s² (JᵀJ)⁻¹`` with J the Jacobian
+at the optimum (central differences) and ``s²`` the residual variance, widened for the
+residuals' lag-1 autocorrelation ρ (within each segment,
+`grower.fit.sensor.lag1_autocorrelation`) as for AR(1) errors: the covariance times
+(1 + ρ)/(1 − ρ) and Student's t on the effective sample size n (1 − ρ)/(1 + ρ) (ρ < 0
+taken as 0). Beside it, with four or more nights, the night-block interval: the
+cluster-robust (sandwich) covariance with whole segments as clusters
+(`cluster_covariance`, CR1, Student's t on G − 1 degrees of freedom), which allows any
+correlation of the errors within a night. Each reported value keeps the wider of the
+two. Derived values by the delta method.
 
 References
 ----------
@@ -38,11 +58,19 @@ gradient method for large-scale bound-constrained minimization problems", SIAM J
 Comput. 21(1):1-23, doi:10.1137/S1064827595289108 (scipy's "trf" method).
 G. E. P. Box, G. M. Jenkins and G. C. Reinsel (2008), *Time Series Analysis*, 4th ed.,
 Wiley, §2.1.5 (variance of the mean of an AR(1) series, the (1 + ρ)/(1 − ρ) factor).
+A. C. Cameron and D. L. Miller (2015), "A practitioner's guide to cluster-robust
+inference", J. Human Resources 50(2):317-372, doi:10.3368/jhr.50.2.317 (the sandwich
+with clusters, the CR1 factor G/(G − 1)·(n − 1)/(n − p), and Student's t on G − 1 for
+few clusters; the section numbers from memory).
 H. Akaike (1974), "A new look at the statistical model identification", IEEE Trans.
 Automatic Control 19(6):716-723, doi:10.1109/TAC.1974.1100705.
+K. P. Burnham and D. R. Anderson (2002), *Model Selection and Multimodel Inference*,
+2nd ed., Springer (AIC differences over 10: essentially no support; from memory).
 """
 
 from __future__ import annotations
+
+from dataclasses import replace
 
 import numpy as np
 from scipy import optimize, special
@@ -67,12 +95,14 @@ MAX_RMS_K = 1.5
 CONFIDENCE = 0.95
 #: a variant with more parameters (its own sky or ground factor, a sky factor per night)
 #: replaces a simpler one only when its AIC is lower by more than this: a difference over
-#: 10 leaves "essentially no support" for the worse model (Burnham & Anderson 2002, §2.6;
+#: 10 leaves "essentially no support" for the worse model (Burnham & Anderson 2002;
 #: from memory)
 AIC_MARGIN = 10.0
-#: fewest nights (segments) for the night-block interval: with two, Student's t has one
-#: degree of freedom and the sandwich one score direction (common practice, no source)
-MIN_BLOCKS = 3
+#: fewest nights (segments) for the night-block interval: with three, Student's t on two
+#: degrees of freedom is 2.2 times the normal quantile and the sandwich's own estimate
+#: rests on two score directions, so it would widen a sound fit's interval by half again
+#: on average (measured: benchmarks/fit_coverage.py) (common practice, no source)
+MIN_BLOCKS = 4
 #: the residuals' lag-1 autocorrelation used to widen the intervals is capped here (an
 #: inflation of 39): beyond it the record is one long wave and the fit is refused anyway
 MAX_LAG1 = 0.95
@@ -329,6 +359,7 @@ def _physical(name: str) -> str:
     return {
         "c": "c_j_per_k",
         "k": "k_outside_w_per_k",
+        "kg": "deep_ground",
         "g": "coupling_w_per_k",
         "q": "heater_output_w",
         "s": "sun_factor",
@@ -403,17 +434,68 @@ def estimate(
     fits = []
     for free_ground in grounds:
         for mode in skies:
-            fits.append(_estimate(data, kind, anchor, fit_coupling, mode, free_ground))
-            if "k" not in fits[-1].free_names and mode == "held" and fits[-1].refusal:
+            f = _estimate(data, kind, anchor, fit_coupling, mode, free_ground)
+            if f.refusal is not None and kind == "two-node" and fit_coupling:
+                # too thin for the coupling: hold it at the geometry's (× the conduction)
+                held = _estimate(data, kind, anchor, False, mode, free_ground)
+                f = held if held.refusal is None else f
+            fits.append(f)
+            if "k" not in f.free_names and mode == "held" and f.refusal:
                 break  # the held fit is the simplest: if it says nothing, neither do the rest
     good = sorted((f for f in fits if f.refusal is None), key=lambda f: f.n_free)
     if not good:
         return fits[0]
-    best = good[0]
-    for f in good[1:]:  # a richer variant must earn its parameters
+    # the sky apart from the conduction is the base where the record identifies it; the
+    # geometry's share (held) only where it does not
+    free = [f for f in good if not _sky_held(f)]
+    best = (free or good)[0]
+    for f in free[1:]:  # a richer variant must earn its parameters
         if f.aic < best.aic - AIC_MARGIN:
             best = f
-    return best
+    near = [f for f in good if f.n_free <= best.n_free and f.aic <= best.aic + AIC_MARGIN]
+    # a sky part for each night that follows the record clearly better but cannot pin K
+    # down shows what the chosen fit misses (a cloud not logged): its narrow interval
+    # would not be honest
+    for f in fits:
+        if (
+            f.refusal is not None
+            and f.sky_by_segment is not None
+            and f.n_free > best.n_free
+            and f.aic < best.aic - AIC_MARGIN
+        ):
+            return replace(
+                best,
+                refusal=(
+                    "the nights differ more than one sky part allows (a cloud not logged?), "
+                    f"and with one for each night {f.refusal}; or give the cloud cover "
+                    "(cloud_cover_pct in an --outside file)"
+                ),
+            )
+    return _spanning(best, near) if len(near) > 1 else best
+
+
+def _sky_held(fit: ModelFit) -> bool:
+    return not any(n.startswith("ks") for n in fit.free_names)
+
+
+def _spanning(best: ModelFit, near: list[ModelFit]) -> ModelFit:
+    """`best` with each interval widened to span those of the simpler variants the record
+    cannot rule out (within `AIC_MARGIN`; the geometry's sky share, the ground with the
+    conduction): where the record cannot tell two answers apart, the interval holds both."""
+    params = []
+    for p in best.parameters:
+        if p.status == "anchor":
+            params.append(p)
+            continue
+        lows, highs = [p.low], [p.high]
+        for f in near:
+            q = f.get(p.name)
+            if q is not None and q.status != "anchor":
+                lows.append(q.low)
+                highs.append(q.high)
+        half = max(p.value - min(lows), max(highs) - p.value)
+        params.append(replace(p, half_width=float(half)))
+    return replace(best, parameters=tuple(params), variants_spanned=len(near))
 
 
 def _estimate(

@@ -34,9 +34,9 @@ ANCHOR_NOTES = {
         "and fits the heater's output instead)"
     ),
     "geometry": (
-        "temperatures alone fix the time constant C/K, not K: K is kept at the geometry's "
-        "value and C fitted (log the heater's power, or its on/off state with a rated "
-        "heater in the house file, to fit K)"
+        "temperatures alone fix the time constant C/K, not K: the conduction to the outside "
+        "air is kept at the geometry's value, the sky part and C fitted (log the heater's "
+        "power, or its on/off state with a rated heater in the house file, to fit K)"
     ),
 }
 
@@ -152,11 +152,7 @@ def fit_house(
     lumped = estimate(data, "lumped", anchor_used) if model in ("auto", "lumped") else None
     two = None
     if model != "lumped":
-        two = estimate(data, "two-node", anchor_used)
-        if two.refusal is not None:  # too thin for the coupling: hold it at the geometry's
-            held = estimate(data, "two-node", anchor_used, fit_coupling=False)
-            if held.refusal is None:
-                two = held
+        two = estimate(data, "two-node", anchor_used)  # the coupling held where too thin
     where = record.path
     if model == "lumped":
         chosen, other, choice = lumped, None, "the lumped model (--model lumped)"
@@ -183,8 +179,6 @@ def fit_house(
         choice = f"the lumped model (two-node not identified: {two.refusal})"
     if chosen.model == "two-node" and "g" not in chosen.free_names:
         choice += "; the air–floor coupling is held at the geometry's (too little data to fit it)"
-    if chosen.refusal is not None:
-        raise InputError(f"cannot fit this record: {chosen.refusal}", where=where)
     noise = sensor.noise_from_scatter([(s.inside_c, _heater_at_rows(s)) for s in data.segments])
     quality = sensor.quality(chosen.rms_k, noise, MAX_RMS_K)
     if quality == "refused":
@@ -195,6 +189,8 @@ def fit_house(
             + (" (or let the two-node model try: --model auto)" if model == "lumped" else ""),
             where=where,
         )
+    if chosen.refusal is not None:  # (a miss of many times the noise is said first)
+        raise InputError(f"cannot fit this record: {chosen.refusal}", where=where)
 
     notes = data.notes + sky_notes(chosen, data.cloud_given)
     rows = data.rows

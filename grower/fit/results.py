@@ -17,12 +17,14 @@ ADVICE = {
     "heater_output_w": "log the heater's on/off state on nights when it cycles on and off (running part of the time, not all night)",
     "coupling_w_per_k": "the record cannot tell the floor's share from the air's: log several nights, some with heat, or fit --model lumped",
     "sun_factor": "log sunny days with the sun (W/m²), or fit nights only (leave out --with-days)",
+    "deep_ground": "log nights over a wider range of outside temperatures, with the heater's power",
     "mass": "log from before sunset, so each night starts on the record, or fit --model lumped",
 }
 LABELS = {
     "k_w_per_k": "conductance K",
     "k_outside_w_per_k": "conductance to the outside air",
     "k_sky_w_per_k": "conductance to the sky",
+    "deep_ground": "the path to the deep ground",
     "c_j_per_k": "heat capacity C",
     "time_constant_h": "time constant C/K",
     "coupling_w_per_k": "air–floor coupling",
@@ -98,7 +100,28 @@ class SegmentFit:
 
 @dataclass(frozen=True, eq=False)
 class ModelFit:
-    """One model fitted to the record (or the reason it cannot be used: `refusal`)."""
+    """One model fitted to the record (or the reason it cannot be used: `refusal`).
+
+    `parameters`, by name [SI units; `Parameter.geometry` is the geometry's value at the
+    record's conditions]:
+
+    - ``k_w_per_k``: the conductance to T_eff, derived: to the outside air + to the sky
+      (+ in the lumped model, to the deep ground) [W/K];
+    - ``k_outside_w_per_k``: from the air to the outside air (the conduction factor ×
+      the geometry's) [W/K];
+    - ``k_sky_w_per_k``: the sky part (the cover faces' and the floor's excess radiation
+      to a clear sky) [W/K]; with one sky factor per night (no cloud logged) it is the
+      record's typical value: the nights' factors averaged with their rows as weights,
+      times the geometry's (`sky_by_segment` holds each night's factor);
+    - ``c_j_per_k`` [J/K], ``time_constant_h`` [h]; where fitted ``coupling_w_per_k``
+      [W/K] (two-node), ``heater_output_w`` [W] (on/off records), ``sun_factor``.
+
+    `scales`: ``k_scale`` (the conduction factor: outside air, air–mass coupling and,
+    unless fitted apart, the deep ground), ``sky_scale`` (the sky factor, the
+    row-weighted mean where fitted night by night; equal to ``k_scale`` where the sky is
+    held at the geometry's share), ``c_scale`` and, two-node, ``coupling_scale`` (on top
+    of ``k_scale``).
+    """
 
     model: str
     anchor: str
@@ -119,6 +142,8 @@ class ModelFit:
     sky_by_segment: tuple[float, ...] | None = None
     #: the reported values whose night-block (cluster-robust) interval was the wider one
     widened_by_nights: tuple[str, ...] = ()
+    #: how many fitted variants (sky held, one, by night; ground apart) the intervals span
+    variants_spanned: int = 1
 
     def get(self, name: str) -> Parameter | None:
         return next((p for p in self.parameters if p.name == name), None)

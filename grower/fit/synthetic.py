@@ -99,6 +99,9 @@ class TrueHouse:
     mass_sky_w_per_k: float = 0.0
     mass_ground_w_per_k: float = 0.0
     deep_ground_c: float = 6.0
+    #: share of the clear sky's depression below the outside air that is kept (1: clear;
+    #: a cloud the record does not log makes it smaller)
+    clear_share: float = 1.0
 
     @property
     def two_node(self) -> bool:
@@ -110,7 +113,7 @@ class TrueHouse:
 
     def rhs(self, y: np.ndarray, t_out_c: float, q_w: float) -> np.ndarray:
         """dT/dt [K/s] of the air (and mass) at the outside temperature and heat."""
-        t_sky = swinbank_sky_c(t_out_c)
+        t_sky = t_out_c - self.clear_share * (t_out_c - swinbank_sky_c(t_out_c))
         ta = y[0]
         loss = (
             self.k_outside_w_per_k * (t_out_c - ta)
@@ -204,11 +207,13 @@ def write_record(
     step_w: float = 15000.0,
     heater: str = "power",
     seed: int = 0,
+    cloud: tuple[float, ...] | None = None,
 ) -> None:
     """Simulate `nights` nights (18:00–06:00 local time, `ROW_MINUTES` rows) and write them.
 
     `heater` "power" logs the power [W]; "state" logs on/off, the heater then giving
-    `step_w` when on (on later nights, runs of 60–120 minutes on and off).
+    `step_w` when on (on later nights, runs of 60–120 minutes on and off). `cloud`: per
+    night, the share of the clear sky's depression a cloud takes away (not logged).
     """
     import pandas as pd
 
@@ -229,7 +234,8 @@ def write_record(
         x0 = [air0]
         if house.two_node:
             x0.append(_steady_mass(house, air0, t_out[0]) + rng.uniform(1.0, 4.0))
-        air = integrate(house, hours * 3600.0, t_out, q, np.array(x0))
+        night_house = house if cloud is None else replace(house, clear_share=1.0 - cloud[n])
+        air = integrate(night_house, hours * 3600.0, t_out, q, np.array(x0))
         inside = air + rng.normal(0.0, noise_k, air.size)
         for j, when in enumerate(index):
             cell = f"{q[j]:.1f}" if heater == "power" else ("on" if q[j] > 0 else "off")
@@ -325,6 +331,7 @@ def _write(
     nights: int,
     noise_k: float,
     name: str,
+    cloud: tuple[float, ...] | None = None,
 ) -> Record:
     folder.mkdir(parents=True, exist_ok=True)
     house_path = folder / f"{name}.toml"
@@ -338,6 +345,7 @@ def _write(
         step_w=step_w,
         heater=heater,
         seed=seed,
+        cloud=cloud,
     )
     return Record(house_path, log_path, _truth(truth_house, step_w, heater), heater, truth_house)
 
@@ -395,10 +403,12 @@ def sky_share_house(
     length: float = 30.0,
     cover: str = "double-poly",
     ach: float = 1.0,
+    cloud: tuple[float, ...] | None = None,
 ) -> Record:
     """The geometry's one-node house (outside air, sky and deep ground, as
     `grower.network.lumped_reduction` gives them) with its conduction × `k_scale`, its
-    sky part × `k_scale`·`sky_share` and its capacity × `c_scale`."""
+    sky part × `k_scale`·`sky_share` and its capacity × `c_scale`; `cloud` (one value a
+    night, 0–1, not logged) takes that share of the clear sky's depression away."""
     folder.mkdir(parents=True, exist_ok=True)
     probe = folder / "probe.toml"
     probe.write_text(house_text(width=width, length=length, cover=cover, ach=ach), "utf-8")
@@ -411,7 +421,7 @@ def sky_share_house(
         k_ground_w_per_k=geo.k_ground_w_per_k * k_scale,
         c_air_j_per_k=geo.c_air_j_per_k * c_scale,
     )
-    q = step_w if step_w is not None else round(2.0 * geo.k_outside_w_per_k * k_scale, -2)
+    q = step_w if step_w is not None else round(3.0 * geo.k_outside_w_per_k * k_scale, -2)
     toml = house_text(
         name=f"sky share {sky_share:g}",
         width=width,
@@ -430,6 +440,7 @@ def sky_share_house(
         nights=nights,
         noise_k=noise_k,
         name="sky",
+        cloud=cloud,
     )
 
 
@@ -470,7 +481,7 @@ def two_node_house(
         c_air_j_per_k=geo.c_air_j_per_k * c_scale,
         c_mass_j_per_k=geo.c_mass_j_per_k * c_scale,
     )
-    q = step_w if step_w is not None else round(2.0 * geo.k_outside_w_per_k * k_scale, -2)
+    q = step_w if step_w is not None else round(3.0 * geo.k_outside_w_per_k * k_scale, -2)
     toml = house_text(
         name="two-node house",
         width=width,

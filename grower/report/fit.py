@@ -23,7 +23,9 @@ from grower.units import (
 INTERVAL_NOTE = (
     "95 % intervals are the linearised ones (covariance s²(JᵀJ)⁻¹ at the optimum, Student's "
     "t), widened for the residuals' lag-1 autocorrelation ρ by (1 + ρ)/(1 − ρ) on the "
-    "effective sample size; a model error that runs in long waves still makes them too narrow"
+    "effective sample size; from four nights on, the wider of that and the night-block "
+    "(cluster-robust) interval with Student's t on nights − 1; and wide enough to hold the "
+    "simpler fits the record cannot rule out (the geometry's sky share)"
 )
 NOISE_NOTE = (
     "sensor noise from the record's own scatter: 1.4826·MAD of the second differences of the "
@@ -170,7 +172,8 @@ def _show(name: str, value: float, system: UnitSystem) -> str:
 def _half(p: Parameter, system: UnitSystem) -> str:
     if p.status == "anchor":
         return "held (anchor)"
-    return f"± {_show(p.name, p.half_width, system)} ({p.relative:.0%})"
+    share = f" ({p.relative:.0%})" if p.relative <= 10.0 else ""  # none of a value near 0
+    return f"± {_show(p.name, p.half_width, system)}{share}"
 
 
 def headline(r: FitResult, system: UnitSystem) -> str:
@@ -184,7 +187,14 @@ def headline(r: FitResult, system: UnitSystem) -> str:
         )
         return f"{sym} = [bold]{_show(p.name, p.value, system)}[/bold]{pm}{kept}"
 
-    return f"{part(k, 'K')}, {part(c, 'C')}, C/K = [bold]{tau.value:.1f} h[/bold]"
+    line = f"{part(k, 'K')}, {part(c, 'C')}, C/K = [bold]{tau.value:.1f} h[/bold]"
+    out, sky = f.get("k_outside_w_per_k"), f.get("k_sky_w_per_k")
+    if out is not None and sky is not None:
+        line += (
+            f"; of K, {_show(out.name, out.value, system)} to the outside air and "
+            f"{_show(sky.name, sky.value, system)} to the sky"
+        )
+    return line
 
 
 def _dk(delta_k: float, system: UnitSystem) -> str:
