@@ -103,7 +103,8 @@ def _scan(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.nda
     the decay ``P`` passes e^-500, so the scaled terms cannot overflow; each term's
     rounding is carried by the same ``P[k]`` that damps it, so the result is as accurate
     as stepping one step at a time (the partial sums grow geometrically; their rounding
-    is a few units in the last place of ``z``).
+    is a few units in the last place of ``z``). With one step length, a mode that forgets
+    within `_SHORT` steps is one short convolution instead (`_scan_short`).
     """
     k1 = f.shape[1]
     if uniform and k1:
