@@ -35,7 +35,6 @@ import math
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from importlib import resources
 from typing import Any
 
 from grower.errors import InputError, did_you_mean
@@ -255,7 +254,9 @@ def _shipped_row(
 
 
 def _read_table(name: str) -> dict[str, Any]:
-    text = resources.files("grower").joinpath("data", name).read_text(encoding="utf-8")
+    from grower.files import PACKAGE_DIR
+
+    text = (PACKAGE_DIR / "data" / name).read_text(encoding="utf-8")
     return tomllib.loads(text)
 
 

@@ -23,12 +23,10 @@ values.
 from __future__ import annotations
 
 import functools
-import importlib.resources
 import math
 import re
 from collections.abc import Iterable
 from dataclasses import dataclass, replace
-from importlib.resources.abc import Traversable
 from pathlib import Path
 from typing import Literal
 
@@ -245,9 +243,11 @@ def _build_index(crops: Iterable[Crop]) -> dict[str, Crop]:
 # ---------------------------------------------------------------- directories
 
 
-def shipped_crops_dir() -> Traversable:
+def shipped_crops_dir() -> Path:
     """Where the shipped crop files are: in the wheel, else the source checkout."""
-    packaged = importlib.resources.files("grower") / "_crops"
+    from grower.files import PACKAGE_DIR
+
+    packaged = PACKAGE_DIR / "_crops"
     if packaged.is_dir():
         return packaged
     return Path(grower.__file__).resolve().parent.parent / "crops"
@@ -258,7 +258,7 @@ def user_crops_dir() -> Path:
     return Path(platformdirs.user_config_dir("grower")) / "crops"
 
 
-def _read_dir(directory: Traversable, origin: Origin) -> list[Crop]:
+def _read_dir(directory: Path, origin: Origin) -> list[Crop]:
     from grower.cropfile import parse_crop  # grower.cropfile builds this module's types
 
     crops: dict[str, Crop] = {}

@@ -17,8 +17,14 @@ import contextlib
 import gc
 import os
 import stat
+from pathlib import Path
 
 from grower.errors import InputError
+
+#: the installed package's directory: the shipped tables (data/) and crops (_crops/) are
+#: plain files beside the modules (a path, not importlib.resources, whose import costs
+#: the start-up tens of milliseconds; grower is never run from a zip)
+PACKAGE_DIR = Path(__file__).resolve().parent
 
 HOUSE_FILE_MAX_BYTES = 1 << 20
 FORECAST_FILE_MAX_BYTES = 64 << 20

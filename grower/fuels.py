@@ -25,7 +25,6 @@ import math
 import re
 import tomllib
 from dataclasses import dataclass
-from importlib.resources import files
 from typing import Any
 
 import numpy as np
@@ -364,7 +363,9 @@ def _appliance(name: str, t: dict[str, Any], where: str) -> Appliance:
 
 
 def _default_path() -> str:
-    return str(files("grower") / "data" / "fuels.toml")
+    from grower.files import PACKAGE_DIR
+
+    return str(PACKAGE_DIR / "data" / "fuels.toml")
 
 
 @functools.lru_cache(maxsize=4)

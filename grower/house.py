@@ -709,7 +709,7 @@ def check_calibration(house: House) -> None:
     limits.check_ratio(
         k_out / g_out,
         limits.CALIBRATION_K_RATIO,
-        f"K to outside air = {k_out:,.4g} W/K (the geometry's {g_out:,.4g} W/K)",
+        f"K to outside air = {k_out:,.0f} W/K (the geometry's {g_out:,.0f} W/K)",
         f"{where}.k_outside_w_per_k",
     )
     k_sky, g_sky = float(cal["k_sky_w_per_k"]), float(cal["geometry_k_sky_w_per_k"])
@@ -717,7 +717,7 @@ def check_calibration(house: House) -> None:
         limits.check_ratio(
             k_sky / g_sky,
             limits.CALIBRATION_SKY_RATIO,
-            f"the sky part = {k_sky:,.4g} W/K (the geometry's {g_sky:,.4g} W/K)",
+            f"the sky part = {k_sky:,.0f} W/K (the geometry's {g_sky:,.0f} W/K)",
             f"{where}.k_sky_w_per_k",
         )
     c, g_c = float(cal["c_j_per_k"]), float(cal["geometry_c_j_per_k"])

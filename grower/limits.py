@@ -356,7 +356,7 @@ def check_ratio(
             where=where,
         )
     if not ulo <= ratio <= uhi:
-        warn(f"{what} is {ratio:.3g} × the geometry's (usually {ulo:g}–{uhi:g} ×)", where=where)
+        warn(f"{what} is {ratio:.2f} × the geometry's (usually {ulo:g}–{uhi:g} ×)", where=where)
 
 
 def check_year(year: int, where: str) -> None:

@@ -14,7 +14,6 @@ import math
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass
-from importlib import resources
 from typing import Any
 
 #: unit strings the tables may print, and the factor to SI
@@ -126,7 +125,9 @@ def parse_mass_materials(text: str, where: str = "mass.toml") -> dict[str, MassM
 
 
 def _shipped_text(name: str) -> str:
-    return resources.files("grower").joinpath("data", name).read_text(encoding="utf-8")
+    from grower.files import PACKAGE_DIR
+
+    return (PACKAGE_DIR / "data" / name).read_text(encoding="utf-8")
 
 
 @functools.cache

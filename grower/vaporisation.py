@@ -40,7 +40,6 @@ import functools
 import math
 import tomllib
 from dataclasses import dataclass
-from importlib.resources import files
 from typing import Any
 
 import numpy as np
@@ -113,7 +112,9 @@ class VapourCheck:
 
 
 def _path() -> str:
-    return str(files("grower") / "data" / "vaporisation.toml")
+    from grower.files import PACKAGE_DIR
+
+    return str(PACKAGE_DIR / "data" / "vaporisation.toml")
 
 
 @functools.lru_cache(maxsize=2)

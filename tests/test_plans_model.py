@@ -434,3 +434,14 @@ def test_boundary_on_utc_seconds_equals_boundary_on_an_index():
         np.testing.assert_array_equal(getattr(a, name), getattr(b, name))
     assert a.local_times()[0] == fc.start and a.local_times()[-1] == fc.end
     assert list(a.times) == [pd_t.to_pydatetime() for pd_t in b.times]
+
+
+def test_durations_and_sample_times_in_ns_as_pandas_has_them():
+    # pandas (a general-purpose reference library) truncates float seconds of a Timedelta
+    # to the nanosecond and keeps a file's times to the microsecond
+    import pandas as pd
+
+    for seconds in (0.0, 1.0, 2.5e-7, 1234.56789012345, 86400.0 * 7.3):
+        assert hm.duration_ns(seconds) == pd.Timedelta(seconds=seconds).value
+    idx = pd.DatetimeIndex(["2026-12-03T16:00:00.123456-05:00", "2026-12-03T17:00-05:00"])
+    np.testing.assert_array_equal(hm.samples_ns(hm.epoch_s(idx)), idx.as_unit("ns").asi8)

@@ -14,6 +14,8 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from grower import solver
 from grower.solver import segments
@@ -151,3 +153,55 @@ def test_curved_input_takes_the_step_path():
     u = np.stack([rng.normal(0, 2, (40, t.size)), np.full((40, t.size), 8.0)], 2)
     tr = solver.free_float(net, t, u, np.full((40, 2), 9.0))
     assert tr.segments is None
+
+
+@pytest.mark.parametrize("bad", [np.nan, np.inf], ids=["nan", "inf"])
+def test_a_bad_value_in_a_big_ensemble_names_its_argument(bad):
+    # the knot search is the many-member path's check for NaN and inf
+    net = two_node()
+    _, _, t, u, x0 = ensemble(40)
+    u[17, 300, 0] = bad
+    with pytest.raises(ValueError, match="boundary_c contains NaN or inf"):
+        solver.free_float(net, t, u, x0)
+    gains = np.zeros((t.size, 2))
+    gains[5, 1] = bad
+    with pytest.raises(ValueError, match="gains_w contains NaN or inf"):
+        solver.free_float(net, t, u[:3], x0[:3], gains)
+
+
+@settings(max_examples=12, deadline=None)
+@given(
+    seed=st.integers(0, 2**31 - 1),
+    hours=st.integers(2, 10),
+    per_hour=st.sampled_from([4, 6, 12, 60]),
+    three=st.booleans(),
+    threshold=st.floats(-4.0, 6.0),
+)
+def test_runs_and_steps_give_one_answer(seed, hours, per_hour, three, threshold):
+    # property: on straight-between-samples input the many-member path (one exact step
+    # per run) and the one-member step path (one exact step per grid step) are the same
+    # exact solution, and their analyses agree; uneven steps at the sample times included
+    rng = np.random.default_rng(seed)
+    net = three_node() if three else two_node()
+    n = net.n_nodes
+    th = np.cumsum(np.concatenate([[0.0], rng.uniform(0.5, 1.5, hours) * H]))
+    t = np.unique(np.concatenate([np.linspace(0, th[-1], hours * per_hour + 1), th]))
+    members = 32
+    hourly = rng.normal(2.0, 4.0, (members, th.size))
+    u = np.stack(
+        [np.array([np.interp(t, th, r) for r in hourly]), np.full((members, t.size), 8.0)], 2
+    )
+    x0 = rng.uniform(2.0, 12.0, (members, n))
+    off = np.interp(t, th, rng.uniform(0.0, 2.0, th.size))
+    tr = solver.free_float(net, t, u, x0)
+    cr = solver.analyse(tr, threshold, off)
+    assert tr.segments is not None  # four or more grid steps a sample: the runs path
+    for m in range(0, members, 7):
+        one = solver.free_float(net, t, u[m], x0[m])
+        c1 = solver.analyse(one, threshold, off)
+        assert np.abs(tr.temps_c[m] - one.temps_c[0]).max() < 1e-10
+        assert cr.min_c[m] == pytest.approx(c1.min_c[0], abs=1e-10)
+        assert cr.hours_below[m] == pytest.approx(c1.hours_below[0], abs=1e-7)
+        assert np.isnan(cr.time_s[m]) == np.isnan(c1.time_s[0])
+        if c1.crossed[0]:
+            assert cr.time_s[m] == pytest.approx(c1.time_s[0], abs=1e-5)

@@ -801,3 +801,13 @@ def test_forecast_samples_and_frame_are_the_same_forecast():
     moved = dataclasses.replace(forecast, source="moved")
     np.testing.assert_array_equal(moved.utc_s, forecast.utc_s)
     assert moved.source == "moved"
+
+
+def test_local_time_and_time_index_are_one_instant():
+    # the pandas index (built on demand) and the stdlib datetimes show the same instants
+    from grower.weather.forecast import local_time, time_index
+
+    utc = np.array([1796338327.5, 1796341927.25])
+    idx = time_index(utc, TORONTO)
+    assert [local_time(x, TORONTO) for x in utc] == [t.to_pydatetime() for t in idx]
+    assert local_time(utc[0], TORONTO).utcoffset() == dt.timedelta(hours=-5)

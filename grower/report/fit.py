@@ -172,7 +172,8 @@ def _show(name: str, value: float, system: UnitSystem) -> str:
 def _half(p: Parameter, system: UnitSystem) -> str:
     if p.status == "anchor":
         return "held (anchor)"
-    return f"± {_show(p.name, p.half_width, system)} ({p.relative:.0%})"
+    share = f" ({p.relative:.0%})" if p.relative <= 10.0 else ""  # none of a value near 0
+    return f"± {_show(p.name, p.half_width, system)}{share}"
 
 
 def headline(r: FitResult, system: UnitSystem) -> str:

@@ -31,6 +31,17 @@ class _ExpLin:
     def take(self, i: np.ndarray) -> _ExpLin:
         return _ExpLin(self.lam, self.z[i], self.b[i], self.c[i], self.g0[i], self.e1[i], self.w[i])
 
+    @staticmethod
+    def join(parts: list[_ExpLin]) -> _ExpLin:
+        """One batch of the items of batches with the same modes."""
+        if len(parts) == 1:
+            return parts[0]
+
+        def cat(name: str):  # type: ignore[no-untyped-def]
+            return np.concatenate([getattr(p, name) for p in parts])
+
+        return _ExpLin(parts[0].lam, *(cat(n) for n in ("z", "b", "c", "g0", "e1", "w")))
+
     def _x(self, s: np.ndarray):  # type: ignore[no-untyped-def]
         x = s[..., None] * self.lam
         sh = (slice(None),) + (None,) * (s.ndim - 1)
@@ -68,6 +79,8 @@ def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None) -> np.ndar
     tol = 1e-13 * (b - a) + 1e-300
     flat = None
     ended = np.zeros(np.shape(x), dtype=bool)
+    done = np.zeros(np.shape(x), dtype=bool)
+    was = np.zeros(np.shape(x), dtype=bool)
     for _ in range(200):
         f, df = fd(x)
         if flat is None:
@@ -89,8 +102,9 @@ def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None) -> np.ndar
         past = np.where(xn <= low, low, high)
         xn = np.where(out, np.where(ended | ~np.isfinite(xn), 0.5 * (lo + hi), past), xn)
         ended = out & ~ended
-        done = (f == 0) | (np.abs(xn - x) <= tol) | (np.abs(hi - lo) <= tol)
-        x = np.where(f == 0, x, xn)
+        done |= (f == 0) | (np.abs(xn - x) <= tol) | (np.abs(hi - lo) <= tol)
+        x = np.where((f == 0) | was, x, xn)
+        was = done.copy()  # converged items stay put: a batch's company changes nothing
         if done.all():
             break
     return x

@@ -14,7 +14,7 @@ import numpy as np
 
 from .analysis import analyse
 from .network import Network
-from .problem import _Problem, _problem, _series
+from .problem import _Problem, _problem, _series, check_finite
 from .results import Trajectory, _no_switches
 from .segments import Segments, forcing_at, knots, step_runs
 from .stepping import _MANY, recurrence
@@ -51,7 +51,10 @@ def free_float(
     Van Loan (1978); Franklin, Powell and Workman (1998) (see the module notes).
     """
     # no copy of the inputs: everything drawn from them is computed before returning
-    prob = _problem(network, times_s, boundary_c, initial_c, gains_w, heat_w, copy=False)
+    # nor a separate pass for NaN and inf: the knot search or check_finite below does it
+    prob = _problem(
+        network, times_s, boundary_c, initial_c, gains_w, heat_w, copy=False, finite=False
+    )
     mm, nt = prob.n_members, prob.times_s.size
     full, tab = network.modes, prob.full
     if heat_w is None:
@@ -63,6 +66,9 @@ def free_float(
     seg = _runs(prob) if mm >= _MANY else None
     temps = z = None
     if seg is None:
+        if mm < _MANY:
+            check_finite(prob.boundary_c, "boundary_c")
+            check_finite(prob.gains_w, "gains_w")
         z0 = prob.initial_c @ full.w.T  # (Mi, r)
         # f = f1 b[k] + f2 (b[k+1] - b[k]), written without the difference array
         bt = prob.bt
@@ -98,7 +104,7 @@ def _runs(prob: _Problem) -> Segments | None:
     """The free float as `Segments` when its inputs run collinear over four or more steps
     on average (one exact step per run), else None (step by step)."""
     net, mm, nt = prob.network, prob.n_members, prob.times_s.size
-    kn = knots(prob.h, prob.boundary_c, prob.gains_w)
+    kn = knots(prob.h, prob.boundary_c, prob.gains_w, names=("boundary_c", "gains_w"))
     if 4 * (kn.size - 1) > nt - 1:
         return None
     b = forcing_at(net, prob.boundary_c, prob.gains_w, kn)

@@ -77,9 +77,17 @@ def _times(times_s: object) -> np.ndarray:
     return t
 
 
-def _series(value: object, name: str, n_t: int, width: int | None, copy: bool = True) -> np.ndarray:
+def _series(
+    value: object,
+    name: str,
+    n_t: int,
+    width: int | None,
+    copy: bool = True,
+    finite: bool = True,
+) -> np.ndarray:
     """(N,) / (N, w) / (M, N, w) -> (M', N, w); width None: (N,) / (M, N) -> (M', N).
-    ``copy=False``: the caller's array itself where it is already float (read only)."""
+    ``copy=False``: the caller's array itself where it is already float (read only);
+    ``finite=False``: the caller checks for NaN and inf (`check_finite`) itself."""
     a = _float_array(value, name, copy)
     if width is None:
         if a.ndim == 0:
@@ -99,9 +107,15 @@ def _series(value: object, name: str, n_t: int, width: int | None, copy: bool = 
             )
     if a.shape[1] != n_t:
         raise ValueError(f"{name} has {a.shape[1]} time points but times_s has {n_t}")
+    if finite:
+        check_finite(a, name)
+    return a
+
+
+def check_finite(a: np.ndarray, name: str) -> None:
+    """ValueError naming `name` if `a` holds a NaN or an infinity."""
     if not np.isfinite(a.sum()) and not np.all(np.isfinite(a)):
         raise ValueError(f"{name} contains NaN or inf")
-    return a
 
 
 def _members(arrays: dict[str, np.ndarray | None]) -> int:
@@ -120,16 +134,23 @@ def _problem(
     heat_w: object = None,
     extra: dict[str, np.ndarray | None] | None = None,
     copy: bool = True,
+    finite: bool = True,
 ) -> _Problem:
     """Validated inputs. ``copy=False`` keeps the caller's boundary and gains arrays (no
-    copy of a big ensemble): only for a caller that uses them before it returns."""
+    copy of a big ensemble): only for a caller that uses them before it returns;
+    ``finite=False`` leaves their check for NaN and inf to the caller (one pass less
+    over a big ensemble when the caller reads them anyway)."""
     if not isinstance(network, Network):
         raise ValueError("network must be a grower.solver.Network")
     n, m = network.n_nodes, network.n_boundaries
     t = _times(times_s)
     nt = t.size
-    u = _series(boundary_c, "boundary_c", nt, m, copy)
-    p = np.zeros((1, nt, n)) if gains_w is None else _series(gains_w, "gains_w", nt, n, copy)
+    u = _series(boundary_c, "boundary_c", nt, m, copy, finite)
+    p = (
+        np.zeros((1, nt, n))
+        if gains_w is None
+        else _series(gains_w, "gains_w", nt, n, copy, finite)
+    )
     x0 = _float_array(initial_c, "initial_c")
     if x0.ndim == 0 and n == 1:
         x0 = x0.reshape(1)

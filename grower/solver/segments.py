@@ -12,11 +12,11 @@ state anywhere inside is the same closed form at an offset ``s`` from the run's 
 needed only at the *knots*, the grid times where some input bends; the grid values are
 computed when they are asked for (`Segments.temps_c`), and `analyse` works on the runs
 themselves: each run's plant temperature is an exact ``a + b s + sum c_i exp(lam_i s)``
-(`explin`), screened by the bounds of `bounds` before any root search.
+(`explin`), screened by exact bounds before any root search (`analysis`).
 
-A knot is a grid time where the slope of some input changes by more than `KNOT_RTOL`
-of the input's largest magnitude (per step of the longest step length): round-off of a
-straight line sampled on the grid is far below it, any real bend far above.
+A knot is a grid time where the slope of some input changes, times the step there, by
+more than `KNOT_RTOL` of the input's largest magnitude: round-off of a straight line
+sampled on the grid is far below it, any real bend far above.
 
 References
 ----------
@@ -27,6 +27,7 @@ interpolation, ``h^2/8 max|g''|``, of elementary analysis.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -35,46 +36,65 @@ import numpy as np
 from .network import Network
 from .stepping import _phi123
 
-#: a change of slope (times the longest step) above this share of an input's largest
-#: magnitude makes a knot; a straight line sampled by np.interp bends by a few 1e-16
+#: a change of slope (times the step) above this share of an input's largest
+#: magnitude makes a knot; a straight line sampled by np.interp bends by a few 1e-16. An
+#: input that curves by less on every step of a run of n steps strays from its chord by
+#: at most n^2/8 of it (6e-12 of the input's size over 60 steps)
 KNOT_RTOL = 64.0 * float(np.finfo(float).eps)
-#: elements of the scratch arrays the knot search works in (a few MB: stays in cache)
-_CHUNK = 1 << 17
+#: elements of the scratch arrays the knot search works in (256 kB: stays in cache)
+_CHUNK = 1 << 15
 
 
 def bends(a: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, float]:
     """(N-2,) largest change of slope of ``a`` (M, N, w) at each interior grid time, over
-    members and columns, times the longest step [unit of a]; and the largest |a|."""
+    members and columns, times the step [unit of a] (on uneven steps their harmonic mean);
+    and the largest |a| (NaN if ``a`` holds a NaN or an infinity)."""
     ma, nt, w = a.shape
     if nt < 3:
         return np.zeros(0), float(np.abs(a).max(initial=0.0))
     acc = np.zeros((nt - 2, w))
     big = 0.0
     uniform = bool(np.all(h == h[0]))
-    ih = None if uniform else (h.max() / h)[None, :, None]
+    # uneven steps: the change of slope at each time, weighed by 2/(1/h_left + 1/h_right)
+    # (h on even steps): a slope over a short step carries the round-off of its ends
+    # divided by that step, and over it a bend moves the solution by as little
+    ih = None if uniform else (1.0 / h)[None, :, None]
+    wk = None if uniform else (2.0 / (1.0 / h[1:] + 1.0 / h[:-1]))[None, :, None]
     rows = max(1, min(ma, _CHUNK // (nt * w)))
-    d = np.empty((rows, nt - 1, w))
+    d = np.empty((rows, nt - 1, w)) if ih is not None else None
     dd = np.empty((rows, nt - 2, w))
     for i in range(0, ma, rows):
         c = a[i : i + rows]
-        big = max(big, float(c.max()), -float(c.min()))
+        hi, lo = float(c.max()), float(c.min())
+        big = max(big, hi, -lo) if math.isfinite(hi) and math.isfinite(lo) else math.nan
         k = c.shape[0]
-        dk, ddk = d[:k], dd[:k]
-        np.subtract(c[:, 1:], c[:, :-1], out=dk)
-        if ih is not None:
+        ddk = dd[:k]
+        if ih is None:  # even steps: the second difference, without the first
+            np.add(c[:, 2:], c[:, :-2], out=ddk)
+            ddk -= c[:, 1:-1]
+            ddk -= c[:, 1:-1]
+        else:
+            dk = d[:k]  # type: ignore[index]
+            np.subtract(c[:, 1:], c[:, :-1], out=dk)
             dk *= ih
-        np.subtract(dk[:, 1:], dk[:, :-1], out=ddk)
+            np.subtract(dk[:, 1:], dk[:, :-1], out=ddk)
+            ddk *= wk
         np.abs(ddk, out=ddk)
         np.maximum(acc, ddk.max(axis=0), out=acc)  # over the outer axis: contiguous
     return acc.max(axis=1), big
 
 
-def knots(h: np.ndarray, *series: np.ndarray) -> np.ndarray:
-    """Grid indices where some series (each (M, N, w)) bends, with the first and last."""
+def knots(h: np.ndarray, *series: np.ndarray, names: tuple[str, ...] = ()) -> np.ndarray:
+    """Grid indices where some series (each (M, N, w)) bends, with the first and last.
+
+    A series holding a NaN or an infinity is a ValueError naming it (``names``, in order).
+    """
     nt = h.size + 1
     bent = np.zeros(max(nt - 2, 0), dtype=bool)
-    for a in series:
+    for i, a in enumerate(series):
         bend, scale = bends(a, h)
+        if not math.isfinite(scale):
+            raise ValueError(f"{names[i] if i < len(names) else 'input'} contains NaN or inf")
         bent |= bend > KNOT_RTOL * scale
     return np.concatenate([[0], np.flatnonzero(bent) + 1, [nt - 1]])
 
@@ -171,24 +191,3 @@ def step_runs(network: Network, times_s: np.ndarray, kn: np.ndarray, b: np.ndarr
         zj += f2[j][:, None] * slope[:, :, j]
         z[:, :, j + 1] = zj
     return z
-
-
-def bounds(
-    lam: np.ndarray, z: np.ndarray, b: np.ndarray, c: np.ndarray, g0: np.ndarray, e1, w
-) -> tuple[np.ndarray, np.ndarray]:
-    """Lower and upper bounds on ``[0, w]`` of ``g(s) = g0 + e1 s + sum_i (z_i(s) - z_i(0))``,
-    each mode ``z_i' = lam_i z_i + b_i + c_i s`` from ``z_i(0) = z_i`` (items (K, r)).
-
-    Each mode is ``A + B s + C exp(lam s)`` with ``B = -c/lam``, ``A = (B - b)/lam`` and
-    ``C = z - A``: a straight line plus a monotone exponential, so its range on the run
-    lies between the values at the ends of each part.
-    """
-    bb = -c / lam
-    aa = (bb - b) / lam
-    cc = z - aa
-    ew = np.exp(lam * w[:, None])
-    lin0 = g0 + (aa - z).sum(axis=1)  # g(0) = g0: the constant part of g - exponentials
-    lin1 = lin0 + (e1 + bb.sum(axis=1)) * w
-    lo = np.minimum(lin0, lin1) + np.minimum(cc, cc * ew).sum(axis=1)
-    hi = np.maximum(lin0, lin1) + np.maximum(cc, cc * ew).sum(axis=1)
-    return lo, hi

@@ -45,25 +45,47 @@ from grower.weather.forecast import (
     assumptions,
 )
 from grower.weather.low import DEFAULT_DIURNAL_RANGE_K, forecast_from_low
-from grower.weather.members import (
-    DEFAULT_ENSEMBLE_MODEL,
-    DEFAULT_ENSEMBLE_URL,
-    Ensemble,
-    ensemble_forecasts,
-    ensemble_url,
-    fetch_ensemble,
-    parse_ensemble,
-)
-from grower.weather.openmeteo import (
-    DEFAULT_FORECAST_URL,
-    OPEN_METEO_ATTRIBUTION,
-    Fetched,
-    cache_file,
-    fetch_forecast,
-    fetch_openmeteo,
-    forecast_url,
-    parse_openmeteo,
-)
+
+#: the live services' names, imported on first use (a file forecast needs neither the
+#: HTTP client nor sqlite3, which they import): name -> module
+_LAZY = {
+    **dict.fromkeys(
+        (
+            "DEFAULT_ENSEMBLE_MODEL",
+            "DEFAULT_ENSEMBLE_URL",
+            "Ensemble",
+            "ensemble_forecasts",
+            "ensemble_url",
+            "fetch_ensemble",
+            "parse_ensemble",
+        ),
+        "members",
+    ),
+    **dict.fromkeys(
+        (
+            "DEFAULT_FORECAST_URL",
+            "OPEN_METEO_ATTRIBUTION",
+            "Fetched",
+            "cache_file",
+            "fetch_forecast",
+            "fetch_openmeteo",
+            "forecast_url",
+            "parse_openmeteo",
+        ),
+        "openmeteo",
+    ),
+}
+
+
+def __getattr__(name: str) -> object:
+    if name not in _LAZY:
+        raise AttributeError(f"module 'grower.weather' has no attribute {name!r}")
+    import importlib
+
+    value = getattr(importlib.import_module(f"grower.weather.{_LAZY[name]}"), name)
+    globals()[name] = value
+    return value
+
 
 __all__ = [
     "COLUMNS",
