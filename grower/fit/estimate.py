@@ -514,7 +514,11 @@ def _estimate(
     """
     prob = _Problem(data, kind, anchor, fit_coupling, sky, free_ground)
     res = _solve(prob)
-    theta = res.x
+    theta = res.x.copy()
+    # a factor that ends at its lower bound of 0 (no sky excess, no ground path) is 0, not
+    # the solver's 1e-25 on the way there
+    zero = [i for i, n in enumerate(prob.names) if n.startswith("ks") or n == "kg"]
+    theta[zero] = np.where(theta[zero] < 1e-9, 0.0, theta[zero])
     r = prob.residuals(theta)
     n, p = r.size, theta.size
     ssr = float(r @ r)
