@@ -138,7 +138,7 @@ _FORGET = 60 * math.log(2.0)
 
 
 def _memory(e: float) -> int:
-    """Steps after which a decay ``e`` per step is below 2^-60 (1 for ``e <= 0``)."""
+    """Steps after which a decay ``e`` per step is at or below 2^-60 (1 for ``e <= 0``)."""
     if not 0.0 < e < 1.0:
         return 1 if e <= 0.0 else _SHORT + 1
     return max(1, math.ceil(_FORGET / -math.log(e)))
@@ -148,7 +148,7 @@ def _scan_short(e: float, memory: int, f: np.ndarray, z0: np.ndarray) -> np.ndar
     """`_scan` for one step length whose decay forgets within ``memory`` steps:
     ``z[k+1] = e^(k+1) z0 + sum_{j<=min(k, memory-1)} e^j f[k-j]``, one convolution per row.
 
-    The terms left out weigh ``e^memory < 2^-60`` times an earlier state, below the
+    The terms left out weigh ``e^memory <= 2^-60`` times an earlier state, below the
     round-off of the sum.
     """
     k1 = f.shape[1]
