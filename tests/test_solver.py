@@ -29,7 +29,7 @@ from scipy.integrate import solve_ivp
 from scipy.linalg import expm
 
 from grower import solver
-from grower.solver import Network, lumped
+from grower.solver import Network, lumped, stepping
 
 H = 3600.0
 
@@ -353,3 +353,36 @@ def test_network_is_frozen_hashable_and_its_arrays_read_only():
     assert a.n_nodes == 2 and a.total_capacitance_j_per_k == pytest.approx(2.54e7)
     assert a.conductance_to_boundaries_w_per_k == pytest.approx(1800.0)
     assert a.input_matrix.shape == (2, 4) and a.state_matrix.shape == (2, 2)
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    st.one_of(st.just(0.0), st.floats(1e-30, 0.999)),
+    st.integers(1, 400),
+    st.integers(0, 2**32 - 1),
+)
+def test_whole_step_recurrence_equals_a_step_by_step_loop(e, steps, seed):
+    # z[k+1] = e z[k] + f[k] stepped one step at a time in Python floats (elementary):
+    # the short convolution (a decay forgetting within 64 steps) and the blocked scan
+    # (one step length or several) are the same sum to round-off, a few units in the
+    # last place of the largest |z|
+    rng = np.random.default_rng(seed)
+    f = rng.normal(0.0, 1.0, (2, steps)) * rng.uniform(0.1, 1e3)
+    z0 = rng.normal(0.0, 100.0, 2)
+    ref = np.empty((2, steps))
+    for row in range(2):
+        z = float(z0[row])
+        for k in range(steps):
+            z = e * z + float(f[row, k])
+            ref[row, k] = z
+    scale = max(np.abs(ref).max(), np.abs(z0).max())
+    decays = np.full(steps, e)
+    for uniform in (True, False):
+        got = stepping._scan(decays, uniform, f, z0)
+        assert np.abs(got - ref).max() <= 1e-13 * scale
+    # the convolution stops at the first power of e at or below 2^-60 (the logarithms'
+    # round-off allowed for: 0.5^60 is 2^-60 exactly)
+    m = stepping._memory(e)
+    tiny = 2.0**-60
+    if e > 0.0 and m <= stepping._SHORT:
+        assert e**m <= tiny * (1 + 1e-9) and e ** (m - 1) >= tiny * (1 - 1e-9)
