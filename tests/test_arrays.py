@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
@@ -32,6 +33,7 @@ def test_unique_is_numpys_on_any_floats(a):
     np.testing.assert_array_equal(arrays.unique(a), np.unique(a))
 
 
+@pytest.mark.filterwarnings("ignore:overflow encountered:RuntimeWarning")  # numpy's too
 @settings(max_examples=300, deadline=None)
 @given(hnp.arrays(np.float64, st.integers(1, 60), elements=FLOATS))
 def test_median_is_numpys_to_the_bit(a):
