@@ -306,10 +306,10 @@ def _first_held(n: int, fails, guess: int = 0) -> int:
     monotone system), so the members that fail are a leading run; its end is bracketed
     by probes, a few members per solver call (a member costs about what a call does).
     `guess` is where the end is expected (from the K levels already run): the first
-    round probes the members around it, and while
-    every probe lands on one side the next ones gallop away from it; once both sides
-    are seen, quarters of the bracket. The guess only orders the probes: the answer is
-    the same for any guess. `fails(positions)` runs those members and says which fail.
+    round probes the members around it, and while every probe lands on one side the
+    next ones gallop away from it; once both sides are seen, quarters of the bracket.
+    The guess only orders the probes: the answer is the same for any guess.
+    `fails(positions)` runs those members and says which fail.
     """
     lo, hi = 0, n  # the answer lies in [lo, hi]
     guess = min(max(int(guess), 0), n)
