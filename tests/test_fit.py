@@ -39,42 +39,11 @@ EXAMPLES = Path(__file__).parent.parent / "examples"
 #: once in a thousand, and the few dozen checks of this file are not flaky
 WIDEN_TO_999 = 1.7
 
-HOUSE = """
-[house]
-name = "test house"
-shape = "gable"
-width = "{width} m"
-length = "{length} m"
-sidewall_height = "2.4 m"
-ridge_height = "4.5 m"
-
-[cover]
-roof = "{cover}"
-sides = "{cover}"
-ends = "twin-wall-polycarbonate-8mm"
-
-[air]
-changes_per_hour = {ach}
-
-[site]
-latitude = 44.30
-longitude = -76.50
-timezone = "America/Toronto"
-
-[floor]
-deep_ground_temperature = "6 C"
-"""
-HEATER = """
-[[heater]]
-fuel = "propane"
-output = "{q} W"
-"""
-
 
 def _house(tmp_path: Path, *, width=9.0, length=30.0, cover="double-poly", ach=1.0, heater_w=None):
-    text = HOUSE.format(width=width, length=length, cover=cover, ach=ach)
-    if heater_w is not None:
-        text += HEATER.format(q=heater_w)
+    text = synthetic.house_text(
+        name="test house", width=width, length=length, cover=cover, ach=ach, heater_w=heater_w
+    )
     path = tmp_path / "house.toml"
     path.write_text(text, encoding="utf-8")
     return path
@@ -577,7 +546,7 @@ def test_no_outside_temperature_is_refused(tmp_path):
 
 
 def test_no_site_and_no_sun_cannot_tell_night_from_day(tmp_path):
-    text = HOUSE.format(width=9, length=30, cover="double-poly", ach=1.0).split("[site]")[0]
+    text = synthetic.house_text(name="test house").split("[site]")[0]
     hp = tmp_path / "nosite.toml"
     hp.write_text(text, encoding="utf-8")
     log = tmp_path / "log.csv"
@@ -719,8 +688,7 @@ def test_write_appends_the_table_and_keeps_the_rest_byte_for_byte(tmp_path, exam
 def test_write_replaces_only_the_calibration_table(tmp_path, example_fit):
     src = (
         "# my house, my notes\n"
-        + HOUSE.format(width=9, length=30, cover="double-poly", ach=0.75)
-        + HEATER.format(q=23445.7)
+        + synthetic.house_text(name="test house", ach=0.75, heater_w=23445.7)
         + "\n[calibration]   # from last winter\n"
         "# a note the grower wrote\n"
         'note = "keep me"\n'
