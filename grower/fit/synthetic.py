@@ -350,6 +350,22 @@ def _write(
     return Record(house_path, log_path, _truth(truth_house, step_w, heater), heater, truth_house)
 
 
+def _geometry_record(
+    folder: Path,
+    truth: TrueHouse,
+    geometry: dict,
+    *,
+    heater: str,
+    step_w: float | None,
+    **record,
+) -> Record:
+    """The house file of `geometry` (`house_text`'s arguments) and the record of `truth`;
+    the heater steps default to about 3 K of lift on the true conduction."""
+    q = step_w if step_w is not None else round(3.0 * truth.k_outside_w_per_k, -2)
+    toml = house_text(**geometry, heater_w=q if heater == "state" else None)
+    return _write(folder, truth, toml, heater=heater, step_w=q, **record)
+
+
 def plain_house(
     folder: Path,
     *,
@@ -421,21 +437,12 @@ def sky_share_house(
         k_ground_w_per_k=geo.k_ground_w_per_k * k_scale,
         c_air_j_per_k=geo.c_air_j_per_k * c_scale,
     )
-    q = step_w if step_w is not None else round(3.0 * geo.k_outside_w_per_k * k_scale, -2)
-    toml = house_text(
-        name=f"sky share {sky_share:g}",
-        width=width,
-        length=length,
-        cover=cover,
-        ach=ach,
-        heater_w=q if heater == "state" else None,
-    )
-    return _write(
+    return _geometry_record(
         folder,
         truth,
-        toml,
+        dict(name=f"sky share {sky_share:g}", width=width, length=length, cover=cover, ach=ach),
         heater=heater,
-        step_w=q,
+        step_w=step_w,
         seed=seed,
         nights=nights,
         noise_k=noise_k,
@@ -481,21 +488,12 @@ def two_node_house(
         c_air_j_per_k=geo.c_air_j_per_k * c_scale,
         c_mass_j_per_k=geo.c_mass_j_per_k * c_scale,
     )
-    q = step_w if step_w is not None else round(3.0 * geo.k_outside_w_per_k * k_scale, -2)
-    toml = house_text(
-        name="two-node house",
-        width=width,
-        length=length,
-        cover=cover,
-        ach=ach,
-        heater_w=q if heater == "state" else None,
-    )
-    return _write(
+    return _geometry_record(
         folder,
         truth,
-        toml,
+        dict(name="two-node house", width=width, length=length, cover=cover, ach=ach),
         heater=heater,
-        step_w=q,
+        step_w=step_w,
         seed=seed,
         nights=nights,
         noise_k=noise_k,
