@@ -350,6 +350,17 @@ def _write(
     return Record(house_path, log_path, _truth(truth_house, step_w, heater), heater, truth_house)
 
 
+def _geometry_of(folder: Path, kind: str, **geometry) -> TrueHouse:
+    """The geometry's own `kind` house for `house_text(**geometry)`, read through a
+    house file written to `folder` and removed again."""
+    folder.mkdir(parents=True, exist_ok=True)
+    probe = folder / "probe.toml"
+    probe.write_text(house_text(**geometry), "utf-8")
+    geo = geometry_house(probe, kind)
+    probe.unlink()
+    return geo
+
+
 def _geometry_record(
     folder: Path,
     truth: TrueHouse,
@@ -425,11 +436,7 @@ def sky_share_house(
     `grower.network.lumped_reduction` gives them) with its conduction × `k_scale`, its
     sky part × `k_scale`·`sky_share` and its capacity × `c_scale`; `cloud` (one value a
     night, 0–1, not logged) takes that share of the clear sky's depression away."""
-    folder.mkdir(parents=True, exist_ok=True)
-    probe = folder / "probe.toml"
-    probe.write_text(house_text(width=width, length=length, cover=cover, ach=ach), "utf-8")
-    geo = geometry_house(probe, "lumped")
-    probe.unlink()
+    geo = _geometry_of(folder, "lumped", width=width, length=length, cover=cover, ach=ach)
     truth = replace(
         geo,
         k_outside_w_per_k=geo.k_outside_w_per_k * k_scale,
@@ -472,11 +479,7 @@ def two_node_house(
     (outside air, deep ground, air–mass coupling) × `k_scale`, the coupling × a further
     `coupling_scale`, the sky part (cover faces and floor) × `k_scale`·`sky_share` and
     every capacity × `c_scale`."""
-    folder.mkdir(parents=True, exist_ok=True)
-    probe = folder / "probe.toml"
-    probe.write_text(house_text(width=width, length=length, cover=cover, ach=ach), "utf-8")
-    geo = geometry_house(probe, "two-node")
-    probe.unlink()
+    geo = _geometry_of(folder, "two-node", width=width, length=length, cover=cover, ach=ach)
     ks = k_scale * sky_share
     truth = replace(
         geo,

@@ -275,6 +275,8 @@ class NightModel:
     model: hm.Model
     boundary: hm.Boundary
     pressure_hpa: float | None
+    bc: np.ndarray  # (N, 3) the solver's boundary temperatures (`Boundary.solver_boundary`)
+    gains: np.ndarray  # (N, n) heat inputs per node (`Boundary.solver_gains`)
 
 
 @dataclass(frozen=True)
@@ -343,13 +345,13 @@ def night_model(
         use_calibration=use_calibration,
     )
     b = hm.boundary(house, mdl, forecast, times, pressure_hpa=pressure, tz=start.tzinfo)
-    return NightModel(mdl, b, pressure)
+    return NightModel(mdl, b, pressure, b.solver_boundary(mdl), b.solver_gains(mdl))
 
 
 def start_state(night: NightModel, readings: Readings) -> StartState:
     """The starting temperatures: the readings, else the soil at the deep ground's and
     the air in balance with it and the outside, each assumption said in a note."""
-    mdl, b = night.model, night.boundary
+    mdl = night.model
     notes = []
     soil, inside = readings.soil_c, readings.inside_c
     soil_assumed = soil is None
@@ -370,7 +372,7 @@ def start_state(night: NightModel, readings: Readings) -> StartState:
             )
         )
     if inside is None:
-        inside = hm.quasi_steady_air(mdl, b.solver_boundary(mdl), b.solver_gains(mdl), soil)
+        inside = hm.quasi_steady_air(mdl, night.bc, night.gains, soil)
         notes.append(
             Note(
                 "inside air assumed at {air} now (in balance with the soil and the outside); "
@@ -388,7 +390,7 @@ def free_runs(
     """The night with no heat, run as members at once: as forecast, `colder_by_k`
     colder, and (two-node) the soil `SOIL_COLDER_K` colder than assumed."""
     mdl, b = night.model, night.boundary
-    bc = b.solver_boundary(mdl)
+    bc = night.bc
     colder = b.shifted(-colder_by_k, mdl)
     members_bc = [bc, colder.solver_boundary(mdl)]
     members_x0 = [state.x0, state.x0]
@@ -396,9 +398,7 @@ def free_runs(
     if two:
         members_bc.append(bc)
         members_x0.append(np.array([state.inside_c, state.soil_c - SOIL_COLDER_K]))
-    free = runs.free_float(
-        mdl, b.times_s, np.stack(members_bc), np.stack(members_x0), b.solver_gains(mdl)
-    )
+    free = runs.free_float(mdl, b.times_s, np.stack(members_bc), np.stack(members_x0), night.gains)
     crossing = solver.analyse(free, threshold_c, b.plant_offset_k)
     air = free.air_c
     return FreeRuns(
@@ -415,9 +415,7 @@ def hold(house: House, night: NightModel, state: StartState, threshold_c: float)
     night, and the fuel the house's heat source burns for it."""
     mdl, b = night.model, night.boundary
     setpoint = threshold_c + b.plant_offset_k
-    held = runs.hold(
-        mdl, b.times_s, b.solver_boundary(mdl), state.x0, setpoint, b.solver_gains(mdl)
-    )
+    held = runs.hold(mdl, b.times_s, night.bc, state.x0, setpoint, night.gains)
     source = fuels.heat_source(house)
     fuel = source.fuel
     # in the unit the grower buys it in, when the house file says so ([stock] on_hand)
@@ -451,8 +449,7 @@ def heater_check(
         q = measured
         notes = (Note("installed heater output {q} as measured by grower fit", q=("power", q)),)
     setpoint = threshold_c + b.plant_offset_k
-    bc, gains = b.solver_boundary(mdl), b.solver_gains(mdl)
-    run = runs.thermostat(mdl, b.times_s, bc, state.x0, setpoint, q, gains)
+    run = runs.thermostat(mdl, b.times_s, night.bc, state.x0, setpoint, q, night.gains)
     c = solver.analyse(run, threshold_c, b.plant_offset_k)
     energy = float(run.heat_j[0])
     check = HeaterCheck(
