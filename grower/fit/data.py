@@ -359,6 +359,13 @@ def prepare(
     # the geometry's models at the record's conditions (as `tonight` builds them)
     mean_out = float(np.mean(t_out))
     wind = float(np.nanmean(cols["wind_speed_m_s"][rows])) if "wind_speed_m_s" in cols else 0.0
+    if "wind_speed_m_s" not in cols:
+        notes.append(
+            "no wind logged: the geometry is taken at calm (0 m/s), so the fitted factors are "
+            "on the calm house's conductances and the runs apply them at their own wind; on "
+            "a windy record they come out high, the cautious side (give wind_speed_m_s in an "
+            "--outside file)"
+        )
     kw = dict(
         wind_m_s=wind,
         curtain_closed=True,
