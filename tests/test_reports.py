@@ -70,6 +70,11 @@ CASES = {
         100,
         ["size", "examples/glass-range.toml", "--outside=-25C", "--hold", "12C"],
     ),
+    "fit-gable-us-60": (
+        60,
+        ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"]
+        + ["--units", "us"],
+    ),
 }
 
 

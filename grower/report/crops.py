@@ -11,7 +11,7 @@ from grower.crops import (
     Threshold,
     select_threshold,
 )
-from grower.report.common import console, jsonable
+from grower.report.common import console, data_table, jsonable
 from grower.units import UnitSystem, show_temperature, show_temperature_difference
 
 
@@ -113,11 +113,10 @@ def crops_document(
 
 def render_list(crops: tuple[Crop, ...], system: UnitSystem, query: str | None) -> None:
     """A table of crops: names, group, stages, damage range."""
-    from rich.table import Table
 
     out = console()
     title = f'Crops matching "{query}"' if query else "Crops"
-    table = Table(title=title, title_justify="left", show_lines=False)
+    table = data_table(out, title=title, title_justify="left", show_lines=False)
     table.add_column("Crop", style="bold", no_wrap=True)
     table.add_column("Also called")
     table.add_column("Group")
@@ -181,7 +180,6 @@ def render_detail(
     crop: Crop, system: UnitSystem, *, margin_k: float, margin_basis: str, stage: Stage | None
 ) -> None:
     """One crop: every stage's thresholds in the chosen units, with their sources."""
-    from rich.table import Table
 
     out = console()
     refs = _Refs()
@@ -200,7 +198,7 @@ def render_detail(
     all_k90 = all(s.kill is None and s.kill_90 is not None for s in crop.stages)
     durations = {t.hours for s in crop.stages for t in s.thresholds()}
     one_duration = len(durations) == 1 and None not in durations
-    table = Table(show_lines=False)
+    table = data_table(out, show_lines=False)
     table.add_column("Stage", style="bold")
     table.add_column("Alarm at", justify="right")
     table.add_column("Damage (10 % kill)" if all_k10 else "Damage at", justify="right")

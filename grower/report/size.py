@@ -6,7 +6,7 @@ from typing import Any
 
 from grower.plans.size import SizeResult
 from grower.report import vapour as vapour_report
-from grower.report.common import plain, render_cautions
+from grower.report.common import data_table, plain, render_cautions
 from grower.report.quantities import fuel_text, power_text
 from grower.units import (
     M_S_PER_MPH,
@@ -123,7 +123,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     console.print(table)
     console.print()
 
-    units = Table(title="Split into common unit sizes", title_justify="left")
+    units = data_table(console, title="Split into common unit sizes", title_justify="left")
     units.add_column("units", justify="right")
     units.add_column("input each", justify="right")
     units.add_column("output each", justify="right")
