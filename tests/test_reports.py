@@ -109,6 +109,8 @@ US_SCREENS = {
     "stock": ["stock", "examples/gable-house.toml", "--crop", "tomato", "--setpoint", "50F"],
     "size": ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C"],
     "house": ["house", "examples/hoop-tunnel.toml"],
+    "fit": ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"],
+    "crops": ["crops"],
 }
 
 
@@ -127,5 +129,10 @@ def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch):
     main([*argv, "--units", "us"])
     out = capsys.readouterr().out
     assert "°F" in out or name == "house"
+    if columns == 60:
+        # a narrow screen wraps or shortens; it never runs past the edge or cuts a cell
+        # (rich marks a cut with "…")
+        cut = [line for line in out.splitlines() if len(line) > columns or "…" in line]
+        assert not cut, f"{name} at {columns} columns cuts or overruns: {cut}"
     found = [line for line in out.splitlines() if re.search(SI_UNIT, line)]
     assert not found, f"{name} at {columns} columns shows SI units: {found}"
