@@ -136,3 +136,17 @@ def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch):
         assert not cut, f"{name} at {columns} columns cuts or overruns: {cut}"
     found = [line for line in out.splitlines() if re.search(SI_UNIT, line)]
     assert not found, f"{name} at {columns} columns shows SI units: {found}"
+
+
+@pytest.mark.parametrize("system", ["us", "metric"])
+def test_several_houses_at_60_columns_keep_headers_and_names_whole(system, capsys, monkeypatch):
+    # the US powers ("139,000 Btu/h") are the widest cells; a cropped column loses its
+    # header's tail without any "…", and a folded name splits a word ("Propagatio" + "n")
+    monkeypatch.chdir(ROOT)
+    monkeypatch.setenv("COLUMNS", "60")
+    main(["tonight", *HOUSES, "--crop", "basil", *NIGHT, "--units", system])
+    lines = capsys.readouterr().out.splitlines()
+    header = next(line for line in lines if line.split()[:1] == ["house"])
+    assert header.split() == ["house", "reaches", "coldest", "to", "hold", "heater"]
+    words = {w for line in lines for w in line.split()}
+    assert {"Propagation", "Glass", "Lane", "tunnel"} <= words
