@@ -108,6 +108,7 @@ US_SCREENS = {
     ],
     "stock": ["stock", "examples/gable-house.toml", "--crop", "tomato", "--setpoint", "50F"],
     "size": ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C"],
+    "size, a crop": ["size", "examples/hoop-tunnel.toml", "--outside=-25C", "--crop", "kale"],
     "house": ["house", "examples/hoop-tunnel.toml"],
     "fit": ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"],
     "crops": ["crops"],

@@ -82,7 +82,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
         f"holds {t(r.hold_c)} inside at {t(r.design_outside_c)} outside, "
         f"wind {show_speed(r.wind_m_s, system).text(1)}, clear sky at {t(r.sky_c)}"
     )
-    plain(console, f"  hold: {r.hold_basis}")
+    plain(console, f"  hold: {note_text(r.hold_basis, system)}")
     console.print()
 
     table = Table(show_header=False, box=None, pad_edge=False)
