@@ -151,3 +151,35 @@ def test_several_houses_at_60_columns_keep_headers_and_names_whole(system, capsy
     assert header.split() == ["house", "reaches", "coldest", "to", "hold", "heater"]
     words = {w for line in lines for w in line.split()}
     assert {"Propagation", "Glass", "Lane", "tunnel"} <= words
+
+
+#: a number followed by a US unit; the SI screens keep only the trade's Btu/h beside a
+#: heater's kW, the container names ("20-lb cylinder") and the quoted "1 in² per 1,000 Btu/h"
+US_UNIT = r"\d ?(°F|gal\b|therm|lb\b|mph|ft\b|ft²|ft³)"
+SI_SCREENS = {
+    "tonight, natural gas": ["tonight", "examples/glass-range.toml", "--crop", "tomato", *NIGHT],
+    "stock, natural gas": ["stock", "examples/glass-range.toml", "--setpoint", "12C", *SNAP],
+    "size, natural gas": ["size", "examples/glass-range.toml", "--outside=-25C", "--hold", "12C"],
+    "house": ["house", "examples/glass-range.toml"],
+    "size, propane, a US house": [
+        "size",
+        "examples/hoop-tunnel.toml",
+        "--outside=-25C",
+        "--hold",
+        "5C",
+    ],
+    "stock, propane": ["stock", "examples/gable-house.toml", "--setpoint", "8C", *SNAP],
+}
+
+
+@pytest.mark.parametrize("name", sorted(SI_SCREENS))
+def test_si_screens_show_no_us_quantity(name, capsys, monkeypatch):
+    import re
+
+    monkeypatch.chdir(ROOT)
+    monkeypatch.setenv("COLUMNS", "100")
+    main([*SI_SCREENS[name], "--units", "metric"])
+    out = capsys.readouterr().out
+    assert "°C" in out
+    found = [line for line in out.splitlines() if re.search(US_UNIT, line)]
+    assert not found, f"{name} shows US units: {found}"
