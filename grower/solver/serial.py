@@ -391,10 +391,12 @@ def _limits(
     (L = 2 or 4 columns). A step whose clamp temperature changed fails outright (-inf)
     unless it is a window's first; ``lim0`` keeps those steps' slacks for that case.
     """
-    cols = [hi - val[:-1], hi - val[1:]]
+    lim0 = np.empty((hi.size, 2 if lo is None else 4))  # written by column, read by row
+    np.subtract(hi, val[:-1], out=lim0[:, 0])
+    np.subtract(hi, val[1:], out=lim0[:, 1])
     if lo is not None:
-        cols += [val[:-1] - lo, val[1:] - lo]
-    lim0 = np.stack(cols, axis=1)
+        np.subtract(val[:-1], lo, out=lim0[:, 2])
+        np.subtract(val[1:], lo, out=lim0[:, 3])
     if same is None or same.all():
         return lim0, None
     lim = lim0.copy()

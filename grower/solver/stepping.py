@@ -112,7 +112,8 @@ def _scan(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.nda
         memory = _memory(float(e[0]))
         if memory <= _SHORT:
             return _scan_short(float(e[0]), memory, f, z0)
-    le = -np.log(np.maximum(e, math.exp(-_STEP_DECAY)))  # >= 0 per step
+    # -log e >= 0 per step (of the first step only when all are alike)
+    le = -np.log(np.maximum(e[:1] if uniform else e, math.exp(-_STEP_DECAY)))
     cum = le[0] * np.arange(1, k1 + 1) if uniform else np.cumsum(le)
     out = np.empty(f.shape)
     z = np.array(z0, dtype=float)
