@@ -28,7 +28,7 @@ import numpy as np
 
 from .explin import _roots_sum
 from .modes import _MAX_SWITCHES, _TOL_K, FLOAT, FULL, HOLD, VENT
-from .stepping import _sphi
+from .stepping import _sphi, _sphi2
 
 if TYPE_CHECKING:
     from .runs import _Run
@@ -93,7 +93,7 @@ def _first_root(
     if gw > 0 and g0 > -noise and not down:
         cq = 0.0
         for k, li in zip(k2, lam, strict=True):
-            cq += k * _sphi(li * w)[2] * (1 - 1e-12) if k > 0 else 0.5 * k
+            cq += k * _sphi2(li * w) * (1 - 1e-12) if k > 0 else 0.5 * k
         if cq > 0 and 0 < -d0 < 2 * cq * w:
             low = g0 - d0 * d0 / (4 * cq)
         else:
@@ -179,13 +179,15 @@ class _ScalarStep:
         self.gsum, self.c0 = run.gsum, run.c0
         self.tolq = run.tolq
         self.il, self.ilr = [1.0 / x for x in self.lam], [1.0 / x for x in self.lr]
+        self._member = -1  # the member whose heater output `qm` holds
         two = len(self.lam) == 2 and len(self.lr) == 1
         self.segment = self._segment_two if two else self._segment
 
     def inputs(self, k: int, i: int, pack: np.ndarray) -> None:
         """Step k's inputs for member i from ``pack``, whose row k is (h, b (r), db (r),
         b_held (r'), db_held (r'), qb, dqb, setpoint, vent)."""
-        self.qm = float(self.run.q[i])
+        if i != self._member:
+            self._member, self.qm = i, float(self.run.q[i])
         v = pack[k].tolist()
         rf, rr = len(self.lam), len(self.lr)
         self.h = v[0]
@@ -196,8 +198,11 @@ class _ScalarStep:
 
     def qreq(self, s: float, x: list[float], tc: float) -> tuple[float, float]:
         """Heater power that holds the air at tc from state x at offset s, and its rate."""
+        return self._qreq(s, x[1:], tc)
+
+    def _qreq(self, s: float, xr: list[float], tc: float) -> tuple[float, float]:
+        """`qreq` from the temperatures of the nodes other than the air, xr."""
         frac = s / self.h
-        xr = x[1:]
         q = self.qbk + self.dqbk * frac + tc * self.gsum
         dq = self.dqbk / self.h
         for la, row, bi, di, ci, wi in zip(
@@ -209,41 +214,43 @@ class _ScalarStep:
         return q, dq
 
     def classify(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
+        """The mode at offset s from node temperatures x: (the state, with the air moved
+        to a clamp or by a jump, mode, heater and vent output, heat and vent jump [J]).
+        ``start``: at a step's start, where the air may jump to the vent temperature (above
+        it) or to the setpoint (below it, with a heater without limit)."""
         tol, sp, vt, qm = _TOL_K, self.sp, self.vt, self.qm
-        x = list(x)
         ta, jh, jv = x[0], 0.0, 0.0
-        heater = qm > 0
         if start:
             if ta > vt + tol:
                 jv, ta = self.c0 * (ta - vt), vt
-            if heater and math.isinf(qm) and ta < sp - tol:
+            if qm == _inf and ta < sp - tol:
                 jh, ta = self.c0 * (sp - ta), sp
-        md, heat, vent = FLOAT, 0.0, 0.0
-        cold = heater and ta < sp - tol
-        if cold:
-            md, heat = FULL, qm
-        at_s = heater and not cold and abs(ta - sp) <= tol
-        at_v = not at_s and abs(ta - vt) <= tol
-        if at_s or at_v:
-            tc = sp if at_s else vt
-            q, dq = self.qreq(s, [tc, *x[1:]], tc)
-            t0, tm = abs(q) <= self.tolq, abs(q - qm) <= self.tolq
-            vent_ok = q < -self.tolq or (t0 and dq < 0)
-            if at_s:
-                if q > qm + self.tolq or (tm and dq > 0):
-                    md = FULL
-                elif q > self.tolq or (t0 and dq >= 0):
-                    md = HOLD
-                elif abs(sp - vt) <= tol and vent_ok:
-                    md = VENT
-            elif vent_ok:
+        xr = x[1:]
+        if qm > 0 and ta < sp - tol:
+            return [ta, *xr], FULL, qm, 0.0, jh, jv
+        at_s = qm > 0 and abs(ta - sp) <= tol
+        if not at_s and not abs(ta - vt) <= tol:
+            return [ta, *xr], FLOAT, 0.0, 0.0, jh, jv
+        tc = sp if at_s else vt
+        q, dq = self._qreq(s, xr, tc)
+        tolq = self.tolq
+        t0 = abs(q) <= tolq
+        vent_ok = q < -tolq or (t0 and dq < 0)
+        md = FLOAT
+        if at_s:
+            if q > qm + tolq or (abs(q - qm) <= tolq and dq > 0):
+                return [ta, *xr], FULL, qm, 0.0, jh, jv
+            if q > tolq or (t0 and dq >= 0):
+                md = HOLD
+            elif abs(sp - vt) <= tol and vent_ok:
                 md = VENT
-            if md in (HOLD, VENT):
-                ta = tc
-            heat = q if md == HOLD else qm if md == FULL else 0.0
-            vent = -q if md == VENT else 0.0
-        x[0] = ta
-        return x, md, heat, vent, jh, jv
+        elif vent_ok:
+            md = VENT
+        if md == HOLD:
+            return [tc, *xr], HOLD, q, 0.0, jh, jv
+        if md == VENT:
+            return [tc, *xr], VENT, 0.0, -q, jh, jv
+        return [ta, *xr], FLOAT, 0.0, 0.0, jh, jv
 
     def _segment(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
         """Mode md from offset s and node temperatures x to its next switch (or the step's

@@ -224,3 +224,19 @@ def _sphi(x: float) -> tuple[float, float, float, float]:
     p1 = math.expm1(x) / x
     p2 = (p1 - 1.0) / x
     return math.exp(x), p1, p2, (p2 - 0.5) / x
+
+
+def _sphi2(x: float) -> float:
+    """``phi2(x)`` alone, as `_sphi` computes it."""
+    if abs(x) < 0.05:
+        s3 = _R12 * x + _R11
+        s3 = s3 * x + _R10
+        s3 = s3 * x + _R9
+        s3 = s3 * x + _R8
+        s3 = s3 * x + _R7
+        s3 = s3 * x + _R6
+        s3 = s3 * x + _R5
+        s3 = s3 * x + _R4
+        s3 = s3 * x + _R3
+        return 0.5 + x * s3
+    return (math.expm1(x) / x - 1.0) / x
