@@ -219,8 +219,8 @@ class _Serial:
             bad = pw[:-1].dot(coef) > lim
             if m.lim0 is not None and not m.same[k]:  # type: ignore[index]
                 bad[0] = pw[0].dot(coef) > m.lim0[k]
-            j = int(bad.argmax()) // bad.shape[1]
-            return (j if bad[j].any() else nl), pw
+            j = int(bad.argmax())  # the first failing slack, row-major; 0 if none fails
+            return (j // bad.shape[1] if bad.item(j) else nl), pw
         coef = np.array([[a * x, c * abs(x)] for a, c, x in zip(m.wvl, m.cvl, d, strict=True)])
         if not d:  # no modes (the lumped network with the air held)
             coef = coef.reshape(0, 2)
