@@ -125,6 +125,17 @@ def _first_root(
         return d, d2
 
     r = len(lam)
+    if r == 2:  # `fd` with its sums written out (the same arithmetic): Newton's hot loop
+        (a0, a1), (l0, l1), (k0, k1) = a, lam, k2
+        al0, al1 = a0 * l0, a1 * l1
+
+        def fd(s: float) -> tuple[float, float]:
+            e0, e1 = _expm1(l0 * s), _expm1(l1 * s)
+            out = g0 + b1 * s + a0 * e0 + a1 * e1
+            d = b1 + al0 * (e0 + 1.0) + al1 * (e1 + 1.0)
+            d2 = 0.0 + k0 * (e0 + 1.0) + k1 * (e1 + 1.0)
+            return out, (d - out * d2 / (2 * d) if d else 0.0)
+
     br = [0.0, w]
     if r == 2:
         j = 0 if lam[0] >= lam[1] else 1
