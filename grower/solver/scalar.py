@@ -6,7 +6,9 @@ written as an increment on ``g0`` so that g near a switching point is not lost i
 round-off. Its first zero is bracketed between the inflection points (closed form for
 two modes) and found by Halley steps (Newton's with the curvature, which g has at no
 extra cost) kept inside the bracket, else bisection. For one member numpy's per-call
-overhead would dominate such tiny arrays, so this is plain ``math``.
+overhead would dominate such tiny arrays, so this is plain ``math``; for a network of two
+nodes (two modes, one with the air held) the sums over the modes are written out, in the
+same order as the general loops (the same results to the bit).
 
 References
 ----------

@@ -5,8 +5,9 @@ whole horizon (from a zero modal state) and the limits its watched value must ke
 the curvature bound of that solution already taken off. A run of whole steps in one mode
 is then that solution plus the decay of the state's deviation from it, ``z_j = zb_j +
 P_j d`` with ``P_j`` the product of the step decays; a window of steps is checked in a
-dozen array operations (the deviation's share of the curvature bound by the triangle
-inequality), the first step that fails is split exactly in Python floats (`scalar`), and
+few array operations (the deviation's share of the curvature bound by the triangle
+inequality; with one step length, one matrix product against the limits stored as slacks),
+the first step that fails is split exactly in Python floats (`scalar`), and
 the accepted runs are turned into temperatures, integrals and energies in one pass per
 mode at the end. Arrays over the horizon are mode-major, ``(r, N)``: numpy is slow on
 operations that broadcast along a short last axis.
