@@ -5,8 +5,9 @@ whole horizon (from a zero modal state) and the limits its watched value must ke
 the curvature bound of that solution already taken off. A run of whole steps in one mode
 is then that solution plus the decay of the state's deviation from it, ``z_j = zb_j +
 P_j d`` with ``P_j`` the product of the step decays; a window of steps is checked in a
-dozen array operations (the deviation's share of the curvature bound by the triangle
-inequality), the first step that fails is split exactly in Python floats (`scalar`), and
+few array operations (the deviation's share of the curvature bound by the triangle
+inequality; with one step length, one matrix product against the limits stored as slacks),
+the first step that fails is split exactly in Python floats (`scalar`), and
 the accepted runs are turned into temperatures, integrals and energies in one pass per
 mode at the end. Arrays over the horizon are mode-major, ``(r, N)``: numpy is slow on
 operations that broadcast along a short last axis.
@@ -58,6 +59,9 @@ class _ModeData:
     wvl: list[float]  # wv and cv as Python floats
     cvl: list[float]
     zrows: np.ndarray  # (N, r) view of zb, a grid time a row
+    lim: np.ndarray | None  # one step length: (N-1, L) the limits as slacks, see `_limits`
+    lim0: np.ndarray | None  # the same without the clamp's change (a window's first step)
+    el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
 
 
 class _Serial:
@@ -169,6 +173,9 @@ class _Serial:
             np.cumprod(np.broadcast_to(tab.e[0], (_LMAX, lam.size)), axis=0, out=pw[1:])
             cv = cv * self.hh8[0]
         fr = rn.f if tc is None else rn.r
+        lim = lim0 = None
+        if p.uniform:
+            lim, lim0 = _limits(val, hi, lo, same)
         self.data[md] = _ModeData(
             zb,
             beta,
@@ -187,11 +194,34 @@ class _Serial:
             wv.tolist(),
             cv.tolist(),
             zb.T,
+            lim,
+            lim0,
+            tab.e[0].tolist(),
         )
         return self.data[md]
 
     def _window(self, m: _ModeData, k: int, nl: int, d: list[float]) -> tuple[int, np.ndarray]:
-        """Steps k.. that keep mode m from deviation d: their number and the decays (nl+1, r)."""
+        """Steps k.. that keep mode m from deviation d: their number and the decays (nl+1, r).
+
+        With one step length the deviation's share of the value at both ends of step j and
+        of its bound is ``pw[j] @ coef`` against the slacks ``lim[j]`` (`_limits`): one
+        matrix product and one comparison for the whole window.
+        """
+        if m.lim is not None:
+            flat = []
+            two = m.lo is None
+            for a, c, x, e in zip(m.wvl, m.cvl, d, m.el, strict=True):
+                a, b = a * x, c * abs(x)
+                ae = a * e  # the deviation's share decays by e over the step
+                flat += (a + b, ae + b) if two else (a + b, ae + b, b - a, b - ae)
+            lim = m.lim[k : k + nl]
+            coef = np.array(flat).reshape(len(d), lim.shape[1])
+            pw = m.pw[: nl + 1]  # type: ignore[index]
+            bad = pw[:-1].dot(coef) > lim
+            if m.lim0 is not None and not m.same[k]:  # type: ignore[index]
+                bad[0] = pw[0].dot(coef) > m.lim0[k]
+            j = int(bad.argmax())  # the first failing slack, row-major; 0 if none fails
+            return (j // bad.shape[1] if bad.item(j) else nl), pw
         coef = np.array([[a * x, c * abs(x)] for a, c, x in zip(m.wvl, m.cvl, d, strict=True)])
         if not d:  # no modes (the lumped network with the air held)
             coef = coef.reshape(0, 2)
@@ -348,6 +378,31 @@ class _Serial:
                 rn.heat_w[i][steps], rn.step_heat[i][steps] = qs, iq
             else:
                 rn.vent_w[i][steps], rn.step_vent[i][steps] = -qs, -iq
+
+
+def _limits(
+    val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None, same: np.ndarray | None
+) -> tuple[np.ndarray, np.ndarray | None]:
+    """A mode's limits on its watched value as slacks for `_Serial._window`, (N-1, L).
+
+    Step j keeps the mode when both end values plus the bound stay at or under ``hi[j]``
+    (and less it at or above ``lo[j]``): with the deviation's share ``dv`` at the step's
+    start, ``dv e`` at its end and ``bd`` of the bound, ``dv + bd <= hi - val[j]``, ``dv e
+    + bd <= hi - val[j+1]``, ``bd - dv <= val[j] - lo`` and ``bd - dv e <= val[j+1] - lo``
+    (L = 2 or 4 columns). A step whose clamp temperature changed fails outright (-inf)
+    unless it is a window's first; ``lim0`` keeps those steps' slacks for that case.
+    """
+    lim0 = np.empty((hi.size, 2 if lo is None else 4))  # written by column, read by row
+    np.subtract(hi, val[:-1], out=lim0[:, 0])
+    np.subtract(hi, val[1:], out=lim0[:, 1])
+    if lo is not None:
+        np.subtract(val[:-1], lo, out=lim0[:, 2])
+        np.subtract(val[1:], lo, out=lim0[:, 3])
+    if same is None or same.all():
+        return lim0, None
+    lim = lim0.copy()
+    lim[~same] = -np.inf
+    return lim, lim0
 
 
 def _put_columns(dst: np.ndarray, rows: np.ndarray, cols: np.ndarray, first: int) -> None:
