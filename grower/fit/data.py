@@ -361,7 +361,7 @@ def prepare(
     wind = float(np.nanmean(cols["wind_speed_m_s"][rows])) if "wind_speed_m_s" in cols else 0.0
     if "wind_speed_m_s" not in cols:
         notes.append(
-            "no wind logged: the geometry is taken at calm (0 m/s), so the fitted factors are "
+            "no wind logged: the geometry is taken at calm (no wind), so the fitted factors are "
             "on the calm house's conductances and the runs apply them at their own wind; on "
             "a windy record they come out high, the cautious side (give wind_speed_m_s in an "
             "--outside file)"
