@@ -113,6 +113,25 @@ class _Serial:
             out[j] = _recur1(tab.e[:, j], self.rn.p.uniform, forcing[j][None], np.zeros(1), 1)[0]
         return out
 
+    def _heater(self, lam: np.ndarray, tab, bq: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
+        """(r, N) a particular solution under a unit heater, the modal forcing bq (r, 1).
+
+        Any particular solution will do (a run is it plus the decay of the deviation
+        from it): for a mode that forgets within the horizon, the steady response
+        ``-bq / lam``, the fixed point of ``z = e z + f1 bq`` at every step length, with
+        no recurrence; for a slower one, the response from zero (a steady value far larger
+        than the state would cost digits in the deviation).
+        """
+        span = float(self.rn.p.times_s[-1] - self.rn.p.times_s[0])
+        fast = -lam * span >= 1.0
+        out = np.empty((lam.size, self.nt))
+        if fast.any():
+            out[fast] = (-bq[fast, 0] / lam[fast])[:, None]
+        uni, zero = self.rn.p.uniform, np.zeros(1)
+        for j in np.flatnonzero(~fast):
+            out[j] = _recur1(tab.e[:, j], uni, (tab.f1[:, j] * bq[j, 0])[None], zero, 1)[0]
+        return out
+
     def _free(self) -> np.ndarray:
         """(r, N) free float from a zero modal state, shared by FLOAT and FULL."""
         if self._zf is None:
@@ -133,8 +152,7 @@ class _Serial:
             zb, beta, db = self._free(), self.bf[:, :-1], self.dbf
             if md == FULL:
                 bq = rn.bq[:, None]
-                zq = self._base(lam, tab, tab.f1.T * bq)
-                zb, beta = zb + self.qm * zq, beta + self.qm * bq
+                zb, beta = zb + self.qm * self._heater(lam, tab, bq), beta + self.qm * bq
         else:
             lam, tab, wv = rn.r.lam, p.red, rn.wq
             tc = np.asarray(self.sp if md == HOLD else self.vt, dtype=float)
