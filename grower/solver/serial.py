@@ -60,7 +60,8 @@ class _ModeData:
     cvl: list[float]
     zrows: np.ndarray  # (N, r) view of zb, a grid time a row
     lim: np.ndarray | None  # one step length: (N-1, L) the limits as slacks, see `_limits`
-    lim0: np.ndarray | None  # the same without the clamp's change (a window's first step)
+    cut: np.ndarray | None  # one step length: (N-1,) the first later step whose clamp
+    # temperature changed (N-1 if none), where a window stops
     el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
 
 
@@ -191,9 +192,9 @@ class _Serial:
             np.cumprod(np.broadcast_to(tab.e[0], (_LMAX, lam.size)), axis=0, out=pw[1:])
             cv = cv * self.hh8[0]
         fr = rn.f if tc is None else rn.r
-        lim = lim0 = None
+        lim = cut = None
         if p.uniform:
-            lim, lim0 = _limits(val, hi, lo, same)
+            lim, cut = _limits(val, hi, lo), _cuts(same, self.nt - 1)
         self.data[md] = _ModeData(
             zb,
             beta,
@@ -213,7 +214,7 @@ class _Serial:
             cv.tolist(),
             zb.T,
             lim,
-            lim0,
+            cut,
             tab.e[0].tolist(),
         )
         return self.data[md]
@@ -232,12 +233,11 @@ class _Serial:
                 a, b = a * x, c * abs(x)
                 ae = a * e  # the deviation's share decays by e over the step
                 flat += (a + b, ae + b) if two else (a + b, ae + b, b - a, b - ae)
+            nl = min(nl, int(m.cut[k]) - k)  # type: ignore[index]
             lim = m.lim[k : k + nl]
             coef = np.array(flat).reshape(len(d), lim.shape[1])
             pw = m.pw[: nl + 1]  # type: ignore[index]
             bad = pw[:-1].dot(coef) > lim
-            if m.lim0 is not None and not m.same[k]:  # type: ignore[index]
-                bad[0] = pw[0].dot(coef) > m.lim0[k]
             j = int(bad.argmax())  # the first failing slack, row-major; 0 if none fails
             return (j // bad.shape[1] if bad.item(j) else nl), pw
         coef = np.array([[a * x, c * abs(x)] for a, c, x in zip(m.wvl, m.cvl, d, strict=True)])
@@ -398,29 +398,33 @@ class _Serial:
                 rn.vent_w[i][steps], rn.step_vent[i][steps] = -qs, -iq
 
 
-def _limits(
-    val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None, same: np.ndarray | None
-) -> tuple[np.ndarray, np.ndarray | None]:
+def _limits(val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None) -> np.ndarray:
     """A mode's limits on its watched value as slacks for `_Serial._window`, (N-1, L).
 
     Step j keeps the mode when both end values plus the bound stay at or under ``hi[j]``
     (and less it at or above ``lo[j]``): with the deviation's share ``dv`` at the step's
     start, ``dv e`` at its end and ``bd`` of the bound, ``dv + bd <= hi - val[j]``, ``dv e
     + bd <= hi - val[j+1]``, ``bd - dv <= val[j] - lo`` and ``bd - dv e <= val[j+1] - lo``
-    (L = 2 or 4 columns). A step whose clamp temperature changed fails outright (-inf)
-    unless it is a window's first; ``lim0`` keeps those steps' slacks for that case.
+    (L = 2 or 4 columns).
     """
-    lim0 = np.empty((hi.size, 2 if lo is None else 4))  # written by column, read by row
-    np.subtract(hi, val[:-1], out=lim0[:, 0])
-    np.subtract(hi, val[1:], out=lim0[:, 1])
+    lim = np.empty((hi.size, 2 if lo is None else 4))  # written by column, read by row
+    np.subtract(hi, val[:-1], out=lim[:, 0])
+    np.subtract(hi, val[1:], out=lim[:, 1])
     if lo is not None:
-        np.subtract(val[:-1], lo, out=lim0[:, 2])
-        np.subtract(val[1:], lo, out=lim0[:, 3])
-    if same is None or same.all():
-        return lim0, None
-    lim = lim0.copy()
-    lim[~same] = -np.inf
-    return lim, lim0
+        np.subtract(val[:-1], lo, out=lim[:, 2])
+        np.subtract(val[1:], lo, out=lim[:, 3])
+    return lim
+
+
+def _cuts(same: np.ndarray | None, steps: int) -> np.ndarray:
+    """(steps,) for each step k the first step after it whose clamp temperature changed
+    (``steps`` if none): a window from k stops there, since a run of a clamp mode cannot
+    carry across the change (the step is classified anew; a window's first step may be
+    one that changed)."""
+    if same is None:
+        return np.full(steps, steps)
+    change = np.append(np.flatnonzero(~same), steps)
+    return change[np.searchsorted(change, np.arange(steps), side="right")]
 
 
 def _put_columns(dst: np.ndarray, rows: np.ndarray, cols: np.ndarray, first: int) -> None:
