@@ -1,7 +1,8 @@
 """The thermostat for one member at a time: long strides of whole steps, stored at the end.
 
-Each mode gets, once per member, its particular solution over the
-whole horizon (from a zero modal state) and the limits its watched value must keep, with
+Each mode gets, once per member, a particular solution over the whole horizon (from a
+zero modal state; the heater's share at full output is its steady response, see
+`_Serial._heater`) and the limits its watched value must keep, with
 the curvature bound of that solution already taken off. A run of whole steps in one mode
 is then that solution plus the decay of the state's deviation from it, ``z_j = zb_j +
 P_j d`` with ``P_j`` the product of the step decays; a window of steps is checked in a
