@@ -33,6 +33,15 @@ def register(subparsers, common: argparse.ArgumentParser) -> None:
         help="outside temperature from a forecast/observation CSV (the forecast format)",
     )
     p.add_argument(
+        "--weather-archive",
+        action="store_true",
+        help=(
+            "fetch the site's past hourly weather (Open-Meteo's archive, cached) for the "
+            "record's days and take from it what the record lacks: cloud cover, wind, sun "
+            "(and the outside temperature only where the record has none); needs a [site]"
+        ),
+    )
+    p.add_argument(
         "--model",
         choices=("auto", "lumped", "two-node"),
         default="auto",
@@ -117,7 +126,16 @@ def run(args: argparse.Namespace) -> int:
         args.log, timezone=zone, columns=columns_option(args.column), day_first=day_first
     )
     record = logger.resample(record)  # 1-second readings: 5-minute means first
+    if args.outside and args.weather_archive:
+        raise InputError(
+            "give --outside FILE or --weather-archive, not both (each gives the outside weather)",
+            where="--weather-archive",
+        )
     outside = weather.read_forecast_csv(args.outside, site=h.site) if args.outside else None
+    if args.weather_archive:
+        from grower.fit import archive
+
+        outside = archive.for_record(h, record)
     result = fit_house(
         h,
         record,
@@ -125,6 +143,7 @@ def run(args: argparse.Namespace) -> int:
         model=args.model,
         with_days=args.with_days,
         anchor=args.anchor,
+        outside_fills=args.weather_archive,
     )
     if args.write and result.rough and not args.keep_rough:
         raise InputError(

@@ -138,9 +138,17 @@ def _forecast_on_rows(record: LoggerRecord, keep: np.ndarray, columns: dict[str,
 
 
 def _outside_columns(
-    record: LoggerRecord, outside, notes: list[str]
+    record: LoggerRecord, outside, notes: list[str], fills: bool = False
 ) -> tuple[dict[str, np.ndarray], np.ndarray, str]:
-    """The boundary's inputs at every record row, the rows they cover, and their source."""
+    """The boundary's inputs at every record row, the rows they cover, and their source.
+
+    `fills` (a weather archive, `grower.fit.archive`): the record's own outside column is
+    kept on every row with a reading (the local truth); `outside` gives the temperature
+    only on rows without one, and the dew point only when the record has no outside
+    column at all (a dew point from a grid cell beside a local temperature can lie above
+    it, and it goes with the temperature it was read with); the rest (cloud, wind, sun)
+    comes from `outside`.
+    """
     n = record.n_rows
     cols: dict[str, np.ndarray] = {}
     covered = np.ones(n, dtype=bool)
@@ -155,20 +163,45 @@ def _outside_columns(
                 where=outside.source.removeprefix("file "),
             )
         if not covered.all():
-            notes.append(
-                f"{int((~covered).sum())} row(s) outside the span of the outside file left out"
-            )
+            what = "the weather archive" if fills else "the outside file"
+            notes.append(f"{int((~covered).sum())} row(s) outside the span of {what} left out")
         for c in outside.given:
             shift = outside.shortwave_offset_s if c == "shortwave_w_m2" else 0.0
             cols[c] = np.interp(record.utc_s, src_s + shift, outside.values(c))
         source = outside.source
-        if record.outside_c is not None:
+        if fills and record.outside_c is not None:
+            own = record.outside_c
+            read = np.isfinite(own)
+            taken = [c for c in outside.given if c not in ("temperature_c", "dew_point_c")]
+            cols.pop("dew_point_c", None)
+            if "temperature_c" in cols:
+                cols["temperature_c"] = np.where(read, own, cols["temperature_c"])
+            filled = int((~read & covered).sum())
+            if "temperature_c" in cols and filled:
+                taken.append("temperature_c")
+                notes.append(
+                    f"{filled} row(s) without an outside reading take the weather archive's "
+                    "outside temperature"
+                )
+            if record.sun_w_m2 is not None and "shortwave_w_m2" in taken:
+                taken.remove("shortwave_w_m2")  # the record's own sun column is kept
+            names = ", ".join(_WHAT[c] for c in taken if c in _WHAT) or "nothing"
+            source = (
+                f"the record's {record.columns['outside']} column; {names} from {outside.source}"
+            )
+        elif fills:
+            taken = [c for c in outside.given if c in _WHAT]
+            if record.sun_w_m2 is not None and "shortwave_w_m2" in taken:
+                taken.remove("shortwave_w_m2")
+            names = ", ".join("temperature" if c == "temperature_c" else _WHAT[c] for c in taken)
+            source = f"{outside.source} ({names}; the record has no outside column)"
+        elif record.outside_c is not None:
             notes.append("outside temperature from the outside file (the record's column ignored)")
     else:
         if record.outside_c is None:
             raise InputError(
                 "no outside temperature: the record has no outside column; give --outside FILE "
-                "(a forecast or observation CSV for the same days)",
+                "(a forecast or observation CSV for the same days) or --weather-archive",
                 where=record.path,
             )
         cols["temperature_c"] = record.outside_c
@@ -176,6 +209,17 @@ def _outside_columns(
     if record.sun_w_m2 is not None:
         cols["shortwave_w_m2"] = record.sun_w_m2
     return cols, covered, source
+
+
+#: how the source line names each column it took from a weather archive
+_WHAT = {
+    "temperature_c": "temperature (rows without a reading)",
+    "dew_point_c": "dew point",
+    "cloud_cover_pct": "cloud cover",
+    "cloud_cover_low_pct": "low cloud",
+    "wind_speed_m_s": "wind",
+    "shortwave_w_m2": "sun",
+}
 
 
 def _night(house: House, record: LoggerRecord, sun: np.ndarray | None) -> np.ndarray:
@@ -244,6 +288,7 @@ def prepare(
     *,
     outside=None,
     with_days: bool = False,
+    outside_fills: bool = False,
 ) -> FitData:
     """Select the usable rows, split them into segments and put the boundary on each.
 
@@ -255,6 +300,9 @@ def prepare(
         cloud, wind, sun if it has them) for the record's days; None: the record's own
         outside column
     with_days : keep daytime rows too (the sun's gain coefficient is then fitted)
+    outside_fills : `outside` is a weather archive that fills in what the record lacks
+        (the record's own outside temperature kept where it has one; see
+        `_outside_columns`), not a file that replaces the record's outside column
 
     Raises
     ------
@@ -263,7 +311,7 @@ def prepare(
         too flat to learn from (the message says what to log).
     """
     notes: list[str] = list(record.notes)
-    cols, covered, source = _outside_columns(record, outside, notes)
+    cols, covered, source = _outside_columns(record, outside, notes, outside_fills)
     sun = cols.get("shortwave_w_m2")
     if with_days and sun is None:
         raise InputError(
@@ -363,8 +411,8 @@ def prepare(
         notes.append(
             "no wind logged: the geometry is taken at calm (no wind), so the fitted factors are "
             "on the calm house's conductances and the runs apply them at their own wind; on "
-            "a windy record they come out high, the cautious side (give wind_speed_m_s in an "
-            "--outside file)"
+            "a windy record they come out high, the cautious side (--weather-archive, or "
+            "wind_speed_m_s in an --outside file, gives the wind)"
         )
     kw = dict(
         wind_m_s=wind,

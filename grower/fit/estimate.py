@@ -55,8 +55,10 @@ sky's is only how the clear sky's depression changes with the outside temperatur
 are fitted with the rest, so the intervals of K and C carry their uncertainty (the
 linearised covariance below is that of all parameters together, Bates & Watts 1988
 §2.1; the profile of K over the nuisances, to first order). A record that cannot pin
-the conduction down this way is refused with the advice to log the cloud cover; one
-that can states the wider interval it has.
+the conduction down this way is refused with the advice to give the cloud cover
+(``grower fit --weather-archive`` fetches it for the house's site from a weather archive,
+`grower.fit.archive`; or an --outside file with cloud_cover_pct); one that can states
+the wider interval it has.
 
 Confidence intervals: the linearised ones, covariance ``s² (JᵀJ)⁻¹`` with J the Jacobian
 at the optimum (central differences) and ``s²`` the residual variance, widened for the
@@ -500,7 +502,8 @@ def estimate(
                 refusal=(
                     "the nights differ more than one sky part allows (a cloud not logged?), "
                     f"and with one for each night {f.refusal}; or give the cloud cover "
-                    "(cloud_cover_pct in an --outside file)"
+                    "(--weather-archive fetches it for the house's [site], or cloud_cover_pct in an "
+                    "--outside file)"
                 ),
             )
     return _spanning(best, near) if len(near) > 1 else best

@@ -74,6 +74,8 @@ class FitResult:
     quality: str = "good"
     #: lag-1 autocorrelation of the residuals (within segments)
     residual_lag1: float = float("nan")
+    #: credit the report must show for the outside data (CC BY), or None
+    attribution: str | None = None
 
     @property
     def rough(self) -> bool:
@@ -127,6 +129,7 @@ def fit_house(
     with_days: bool = False,
     anchor: str = "auto",
     today: dt.date | None = None,
+    outside_fills: bool = False,
 ) -> FitResult:
     """Fit the house's thermal model to its logged record.
 
@@ -139,6 +142,9 @@ def fit_house(
     with_days : include daytime rows (with a fitted sun-gain factor)
     anchor : "auto", "geometry" or "heater" (see `grower.fit.estimate`)
     today : the fit date stored with a calibration (default: today)
+    outside_fills : `outside` is a weather archive (`grower.fit.archive`) that fills in
+        what the record lacks (cloud, wind, sun; the temperature only where the record
+        has none) instead of replacing the record's outside column
 
     Raises
     ------
@@ -148,7 +154,7 @@ def fit_house(
     """
     if model not in MODELS:
         raise ValueError(f"model must be one of {MODELS}; got {model!r}")
-    data = prepare(house, record, outside=outside, with_days=with_days)
+    data = prepare(house, record, outside=outside, with_days=with_days, outside_fills=outside_fills)
     anchor_used = resolve_anchor(data, anchor)
     lumped = estimate(data, "lumped", anchor_used) if model in ("auto", "lumped") else None
     two = None
@@ -210,6 +216,7 @@ def fit_house(
         record_start=record.local(int(rows[0])),
         record_end=record.local(int(rows[-1])),
         outside_source=data.outside_source,
+        attribution=getattr(outside, "attribution", None),
         chosen=chosen,
         other=other,
         choice=choice,
@@ -246,8 +253,8 @@ def sky_notes(fit: ModelFit, cloud_given: bool) -> tuple[str, ...]:
             "no cloud cover logged: the sky is fitted night by night, one sky part (the "
             "cover's exchange with a clear sky) and each night's share of the clear sky's "
             "depression (a cloud warms the sky, it does not change the cover); what that "
-            "leaves uncertain is in the intervals (give cloud_cover_pct in an --outside file "
-            "to narrow them)"
+            "leaves uncertain is in the intervals (--weather-archive, or cloud_cover_pct in "
+            "an --outside file, gives the cloud cover and narrows them)"
         )
     elif "ks" in fit.free_names:
         out.append(f"the sky part is fitted apart from the conduction{clear}")

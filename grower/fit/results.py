@@ -11,7 +11,7 @@ import numpy as np
 ADVICE = {
     "k_w_per_k": "log nights with the heater both on and off, with its power (W)",
     "k_outside_w_per_k": "log nights with the heater both on and off, with its power (W)",
-    "k_sky_w_per_k": "log the cloud cover (cloud_cover_pct in an --outside file), and nights both clear and cloudy",
+    "k_sky_w_per_k": "give the cloud cover (--weather-archive, or cloud_cover_pct in an --outside file), and log nights both clear and cloudy",
     "c_j_per_k": "log at least two clear nights with the heater off, so the house cools at its own pace",
     "time_constant_h": "log at least two clear nights with the heater off, so the house cools at its own pace",
     "heater_output_w": "log the heater's on/off state on nights when it cycles on and off (running part of the time, not all night)",

@@ -42,6 +42,9 @@ SWINBANK_W_M2_K6 = 5.31e-13
 #: the Stefan–Boltzmann constant [W m-2 K-4] (CODATA 2018, as in scipy.constants)
 STEFAN_BOLTZMANN = 5.670374419e-8
 ZERO_C_K = 273.15
+#: one-layer cloud factor for a black cloud base at 2 km, exp(−2/8.2) (Martin & Berdahl
+#: 1984's cloud-base factor exp(−z/8.2 km); from memory)
+CLOUD_BASE_2KM = float(np.exp(-2.0 / 8.2))
 #: the site of every synthetic house (invented farm at 44.3° N; late-November nights there
 #: run from about 16:45 to 07:15 local time)
 SITE = (44.30, -76.50, "America/Toronto")
@@ -102,6 +105,9 @@ class TrueHouse:
     #: share of the clear sky's depression below the outside air that is kept (1: clear;
     #: a cloud the record does not log makes it smaller)
     clear_share: float = 1.0
+    #: cloud cover [0–1] of unknown height, through the one-layer correction of the sky's
+    #: emissivity (`cloudy_sky_c`); what a weather archive would report as cloud_cover
+    cloud_fraction: float = 0.0
 
     @property
     def two_node(self) -> bool:
@@ -113,7 +119,8 @@ class TrueHouse:
 
     def rhs(self, y: np.ndarray, t_out_c: float, q_w: float) -> np.ndarray:
         """dT/dt [K/s] of the air (and mass) at the outside temperature and heat."""
-        t_sky = t_out_c - self.clear_share * (t_out_c - swinbank_sky_c(t_out_c))
+        t_clear = cloudy_sky_c(t_out_c, self.cloud_fraction)
+        t_sky = t_out_c - self.clear_share * (t_out_c - t_clear)
         ta = y[0]
         loss = (
             self.k_outside_w_per_k * (t_out_c - ta)
@@ -147,6 +154,17 @@ def swinbank_sky_c(t_air_c):
     """Clear-sky temperature [°C] from the air's, Swinbank (1963): (5.31e-13/σ)^¼·T^1.5."""
     t = np.asarray(t_air_c, dtype=float) + ZERO_C_K
     return (SWINBANK_W_M2_K6 / STEFAN_BOLTZMANN) ** 0.25 * t**1.5 - ZERO_C_K
+
+
+def cloudy_sky_c(t_air_c, cloud_fraction):
+    """Sky temperature [°C] under a cloud cover of unknown height [0–1]: the clear sky's
+    emissivity ε₀ (Swinbank 1963) raised to ε = ε₀ + (1 − ε₀)·k·c with k = exp(−2/8.2)
+    for a black cloud base at 2 km (the cloud-base factor of Martin & Berdahl 1984,
+    attribution and the 8.2 km scale from memory), T_sky = ε^¼·T."""
+    t = np.asarray(t_air_c, dtype=float) + ZERO_C_K
+    eps0 = SWINBANK_W_M2_K6 * t**2 / STEFAN_BOLTZMANN
+    eps = np.minimum(eps0 + (1.0 - eps0) * CLOUD_BASE_2KM * np.asarray(cloud_fraction), 1.0)
+    return eps**0.25 * t - ZERO_C_K
 
 
 def outside_curve(hours: np.ndarray, night: int, rng: np.random.Generator) -> np.ndarray:
@@ -208,12 +226,15 @@ def write_record(
     heater: str = "power",
     seed: int = 0,
     cloud: tuple[float, ...] | None = None,
+    cloud_cover: tuple[float, ...] | None = None,
 ) -> None:
     """Simulate `nights` nights (18:00–06:00 local time, `ROW_MINUTES` rows) and write them.
 
     `heater` "power" logs the power [W]; "state" logs on/off, the heater then giving
     `step_w` when on (on later nights, runs of 60–120 minutes on and off). `cloud`: per
     night, the share of the clear sky's depression a cloud takes away (not logged).
+    `cloud_cover`: per night, the cloud cover [0–1] (of unknown height; not logged, but
+    what a weather archive would give: `cloudy_sky_c`).
     """
     import pandas as pd
 
@@ -235,6 +256,8 @@ def write_record(
         if house.two_node:
             x0.append(_steady_mass(house, air0, t_out[0]) + rng.uniform(1.0, 4.0))
         night_house = house if cloud is None else replace(house, clear_share=1.0 - cloud[n])
+        if cloud_cover is not None:
+            night_house = replace(night_house, cloud_fraction=cloud_cover[n])
         air = integrate(night_house, hours * 3600.0, t_out, q, np.array(x0))
         inside = air + rng.normal(0.0, noise_k, air.size)
         for j, when in enumerate(index):
@@ -332,6 +355,7 @@ def _write(
     noise_k: float,
     name: str,
     cloud: tuple[float, ...] | None = None,
+    cloud_cover: tuple[float, ...] | None = None,
 ) -> Record:
     folder.mkdir(parents=True, exist_ok=True)
     house_path = folder / f"{name}.toml"
@@ -346,6 +370,7 @@ def _write(
         heater=heater,
         seed=seed,
         cloud=cloud,
+        cloud_cover=cloud_cover,
     )
     return Record(house_path, log_path, _truth(truth_house, step_w, heater), heater, truth_house)
 
@@ -431,11 +456,14 @@ def sky_share_house(
     cover: str = "double-poly",
     ach: float = 1.0,
     cloud: tuple[float, ...] | None = None,
+    cloud_cover: tuple[float, ...] | None = None,
 ) -> Record:
     """The geometry's one-node house (outside air, sky and deep ground, as
     `grower.network.lumped_reduction` gives them) with its conduction × `k_scale`, its
     sky part × `k_scale`·`sky_share` and its capacity × `c_scale`; `cloud` (one value a
-    night, 0–1, not logged) takes that share of the clear sky's depression away."""
+    night, 0–1, not logged) takes that share of the clear sky's depression away;
+    `cloud_cover` (one value a night, 0–1, not logged) is a cloud cover of unknown height
+    as a weather archive reports it (`cloudy_sky_c`)."""
     geo = _geometry_of(folder, "lumped", width=width, length=length, cover=cover, ach=ach)
     truth = replace(
         geo,
@@ -455,6 +483,7 @@ def sky_share_house(
         noise_k=noise_k,
         name="sky",
         cloud=cloud,
+        cloud_cover=cloud_cover,
     )
 
 

@@ -101,6 +101,7 @@ def fit_json(r: FitResult, written: dict[str, str] | None = None) -> dict[str, A
         "record_start": _iso(r.record_start),
         "record_end": _iso(r.record_end),
         "outside_source": r.outside_source,
+        "attribution": r.attribution,
         "model": f.model,
         "model_choice": r.choice,
         "anchor": r.anchor,
@@ -261,6 +262,8 @@ def render_fit(
         + (", nights only" if not r.with_days else ", days and nights")
         + f"); outside: {r.outside_source}"
     )
+    if r.attribution:
+        plain(console, r.attribution, "dim")
     console.print(headline(r, system))
     if r.rough:
         console.print(

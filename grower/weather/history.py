@@ -52,8 +52,35 @@ def cache_file() -> Path:
     return Path(folder) / "history-cache.sqlite"
 
 
-def fetch_history(site: Site, start: dt.date, end: dt.date, *, timeout: float = 30.0) -> Forecast:
+def _is_complete_history(response) -> bool:
+    """Cache only whole answers: 200, hourly data, and a value at the last hour of every
+    variable. The archive lags real time by a few days and answers the days it does not
+    have yet with nulls; such an answer is used once, not kept for good."""
+    if not _is_forecast(response):
+        return False
+    try:
+        hourly = response.json()["hourly"]
+        return all(
+            isinstance(hourly.get(v), list) and hourly[v] and hourly[v][-1] is not None
+            for v in _OPEN_METEO_VARS
+        )
+    except Exception:
+        return False
+
+
+def fetch_history(
+    site: Site,
+    start: dt.date,
+    end: dt.date,
+    *,
+    timeout: float = 30.0,
+    instead: str = "--history FILE",
+) -> Forecast:
     """Hourly history for `site` from `start` to `end` (dates, both included).
+
+    `instead` is the option the unreachable-service message offers instead (the
+    command's own file option). An answer whose last hour is empty (days the archive
+    does not have yet) is not cached; its empty hours at the end are dropped.
 
     Raises
     ------
@@ -84,7 +111,7 @@ def fetch_history(site: Site, start: dt.date, end: dt.date, *, timeout: float = 
             expire_after=requests_cache.NEVER_EXPIRE,
             stale_if_error=True,
             allowable_codes=(200,),
-            filter_fn=_is_forecast,
+            filter_fn=_is_complete_history,
         )
     except Exception as exc:  # sqlite3 / OS errors opening the cache
         raise InputError(
@@ -104,7 +131,7 @@ def fetch_history(site: Site, start: dt.date, end: dt.date, *, timeout: float = 
         except requests.exceptions.RequestException as exc:
             raise InputError(
                 f"cannot reach the weather history service at {base} ({_reason(exc)}) and no "
-                f"cached history for {span}; give --history FILE instead"
+                f"cached history for {span}; give {instead} instead"
             ) from None
         except sqlite3.Error as exc:
             raise InputError(
