@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .explin import _ExpLin, _profile, _solve
+from .explin import NEWTON_STEPS, _ExpLin, _profile, _solve
 from .modes import FLOAT, FULL
 from .network import _float_array
 from .problem import _series
@@ -117,11 +117,12 @@ def _scatter_min(best, best_t, member, val, t):  # type: ignore[no-untyped-def]
 RUN_CUTS = np.array([0.0, 1 / 8, 1 / 4, 1 / 2, 1.0])
 
 
-def _piece(lam, v0, x, s, g, e1, width, ji, pi, mi) -> _ExpLin:  # type: ignore[no-untyped-def]
-    """The exact plant temperature less threshold on pieces (run ji, cut pi, member mi)."""
+def _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi) -> _ExpLin:  # type: ignore[no-untyped-def]
+    """The exact plant temperature less threshold on pieces (run ji, cut pi, member mi);
+    ``hc`` the hold coefficients at the cuts (3, J, P, r)."""
     r = lam.size
     s0 = s[ji, pi]
-    ep, q1, q2 = hold_coefficients(lam, s0)
+    ep, q1, q2 = hc[:, ji, pi]
     xi = x[ji, :, mi]  # (K, 3r)
     zi, bi, ci = xi[:, :r], xi[:, r : 2 * r], xi[:, 2 * r :]
     z0 = ep * zi + q1 * bi + q2 * ci
@@ -168,7 +169,8 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     x[:, r : 2 * r] = np.moveaxis(b[:, :, :-1], 2, 0)
     x[:, 2 * r :] = np.moveaxis(np.diff(b, axis=2) / length, 2, 0)
     s = RUN_CUTS[None, :] * length[:, None]  # (J, P) offsets of the cuts in each run
-    e, f1, f2 = (a.reshape(nj, npt, r) * v0 for a in hold_coefficients(lam, s.ravel()))
+    hc = np.stack(hold_coefficients(lam, s.ravel())).reshape(3, nj, npt, r)
+    e, f1, f2 = hc * v0
     coef = np.concatenate(
         [np.concatenate([e, f1, f2], axis=2), np.concatenate([lam * e, e, f1], axis=2)], axis=1
     )  # (J, 2P, 3r): value and slope at each cut
@@ -218,17 +220,17 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     first = np.where(wm.any(axis=0), start.ravel()[np.argmax(wm, axis=0)], np.inf)
     ji, pi, mi = np.nonzero(simple)
     if mi.size:
-        el = _piece(lam, v0, x, s, g, e1, width, ji, pi, mi)
+        el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
         a0, b0 = g[ji, pi, mi], g[ji, pi + 1, mi]
-        root = _solve(lambda q: (el.val(q), el.d1(q)), 0 * el.w, el.w, a0, el.w * a0 / (a0 - b0))
+        root = _solve(el.val_d1, 0 * el.w, el.w, a0, el.w * a0 / (a0 - b0), NEWTON_STEPS)
         t0 = t[ks[ji]] + s[ji, pi]
         down = a0 > 0
         below += np.bincount(mi, weights=np.where(down, el.w - root, root), minlength=mm)
         np.minimum.at(first, mi, np.where(down, t0 + root, t0))
     ji, pi, mi = np.nonzero(exact)
     if mi.size:
-        el = _piece(lam, v0, x, s, g, e1, width, ji, pi, mi)
-        f, gmin, smin, blw = _profile(el)
+        el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
+        f, gmin, smin, blw = _profile(el, NEWTON_STEPS)
         t0 = t[ks[ji]] + s[ji, pi]
         below += np.bincount(mi, weights=blw, minlength=mm)
         np.minimum.at(first, mi, np.where(np.isnan(f), np.inf, t0 + f))
