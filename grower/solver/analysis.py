@@ -159,8 +159,9 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     lam, v0 = full.lam, full.v[0]
     t, mm, r = tr.times_s, th.size, full.lam.size
     ks = np.union1d(seg.knots, knots(prob.h, off[:, :, None]))
-    z = seg.z if ks.size == seg.knots.size else seg.modal_at(ks)  # (r, M, K)
-    b = seg.forcing_at(ks)  # (r, Mu, K)
+    same = ks.size == seg.knots.size  # no knots of the offset's own
+    z = seg.z if same else seg.modal_at(ks)  # (r, M, K)
+    b = seg.b if same else seg.forcing_at(ks)  # (r, Mu, K)
     length = np.diff(t[ks])  # (J,) runs
     nj, npt = length.size, RUN_CUTS.size
     # x (J, 3r, M): each run's start state, forcing and forcing slope
@@ -202,23 +203,22 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     da, db = dg[:, :-1], dg[:, 1:]
     rd = rem[:, npt - 1 :]
     mono = (np.minimum(da, db) - rd > 0) | (np.maximum(da, db) + rd < 0)
-    neg = (ga < 0) & (gb < 0)
-    one_sign = ((ga > 0) & (gb > 0)) | neg
+    signs = np.sign(ga) * np.sign(gb)  # 1: both ends of one sign, -1: opposite, 0: a zero
+    neg = (signs > 0) & (ga < 0)
     deeper = lo < gmin_seen
-    exact = (lo <= 0) & (hi >= 0) & ~(mono & one_sign)
+    exact = (lo <= 0) & (hi >= 0) & ~(mono & (signs > 0))
     exact |= deeper & ~mono
     exact &= (width > 0)[:, :, None]
     whole = ((hi < 0) | (mono & neg)) & ~exact  # surely below all through
     # a monotone piece whose ends are of opposite signs has one root and no minimum
     # inside: Newton from the chord's root, kept in the bracket
-    simple = exact & mono & (((ga > 0) & (gb < 0)) | ((ga < 0) & (gb > 0)))
-    simple &= ~deeper
+    simple = exact & mono & (signs < 0) & ~deeper
     exact &= ~simple
     below = np.einsum("jpm,jp->m", whole, width)
     start = t[ks[:-1]][:, None] + s[:, :-1]  # (J, P-1)
     wm = whole.reshape(nj * (npt - 1), mm)  # time order down the first axis
     first = np.where(wm.any(axis=0), start.ravel()[np.argmax(wm, axis=0)], np.inf)
-    ji, pi, mi = np.nonzero(simple)
+    ji, pi, mi = np.unravel_index(np.flatnonzero(simple), simple.shape)  # np.nonzero, quicker
     if mi.size:
         el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
         a0, b0 = g[ji, pi, mi], g[ji, pi + 1, mi]
@@ -227,7 +227,7 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
         down = a0 > 0
         below += np.bincount(mi, weights=np.where(down, el.w - root, root), minlength=mm)
         np.minimum.at(first, mi, np.where(down, t0 + root, t0))
-    ji, pi, mi = np.nonzero(exact)
+    ji, pi, mi = np.unravel_index(np.flatnonzero(exact), exact.shape)
     if mi.size:
         el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
         f, gmin, smin, blw = _profile(el, NEWTON_STEPS)
