@@ -92,8 +92,8 @@ class _ExpLin:
 
 
 #: plain Newton steps before the safeguards, for callers that ask for them (`_solve`):
-#: on the monotone, convex or concave brackets they give, two to four reach the tolerance
-NEWTON_STEPS = 4
+#: on the monotone, convex or concave brackets they give, three to six reach the tolerance
+NEWTON_STEPS = 6
 
 
 def _solve(
