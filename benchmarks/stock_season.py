@@ -19,6 +19,7 @@ of `--repeat` wall-clock runs for each side, one BLAS thread.
 from __future__ import annotations
 
 import os
+import sys
 
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 os.environ.setdefault("OMP_NUM_THREADS", "1")
@@ -33,6 +34,7 @@ import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
 
 ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))  # run from a checkout without installing, like the other benchmarks
 
 
 def invented_forecast(site, days: int):

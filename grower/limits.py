@@ -113,6 +113,16 @@ HOLD_C = Bound(
     "heated houses hold 0–30 °C (common practice, no source)",
     "temperature to hold",
 )
+SETPOINT_C = Bound(
+    -5.0,
+    35.0,
+    0.0,
+    30.0,
+    "°C",
+    "a heating setpoint of −5…35 °C covers frost guard to tropical houses; heated houses "
+    "hold 0–30 °C (common practice, no source)",
+    "setpoint",
+)
 VENT_C = Bound(
     0.0,
     50.0,

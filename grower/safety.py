@@ -88,11 +88,19 @@ def cautions(
             # (the installation's: left to `grower size` in the short set)
             # Ohio State greenhouse guidance: the 2-3-10 rule for natural-draft chimneys.
             if not short:
-                out.append(
+                us = (
                     "Venting: take flue gases outdoors through a listed vent or chimney; a "
                     "natural-draft chimney ends at least 3 ft above the roof and 2 ft above "
                     "anything within 10 ft (the 2-3-10 rule, Ohio State greenhouse guidance)."
                 )
+                # the rule is in feet; the metric wording rounds them (1 ft = 0.3048 m)
+                metric = (
+                    "Venting: take flue gases outdoors through a listed vent or chimney; a "
+                    "natural-draft chimney ends at least 0.9 m above the roof and 0.6 m above "
+                    "anything within 3 m (the 2-3-10 rule in feet, Ohio State greenhouse "
+                    "guidance)."
+                )
+                out.append(Note(metric, us_template=us))
         else:
             # ANSI Z83.7 construction heaters; UW Extension A3907-02.
             out.append(
@@ -122,10 +130,16 @@ def cautions(
             )
     storage = {
         # NFPA 58; OSHA 29 CFR 1910.110 tank separation from buildings.
-        "propane": (
+        # the rule is in feet and US gallons; the metric wording rounds them (1 ft =
+        # 0.3048 m, 1 gal = 3.785 L)
+        "propane": Note(
             "Fuel storage: LP-gas tanks and cylinders follow NFPA 58; OSHA 29 CFR 1910.110 "
-            "keeps tanks 10 ft from buildings up to 500 gal water capacity and 25 ft for "
-            "501–2,000 gal. Keep cylinders outdoors and upright (common practice)."
+            "keeps tanks 3 m from buildings up to 1,900 L water capacity and 7.6 m "
+            "for 1,900–7,600 L. Keep cylinders outdoors and upright (common "
+            "practice).",
+            us_template="Fuel storage: LP-gas tanks and cylinders follow NFPA 58; OSHA 29 CFR "
+            "1910.110 keeps tanks 10 ft from buildings up to 500 gal water capacity and 25 ft "
+            "for 501–2,000 gal. Keep cylinders outdoors and upright (common practice).",
         ),
         # NFPA 54 / ANSI Z223.1 and the IFGC.
         "natural-gas": (

@@ -74,6 +74,27 @@ def test_kilograms_print_as_pounds_and_cubic_metres_of_gas_as_therms():
     assert value == pytest.approx(Q_(1.0, "GJ").to("Btu_it").magnitude / 1e5, rel=1e-12)
 
 
+def test_si_screens_show_us_purchase_units_in_metric_ones():
+    # a metric house with no [stock] unit gets the fuel table's defaults (gal, lb, therm);
+    # its screen shows them as L, kg and m³ (pint's gallon is the US gallon, 3.785411784 L)
+    value, unit = fuel_value(6.3, "gal", "propane", "metric")
+    assert (unit, value) == ("L", pytest.approx(Q_(6.3, "gallon").to("L").magnitude, rel=1e-12))
+    value, unit = fuel_value(100.0, "lb", "wood-pellets", "metric")
+    assert (unit, value) == ("kg", pytest.approx(Q_(100.0, "lb").to("kg").magnitude, rel=1e-12))
+    value, unit = fuel_value(1.0, "ton", "wood-pellets", "metric")
+    assert (unit, value) == ("tonne", pytest.approx(Q_(1.0, "ton").to("t").magnitude, rel=1e-12))
+    # natural gas: a therm (100,000 Btu) is the heat of 1e5 / 1,039 ft³ at the table's
+    # 1,039 Btu/ft³ (EIA), written m³
+    gas = fuels.get_fuel("natural-gas")
+    value, unit = fuel_value(1.0, "therm", "natural-gas", "metric")
+    ft3 = Q_(1e5 / 1039.0, "ft**3").to("m**3").magnitude
+    assert unit == "m³" and value == pytest.approx(ft3, rel=1e-9)
+    assert value == pytest.approx(gas.j_per("therm") / gas.j_per("m3"), rel=1e-12)
+    # units of both systems stay
+    assert fuel_text(12.0, "kWh", "electricity", "metric") == "12.0 kWh"
+    assert fuel_text(12.0, "kWh", "electricity", "us") == "12.0 kWh"
+
+
 # ------------------------------------------------ the screens, one unit system each
 
 _FORECAST = "--forecast examples/forecast-cold-night.csv"

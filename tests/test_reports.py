@@ -70,6 +70,11 @@ CASES = {
         100,
         ["size", "examples/glass-range.toml", "--outside=-25C", "--hold", "12C"],
     ),
+    "fit-gable-us-60": (
+        60,
+        ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"]
+        + ["--units", "us"],
+    ),
 }
 
 
@@ -103,7 +108,10 @@ US_SCREENS = {
     ],
     "stock": ["stock", "examples/gable-house.toml", "--crop", "tomato", "--setpoint", "50F"],
     "size": ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C"],
+    "size, a crop": ["size", "examples/hoop-tunnel.toml", "--outside=-25C", "--crop", "kale"],
     "house": ["house", "examples/hoop-tunnel.toml"],
+    "fit": ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"],
+    "crops": ["crops"],
 }
 
 
@@ -122,5 +130,56 @@ def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch):
     main([*argv, "--units", "us"])
     out = capsys.readouterr().out
     assert "°F" in out or name == "house"
+    if columns == 60:
+        # a narrow screen wraps or shortens; it never runs past the edge or cuts a cell
+        # (rich marks a cut with "…")
+        cut = [line for line in out.splitlines() if len(line) > columns or "…" in line]
+        assert not cut, f"{name} at {columns} columns cuts or overruns: {cut}"
     found = [line for line in out.splitlines() if re.search(SI_UNIT, line)]
     assert not found, f"{name} at {columns} columns shows SI units: {found}"
+
+
+@pytest.mark.parametrize("system", ["us", "metric"])
+def test_several_houses_at_60_columns_keep_headers_and_names_whole(system, capsys, monkeypatch):
+    # the US powers ("139,000 Btu/h") are the widest cells; a cropped column loses its
+    # header's tail without any "…", and a folded name splits a word ("Propagatio" + "n")
+    monkeypatch.chdir(ROOT)
+    monkeypatch.setenv("COLUMNS", "60")
+    main(["tonight", *HOUSES, "--crop", "basil", *NIGHT, "--units", system])
+    lines = capsys.readouterr().out.splitlines()
+    header = next(line for line in lines if line.split()[:1] == ["house"])
+    assert header.split() == ["house", "reaches", "coldest", "to", "hold", "heater"]
+    words = {w for line in lines for w in line.split()}
+    assert {"Propagation", "Glass", "Lane", "tunnel"} <= words
+
+
+#: a number followed by a US unit; the SI screens keep only the trade's Btu/h beside a
+#: heater's kW, the container names ("20-lb cylinder") and the quoted "1 in² per 1,000 Btu/h"
+US_UNIT = r"\d ?(°F|gal\b|therm|lb\b|mph|ft\b|ft²|ft³)"
+SI_SCREENS = {
+    "tonight, natural gas": ["tonight", "examples/glass-range.toml", "--crop", "tomato", *NIGHT],
+    "stock, natural gas": ["stock", "examples/glass-range.toml", "--setpoint", "12C", *SNAP],
+    "size, natural gas": ["size", "examples/glass-range.toml", "--outside=-25C", "--hold", "12C"],
+    "house": ["house", "examples/glass-range.toml"],
+    "size, propane, a US house": [
+        "size",
+        "examples/hoop-tunnel.toml",
+        "--outside=-25C",
+        "--hold",
+        "5C",
+    ],
+    "stock, propane": ["stock", "examples/gable-house.toml", "--setpoint", "8C", *SNAP],
+}
+
+
+@pytest.mark.parametrize("name", sorted(SI_SCREENS))
+def test_si_screens_show_no_us_quantity(name, capsys, monkeypatch):
+    import re
+
+    monkeypatch.chdir(ROOT)
+    monkeypatch.setenv("COLUMNS", "100")
+    main([*SI_SCREENS[name], "--units", "metric"])
+    out = capsys.readouterr().out
+    assert "°C" in out
+    found = [line for line in out.splitlines() if re.search(US_UNIT, line)]
+    assert not found, f"{name} shows US units: {found}"

@@ -496,3 +496,27 @@ def test_stock_on_an_older_calibration_runs_on_the_geometry(capsys, tmp_path):
     f = run_json(capsys, "stock", str(fitted), *argv)
     assert f["calibrated"] is True
     assert plain["energy_kwh"] < f["energy_kwh"] < 1.3 * plain["energy_kwh"]
+
+
+@pytest.mark.parametrize(
+    ("house_file", "setpoint", "expected"),
+    [
+        # the hoop tunnel's file says units = "us" and vents at 78.8 °F (26 °C)
+        (
+            "examples/hoop-tunnel.toml",
+            "30C",
+            "86.0 °F is not below the house's vent temperature (78.8 °F)",
+        ),
+        (
+            "examples/gable-house.toml",
+            "27C",
+            "27.0 °C is not below the house's vent temperature (26.0 °C)",
+        ),
+        ("examples/hoop-tunnel.toml", "40C", "−5…35 °C"),
+    ],
+)
+def test_setpoint_errors_speak_the_reports_units(capsys, house_file, setpoint, expected):
+    code = main(["stock", house_file, "--forecast", SNAP, "--setpoint", setpoint])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert expected in err and err.count("\n") == 1

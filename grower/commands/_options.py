@@ -172,6 +172,31 @@ def alarm_basis(crop, stage, choice, override: float | None) -> tuple[float | No
     return override, "your --threshold"
 
 
+def setpoints(args: argparse.Namespace, house, system: str | None) -> tuple[float, float | None]:
+    """`--setpoint` and `--night-setpoint` [°C], each within `limits.SETPOINT_C` and below
+    the house's vent temperature; the messages in the report's units."""
+    from grower import limits
+    from grower.report.common import unit_system
+    from grower.units import Note
+
+    shown = unit_system(getattr(args, "units", None), house.units)
+    values = []
+    for option in ("--setpoint", "--night-setpoint"):
+        text = getattr(args, option[2:].replace("-", "_"))
+        value = temperature(text, option, system, limits.SETPOINT_C)
+        if value is not None and value >= house.vent_temperature_c:
+            raise InputError(
+                Note(
+                    "{value} is not below the house's vent temperature ({vent})",
+                    value=("temp", value),
+                    vent=("temp", house.vent_temperature_c),
+                ).text(shown),
+                where=option,
+            )
+        values.append(value)
+    return values[0], values[1]
+
+
 def speed(text: str, option: str) -> float:
     from grower import limits
     from grower.units import parse_quantity

@@ -108,6 +108,7 @@ def run(args: argparse.Namespace) -> int:
     from grower.fit import fit_house, sensor, write_calibration
     from grower.report import common
     from grower.report import fit as report
+    from grower.units import Note
 
     h = house.read(args.house)
     zone = h.site.timezone if h.site else None
@@ -127,9 +128,13 @@ def run(args: argparse.Namespace) -> int:
     )
     if args.write and result.rough and not args.keep_rough:
         raise InputError(
-            f"not written: the fit is rough (residual {result.chosen.rms_k:.2f} K RMS, "
-            f"{result.noise_ratio:.1f} times the sensor's noise of {result.noise_k:.2f} K); "
-            f"{sensor.LOG_MORE}, or add --keep-rough to store it anyway",
+            Note(
+                "not written: the fit is rough (residual {rms} RMS, "
+                f"{result.noise_ratio:.1f} times the sensor's noise of {{noise}}); "
+                f"{sensor.LOG_MORE}, or add --keep-rough to store it anyway",
+                rms=("delta", result.chosen.rms_k, 2),
+                noise=("delta", result.noise_k, 2),
+            ).text(common.unit_system(args.units, h.units)),
             where=args.house,
         )
     backup = write_calibration(args.house, result) if args.write else None

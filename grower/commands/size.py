@@ -61,6 +61,7 @@ def run(args: argparse.Namespace) -> int:
     from grower.plans import model, size
     from grower.report import common
     from grower.report import size as report
+    from grower.units import Note
 
     h = house.read(args.house)
     system = reading_system(args, [h])  # bare numbers are read in the report's units
@@ -80,18 +81,28 @@ def run(args: argparse.Namespace) -> int:
         hold = alarm + offset
         what = f"{crop.name} ({stage.name})" if crop else "your threshold"
         if offset < 0.05:
-            basis = f"{what}: plants at {alarm:.1f} °C (the roof passes almost no thermal IR: leaves at air temperature)"
+            basis = Note(
+                f"{what}: plants at {{alarm}} (the roof passes almost no thermal IR: leaves "
+                "at air temperature)",
+                alarm=("temp", alarm),
+            )
         else:
-            basis = (
-                f"{what}: plants at {alarm:.1f} °C, air {offset:.1f} K warmer "
-                "(leaves run below the air on a clear night)"
+            basis = Note(
+                f"{what}: plants at {{alarm}}, air {{offset}} warmer "
+                "(leaves run below the air on a clear night)",
+                alarm=("temp", alarm),
+                offset=("delta", offset),
             )
     else:
         raise InputError("say what to hold: --hold T, or --crop NAME", where="grower size")
     if hold <= outside:
         raise InputError(
-            f"the temperature to hold ({hold:.1f} °C) is not above the design outside "
-            f"temperature ({outside:.1f} °C)",
+            Note(
+                "the temperature to hold ({hold}) is not above the design outside "
+                "temperature ({outside})",
+                hold=("temp", hold),
+                outside=("temp", outside),
+            ).text(common.unit_system(args.units, h.units)),
             where="--hold",
         )
     factor = size.SAFETY_FACTOR if args.safety_factor is None else args.safety_factor

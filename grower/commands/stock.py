@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from grower.commands._options import add_crop_options, add_forecast_options, temperature
+from grower.commands._options import add_crop_options, add_forecast_options
 
 #: a forecast file is run for at most this many days unless --days says otherwise
 FILE_DAYS_DEFAULT = 62
@@ -110,12 +110,15 @@ def run(args: argparse.Namespace) -> int:
         get_forecast,
         limit_days,
         reading_system,
+        setpoints,
         start_time,
     )
     from grower.errors import InputError
     from grower.plans import stock
     from grower.report import common
     from grower.report import stock as report
+    from grower.report.common import unit_system
+    from grower.units import Note
 
     if args.days is not None:
         top = FILE_DAYS_MAX if args.forecast else 16
@@ -130,16 +133,7 @@ def run(args: argparse.Namespace) -> int:
     h = house.read(args.house)
     system = reading_system(args, [h])  # bare numbers are read in the report's units
     check_house(h, use_calibration=not args.no_calibration)
-    setpoint = temperature(args.setpoint, "--setpoint", system)
-    night = temperature(args.night_setpoint, "--night-setpoint", system)
-    for value, option in ((setpoint, "--setpoint"), (night, "--night-setpoint")):
-        if value is not None and not -5.0 <= value <= 35.0:
-            raise InputError(f"{value:.1f} °C is outside −5…35 °C", where=option)
-        if value is not None and value >= h.vent_temperature_c:
-            raise InputError(
-                f"{value:.1f} °C is not below the house's vent temperature ({h.vent_temperature_c:.1f} °C)",
-                where=option,
-            )
+    setpoint, night = setpoints(args, h, system)
     crop, stage, choice, override = choose_threshold(args, system)
     alarm = choice.alarm_c if choice else override
     if alarm is not None:
@@ -147,7 +141,11 @@ def run(args: argparse.Namespace) -> int:
             if value is not None and value < alarm:
                 what = f"{crop.name} ({stage.name})" if crop else "your --threshold"
                 raise InputError(
-                    f"{value:.1f} °C is below the alarm temperature of {what}, {alarm:.1f} °C",
+                    Note(
+                        f"{{value}} is below the alarm temperature of {what}, {{alarm}}",
+                        value=("temp", value),
+                        alarm=("temp", alarm),
+                    ).text(unit_system(args.units, h.units)),
                     where=option,
                 )
     if args.price is not None and not 0 <= args.price < float("inf"):

@@ -5,8 +5,6 @@ from __future__ import annotations
 import argparse
 import math
 
-from grower.commands._options import temperature
-
 
 def register(subparsers, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
@@ -84,7 +82,7 @@ def run(args: argparse.Namespace) -> int:
     import sys
 
     from grower import house, weather
-    from grower.commands._options import check_house, reading_system
+    from grower.commands._options import check_house, reading_system, setpoints
     from grower.errors import InputError
     from grower.plans import winters as plan
     from grower.report import common
@@ -104,15 +102,7 @@ def run(args: argparse.Namespace) -> int:
     h = house.read(args.house)
     system = reading_system(args, [h])  # bare numbers are read in the report's units
     check_house(h, use_calibration=not getattr(args, "no_calibration", False))
-    setpoint = temperature(args.setpoint, "--setpoint", system)
-    night = temperature(args.night_setpoint, "--night-setpoint", system)
-    for value, option in ((setpoint, "--setpoint"), (night, "--night-setpoint")):
-        if value is not None and not -5.0 <= value <= 35.0:
-            raise InputError(f"{value:.1f} °C is outside −5…35 °C", where=option)
-        if value is not None and value >= h.vent_temperature_c:
-            raise InputError(
-                f"{value:.1f} °C is not below the house's vent temperature", where=option
-            )
+    setpoint, night = setpoints(args, h, system)
     start_md = _season_start(args.season_start, h)
     if args.plot:
         from pathlib import Path

@@ -23,6 +23,7 @@ from grower.fit.estimate import MAX_RMS_K, estimate
 from grower.fit.results import ModelFit
 from grower.house import House
 from grower.logger import LoggerRecord
+from grower.units import Note
 
 ANCHORS = ("auto", "geometry", "heater")
 MODELS = ("auto", "lumped", "two-node")
@@ -161,9 +162,11 @@ def fit_house(
     elif lumped.refusal is None and two.refusal is None:
         if two.aic < lumped.aic:
             chosen, other = two, lumped
-            choice = (
-                f"the two-node model: it follows the record better (RMS {two.rms_k:.2f} K against "
-                f"{lumped.rms_k:.2f} K; AIC {two.aic:.0f} against {lumped.aic:.0f})"
+            choice = Note(
+                "the two-node model: it follows the record better (RMS {two} against "
+                f"{{lumped}}; AIC {two.aic:.0f} against {lumped.aic:.0f})",
+                two=("delta", two.rms_k, 2),
+                lumped=("delta", lumped.rms_k, 2),
             )
         else:
             chosen, other = lumped, two
@@ -178,7 +181,12 @@ def fit_house(
         chosen, other = lumped, two
         choice = f"the lumped model (two-node not identified: {two.refusal})"
     if chosen.model == "two-node" and "g" not in chosen.free_names:
-        choice += "; the air–floor coupling is held at the geometry's (too little data to fit it)"
+        held = "; the air–floor coupling is held at the geometry's (too little data to fit it)"
+        choice = (
+            Note(choice.template + held, us_template=choice.us_template + held, **choice.values)
+            if isinstance(choice, Note)
+            else choice + held
+        )
     noise = sensor.noise_from_scatter([(s.inside_c, _heater_at_rows(s)) for s in data.segments])
     quality = sensor.quality(chosen.rms_k, noise, MAX_RMS_K)
     if quality == "refused":

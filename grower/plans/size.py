@@ -255,8 +255,13 @@ def size(
     air = {} if electric else combustion_air_openings(inp)
     installed = house.heater_output_w
     notes = [
-        "the handbook figure is Σ U·A·ΔT with the tables' U-values (which hold at a 15 mph "
-        "wind) + air exchange + perimeter, as heating bulletins size it",
+        Note(
+            "the handbook figure is Σ U·A·ΔT with the tables' U-values (which hold at a "
+            "{wind} wind) + air exchange + perimeter, as heating bulletins size it",
+            us_template="the handbook figure is Σ U·A·ΔT with the tables' U-values (which hold "
+            "at a 15 mph wind) + air exchange + perimeter, as heating bulletins size it",
+            wind=("speed", 15 * M_S_PER_MPH, 1),
+        ),
         "clear night sky at the design temperature (Swinbank 1963, no dew point): the "
         "U-values already count radiation to surroundings at the outside air temperature; "
         "grower adds only the sky's excess below it",

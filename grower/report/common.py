@@ -20,6 +20,23 @@ def console(stderr: bool = False):
     return Console(stderr=stderr, highlight=False, soft_wrap=False)
 
 
+NARROW = 72  # columns below which a table drops its vertical rules (common practice, no source)
+
+
+def data_table(console, **options):
+    """A rich Table that fits the terminal: boxed at 72 columns and over; on a narrower
+    screen, rules above and under the header and around the totals only and two spaces between
+    columns, so a six-column day table fits 60 columns without cutting a header."""
+    from rich import box
+    from rich.table import Table
+
+    if console.width < NARROW:
+        options.setdefault("box", box.HORIZONTALS)
+        options.setdefault("pad_edge", False)
+        options.setdefault("padding", (0, 0, 0, 1))  # the box keeps a blank between columns
+    return Table(**options)
+
+
 def jsonable(value: Any) -> Any:
     """Turn results (dataclasses, numpy, datetimes, NaN) into plain JSON values.
 

@@ -11,7 +11,7 @@ from grower.crops import (
     Threshold,
     select_threshold,
 )
-from grower.report.common import console, jsonable
+from grower.report.common import NARROW, console, data_table, jsonable
 from grower.units import UnitSystem, show_temperature, show_temperature_difference
 
 
@@ -113,16 +113,18 @@ def crops_document(
 
 def render_list(crops: tuple[Crop, ...], system: UnitSystem, query: str | None) -> None:
     """A table of crops: names, group, stages, damage range."""
-    from rich.table import Table
 
     out = console()
     title = f'Crops matching "{query}"' if query else "Crops"
-    table = Table(title=title, title_justify="left", show_lines=False)
+    # a narrow screen leaves out the other names and the group (`grower crops NAME` has them)
+    wide = out.width >= NARROW
+    table = data_table(out, title=title, title_justify="left", show_lines=False)
     table.add_column("Crop", style="bold", no_wrap=True)
-    table.add_column("Also called")
-    table.add_column("Group")
-    table.add_column("Stages")
-    table.add_column("Damage at", justify="right")
+    if wide:
+        table.add_column("Also called")
+        table.add_column("Group")
+    table.add_column("Stages", ratio=1 if not wide else None)
+    table.add_column("Damage at", justify="right", no_wrap=not wide)
     for crop in crops:
         aliases = list(crop.aliases[:_MAX_ALIASES]) + (
             ["…"] if len(crop.aliases) > _MAX_ALIASES else []
@@ -136,7 +138,11 @@ def render_list(crops: tuple[Crop, ...], system: UnitSystem, query: str | None) 
             _temp(low, system) if low == high else f"{_temp(low, system)} to {_temp(high, system)}"
         )
         name = crop.name + (" (yours)" if crop.origin == "user" else "")
-        table.add_row(_e(name), _e(", ".join(aliases)), _e(crop.group), _e(stages), damage)
+        if wide:
+            table.add_row(_e(name), _e(", ".join(aliases)), _e(crop.group), _e(stages), damage)
+        else:
+            unit = show_temperature(0.0, system).unit
+            table.add_row(_e(name), _e(stages), damage.replace(f" {unit} to ", " to "))
     out.print(table)
     for crop in crops:
         if crop.origin == "user":
@@ -181,7 +187,6 @@ def render_detail(
     crop: Crop, system: UnitSystem, *, margin_k: float, margin_basis: str, stage: Stage | None
 ) -> None:
     """One crop: every stage's thresholds in the chosen units, with their sources."""
-    from rich.table import Table
 
     out = console()
     refs = _Refs()
@@ -200,7 +205,7 @@ def render_detail(
     all_k90 = all(s.kill is None and s.kill_90 is not None for s in crop.stages)
     durations = {t.hours for s in crop.stages for t in s.thresholds()}
     one_duration = len(durations) == 1 and None not in durations
-    table = Table(show_lines=False)
+    table = data_table(out, show_lines=False)
     table.add_column("Stage", style="bold")
     table.add_column("Alarm at", justify="right")
     table.add_column("Damage (10 % kill)" if all_k10 else "Damage at", justify="right")

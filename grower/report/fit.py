@@ -10,7 +10,7 @@ import numpy as np
 from grower.fit import FitResult, ModelFit, Parameter, calibration_values
 from grower.fit.estimate import CONFIDENCE
 from grower.report import chart
-from grower.report.common import plain
+from grower.report.common import NARROW, data_table, plain
 from grower.units import (
     J_PER_BTU,
     UnitSystem,
@@ -43,6 +43,17 @@ SHORT = {
     "coupling_w_per_k": "air–floor coupling",
     "heater_output_w": "heater output",
     "sun_factor": "sun gain factor",
+}
+#: the same on a narrow screen (the headline above says what K and C are)
+NARROW_SHORT = {
+    "k_w_per_k": "K",
+    "k_outside_w_per_k": "  to the air",
+    "k_sky_w_per_k": "  to the sky",
+    "c_j_per_k": "C",
+    "time_constant_h": "C/K",
+    "coupling_w_per_k": "air–floor",
+    "heater_output_w": "heater",
+    "sun_factor": "sun factor",
 }
 #: 1 Btu/°F in J/K
 J_PER_K_PER_BTU_F = J_PER_BTU * 1.8
@@ -169,10 +180,10 @@ def _show(name: str, value: float, system: UnitSystem) -> str:
     return f"{value:.2f}"
 
 
-def _half(p: Parameter, system: UnitSystem) -> str:
+def _half(p: Parameter, system: UnitSystem, share: bool = True) -> str:
     if p.status == "anchor":
-        return "held (anchor)"
-    share = f" ({p.relative:.0%})" if p.relative <= 10.0 else ""  # none of a value near 0
+        return "held (anchor)" if share else "held"
+    share = f" ({p.relative:.0%})" if share and p.relative <= 10.0 else ""  # none near 0
     return f"± {_show(p.name, p.half_width, system)}{share}"
 
 
@@ -239,7 +250,6 @@ def render_fit(
     console, r: FitResult, system: UnitSystem, written: dict[str, str] | None = None
 ) -> None:
     """Print the fit: headline, table, residual, chart, segments, notes."""
-    from rich.table import Table
 
     f = r.chosen
     nights = len(f.segments)
@@ -257,22 +267,28 @@ def render_fit(
             f"[bold red]ROUGH fit[/bold red]: the model misses the record by "
             f"{r.noise_ratio:.1f} × the sensor's noise; use these values with care"
         )
-    table = Table()
-    table.add_column("")
+    # a narrow screen shortens the names and leaves out the geometry's value (its
+    # ratio to the fit stays) and the interval's share
+    narrow = console.width < NARROW
+    table = data_table(console)
+    table.add_column("", no_wrap=True)
     table.add_column("fitted", justify="right", no_wrap=True)
-    table.add_column("95 % interval", justify="right", no_wrap=True)
-    table.add_column("geometry", justify="right", no_wrap=True)
+    table.add_column("95 %" if narrow else "95 % interval", justify="right", no_wrap=True)
+    if not narrow:
+        table.add_column("geometry", justify="right", no_wrap=True)
     table.add_column("ratio", justify="right")
     for p in f.parameters:
-        table.add_row(
-            SHORT[p.name],
+        cells = [
+            (NARROW_SHORT if narrow else SHORT)[p.name],
             _show(p.name, p.value, system),
-            _half(p, system),
-            "—" if p.geometry is None else _show(p.name, p.geometry, system),
-            "—" if p.ratio is None else f"{p.ratio:.2f}",
-        )
+            _half(p, system, share=not narrow),
+        ]
+        if not narrow:
+            cells.append("—" if p.geometry is None else _show(p.name, p.geometry, system))
+        cells.append("—" if p.ratio is None else f"{p.ratio:.2f}")
+        table.add_row(*cells)
     console.print(table)
-    console.print(f"Model: {r.choice}")
+    plain(console, f"Model: {note_text(r.choice, system)}")
     console.print(
         f"Residual: [bold]{_dk(f.rms_k, system)} RMS[/bold] over {f.n_residuals} samples "
         f"({f.n_free} fitted values)"
@@ -284,7 +300,7 @@ def render_fit(
         k, c = o.get("k_w_per_k"), o.get("c_j_per_k")
         console.print(
             f"[dim]The {o.model} model gives K = {_show(k.name, k.value, system)}, "
-            f"C = {_show(c.name, c.value, system)}, RMS {o.rms_k:.2f} K.[/dim]"
+            f"C = {_show(c.name, c.value, system)}, RMS {_dk(o.rms_k, system)}.[/dim]"
         )
     console.print()
 
@@ -307,16 +323,18 @@ def render_fit(
         )
     console.print()
 
-    seg = Table()
-    seg.add_column("night" if not r.with_days else "segment", justify="right")
+    seg = data_table(console)
+    seg.add_column("night" if not r.with_days else "segment", justify="right", no_wrap=True)
     seg.add_column("when", no_wrap=True)
-    seg.add_column("rows (lines)", justify="right", no_wrap=True)
+    seg.add_column("rows" if narrow else "rows (lines)", justify="right", no_wrap=True)
     if r.heater:
-        seg.add_column("heater")
+        seg.add_column("heater", no_wrap=True)
     tu = show_temperature(0, system).unit
     if f.model == "two-node":
-        seg.add_column(f"floor at start, {tu}", justify="right")
-    seg.add_column("RMS, K", justify="right")
+        seg.add_column(
+            f"floor {tu}" if narrow else f"floor at start, {tu}", justify="right", no_wrap=True
+        )
+    seg.add_column("RMS K" if narrow else "RMS, K", justify="right", no_wrap=True)
     for i, s in enumerate(f.segments, start=1):
         same_day = s.start.date() == s.end.date()
         cells = [
@@ -326,7 +344,7 @@ def render_fit(
             else f"{s.start:%d %b %H:%M}–{s.end:%d %b %H:%M}"
             if (s.end - s.start).days >= 1
             else f"{s.start:%d %b %H:%M}–{s.end:%H:%M}",
-            f"{s.n_rows} ({s.first_line}–{s.last_line})",
+            f"{s.n_rows}" if narrow else f"{s.n_rows} ({s.first_line}–{s.last_line})",
         ]
         if r.heater:
             cells.append("ran" if s.heated else "off")

@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from grower.network import HouseSummary
-from grower.report.common import plain
+from grower.report.common import NARROW, data_table, plain
 from grower.report.quantities import capacity_unit, capacity_value, conductance_text
 from grower.units import (
     M_PER_IN,
@@ -72,7 +72,6 @@ def render_house(
 ) -> None:
     """Print the breakdown of one house; `calibration`: the line on its [calibration] and
     whether it is a warning (`grower.plans.model.calibration_note`), shown last."""
-    from rich.table import Table
 
     h, k, c = s.house, s.conductances, s.capacities
     total = k.total_w_per_k
@@ -94,12 +93,18 @@ def render_house(
         console.print(f"Energy curtain drawn: {h.curtain.curtain.label}")
 
     ua_unit = show_conductance(1.0, system).unit
-    table = Table(title=None, show_footer=False, expand=False)
+    units = {
+        "area": show_area(1.0, system).unit,
+        "U": show_u_value(1.0, system).unit,
+        "UA": ua_unit,
+    }
+    # a narrow screen keeps the headers short and says their units under the table
+    narrow = console.width < NARROW
+    table = data_table(console, title=None, show_footer=False, expand=False)
     table.add_column("part", no_wrap=True)
-    table.add_column("cover")
-    table.add_column(f"area {show_area(1.0, system).unit}", justify="right")
-    table.add_column(f"U {show_u_value(1.0, system).unit}", justify="right")
-    table.add_column(f"UA {ua_unit}", justify="right")
+    table.add_column("cover", min_width=11)
+    for name, unit in units.items():
+        table.add_column(name if narrow else f"{name} {unit}", justify="right", no_wrap=True)
     table.add_column("share", justify="right")
 
     def row(name: str, what: str, area: str, u: str, ua_w: float) -> None:
@@ -141,8 +146,10 @@ def render_house(
         "100%",
     )
     console.print(table)
+    if narrow:
+        plain(console, "; ".join(f"{name} in {unit}" for name, unit in units.items()), "dim")
 
-    cap = Table(show_header=True, expand=False)
+    cap = data_table(console, show_header=True, expand=False)
     cap.add_column("heat capacity")
     cap.add_column(capacity_unit(system), justify="right")
 

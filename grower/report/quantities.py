@@ -22,6 +22,18 @@ J_K_PER_BTU_F = J_PER_BTU * 1.8
 
 #: the US purchase unit a metric purchase unit is shown in, first one the fuel offers
 _US_FUEL_UNITS = {"L": ("gal",), "kg": ("lb",), "m3": ("therm", "ft3"), "GJ": ("therm",)}
+#: the metric purchase unit a US one is shown in on an SI screen (a metric house with no
+#: [stock] unit would otherwise see gallons and therms, the fuel table's defaults)
+_SI_FUEL_UNITS = {
+    "gal": ("L",),
+    "lb": ("kg",),
+    "ton": ("tonne",),
+    "therm": ("m3", "GJ"),
+    "ccf": ("m3",),
+    "ft3": ("m3",),
+}
+#: how a purchase unit is written on a screen
+_SHOWN = {"m3": "m³", "ft3": "ft³"}
 
 
 def power_text(watts: float, system: UnitSystem, *, with_btu: bool = True) -> str:
@@ -69,26 +81,29 @@ def capacity_unit(system: UnitSystem) -> str:
 
 
 def fuel_text(amount: float, unit: str, fuel: str, system: UnitSystem, digits: int = 1) -> str:
-    """Fuel `amount` in purchase unit `unit` of `fuel`: "24.0 L" in SI, as bought; in US
-    units a metric purchase unit becomes the fuel's US one (L → gal, kg → lb, m³ → therm,
-    GJ → therm), through the fuel table's heating values, so the energy is the same."""
+    """Fuel `amount` in purchase unit `unit` of `fuel`, in the screen's system: in US units
+    a metric purchase unit becomes the fuel's US one (L → gal, kg → lb, m³ → therm,
+    GJ → therm), in SI a US one the metric one (gal → L, lb → kg, ton → tonne, therm,
+    ccf and ft³ → m³), through the fuel table's heating values, so the energy is the same.
+    Units of both systems (kWh, MJ) stay as they are."""
     value, shown = fuel_value(amount, unit, fuel, system)
     return f"{value:,.{digits}f} {shown}"
 
 
 def fuel_value(amount: float, unit: str, fuel: str, system: UnitSystem) -> tuple[float, str]:
-    """(amount, unit) of `fuel_text`, the number unrounded."""
-    if system != "us" or unit not in _US_FUEL_UNITS:
-        return float(amount), unit
-    from grower import fuels
+    """(amount, unit as written) of `fuel_text`, the number unrounded."""
+    other = (_US_FUEL_UNITS if system == "us" else _SI_FUEL_UNITS).get(unit, ())
+    if other:
+        from grower import fuels
 
-    f = fuels.get_fuel(fuel)
-    offered = {pu.name: pu for pu in f.units}
-    for us_unit in _US_FUEL_UNITS[unit]:
-        if us_unit in offered:
-            j_per_unit = f.purchase_unit(unit).j_per_unit
-            return float(amount) * j_per_unit / offered[us_unit].j_per_unit, us_unit
-    return float(amount), unit
+        f = fuels.get_fuel(fuel)
+        offered = {pu.name: pu for pu in f.units}
+        for name in other:
+            if name in offered:
+                j_per_unit = f.purchase_unit(unit).j_per_unit
+                amount, unit = float(amount) * j_per_unit / offered[name].j_per_unit, name
+                break
+    return float(amount), _SHOWN.get(unit, unit)
 
 
 def chance_text(count: int, total: int) -> str:

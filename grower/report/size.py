@@ -6,7 +6,7 @@ from typing import Any
 
 from grower.plans.size import SizeResult
 from grower.report import vapour as vapour_report
-from grower.report.common import plain, render_cautions
+from grower.report.common import data_table, plain, render_cautions
 from grower.report.quantities import fuel_text, power_text
 from grower.units import (
     M_S_PER_MPH,
@@ -82,7 +82,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
         f"holds {t(r.hold_c)} inside at {t(r.design_outside_c)} outside, "
         f"wind {show_speed(r.wind_m_s, system).text(1)}, clear sky at {t(r.sky_c)}"
     )
-    plain(console, f"  hold: {r.hold_basis}")
+    plain(console, f"  hold: {note_text(r.hold_basis, system)}")
     console.print()
 
     table = Table(show_header=False, box=None, pad_edge=False)
@@ -123,7 +123,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     console.print(table)
     console.print()
 
-    units = Table(title="Split into common unit sizes", title_justify="left")
+    units = data_table(console, title="Split into common unit sizes", title_justify="left")
     units.add_column("units", justify="right")
     units.add_column("input each", justify="right")
     units.add_column("output each", justify="right")

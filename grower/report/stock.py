@@ -6,7 +6,7 @@ from typing import Any
 
 from grower.plans.stock import Order, Shortfall, StockResult
 from grower.report import vapour
-from grower.report.common import iso, plain, render_cautions
+from grower.report.common import data_table, iso, plain, render_cautions
 from grower.report.quantities import fuel_text, fuel_value
 from grower.units import J_PER_THERM, UnitSystem, note_text, show_temperature
 
@@ -217,7 +217,6 @@ def _lasts_line(r: StockResult, span_days: float, system: UnitSystem) -> str | N
 
 
 def render_stock(console, r: StockResult, system: UnitSystem) -> None:
-    from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     # fuel in its purchase unit, or (US screens) the fuel's US unit for a metric one
@@ -286,13 +285,13 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     us = system == "us"
     heat_label = "heat therm" if us else "heat kWh"
     heat_of = (lambda kwh: kwh * 3.6e6 / J_PER_THERM) if us else (lambda kwh: kwh)  # noqa: E731
-    table = Table()
+    table = data_table(console)
     table.add_column("day", no_wrap=True)
     table.add_column(heat_label, justify="right")
     table.add_column(f"fuel {unit}", justify="right")
     if r.price is not None:
         table.add_column("cost", justify="right")
-    table.add_column("coldest air", justify="right")
+    table.add_column("coldest air", justify="right", min_width=len("coldest"))
     table.add_column("not held", justify="right")
     for d in r.days:
         row = [

@@ -9,7 +9,7 @@ from grower.plans.chance import FORECAST_ERROR_SOURCE
 from grower.plans.tonight import SOIL_COLDER_K, TonightResult, Verdict, trip_wire
 from grower.report import chart
 from grower.report import vapour as vapour_report
-from grower.report.common import Rows, iso, keep_units, plain, print_line, render_cautions
+from grower.report.common import NARROW, Rows, iso, keep_units, plain, print_line, render_cautions
 from grower.report.quantities import (
     capacity_text,
     chance_text,
@@ -574,12 +574,18 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
         pad_edge=not narrow,
         padding=(0, 1) if not narrow else (0, 0, 0, 1),
     )
-    table.add_column("house", min_width=10, overflow="fold")
+    # wide enough for the longest word of a name (to 16), so a name wraps between words
+    longest_word = max((len(w) for r in order for w in r.house_name.split()), default=0)
+    table.add_column("house", min_width=max(10, min(longest_word, 16)), overflow="fold")
     table.add_column("reaches", justify="right", no_wrap=True)
     table.add_column("coldest", justify="right", no_wrap=True)
     table.add_column("to hold", justify="right", no_wrap=True)
-    table.add_column("heater")
-    table.add_column("margin", justify="right", no_wrap=True)
+    # under 72 columns the heater's cell is one temperature and the margin column goes
+    # (the order, smallest margin first, still says it)
+    slim = console.width < NARROW
+    table.add_column("heater", no_wrap=slim)
+    if not slim:
+        table.add_column("margin", justify="right", no_wrap=True)
     # the chance of damage, with the installed heater in brackets, where it fits
     odds = console.width >= 96 and any(r.chance is not None for r in order)
     if odds:
@@ -593,7 +599,9 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
         heater = (
             "—"
             if r.heater is None
-            else ("holds" if r.heater.holds else f"[red]falls to {T(r.heater.min_plant_c)}[/red]")
+            else "holds"
+            if r.heater.holds
+            else f"[red]{'' if slim else 'falls to '}{T(r.heater.min_plant_c)}[/red]"
         )
         cells = [
             r.house_name,
@@ -601,8 +609,9 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
             T(r.verdict.min_plant_c),
             power_text(r.hold_peak_w, system, with_btu=False),  # the report's system only
             heater,
-            _margin_text(margin_k(r), system),
         ]
+        if not slim:
+            cells.append(_margin_text(margin_k(r), system))
         if odds:
             cells.append(_chance_cell(r.chance))
         table.add_row(*cells)
@@ -610,8 +619,13 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     plain(
         console,
         f"alarm {T(order[0].threshold_c)} ({order[0].threshold_basis}); coldest: plants with "
-        "no heat; to hold: peak heat that holds the alarm; margin: coldest plants above the "
-        "alarm with no heat, smallest first"
+        "no heat; to hold: peak heat that holds the alarm; "
+        + (
+            "heater: holds the alarm, or the coldest plants with it; smallest margin above "
+            "the alarm with no heat first"
+            if slim
+            else "margin: coldest plants above the alarm with no heat, smallest first"
+        )
         + (
             "; chance: of reaching the alarm with no heat (with the installed heater)"
             if odds

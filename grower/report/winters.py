@@ -7,7 +7,7 @@ from typing import Any
 
 from grower.errors import InputError
 from grower.plans.winters import Winter, WintersResult
-from grower.report.common import iso, plain, render_cautions
+from grower.report.common import data_table, iso, plain, render_cautions
 from grower.units import J_PER_THERM, UnitSystem, note_text, show_temperature
 
 #: one colour per winter (Okabe–Ito palette, colour-blind safe)
@@ -74,7 +74,6 @@ def winters_json(r: WintersResult) -> dict[str, Any]:
 
 
 def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
-    from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     us = system == "us"
@@ -106,7 +105,9 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
     )
     plain(console, f"setpoint {setp}; {r.appliance} {r.efficiency:.0%}", "dim")
     console.print()
-    table = Table(title=f"each winter (median {r.median.label}, coldest {r.coldest.label})")
+    table = data_table(
+        console, title=f"each winter (median {r.median.label}, coldest {r.coldest.label})"
+    )
     table.add_column("winter", no_wrap=True)
     table.add_column(f"heat {heat_unit}", justify="right")
     table.add_column(f"fuel {unit}", justify="right")
@@ -123,7 +124,7 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
         table.add_row(*row)
     console.print(table)
     months = sorted({m.month[5:] for w in r.winters for m in w.months}, key=_season_order(r))
-    mt = Table(title=f"fuel per month, {unit}")
+    mt = data_table(console, title=f"fuel per month, {unit}")
     mt.add_column("month", no_wrap=True)
     for w in r.winters:
         mt.add_column(w.label, justify="right")
