@@ -227,10 +227,13 @@ def test_profile_with_newton_steps_first_agrees_with_the_bracketed_search(g0, z,
     scale = 1e-12 * (np.abs(z).sum(1) + np.abs(b / lam).sum(1) + np.abs(g0) + 1.0)
     np.testing.assert_allclose(m1, m0, rtol=0, atol=1e-11)
     assert np.all(np.abs(el.val(s1[:, None])[:, 0] - m1) <= 10 * scale)
-    assert np.array_equal(np.isnan(f0), np.isnan(f1))
-    both = ~np.isnan(f0)
+    # times: except on a piece that starts on a (double) root at round-off, where the
+    # first dip lasts some 1e-5 s at |g| ~ 1e-19 and either answer is round-off
+    sure = (np.abs(el.g0) > 1e-12) | (np.abs(el.d1(np.zeros(8))) > 1e-12)
+    assert np.array_equal(np.isnan(f0[sure]), np.isnan(f1[sure]))
+    both = sure & ~np.isnan(f0)
     np.testing.assert_allclose(f1[both], f0[both], rtol=0, atol=1e-7)
-    np.testing.assert_allclose(b1, b0, rtol=0, atol=1e-7)
+    np.testing.assert_allclose(b1[sure], b0[sure], rtol=0, atol=1e-7)
     grid = np.linspace(0.0, 450.0, 20001)
     gv = el.val(np.broadcast_to(grid, (8, grid.size)).copy())
     assert np.all(m1 <= gv.min(axis=1) + 10 * scale)
