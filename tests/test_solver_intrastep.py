@@ -204,7 +204,10 @@ def test_a_mode_entered_tangentially_switches_only_if_it_curves_back(a, expected
 
 @settings(max_examples=60, deadline=None)
 @given(
-    st.lists(st.floats(-1.0, 2.0), min_size=8, max_size=8),
+    # no piece starting on the threshold: there a dip at round-off depth (1e-5 s at |g| <
+    # 1e-14, hypothesis finds them) is round-off either way, and the bracketed search
+    # stops halfway through it
+    st.lists(st.one_of(st.floats(-1.0, -0.05), st.floats(0.05, 2.0)), min_size=8, max_size=8),
     st.lists(st.floats(-3.0, 3.0), min_size=24, max_size=24),
     st.lists(st.floats(-0.01, 0.01), min_size=24, max_size=24),
     st.lists(st.floats(-1e-4, 1e-4), min_size=24, max_size=24),
@@ -227,13 +230,10 @@ def test_profile_with_newton_steps_first_agrees_with_the_bracketed_search(g0, z,
     scale = 1e-12 * (np.abs(z).sum(1) + np.abs(b / lam).sum(1) + np.abs(g0) + 1.0)
     np.testing.assert_allclose(m1, m0, rtol=0, atol=1e-11)
     assert np.all(np.abs(el.val(s1[:, None])[:, 0] - m1) <= 10 * scale)
-    # times: except on a piece that starts on a (double) root at round-off, where the
-    # first dip lasts some 1e-5 s at |g| ~ 1e-19 and either answer is round-off
-    sure = (np.abs(el.g0) > 1e-12) | (np.abs(el.d1(np.zeros(8))) > 1e-12)
-    assert np.array_equal(np.isnan(f0[sure]), np.isnan(f1[sure]))
-    both = sure & ~np.isnan(f0)
+    assert np.array_equal(np.isnan(f0), np.isnan(f1))
+    both = ~np.isnan(f0)
     np.testing.assert_allclose(f1[both], f0[both], rtol=0, atol=1e-7)
-    np.testing.assert_allclose(b1[sure], b0[sure], rtol=0, atol=1e-7)
+    np.testing.assert_allclose(b1, b0, rtol=0, atol=1e-7)
     grid = np.linspace(0.0, 450.0, 20001)
     gv = el.val(np.broadcast_to(grid, (8, grid.size)).copy())
     assert np.all(m1 <= gv.min(axis=1) + 10 * scale)
