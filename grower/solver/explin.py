@@ -106,8 +106,8 @@ def _solve(
     ``newton`` > 0: first up to that many plain Newton steps on all items, each kept
     inside [a, b]; an item is done when its step falls to the tolerance (a step cut at
     an end of the bracket does not count), and only the items still moving go on to the
-    bracketed loop (from their start again), which costs about twice the array
-    operations a step. The roots are
+    bracketed loop (from their start again if a plain step left them at an end), which
+    costs about twice the array operations a step. The roots are
     the same to round-off, not to the bit: the analysis of a free float's runs
     (`analysis`) asks for it, the step-by-step analysis, whose reports are pinned to the
     bit, does not.
@@ -144,9 +144,10 @@ def _solve(
             f = np.where(flat, 0.0, f)
         done |= f == 0
     if newton:
-        # the items still moving start over from where they began: a plain step may
-        # have left one at an end of the bracket, which the loop below reads as converged
-        x, f, df = (np.where(done, now, then) for now, then in zip((x, f, df), start, strict=True))
+        # an item still moving that a plain step left at an end of the bracket starts over
+        # from where it began: the loop below would read it as converged there
+        keep = done | ((x > low) & (x < high))
+        x, f, df = (np.where(keep, now, then) for now, then in zip((x, f, df), start, strict=True))
     ended = np.zeros(np.shape(x), dtype=bool)
     was = done.copy()
     for _ in range(200):
