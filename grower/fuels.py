@@ -536,16 +536,44 @@ def parse_amount(text: object, fuel: str | Fuel, where: str = "fuel on hand") ->
         raise InputError(f'"{text}": an amount must be zero or more', where=where)
     if not unit_text:
         raise InputError(f'"{text}" needs a unit: {units}', where=where)
+    c = _named_container(fuel, unit_text)
+    if c is not None:
+        amount = number * c.content
+        return FuelStock(
+            amount, c.unit, amount * fuel.heating_value_j_per_unit, text, c, number, amount
+        )
+    if not fuel.containers or _SPELLINGS.get(_norm_unit(unit_text)) is not None:
+        pu = fuel.purchase_unit(unit_text, where=where)  # a unit, maybe of the wrong kind
+    else:
+        try:
+            pu = fuel.purchase_unit(unit_text, where=where)
+        except InputError:
+            names = ", ".join(c.name for c in fuel.containers)
+            raise InputError(
+                f'"{unit_text}" is neither a unit {fuel.label} is bought in ({units}) nor one '
+                f'of its containers ({names}; e.g. "2 {fuel.containers[0].name}s")',
+                where=where,
+            ) from None
+    return FuelStock(number, pu.name, number * pu.j_per_unit, text)
+
+
+def _named_container(fuel: Fuel, unit_text: str) -> Container | None:
+    """The container `unit_text` names ("100-lb cylinders", "x 100lb", "× 500 gal"): its
+    name or an alias, plural or not, or — after a count's "x" — its size alone when only
+    one of the fuel's containers has that size."""
     wanted = _key(unit_text)
+    times = re.match(r"\s*[x×]\s*", unit_text)
+    if times:
+        wanted = _key(unit_text[times.end() :])
     for c in fuel.containers:
         names = {_key(n) for n in (c.name, *c.aliases)}
         if wanted in names or (wanted.endswith("s") and wanted[:-1] in names):
-            amount = number * c.content
-            return FuelStock(
-                amount, c.unit, amount * fuel.heating_value_j_per_unit, text, c, number, amount
-            )
-    pu = fuel.purchase_unit(unit_text, where=where)
-    return FuelStock(number, pu.name, number * pu.j_per_unit, text)
+            return c
+    if times and re.fullmatch(r"\d+[a-z]+", wanted):  # a size with its unit: "100lb"
+        sized = [c for c in fuel.containers if _key(c.name).startswith(wanted)]
+        if len(sized) == 1:
+            return sized[0]
+    return None
 
 
 def parse_fill(text: object, where: str = "--fill") -> float:

@@ -312,6 +312,10 @@ def test_containers_needed_rounds_up():
         ("3 bags", "pellets", 120.0, "lb"),
         ("1 ton", "pellets", 1.0, "ton"),
         ("2 100-lb cylinders", "propane", 2 * 100 / 4.23, "gal"),
+        # a count "x" a container's size, as people write it on a note
+        ("2x100lb", "propane", 2 * 100 / 4.23, "gal"),
+        ("2 x 100-lb cylinders", "propane", 2 * 100 / 4.23, "gal"),
+        ("5 × 20lb", "propane", 5 * 20 / 4.23, "gal"),
         ("0 gal", "propane", 0.0, "gal"),
     ],
 )
@@ -330,7 +334,10 @@ def test_parse_amount(text, fuel, amount, unit):
         ("200", "propane", "needs a unit"),
         ("-5 gal", "propane", "zero or more"),
         ("lots", "propane", "not an amount"),
-        ("20 furlongs", "propane", "is not a unit"),
+        ("20 furlongs", "propane", "nor one of its containers .*100-lb cylinder"),
+        ("2 x 1000", "propane", "nor one of its containers"),  # 1000 of what
+        ("2 x 275gal", "propane", "nor one of its containers"),  # an oil tank's size
+        ("20 furlongs", "electricity", "is not a unit"),  # no containers to offer
     ],
 )
 def test_parse_amount_rejects(text, fuel, expect):

@@ -480,8 +480,10 @@ def test_already_below_at_start_says_so(capsys, tmp_path):
 def test_size_never_shrinks_the_heater_on_a_fitted_k(capsys, tmp_path, conduction, sky):
     # A fitted part below the geometry's applied to the design night undersizes the heater
     # (a one-factor fit of 0.34× recommended 34.7 kW for a house losing 62.5 kW); a fit may
-    # raise each part, never lower it below the geometry's (common practice, no source:
-    # size for the worse of two estimates).
+    # raise the loss, never lower it below the geometry's (common practice, no source:
+    # size for the worse of two estimates): the conductance to outside air and sky
+    # together and the clear sky's depression are each kept at least the geometry's, and
+    # a floored sky part's conductance is not added on top of the conduction again.
     argv = ("--outside", "-20C", "--hold", "10C")
     plain = run_json(capsys, "size", "examples/gable-house.toml", *argv)
     text = Path("examples/gable-house.toml").read_text(encoding="utf-8")
@@ -493,10 +495,23 @@ def test_size_never_shrinks_the_heater_on_a_fitted_k(capsys, tmp_path, conductio
     dt, dt_sky = plain["hold_c"] - plain["design_outside_c"], plain["hold_c"] - plain["sky_c"]
     k_out, k_sky = plain["k_conduction_w_per_k"], plain["k_sky_w_per_k"]
     assert plain["heat_loss_w"] == pytest.approx(k_out * dt + k_sky * dt_sky, rel=1e-9)
-    fk, fs = max(conduction, 1.0), max(sky, 1.0)
-    assert d["heat_loss_w"] == pytest.approx(fk * k_out * dt + fs * k_sky * dt_sky, rel=1e-4)
+    # Q = max(f_k·K_out + f_s·K_sky, K_out + K_sky)·(T_hold − T_out)
+    #     + max(f_s, 1)·K_sky·(T_out − T_sky)
+    k_c = max(conduction * k_out + sky * k_sky, k_out + k_sky)
+    fs = max(sky, 1.0)
+    depression = plain["design_outside_c"] - plain["sky_c"]
+    assert d["heat_loss_w"] == pytest.approx(k_c * dt + fs * k_sky * depression, rel=1e-4)
     assert d["calibration"]["fitted"]["conduction_factor"] == pytest.approx(conduction, rel=1e-9)
-    assert d["calibration"]["applied"] == {"conduction_factor": fk, "sky_factor": fs}
+    applied = d["calibration"]["applied"]
+    assert applied["sky_factor"] == fs
+    assert applied["conduction_factor"] == pytest.approx((k_c - fs * k_sky) / k_out, rel=1e-4)
+    assert d["heat_loss_w"] == pytest.approx(
+        d["handbook_loss_w"]
+        + d["wind_allowance_w"]
+        + d["calibration_allowance_w"]
+        + d["sky_allowance_w"],
+        rel=1e-9,
+    )
     if conduction < 1 or sky < 1:
         assert any("not sized below the handbook" in n for n in d["notes"])
     assert d["recommended_output_w"] >= plain["recommended_output_w"] * (1 - 1e-9)
@@ -547,7 +562,10 @@ def test_sizing_with_two_fitted_parts_never_goes_below_the_geometry(conduction, 
         return design_heat_loss(h, -20.0, 10.0, 6.7, **kw).total_w
 
     geometry = loss(1.0, 1.0)
-    sized = loss(*sizing_factors(conduction, sky))
-    assert sized >= geometry * (1 - 1e-12)
-    assert loss(*sizing_factors(conduction + more, sky)) >= sized * (1 - 1e-12)
-    assert loss(*sizing_factors(conduction, sky + more)) >= sized * (1 - 1e-12)
+    cond = design_heat_loss(h, -20.0, 10.0, 6.7, curtain_closed=False).conductances
+    parts = (cond.outside_w_per_k, cond.sky_w_per_k)
+    for rule in ((), parts):  # each factor floored; the conductance and depression floored
+        sized = loss(*sizing_factors(conduction, sky, *rule))
+        assert sized >= geometry * (1 - 1e-12)
+        assert loss(*sizing_factors(conduction + more, sky, *rule)) >= sized * (1 - 1e-12)
+        assert loss(*sizing_factors(conduction, sky + more, *rule)) >= sized * (1 - 1e-12)

@@ -222,10 +222,11 @@ def test_irregular_intervals_and_missing_inside_values(tmp_path):
         "2026-11-20T22:40-05:00,10.0,1.0\n"
     )
     rec = read_logger_csv(_write(tmp_path, text))
-    assert rec.n_rows == 3
-    np.testing.assert_allclose(np.diff(rec.utc_s), [31 * 60, (4 * 60 + 9) * 60])
-    np.testing.assert_array_equal(rec.lines, [2, 4, 5])
-    assert any("line 3" in n for n in rec.notes)
+    # the row without an inside reading is kept (its outside value still counts), NaN
+    assert rec.n_rows == 4 and np.isnan(rec.inside_c[1])
+    np.testing.assert_allclose(np.diff(rec.utc_s), [7 * 60, 24 * 60, (4 * 60 + 9) * 60])
+    np.testing.assert_array_equal(rec.lines, [2, 3, 4, 5])
+    assert any("1 row(s) without an inside temperature (line 3)" in n for n in rec.notes)
 
 
 def test_fall_back_hour_is_read_in_order(tmp_path):
@@ -344,8 +345,9 @@ def test_example_record_reads(examples):
     assert rec.units == {"inside": "°C", "outside": "°C", "heater": "on/off"}
     assert rec.time_format.startswith("%d.%m.%Y")
     # invented: 4 days of 10-minute rows from 20 Nov 14:00 to 24 Nov 10:00, five rows
-    # lost to a read-out and one inside value missing
-    assert rec.n_rows == (4 * 24 - 4) * 6 + 1 - 5 - 1
+    # lost to a read-out and one inside value missing (that row kept, NaN)
+    assert rec.n_rows == (4 * 24 - 4) * 6 + 1 - 5
+    assert np.isnan(rec.inside_c).sum() == 1
     assert rec.heater_fraction.max() == 1.0 and rec.heater_fraction.min() == 0.0
 
 
@@ -372,14 +374,25 @@ def test_a_single_blank_outside_reading_is_filled_linearly(tmp_path):
     assert any("1 missing reading(s) filled" in n and "line 8" in n for n in r.notes)
 
 
-def test_a_long_outside_gap_and_a_blank_heater_leave_rows_out(tmp_path):
+def test_a_long_outside_gap_leaves_rows_out_and_a_blank_heater_stays_unknown(tmp_path):
     p = tmp_path / "r.csv"
     # 10-minute rows: a run of 7 blanks spans 80 min between good readings (> 60 min)
     p.write_text(_record_text(n=20, blank_outside=set(range(5, 12)), blank_heater={15}), "utf-8")
     r = read_logger_csv(p, timezone="America/Toronto")
-    assert r.n_rows == 20 - 7 - 1
-    assert np.isfinite(r.outside_c).all() and np.isfinite(r.heater_fraction).all()
-    assert any("7 row(s) without a reading left out" in n for n in r.notes)
+    assert r.n_rows == 20 - 7
+    assert np.isfinite(r.outside_c).all()
+    # the blank heater cell is not the previous row's state: unknown (the fit splits there)
+    assert np.isnan(r.heater_fraction).sum() == 1 and np.isnan(r.heater_fraction[15 - 7])
+    assert any("7 row(s) without a reading left out (lines 8–14)" in n for n in r.notes)
+    assert any("1 row(s) without a reading (line 18)" in n for n in r.notes)
+
+
+def test_line_ranges_names_runs_of_lines():
+    from grower.logger import line_ranges
+
+    assert line_ranges(np.array([7])) == "line 7"
+    assert line_ranges(np.array([7, 8, 9, 40])) == "lines 7–9, 40"
+    assert line_ranges(np.array([1, 3, 5, 7, 8])) == "lines 1, 3, 5 and 1 more"
 
 
 def test_an_empty_outside_column_is_not_used(tmp_path):

@@ -520,3 +520,18 @@ def test_setpoint_errors_speak_the_reports_units(capsys, house_file, setpoint, e
     err = capsys.readouterr().err
     assert code == 2
     assert expected in err and err.count("\n") == 1
+
+
+@pytest.mark.parametrize(("units", "fuel_unit"), [("us", "L"), ("metric", "gal"), ("us", "kg")])
+def test_fuel_unit_asked_for_is_kept_on_either_screen(capsys, units, fuel_unit):
+    # --fuel-unit is the user's choice: neither screen converts it to its own system; with
+    # no choice each screen shows its own (L on a metric screen, gal on a US one)
+    argv = ["stock", "examples/gable-house.toml", "--setpoint", "8C", "--forecast", SNAP]
+    assert main([*argv, "--units", units, "--fuel-unit", fuel_unit]) == 0
+    first = capsys.readouterr().out
+    assert f" {fuel_unit} of propane" in first
+    assert main([*argv, "--units", units]) == 0
+    plain = capsys.readouterr().out
+    assert (" gal of propane" if units == "us" else " L of propane") in plain
+    doc = run_json(capsys, *argv, "--fuel-unit", fuel_unit)
+    assert doc["fuel"]["unit"] == fuel_unit

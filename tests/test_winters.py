@@ -24,6 +24,7 @@ from grower.site import Site
 from grower.units import J_PER_BTU
 from grower.weather import history
 from tests.conftest import MINIMAL, write_house
+from tests.reference_units import Q_
 
 GLASS = MINIMAL.replace('"double-poly"', '"single-glass"').replace(
     '"twin-wall-polycarbonate-8mm"', '"single-glass"'
@@ -279,3 +280,20 @@ def test_winters_on_an_older_calibration_runs_on_the_geometry(tmp_path, capsys):
     assert "! the house file's [calibration] is from an older" in " ".join(
         capsys.readouterr().out.split()
     )
+
+
+def test_winters_screen_shows_fuel_in_its_own_system(tmp_path, capsys):
+    # the gable house keeps its propane in litres ([stock] on_hand = "900 L"): a US screen
+    # shows gallons (pint's US gallon: 3.785411784 L), a metric one litres, --fuel-unit as asked
+    csv = history_csv(tmp_path / "w.csv", "2024-10-30", 40)
+    argv = ["winters", "examples/gable-house.toml", "--setpoint", "8C", "--history", csv]
+    argv += ["--winters", "1", "--season-days", "20"]
+    litres = run_json(capsys, *argv)["median_fuel_amount"]
+    assert main([*argv, "--units", "us"]) == 0
+    out = capsys.readouterr().out
+    gallons = f"{Q_(litres, 'L').to('gallon').magnitude:,.0f} gal of"
+    assert gallons in out and " L " not in out
+    assert main([*argv, "--units", "metric"]) == 0
+    assert f"{litres:,.0f} L of" in capsys.readouterr().out
+    assert main([*argv, "--units", "us", "--fuel-unit", "L"]) == 0
+    assert f"{litres:,.0f} L of" in capsys.readouterr().out

@@ -14,7 +14,10 @@ The boundary is the one `tonight` uses (`grower.plans.model.boundary`): outside 
 the sky temperature from it (Swinbank 1963 with no dew point; Berdahl & Martin with
 one, from a forecast file), the deep ground. A logged heater state or power holds from
 its row to the next (zero-order hold: the solver grid gets a point `HOLD_EDGE_S` before
-each change); temperatures and the sun are linear between rows.
+each change); temperatures and the sun are linear between rows. A row without an
+inside reading (the logger missed it) stays on the grid with its heater and outside
+values and is not matched; a row without a heater value ends the segment (the heat
+there is not known); both are said in the notes with their lines.
 """
 
 from __future__ import annotations
@@ -26,7 +29,7 @@ import pandas as pd
 
 from grower.errors import InputError
 from grower.house import House
-from grower.logger import LoggerRecord
+from grower.logger import LoggerRecord, line_ranges
 from grower.plans import model as hm
 
 #: a gap longer than this splits the record into segments [s] (the same limit the
@@ -59,9 +62,10 @@ class Segment:
 
     Attributes
     ----------
-    rows : (R,) indices into the record's rows
-    times_s : (G,) the solver grid [s from the segment's first row]
-    obs : (R,) grid index of each row
+    rows : (R,) indices into the record's rows with an inside reading
+    times_s : (G,) the solver grid [s from the segment's first row]: every usable row
+        (with or without an inside reading) and the heater's change points
+    obs : (R,) grid index of each row with a reading
     inside_c, outside_c, effective_c : (R,) at the rows [°C]
     boundary_c : (G, 3) outside air, sky, deep ground (`grower.plans.model.BOUNDARIES`)
     sun_w : (G,) sensible solar gain into the air at the geometry's coefficient [W]
@@ -207,6 +211,17 @@ def _runs(ok: np.ndarray, utc_s: np.ndarray) -> list[np.ndarray]:
     return out
 
 
+def _read_runs(run: np.ndarray, measured: np.ndarray, utc_s: np.ndarray) -> list[np.ndarray]:
+    """A run of usable rows trimmed to its first and last inside reading, and split where
+    two readings are more than `SEGMENT_GAP_S` apart (rows between them without one kept)."""
+    read = run[measured[run]]
+    if read.size == 0:
+        return []
+    run = run[(run >= read[0]) & (run <= read[-1])]
+    cuts = read[1:][np.diff(utc_s[read]) > SEGMENT_GAP_S + 1e-6]
+    return [p for p in np.split(run, np.searchsorted(run, cuts)) if p.size]
+
+
 def _grid(
     utc_s: np.ndarray, held: np.ndarray | None
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
@@ -262,7 +277,10 @@ def prepare(
             "house file, or log the sun (W/m²)",
             where=house.path,
         )
-    ok = covered & np.isfinite(record.inside_c) & np.isfinite(cols["temperature_c"])
+    # a row without an inside reading stays in: its heater and outside values are what
+    # the house had between the readings around it (no reading is matched there)
+    measured = np.isfinite(record.inside_c)
+    ok = covered & np.isfinite(cols["temperature_c"])
     if with_days:
         ok &= np.isfinite(sun)
     for c, v in cols.items():  # the boundary is linear between rows: bridge missing values
@@ -277,8 +295,8 @@ def prepare(
         miss = ~np.isfinite(heater_values) & ok
         if miss.any():
             notes.append(
-                f"{int(miss.sum())} row(s) without a heater value left out "
-                f"(first: line {record.lines[miss][0]})"
+                f"{int(miss.sum())} row(s) without a heater value ({line_ranges(record.lines[miss])}) "
+                "left out: the heat there is not known, so the record is split there"
             )
         ok &= np.isfinite(heater_values)
     if not with_days:
@@ -302,11 +320,12 @@ def prepare(
         )
     ok &= ~vent
 
-    runs = _runs(ok, record.utc_s)
+    runs = [m for r in _runs(ok, record.utc_s) for m in _read_runs(r, measured, record.utc_s)]
     kept = [
         r
         for r in runs
-        if r.size >= MIN_SEGMENT_ROWS and record.utc_s[r[-1]] - record.utc_s[r[0]] >= MIN_SEGMENT_S
+        if measured[r].sum() >= MIN_SEGMENT_ROWS
+        and record.utc_s[r[-1]] - record.utc_s[r[0]] >= MIN_SEGMENT_S
     ]
     if len(kept) < len(runs):
         notes.append(f"{len(runs) - len(kept)} stretch(es) shorter than 1 h left out")
@@ -318,7 +337,15 @@ def prepare(
             "log at least two clear nights with the heater off",
             where=record.path,
         )
-    rows = np.concatenate(kept)
+    inputs = np.concatenate(kept)
+    rows = inputs[measured[inputs]]
+    unread = inputs[~measured[inputs]]
+    if unread.size:
+        notes.append(
+            f"{unread.size} row(s) without an inside reading within the stretches fitted "
+            f"({line_ranges(record.lines[unread])}): the model runs through them on their "
+            "logged heater and outside values, with no reading to match"
+        )
     t_in = record.inside_c[rows]
     t_out = cols["temperature_c"][rows]
     spread = float(np.std(t_in))
@@ -332,6 +359,13 @@ def prepare(
     # the geometry's models at the record's conditions (as `tonight` builds them)
     mean_out = float(np.mean(t_out))
     wind = float(np.nanmean(cols["wind_speed_m_s"][rows])) if "wind_speed_m_s" in cols else 0.0
+    if "wind_speed_m_s" not in cols:
+        notes.append(
+            "no wind logged: the geometry is taken at calm (no wind), so the fitted factors are "
+            "on the calm house's conductances and the runs apply them at their own wind; on "
+            "a windy record they come out high, the cautious side (give wind_speed_m_s in an "
+            "--outside file)"
+        )
     kw = dict(
         wind_m_s=wind,
         curtain_closed=True,
@@ -346,12 +380,12 @@ def prepare(
 
     heater = None
     if record.heater_fraction is not None:
-        if np.any(record.heater_fraction[rows] > 0):
+        if np.any(record.heater_fraction[inputs] > 0):
             heater = "state"
         else:
             notes.append("the heater was off on every row used: its output is not fitted")
     elif record.heater_w is not None:
-        if np.any(record.heater_w[rows] > 0):
+        if np.any(record.heater_w[inputs] > 0):
             heater = "power"
         else:
             notes.append("the logged heater power is zero on every row used")
@@ -374,9 +408,11 @@ def prepare(
     sun_all = bnd.sun_w if (with_days and sun is not None) else np.zeros(all_t.size)
     segments = []
     start = 0
-    for r, (t, obs, held) in zip(kept, grids, strict=True):
+    for r, (t, obs_all, held) in zip(kept, grids, strict=True):
         sl = slice(start, start + t.size)
         start += t.size
+        obs = obs_all[measured[r]]
+        r = r[measured[r]]
         segments.append(
             Segment(
                 rows=r,

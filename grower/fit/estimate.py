@@ -4,10 +4,10 @@ The fitted network is the geometry's (`grower.plans.model.build`) with
 
 - the *conduction* times ``k``: the outside-air column, the air–mass coupling and (unless
   fitted apart, below) the deep-ground column;
-- the *sky part* (the sky column: the cover faces' and the floor's excess radiation on a
-  clear night) times its own ``ks`` ≥ 0 — one factor for the record, or one per segment
-  (``ks0``, ``ks1``…) where the cloud is not logged: an unlogged cloud warms the sky
-  night by night, and that is a nuisance to fit, not a clear sky to assume;
+- the *sky part* (the sky column: the cover faces' and the floor's exchange with the sky)
+  times its own ``ks`` ≥ 0, one factor for the record; where the cloud is not logged,
+  optionally with each segment's share ``cs0``, ``cs1``… (0 to `MAX_CLEAR_SHARE`) of the
+  clear sky's depression below the outside air (see "Unlogged cloud" below);
 - in the lumped model with a heater anchor, optionally the deep-ground column times its
   own ``kg`` ≥ 0 (a house whose floor loses less, or more, than the geometry says; the
   plain first-order house of issue #11 has no ground path at all);
@@ -31,12 +31,32 @@ the heater's lift Q/K, not K itself. One absolute heat flow sets the scale (the 
   on/off state) are fitted.
 
 Which variant: `estimate` fits the sky held at the geometry's share (``ks`` = ``k``, the
-old single factor), one sky factor, one per night, and (lumped, heater anchor) each with
+old single factor), one sky factor, one sky factor with each night's cloud, and (lumped, heater anchor) each with
 the ground apart. The base is one sky factor where it is identified (the geometry's share
 only where it is not); a richer variant replaces it only when its AIC is lower by more
 than `AIC_MARGIN`; and the intervals are widened to span the simpler variants the record
 cannot rule out (within `AIC_MARGIN`), so an assumption the record cannot test does not
 hide in a narrow interval.
+
+Unlogged cloud. A cloud warms the sky: the sky's emissivity rises toward 1 (the
+one-layer correction ε = ε₀ + (1 − ε₀)·k·c of `grower.sky`), so the sky temperature
+moves toward the outside air; the cover's exchange with the sky (its area, emissivity
+and the radiative coefficient, the sky column's conductance) does not change. On a
+record without cloud the nuisance is therefore the night's sky temperature, not its
+conductance: segment i sees T_sky,i = T_out − cs_i·(T_out − T_sky,clear) through the
+one fitted sky conductance ``ks``. (A factor on the sky conductance night by night,
+as before, takes the cloud's warmer sky for a smaller conductance; since the record
+fixes the total conductance to the outside well, the conduction to the outside air
+then takes up the share of the sky's that the cloud hid: +6 to +20 % on cloudy records
+of benchmarks/fit_coverage.py, outside intervals that held only 82 % of them.) With a
+share fitted for each night, what separates the conduction to the outside air from the
+sky's is only how the clear sky's depression changes with the outside temperature
+(Swinbank: T_sky ∝ T_out^1.5, about −0.4 K of depression per K warmer): the nuisances
+are fitted with the rest, so the intervals of K and C carry their uncertainty (the
+linearised covariance below is that of all parameters together, Bates & Watts 1988
+§2.1; the profile of K over the nuisances, to first order). A record that cannot pin
+the conduction down this way is refused with the advice to log the cloud cover; one
+that can states the wider interval it has.
 
 Confidence intervals: the linearised ones, covariance ``s² (JᵀJ)⁻¹`` with J the Jacobian
 at the optimum (central differences) and ``s²`` the residual variance, widened for the
@@ -62,6 +82,8 @@ A. C. Cameron and D. L. Miller (2015), "A practitioner's guide to cluster-robust
 inference", J. Human Resources 50(2):317-372, doi:10.3368/jhr.50.2.317 (the sandwich
 with clusters, the CR1 factor G/(G − 1)·(n − 1)/(n − p), and Student's t on G − 1 for
 few clusters; the section numbers from memory).
+W. C. Swinbank (1963), "Long-wave radiation from clear skies", Q. J. R. Meteorol. Soc.
+89(381):339-348, doi:10.1002/qj.49708938105 (the clear sky's T^1.5 law).
 H. Akaike (1974), "A new look at the statistical model identification", IEEE Trans.
 Automatic Control 19(6):716-723, doi:10.1109/TAC.1974.1100705.
 K. P. Burnham and D. R. Anderson (2002), *Model Selection and Multimodel Inference*,
@@ -107,6 +129,10 @@ MIN_BLOCKS = 4
 #: the residuals' lag-1 autocorrelation used to widen the intervals is capped here (an
 #: inflation of 39): beyond it the record is one long wave and the fit is refused anyway
 MAX_LAG1 = 0.95
+#: the largest share of the clear sky's depression a night may show [-]: a cloud only
+#: warms the sky (share under 1), but Swinbank's clear sky is an average one and a dry
+#: night's is colder (common practice, no source)
+MAX_CLEAR_SHARE = 1.5
 #: allowed range of each scale factor on the geometry (common practice, no source: far
 #: outside the ±30 % of handbook U-values, so only a wrong record reaches it)
 SCALE_BOUNDS = (0.05, 20.0)
@@ -156,17 +182,19 @@ class _Problem:
         if data.with_days:
             names.append("s")
         if self.k_sky_geom > 0 and sky != "held":
-            # the sky part apart from the conduction: one factor, or one per segment (a
-            # cloud the record does not log warms the sky night by night)
-            names += [f"ks{i}" for i in range(nseg)] if sky == "night" and nseg > 1 else ["ks"]
+            # the sky part apart from the conduction: one factor; where the cloud is not
+            # logged, with each night's share of the clear sky's depression beside it (a
+            # cloud warms the sky, it does not change the cover's exchange with it)
+            names.append("ks")
+            if sky == "night" and nseg > 1:
+                names += [f"cs{i}" for i in range(nseg)]
         for n in names[1:]:
             start.append(1.0)
-            lo.append(0.0 if n in ("q", "s", "kg") or n.startswith("ks") else SCALE_BOUNDS[0])
-            hi.append(SCALE_BOUNDS[1])
-        self.globals = tuple(n for n in names if not n.startswith("ks"))
-        self.sky_names = tuple(n for n in names if n.startswith("ks"))
-        self.weights = np.array([s.rows.size for s in data.segments], dtype=float)
-        self.weights /= self.weights.sum()
+            lo.append(0.0 if n in ("q", "s", "kg", "ks") or _clear(n) else SCALE_BOUNDS[0])
+            hi.append(MAX_CLEAR_SHARE if _clear(n) else SCALE_BOUNDS[1])
+        self.globals = tuple(n for n in names if n != "ks" and not _clear(n))
+        self.sky_names = tuple(n for n in names if n == "ks" or _clear(n))
+        self.clear_names = tuple(n for n in names if _clear(n))
         for i, seg in enumerate(data.segments):
             names.append(f"air{i}")
             start.append(float(seg.inside_c[0]))
@@ -201,12 +229,8 @@ class _Problem:
         p = dict(zip(self.names, theta, strict=True))
         q_w = self.rating_w if self.anchor == "heater rating" else p.get("q", 0.0) * self.q_ref
         nseg = len(self.data.segments)
-        if "ks" in p:
-            sky = np.full(nseg, p["ks"])
-        elif self.sky_names:
-            sky = np.array([p[f"ks{i}"] for i in range(nseg)])
-        else:
-            sky = np.full(nseg, p.get("k", 1.0))
+        sky = np.full(nseg, p.get("ks", p.get("k", 1.0)))
+        clear = np.array([p.get(f"cs{i}", 1.0) for i in range(nseg)])
         return {
             "k": p.get("k", 1.0),
             "kg": p.get("kg", p.get("k", 1.0)),
@@ -215,7 +239,8 @@ class _Problem:
             "q_w": q_w or 0.0,
             "s": p.get("s", 0.0),
             "sky": sky,
-            "ks": float(self.weights @ sky),  # the record's mean, weighted by rows
+            "clear": clear,
+            "ks": float(sky[0]),
         }
 
     def network(self, v: dict, segment: int) -> solver.Network:
@@ -250,7 +275,12 @@ class _Problem:
             if v["s"] > 0 and np.any(seg.sun_w):
                 gains = np.zeros((seg.times_s.size, n))
                 gains[:, 0] = seg.sun_w * v["s"]
-            tr = solver.free_float(net, seg.times_s, seg.boundary_c, np.array(x0), gains, heat)
+            bnd = seg.boundary_c
+            if v["clear"][i] != 1.0:  # the night's cloud: the sky that much nearer the air
+                bnd = bnd.copy()
+                out_c = bnd[:, OUTSIDE]
+                bnd[:, SKY] = out_c - v["clear"][i] * (out_c - seg.boundary_c[:, SKY])
+            tr = solver.free_float(net, seg.times_s, bnd, np.array(x0), gains, heat)
             out.append(tr.temps_c[0, seg.obs, 0])
         return out
 
@@ -348,14 +378,14 @@ def _at_bound(prob: _Problem, x: np.ndarray) -> list[str]:
     return [
         n
         for n, b in zip(prob.names, near, strict=True)
-        if b and n not in ("q", "s", "kg") and not n.startswith("ks")
+        if b and n not in ("q", "s", "kg", "ks") and not _clear(n)
     ]
 
 
 def _physical(name: str) -> str:
     if name.startswith("air"):
         return "time_constant_h"
-    if name.startswith("ks"):
+    if name == "ks" or _clear(name):
         return "k_sky_w_per_k"
     return {
         "c": "c_j_per_k",
@@ -372,8 +402,8 @@ def _pretty(name: str) -> str:
         return f"the floor's starting temperature (segment {int(name[4:]) + 1})"
     if name.startswith("air"):
         return f"the air's starting temperature (segment {int(name[3:]) + 1})"
-    if name.startswith("ks") and name != "ks":
-        return f"the sky part (segment {int(name[2:]) + 1})"
+    if _clear(name):
+        return f"the clear sky's share (segment {int(name[2:]) + 1})"
     return LABELS[_physical(name)]
 
 
@@ -417,8 +447,9 @@ def estimate(
     `fit_coupling` False holds the two-node model's air–mass coupling at the geometry's
     (times the conduction factor), for a record too thin to fit it. `sky`: "held" scales
     the sky part with the conduction (the geometry's sky share), "one" fits one factor
-    on it for the record, "night" one per segment (not tried where the cloud is logged
-    or there is one segment); None (the default) tries each.
+    on it for the record, "night" that factor with each segment's share of the clear
+    sky's depression (its cloud; not tried where the cloud is logged or there is one
+    segment); None (the default) tries each.
     `ground` True fits the lumped model's path to the deep ground with a factor of its
     own, False scales it with the conduction; None (the default, with a heater anchor):
     both, kept by the same rule. Of the variants tried, the one not refused with the
@@ -476,7 +507,12 @@ def estimate(
 
 
 def _sky_held(fit: ModelFit) -> bool:
-    return not any(n.startswith("ks") for n in fit.free_names)
+    return "ks" not in fit.free_names
+
+
+def _clear(name: str) -> bool:
+    """A night's share of the clear sky's depression (a nuisance of the sky by night)."""
+    return name.startswith("cs")
 
 
 def _spanning(best: ModelFit, near: list[ModelFit]) -> ModelFit:
@@ -517,7 +553,7 @@ def _estimate(
     theta = res.x.copy()
     # a factor that ends at its lower bound of 0 (no sky excess, no ground path) is 0, not
     # the solver's 1e-25 on the way there
-    zero = [i for i, n in enumerate(prob.names) if n.startswith("ks") or n == "kg"]
+    zero = [i for i, n in enumerate(prob.names) if n in ("ks", "kg") or _clear(n)]
     theta[zero] = np.where(theta[zero] < 1e-9, 0.0, theta[zero])
     r = prob.residuals(theta)
     n, p = r.size, theta.size
@@ -594,7 +630,7 @@ def _estimate(
         off = np.abs(np.nan_to_num(corr - np.eye(p)))
         # night-by-night sky factors are nuisances: they may trade off with each other
         # and the rest; what they leave of K and C is judged by its interval below
-        nuisance = [i for i, nm in enumerate(prob.names) if nm.startswith("ks") and nm != "ks"]
+        nuisance = [i for i, nm in enumerate(prob.names) if _clear(nm)]
         off[nuisance, :] = 0.0
         off[:, nuisance] = 0.0
         i, j = np.unravel_index(int(np.argmax(off)), off.shape) if p > 1 else (0, 0)
@@ -682,6 +718,6 @@ def _estimate(
         scales=scales,
         refusal=refusal,
         residual_lag1=lag1,
-        sky_by_segment=tuple(float(x) for x in v["sky"]) if len(prob.sky_names) > 1 else None,
+        sky_by_segment=tuple(float(x) for x in v["sky"] * v["clear"]) if prob.clear_names else None,
         widened_by_nights=wider,
     )

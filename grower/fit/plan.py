@@ -243,10 +243,11 @@ def sky_notes(fit: ModelFit, cloud_given: bool) -> tuple[str, ...]:
     out = []
     if fit.sky_by_segment is not None:
         out.append(
-            "no cloud cover logged: the sky part is fitted night by night (a cloud the record "
-            "does not log warms the sky, as would a steady heat nobody logged); K to the sky "
-            "is the nights' mean, weighted by their rows (give cloud_cover_pct in an "
-            "--outside file to fit one sky part)"
+            "no cloud cover logged: the sky is fitted night by night, one sky part (the "
+            "cover's exchange with a clear sky) and each night's share of the clear sky's "
+            "depression (a cloud warms the sky, it does not change the cover); what that "
+            "leaves uncertain is in the intervals (give cloud_cover_pct in an --outside file "
+            "to narrow them)"
         )
     elif "ks" in fit.free_names:
         out.append(f"the sky part is fitted apart from the conduction{clear}")

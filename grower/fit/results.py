@@ -109,17 +109,17 @@ class ModelFit:
       (+ in the lumped model, to the deep ground) [W/K];
     - ``k_outside_w_per_k``: from the air to the outside air (the conduction factor ×
       the geometry's) [W/K];
-    - ``k_sky_w_per_k``: the sky part (the cover faces' and the floor's excess radiation
-      to a clear sky) [W/K]; with one sky factor per night (no cloud logged) it is the
-      record's typical value: the nights' factors averaged with their rows as weights,
-      times the geometry's (`sky_by_segment` holds each night's factor);
+    - ``k_sky_w_per_k``: the sky part (the cover faces' and the floor's exchange with a
+      clear sky) [W/K]; where the sky is fitted night by night (no cloud logged) it is
+      still the one for a clear sky, and `sky_by_segment` holds each night's factor
+      times that night's share of the clear sky's depression (what its cloud left);
     - ``c_j_per_k`` [J/K], ``time_constant_h`` [h]; where fitted ``coupling_w_per_k``
       [W/K] (two-node), ``heater_output_w`` [W] (on/off records), ``sun_factor``.
 
     `scales`: ``k_scale`` (the conduction factor: outside air, air–mass coupling and,
-    unless fitted apart, the deep ground), ``sky_scale`` (the sky factor, the
-    row-weighted mean where fitted night by night; equal to ``k_scale`` where the sky is
-    held at the geometry's share), ``c_scale`` and, two-node, ``coupling_scale`` (on top
+    unless fitted apart, the deep ground), ``sky_scale`` (the sky factor, for a clear
+    sky; equal to ``k_scale`` where the sky is held at the geometry's share),
+    ``c_scale`` and, two-node, ``coupling_scale`` (on top
     of ``k_scale``).
     """
 
@@ -138,7 +138,8 @@ class ModelFit:
     refusal: str | None = None
     #: lag-1 autocorrelation of the residuals, within segments (NaN if too few)
     residual_lag1: float = float("nan")
-    #: the sky factor of each segment where it is fitted night by night (no cloud logged)
+    #: where the sky is fitted night by night (no cloud logged): each segment's sky factor
+    #: times its share of the clear sky's depression
     sky_by_segment: tuple[float, ...] | None = None
     #: the reported values whose night-block (cluster-robust) interval was the wider one
     widened_by_nights: tuple[str, ...] = ()

@@ -13,8 +13,13 @@ W/m²). Exports from cheap loggers differ; this reader takes the usual variation
 - °C or °F, from the column name (``Inside (°F)``, ``inside_f``) or the units row;
 - heater power in W, kW or Btu/h, or its state (on/off, 1/0, true/false, yes/no, a
   fraction 0–1 or a percentage of the interval it ran);
-- irregular intervals and missing cells (a row without an inside temperature is left
-  out; the fit splits the record where it has a long gap).
+- irregular intervals and missing cells: a row without an inside temperature is kept
+  (NaN) with its heater and outside values, since the heat put in between two readings
+  is still what the house did (the fit runs its model through such a row without a
+  reading to match, `grower.fit.data`); a blank heater cell is kept as NaN (the heat
+  over that interval is not known: the fit splits the record there, it does not hold the
+  previous state across it); a short gap in the outside or sun column is filled, a long
+  one leaves its rows out. Each is said in the notes with the lines it concerns.
 
 Columns are found by their names (``inside``/``indoor``, ``outside``/``outdoor``/
 ``ambient``, ``heater``/``burner``, ``sun``/``solar``/``irradiance``; a single column
@@ -72,25 +77,27 @@ __all__ = [
     "TEMPERATURE_RANGE_C",
     "TEMPERATURE_WORDS",
     "LoggerRecord",
+    "line_ranges",
     "read_logger_csv",
 ]
 
 
 @dataclass(frozen=True, eq=False)
 class LoggerRecord:
-    """A logger record, SI, one entry per data row kept (rows without an inside
-    temperature are left out).
+    """A logger record, SI, one entry per data row kept (a row without an inside
+    temperature is kept with NaN there: its heater and outside values still count).
 
     Attributes
     ----------
     path : the file
     utc_s : (N,) times [s since 1970-01-01 UTC], strictly increasing
     offsets_s : (N,) UTC offset of each row's clock [s]
-    inside_c : (N,) inside air temperature [°C]
+    inside_c : (N,) inside air temperature [°C], NaN where the row has none
     outside_c : (N,) outside air temperature [°C], NaN where missing; None: no column
-    heater_fraction : (N,) share of the time up to the next row the heater ran [0–1];
-        None: no state column
-    heater_w : (N,) heater power up to the next row [W]; None: no power column
+    heater_fraction : (N,) share of the time up to the next row the heater ran [0–1],
+        NaN where the cell was blank; None: no state column
+    heater_w : (N,) heater power up to the next row [W], NaN where blank; None: no
+        power column
     sun_w_m2 : (N,) global irradiance [W m-2]; None: no column
     lines : (N,) the file's line number of each row
     columns : role -> the header of the column used
@@ -234,14 +241,15 @@ def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> L
     inside = _temperatures(
         cells("inside"), units["inside"], line_no, header[roles["inside"]], where, decimal_comma
     )
-    keep = np.isfinite(inside)
-    if not keep.any():
+    read = np.isfinite(inside)
+    if not read.any():
         raise InputError(f"column {header[roles['inside']]}: no inside temperatures", where=where)
-    if (~keep).any():
+    if (~read).any():
         notes.append(
-            f"{int((~keep).sum())} row(s) without an inside temperature left out "
-            f"(first: line {line_no[~keep][0]})"
+            f"{int((~read).sum())} row(s) without an inside temperature "
+            f"({line_ranges(line_no[~read])}): kept for their other columns, no reading there"
         )
+    keep = np.ones(inside.size, dtype=bool)
     outside = heater_frac = heater_w = sun = None
     if "outside" in roles:
         outside = _temperatures(
@@ -270,15 +278,20 @@ def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> L
         sun, keep = _fill_or_drop(
             sun, utc_s, keep, line_no, header[roles["sun"]], notes, interpolate=True
         )
-    if heater_w is not None:
-        heater_w, keep = _fill_or_drop(
-            heater_w, utc_s, keep, line_no, header[roles["heater"]], notes, interpolate=False
-        )
-    if heater_frac is not None:
-        heater_frac, keep = _fill_or_drop(
-            heater_frac, utc_s, keep, line_no, header[roles["heater"]], notes, interpolate=False
-        )
-    if not keep.any():
+    # a blank heater cell stays NaN: the heat over that interval is not known, and
+    # holding the previous state across it would be a guess (the fit splits there)
+    for heat in (heater_w, heater_frac):
+        if heat is not None:
+            blank = keep & ~np.isfinite(heat)
+            if blank.all():
+                notes.append(f"column {header[roles['heater']]} has no readings: not used")
+                heater_w = heater_frac = None
+            elif blank.any():
+                notes.append(
+                    f"column {header[roles['heater']]}: {int(blank.sum())} row(s) without a "
+                    f"reading ({line_ranges(line_no[blank])}): the heat there is not known"
+                )
+    if not (keep & read).any():
         raise InputError(
             "no row has every column it needs (inside, and the outside or heater columns found)",
             where=where,
@@ -371,9 +384,22 @@ def _fill_or_drop(
     if dropped.any():
         notes.append(
             f"column {column}: {int(dropped.sum())} row(s) without a reading left out "
-            f"(first: line {lines[dropped][0]})"
+            f"({line_ranges(lines[dropped])})"
         )
     return values, keep & ~dropped
+
+
+def line_ranges(lines: np.ndarray, most: int = 3) -> str:
+    """File lines as runs: "line 7", "lines 7–9, 40", "lines 7–9, 40, 52–60 and 4 more"."""
+    lines = np.asarray(lines, dtype=np.int64)
+    if lines.size == 0:
+        return "no lines"
+    cut = np.flatnonzero(np.diff(lines) != 1) + 1
+    runs = np.split(lines, cut)
+    text = [f"{r[0]}" if r.size == 1 else f"{r[0]}–{r[-1]}" for r in runs[:most]]
+    more = f" and {len(runs) - most} more" if len(runs) > most else ""
+    word = "line" if lines.size == 1 else "lines"
+    return f"{word} {', '.join(text)}{more}"
 
 
 def _decode(path, where: str, notes: list[str]) -> str:
@@ -410,9 +436,10 @@ def resample(record: LoggerRecord, step_s: float = RESAMPLE_STEP_S) -> LoggerRec
     """The record averaged into bins of `step_s` when its median interval is shorter.
 
     Each bin's time is the mean time of its rows; every value column is the mean of its
-    rows (the heater's share of time on stays a share); the line number is the bin's
-    first row's. A record already as coarse as `step_s` is returned as it is. Linear in
-    the number of rows.
+    rows (the heater's share of time on stays a share; a bin with a blank heater cell has
+    no known heat, NaN), the inside temperature the mean of the rows that have one; the
+    line number is the bin's first row's. A record already as coarse as `step_s` is
+    returned as it is. Linear in the number of rows.
     """
     if record.n_rows < 3:
         return record
@@ -428,6 +455,14 @@ def resample(record: LoggerRecord, step_s: float = RESAMPLE_STEP_S) -> LoggerRec
             return None
         return np.add.reduceat(a.astype(float), starts) / counts
 
+    def mean_of_readings(a: np.ndarray) -> np.ndarray:
+        """A bin's mean of the rows that have a reading (NaN where none has)."""
+        good = np.isfinite(a)
+        total = np.add.reduceat(np.where(good, a, 0.0), starts)
+        n = np.add.reduceat(good.astype(float), starts)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.where(n > 0, total / n, np.nan)
+
     notes = (
         *record.notes,
         f"{record.n_rows:,} rows about {median:g} s apart averaged into {starts.size:,} "
@@ -437,7 +472,7 @@ def resample(record: LoggerRecord, step_s: float = RESAMPLE_STEP_S) -> LoggerRec
         path=record.path,
         utc_s=mean(record.utc_s),
         offsets_s=record.offsets_s[starts],
-        inside_c=mean(record.inside_c),
+        inside_c=mean_of_readings(record.inside_c),
         outside_c=mean(record.outside_c),
         heater_fraction=mean(record.heater_fraction),
         heater_w=mean(record.heater_w),

@@ -96,15 +96,24 @@ class Calibration:
     def sky_factor(self) -> float:
         """Fitted over geometric sky part: on the sky columns (1 where the geometry has none).
 
-        Where the fit took the sky night by night (a record without cloud: a cloud it
-        does not log warms the sky and lowers that night's factor), the clearest night's
-        — the largest — stands for the house: tonight's cloud comes from the forecast,
-        and a clear night is the one that matters for frost.
+        Where the fit took the sky night by night (a record without cloud), the larger
+        of the sky part and the clearest night's. `grower fit` stores the cover's
+        exchange with a clear sky as ``k_sky_w_per_k`` and what each night's cloud left
+        of it by night (a night may show a little more: a sky drier than Swinbank's
+        average); a table from an earlier grower stores each night's own factor and
+        their mean, and there the clearest night stands for the house.
+        Tonight's cloud comes from the forecast, and a clear night is the one that
+        matters for frost.
         """
         if self.geometry_k_sky_w_per_k <= 0:
             return 1.0
-        sky = max(self.k_sky_by_night_w_per_k, default=self.k_sky_w_per_k)
+        sky = max((self.k_sky_w_per_k, *self.k_sky_by_night_w_per_k))
         return sky / self.geometry_k_sky_w_per_k
+
+    @property
+    def sky_from_a_night(self) -> bool:
+        """The sky part a run uses is one night's (larger than the record's sky part)."""
+        return max(self.k_sky_by_night_w_per_k, default=0.0) > self.k_sky_w_per_k
 
     @property
     def ground_factor(self) -> float:
@@ -271,7 +280,7 @@ def calibration_note(house: House, kind: ModelKind, use: bool = True) -> str | N
             f"the geometry (give --model {other} to use it)"
         )
     src = ", ".join(str(x) for x in (fitted.record, fitted.fit_date) if x)
-    clearest = " (the clearest of the record's nights)" if fitted.k_sky_by_night_w_per_k else ""
+    clearest = " (the clearest of the record's nights)" if fitted.sky_from_a_night else ""
     text = (
         f"conduction × {fitted.conduction_factor:.2f}, sky part × {fitted.sky_factor:.2f}"
         f"{clearest}, C × {fitted.capacity_factor:.2f} the geometry's, from the house file's "

@@ -64,7 +64,7 @@ class SizeResult:
     k_w_per_k: float
     k_conduction_w_per_k: float
     k_sky_w_per_k: float
-    heat_loss_w: float  # the design heat loss: handbook + wind + sky allowances
+    heat_loss_w: float  # the design heat loss: handbook + wind + calibration + sky
     handbook_loss_w: float  # the trade's figure (tables' U, air exchange, perimeter)
     wind_allowance_w: float  # the design wind against the tables' 15 mph (may be < 0)
     sky_allowance_w: float  # the clear sky's excess below the outside air
@@ -88,6 +88,10 @@ class SizeResult:
     #: `notes`, that the report shows as a warning
     calibration_warning: str | None = None
     vapour: Any = None  # grower.vaporisation.VapourCheck for the recommended input
+    #: what a calibration's conductance (outside air and sky together, at T_hold − T_out)
+    #: adds to the geometry's at the design condition [W]; its sky depression is in
+    #: `sky_allowance_w`
+    calibration_allowance_w: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -198,21 +202,47 @@ def unit_choices(
     return tuple(out)
 
 
-def sizing_factors(conduction_factor: float, sky_factor: float) -> tuple[float, float]:
-    """The calibration factors a heater is sized with: a fit may raise a part, never
-    lower it.
+def sizing_factors(
+    conduction_factor: float,
+    sky_factor: float,
+    k_outside_w_per_k: float | None = None,
+    k_sky_w_per_k: float | None = None,
+) -> tuple[float, float]:
+    """The calibration factors a heater is sized with: a fit may raise the loss, never
+    lower it below the geometry's.
 
-    Each part the fit told apart (conduction to the outside air, the sky part) is kept
-    at the geometry's where the fit puts it lower. A low fitted conduction most often
-    means the record held heat the fit did not see (a warm soil, cloud it took for
-    clear), not a tighter house; a low sky part, a record under cloud or condensation
-    that a clear design night will not have; and the two are fitted against each other,
-    so one low part can be the other's share. Applied to the design night, either
-    undersizes the heater, the unsafe direction; with both parts at least the
-    geometry's, the heater is never below the geometry's figure (common practice, no
-    source: size for the worse of two estimates).
+    The design loss has two parts (`design_heat_loss`): the conductance to the outside
+    air and to the sky, K_o + K_s, times T_hold − T_out; and the clear sky's depression
+    below the outside air, K_s·(T_out − T_sky). Each is kept at least the geometry's:
+
+    - the *conductance*: the fitted f_k·K_o + f_s·K_s, at least K_o + K_s. The record
+      fixes this sum well and its split less well (the two are fitted against each
+      other, so one low part is often the other's share: a house whose sky part comes
+      out low has its sky's exchange in the conduction to the outside air). A low sum
+      most often means heat the fit did not see (a warm soil), not a tighter house;
+    - the *sky's depression*: max(f_s, 1)·K_s·(T_out − T_sky). A low fitted sky part
+      can be a record under cloud or condensation that a clear design night will not
+      have.
+
+    Flooring the sky factor alone would add the floored share's conductance a second
+    time on top of the conduction that already holds it (a plain house with all its K
+    to the outside air: 369 W/K × 25 K = 9.2 kW of loss counted twice at −20 °C; see
+    tests/test_jobs.py). Returned as the pair (f_k', f_s') on K_o and K_s that gives
+    both parts, f_s' = max(f_s, 1) and f_k' = (max(f_k·K_o + f_s·K_s, K_o + K_s) −
+    f_s'·K_s) / K_o, for the design condition's `k_outside_w_per_k` and `k_sky_w_per_k`
+    (without them: each factor floored at 1, the cruder rule, never below it either).
+    With both parts at least the geometry's, the heater is never below the geometry's
+    figure (common practice, no source: size for the worse of two estimates).
     """
-    return max(float(conduction_factor), 1.0), max(float(sky_factor), 1.0)
+    fk, fs = float(conduction_factor), float(sky_factor)
+    fs_sized = max(fs, 1.0)
+    if not k_outside_w_per_k or k_sky_w_per_k is None:
+        return max(fk, 1.0), fs_sized
+    k_o, k_s = float(k_outside_w_per_k), float(k_sky_w_per_k)
+    if fs >= 1.0 and fk * k_o + fs * k_s >= k_o + k_s:
+        return fk, fs  # both parts at least the geometry's as fitted
+    k_c = max(fk * k_o + fs * k_s, k_o + k_s)
+    return (k_c - fs_sized * k_s) / k_o, fs_sized
 
 
 def size(
@@ -232,18 +262,31 @@ def size(
 
     cal = hm.calibration_of(house, use_calibration)
     fitted = (cal.conduction_factor, cal.sky_factor) if cal else (1.0, 1.0)
-    fk, fs = sizing_factors(*fitted)
-    factors = {"conduction_factor": fk, "sky_factor": fs}
-    design = design_heat_loss(
-        house, design_outside_c, hold_c, wind_m_s, curtain_closed=False, **factors
-    )
+
+    def sized(curtain_closed: bool, geo: DesignLoss | None = None) -> DesignLoss:
+        if geo is None:
+            geo = design_heat_loss(
+                house, design_outside_c, hold_c, wind_m_s, curtain_closed=curtain_closed
+            )
+        cond = geo.conductances
+        fk, fs = sizing_factors(*fitted, cond.outside_w_per_k, cond.sky_w_per_k)
+        return design_heat_loss(
+            house,
+            design_outside_c,
+            hold_c,
+            wind_m_s,
+            curtain_closed=curtain_closed,
+            conduction_factor=fk,
+            sky_factor=fs,
+        )
+
+    geometry = design_heat_loss(house, design_outside_c, hold_c, wind_m_s, curtain_closed=False)
+    design = sized(False, geometry)
+    fk, fs = design.conduction_factor, design.sky_factor
     cond = design.conductances
     saving = None
     if house.curtain:
-        closed = design_heat_loss(
-            house, design_outside_c, hold_c, wind_m_s, curtain_closed=True, **factors
-        )
-        saving = design.total_w - closed.total_w
+        saving = design.total_w - sized(True).total_w
     loss = max(design.total_w, 0.0)
     source = fuels.heat_source(house, fuel_name, appliance_name)
     fuel, appliance = source.fuel, source.appliance
@@ -292,7 +335,8 @@ def size(
         k_sky_w_per_k=cond.sky_w_per_k * fs,
         heat_loss_w=loss,
         handbook_loss_w=max(design.handbook_w, 0.0),
-        wind_allowance_w=design.wind_w,
+        wind_allowance_w=geometry.wind_w,
+        calibration_allowance_w=design.wind_w - geometry.wind_w,
         sky_allowance_w=max(design.sky_w, 0.0),
         curtain_saving_w=saving,
         safety_factor=safety_factor,
@@ -348,8 +392,10 @@ def _calibration_notes(
         verb = "is" if len(low) == 1 else "are"
         notes.append(
             f"a heater is not sized below the handbook figure on a fit: the fitted "
-            f"{' and '.join(low)} {verb} below the geometry's, so sized at the geometry's (a "
-            "record's warm soil, cloud or condensation is not the design night's)"
+            f"{' and '.join(low)} {verb} below the geometry's, so the conductance to outside "
+            "air and sky together and the clear sky's depression are each kept at least the "
+            "geometry's (a record's warm soil, cloud or condensation is not the design "
+            "night's; a sky part the fit moved into the conduction is not counted twice)"
         )
     if cal.rough:
         notes.append(

@@ -169,6 +169,8 @@ class StockResult:
     #: the house file's [calibration] not used (an older format): the line, also in
     #: `assumptions`, that the report shows as a warning
     calibration_warning: str | None = None
+    #: the report's fuel unit was asked for (--fuel-unit): screens keep it as it is
+    fuel_unit_chosen: bool = False
 
 
 # ---------------------------------------------------------------- steps
@@ -639,4 +641,5 @@ def stock(
             fuel, heat.appliance_key, heat.input_w or (peak / eff or None), short=True
         ),
         calibration_warning=hm.calibration_warning(house, use_calibration),
+        fuel_unit_chosen=plan.unit is not None,
     )

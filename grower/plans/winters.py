@@ -77,6 +77,9 @@ class WintersResult:
     #: the house file's [calibration] not used (an older format, a house changed since
     #: the fit): the line, also in `assumptions`, that the report shows as a warning
     calibration_warning: str | None = None
+    fuel: str = ""  # the fuel's key ("propane"), for the screens' unit conversion
+    #: the fuel unit was asked for (--fuel-unit): screens keep it as it is
+    fuel_unit_chosen: bool = False
 
 
 def season(
@@ -219,4 +222,6 @@ def winters(
         assumptions=tuple(dict.fromkeys(notes)),
         calibration_warning=hm.calibration_warning(house, use_calibration),
         cautions=safety.cautions(heat.fuel, heat.appliance_key, peak_in or None),
+        fuel=heat.fuel.name,
+        fuel_unit_chosen=unit is not None,
     )

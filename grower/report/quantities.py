@@ -80,19 +80,24 @@ def capacity_unit(system: UnitSystem) -> str:
     return "Btu/°F" if system == "us" else "MJ/K"
 
 
-def fuel_text(amount: float, unit: str, fuel: str, system: UnitSystem, digits: int = 1) -> str:
+def fuel_text(
+    amount: float, unit: str, fuel: str, system: UnitSystem, digits: int = 1, *, keep: bool = False
+) -> str:
     """Fuel `amount` in purchase unit `unit` of `fuel`, in the screen's system: in US units
     a metric purchase unit becomes the fuel's US one (L → gal, kg → lb, m³ → therm,
     GJ → therm), in SI a US one the metric one (gal → L, lb → kg, ton → tonne, therm,
     ccf and ft³ → m³), through the fuel table's heating values, so the energy is the same.
-    Units of both systems (kWh, MJ) stay as they are."""
-    value, shown = fuel_value(amount, unit, fuel, system)
+    Units of both systems (kWh, MJ), and any unit with `keep` (one the user asked for),
+    stay as they are."""
+    value, shown = fuel_value(amount, unit, fuel, system, keep=keep)
     return f"{value:,.{digits}f} {shown}"
 
 
-def fuel_value(amount: float, unit: str, fuel: str, system: UnitSystem) -> tuple[float, str]:
+def fuel_value(
+    amount: float, unit: str, fuel: str, system: UnitSystem, *, keep: bool = False
+) -> tuple[float, str]:
     """(amount, unit as written) of `fuel_text`, the number unrounded."""
-    other = (_US_FUEL_UNITS if system == "us" else _SI_FUEL_UNITS).get(unit, ())
+    other = () if keep else (_US_FUEL_UNITS if system == "us" else _SI_FUEL_UNITS).get(unit, ())
     if other:
         from grower import fuels
 

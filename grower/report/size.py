@@ -34,6 +34,7 @@ def size_json(r: SizeResult) -> dict[str, Any]:
         "heat_loss_w": r.heat_loss_w,
         "handbook_loss_w": r.handbook_loss_w,
         "wind_allowance_w": r.wind_allowance_w,
+        "calibration_allowance_w": r.calibration_allowance_w,
         "sky_allowance_w": r.sky_allowance_w,
         "curtain_saving_w": r.curtain_saving_w,
         "safety_factor": r.safety_factor,
@@ -92,13 +93,21 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
         "handbook heat loss (Σ U·A·ΔT + air exchange + perimeter)",
         power_text(r.handbook_loss_w, system),
     )
-    sign = "+" if r.wind_allowance_w >= 0 else "−"
+    sign = "+" if r.wind_allowance_w > -0.5 else "−"  # round-off at the tables' wind
     digits = 0 if system == "us" else 1
     table.add_row(
         f"{sign} wind {show_speed(r.wind_m_s, system).text(digits)} against the tables' "
         + show_speed(15 * M_S_PER_MPH, system).text(digits),
         power_text(abs(r.wind_allowance_w), system),
     )
+    if r.calibration is not None and abs(r.calibration_allowance_w) >= 0.5:
+        applied = r.calibration["applied"]
+        table.add_row(
+            ("+" if r.calibration_allowance_w >= 0 else "−")
+            + f" the fitted conductance (grower fit: conduction × "
+            f"{applied['conduction_factor']:.2f}, sky part × {applied['sky_factor']:.2f})",
+            power_text(abs(r.calibration_allowance_w), system),
+        )
     table.add_row(
         f"+ clear sky at {t(r.sky_c)}, below the outside air", power_text(r.sky_allowance_w, system)
     )

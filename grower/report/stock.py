@@ -187,8 +187,8 @@ def shortfall_line(f: Shortfall, r: StockResult, system: UnitSystem) -> str:
     return "Not enough vapour: " + line
 
 
-def _order_line(o: Order, fuel: str, r_start, system: UnitSystem) -> str:
-    amount = fuel_text(o.amount, o.unit, fuel, system, digits=0)
+def _order_line(o: Order, fuel: str, r_start, system: UnitSystem, keep: bool = False) -> str:
+    amount = fuel_text(o.amount, o.unit, fuel, system, digits=0, keep=keep)
     refill = f"the {o.reserve_pct:.0f} % refill level"
     lead = f" with {o.lead_time_days:g} days' delivery" if o.lead_time_days else ""
     if o.order_by is None:
@@ -209,7 +209,8 @@ def _lasts_line(r: StockResult, span_days: float, system: UnitSystem) -> str | N
     if r.on_hand is None or r.runs_out_at is not None:
         return None
     left = r.on_hand.energy_j * r.fuel.efficiency / 3.6e6 - r.energy_kwh
-    on_hand = fuel_text(r.on_hand.amount, r.on_hand.unit, r.fuel.fuel, system, digits=0)
+    keep = r.fuel_unit_chosen and r.on_hand.unit == r.fuel.unit
+    on_hand = fuel_text(r.on_hand.amount, r.on_hand.unit, r.fuel.fuel, system, digits=0, keep=keep)
     text = f"The {on_hand} on hand lasts the forecast"
     if r.energy_kwh > 0:
         text += f" (about {left / r.energy_kwh * span_days:,.1f} more days at this rate)"
@@ -219,8 +220,8 @@ def _lasts_line(r: StockResult, span_days: float, system: UnitSystem) -> str | N
 def render_stock(console, r: StockResult, system: UnitSystem) -> None:
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
-    # fuel in its purchase unit, or (US screens) the fuel's US unit for a metric one
-    per, unit = fuel_value(1.0, r.fuel.unit, r.fuel.fuel, system)
+    # fuel in the screen's system (`fuel_value`), or in the unit --fuel-unit asked for
+    per, unit = fuel_value(1.0, r.fuel.unit, r.fuel.fuel, system, keep=r.fuel_unit_chosen)
     amount = float(r.fuel.amount) * per
     span = (r.end - r.start).total_seconds() / 86400.0
     # shortfalls first, worst first: nothing reassuring is printed above them; with
@@ -250,7 +251,13 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
     if r.order is not None:
         plain(
             console,
-            _order_line(r.order, r.fuel.fuel, r.start, system),
+            _order_line(
+                r.order,
+                r.fuel.fuel,
+                r.start,
+                system,
+                keep=r.fuel_unit_chosen and r.order.unit == r.fuel.unit,
+            ),
             "bold" if r.order.order_now else None,
         )
     if r.crop is not None and r.crop.first_at is None:

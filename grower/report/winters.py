@@ -8,6 +8,7 @@ from typing import Any
 from grower.errors import InputError
 from grower.plans.winters import Winter, WintersResult
 from grower.report.common import data_table, iso, plain, render_cautions
+from grower.report.quantities import fuel_value
 from grower.units import J_PER_THERM, UnitSystem, note_text, show_temperature
 
 #: one colour per winter (Okabe–Ito palette, colour-blind safe)
@@ -81,7 +82,8 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
     heat_unit = "therm" if us else "MWh"
     heat_fmt = "{:,.0f}" if us else "{:,.1f}"
     deg = "°F" if us else "°C"
-    unit = r.unit
+    # fuel in the screen's system (`fuel_value`), or in the unit --fuel-unit asked for
+    per, unit = fuel_value(1.0, r.unit, r.fuel, system, keep=r.fuel_unit_chosen or not r.fuel)
     n = len(r.winters)
     short = [w for w in r.winters if w.hours_not_held > 0.05]
     if short:
@@ -95,9 +97,9 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
     cost = lambda w: f", cost {w.cost:,.0f}" if w.cost is not None else ""  # noqa: E731
     plain(
         console,
-        f"{r.house_name}: a median winter burns {r.median_fuel_amount:,.0f} {unit} of "
+        f"{r.house_name}: a median winter burns {r.median_fuel_amount * per:,.0f} {unit} of "
         f"{r.fuel_label}; the coldest of the {n} ({r.coldest.label}) "
-        f"{float(r.coldest.fuel.amount):,.0f} {unit}{cost(r.coldest)}.",
+        f"{float(r.coldest.fuel.amount) * per:,.0f} {unit}{cost(r.coldest)}.",
         "bold",
     )
     setp = T(r.setpoint_c) + (
@@ -116,7 +118,11 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
     table.add_column(f"mean {deg}", justify="right")
     table.add_column("not held", justify="right", no_wrap=True)
     for w in r.winters:
-        row = [w.label, heat_fmt.format(heat_of(w.energy_kwh)), f"{float(w.fuel.amount):,.0f}"]
+        row = [
+            w.label,
+            heat_fmt.format(heat_of(w.energy_kwh)),
+            f"{float(w.fuel.amount) * per:,.0f}",
+        ]
         if r.price is not None:
             row.append(f"{w.cost:,.0f}")
         mean = show_temperature(w.mean_outside_c, system).value
@@ -133,7 +139,7 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
         row = [names[int(mm) - 1]]
         for w in r.winters:
             got = [m.fuel_amount for m in w.months if m.month[5:] == mm]
-            row.append(f"{got[0]:,.0f}" if got else "")
+            row.append(f"{got[0] * per:,.0f}" if got else "")
         mt.add_row(*row)
     console.print(mt)
     console.print()

@@ -6,7 +6,9 @@ written as an increment on ``g0`` so that g near a switching point is not lost i
 round-off. Its first zero is bracketed between the inflection points (closed form for
 two modes) and found by Halley steps (Newton's with the curvature, which g has at no
 extra cost) kept inside the bracket, else bisection. For one member numpy's per-call
-overhead would dominate such tiny arrays, so this is plain ``math``.
+overhead would dominate such tiny arrays, so this is plain ``math``; for a network of two
+nodes (two modes, one with the air held) the sums over the modes are written out, in the
+same order as the general loops (the same results to the bit).
 
 References
 ----------
@@ -28,7 +30,7 @@ import numpy as np
 
 from .explin import _roots_sum
 from .modes import _MAX_SWITCHES, _TOL_K, FLOAT, FULL, HOLD, VENT
-from .stepping import _sphi
+from .stepping import _sphi, _sphi2
 
 if TYPE_CHECKING:
     from .runs import _Run
@@ -68,6 +70,31 @@ def _newton(
     return x
 
 
+def _earliest(cand, slope, ew, curv, rem, coeffs, lam, scale, noise) -> float:
+    """The first root within `rem` [s] of the candidate switching functions `cand`
+    (sign, value at the start, its rate), each the linear part plus the modes' terms
+    `coeffs` (times the sign); inf where none. A candidate that stays positive by more
+    than its curvature bound `curv` over the step has none (no search)."""
+    root = _inf
+    for sg, g0, e1 in cand:
+        gw = g0 + (e1 + sg * slope) * rem + sg * ew
+        if g0 > 0 and gw > 0 and min(g0, gw) - curv > 0:
+            continue
+        rt = _first_root(
+            g0,
+            e1 + sg * slope,
+            [sg * a for a in coeffs],
+            lam,
+            rem,
+            gw,
+            abs(e1) + scale + 1e-300,
+            noise + 1e-13 * abs(g0),
+        )
+        if rt < root:
+            root = rt
+    return root
+
+
 def _first_root(
     g0: float,
     b1: float,
@@ -93,7 +120,7 @@ def _first_root(
     if gw > 0 and g0 > -noise and not down:
         cq = 0.0
         for k, li in zip(k2, lam, strict=True):
-            cq += k * _sphi(li * w)[2] * (1 - 1e-12) if k > 0 else 0.5 * k
+            cq += k * _sphi2(li * w) * (1 - 1e-12) if k > 0 else 0.5 * k
         if cq > 0 and 0 < -d0 < 2 * cq * w:
             low = g0 - d0 * d0 / (4 * cq)
         else:
@@ -125,6 +152,17 @@ def _first_root(
         return d, d2
 
     r = len(lam)
+    if r == 2:  # `fd` with its sums written out (the same arithmetic): Newton's hot loop
+        (a0, a1), (l0, l1), (k0, k1) = a, lam, k2
+        al0, al1 = a0 * l0, a1 * l1
+
+        def fd(s: float) -> tuple[float, float]:
+            e0, e1 = _expm1(l0 * s), _expm1(l1 * s)
+            out = g0 + b1 * s + a0 * e0 + a1 * e1
+            d = b1 + al0 * (e0 + 1.0) + al1 * (e1 + 1.0)
+            d2 = 0.0 + k0 * (e0 + 1.0) + k1 * (e1 + 1.0)
+            return out, (d - out * d2 / (2 * d) if d else 0.0)
+
     br = [0.0, w]
     if r == 2:
         j = 0 if lam[0] >= lam[1] else 1
@@ -179,11 +217,15 @@ class _ScalarStep:
         self.gsum, self.c0 = run.gsum, run.c0
         self.tolq = run.tolq
         self.il, self.ilr = [1.0 / x for x in self.lam], [1.0 / x for x in self.lr]
+        self._member = -1  # the member whose heater output `qm` holds
+        two = len(self.lam) == 2 and len(self.lr) == 1
+        self.segment = self._segment_two if two else self._segment
 
     def inputs(self, k: int, i: int, pack: np.ndarray) -> None:
         """Step k's inputs for member i from ``pack``, whose row k is (h, b (r), db (r),
         b_held (r'), db_held (r'), qb, dqb, setpoint, vent)."""
-        self.qm = float(self.run.q[i])
+        if i != self._member:
+            self._member, self.qm = i, float(self.run.q[i])
         v = pack[k].tolist()
         rf, rr = len(self.lam), len(self.lr)
         self.h = v[0]
@@ -192,27 +234,13 @@ class _ScalarStep:
         self.brk, self.dbrk = v[j : j + rr], v[j + rr : j + 2 * rr]
         self.qbk, self.dqbk, self.sp, self.vt = v[j + 2 * rr :]
 
-    def _mode(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
-        """Modes, modal state, forcing and its slope of mode md at offset s from state x;
-        the clamped temperature (or heater output) and the weights of the watched value."""
-        ih = 1.0 / self.h
-        if md in (FLOAT, FULL):
-            q = self.qm if md == FULL else 0.0
-            z = [sum(map(_mul, row, x)) for row in self.w]
-            gam = [d * ih for d in self.dbk]
-            beta = [b + g * s + q * e for b, g, e in zip(self.bk, gam, self.bq, strict=True)]
-            return self.lam, z, beta, gam, q, self.v0, self.il
-        tc = self.sp if md == HOLD else self.vt
-        xr = x[1:]
-        z = [sum(map(_mul, row, xr)) for row in self.wr]
-        gam = [d * ih for d in self.dbrk]
-        beta = [b + g * s + c * tc for b, g, c in zip(self.brk, gam, self.bc, strict=True)]
-        return self.lr, z, beta, gam, tc, self.wq, self.ilr
-
     def qreq(self, s: float, x: list[float], tc: float) -> tuple[float, float]:
         """Heater power that holds the air at tc from state x at offset s, and its rate."""
+        return self._qreq(s, x[1:], tc)
+
+    def _qreq(self, s: float, xr: list[float], tc: float) -> tuple[float, float]:
+        """`qreq` from the temperatures of the nodes other than the air, xr."""
         frac = s / self.h
-        xr = x[1:]
         q = self.qbk + self.dqbk * frac + tc * self.gsum
         dq = self.dqbk / self.h
         for la, row, bi, di, ci, wi in zip(
@@ -224,53 +252,73 @@ class _ScalarStep:
         return q, dq
 
     def classify(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
+        """The mode at offset s from node temperatures x: (the state, with the air moved
+        to a clamp or by a jump, mode, heater and vent output, heat and vent jump [J]).
+        ``start``: at a step's start, where the air may jump to the vent temperature (above
+        it) or to the setpoint (below it, with a heater without limit)."""
         tol, sp, vt, qm = _TOL_K, self.sp, self.vt, self.qm
-        x = list(x)
         ta, jh, jv = x[0], 0.0, 0.0
-        heater = qm > 0
         if start:
             if ta > vt + tol:
                 jv, ta = self.c0 * (ta - vt), vt
-            if heater and math.isinf(qm) and ta < sp - tol:
+            if qm == _inf and ta < sp - tol:
                 jh, ta = self.c0 * (sp - ta), sp
-        md, heat, vent = FLOAT, 0.0, 0.0
-        cold = heater and ta < sp - tol
-        if cold:
-            md, heat = FULL, qm
-        at_s = heater and not cold and abs(ta - sp) <= tol
-        at_v = not at_s and abs(ta - vt) <= tol
-        if at_s or at_v:
-            tc = sp if at_s else vt
-            q, dq = self.qreq(s, [tc, *x[1:]], tc)
-            t0, tm = abs(q) <= self.tolq, abs(q - qm) <= self.tolq
-            vent_ok = q < -self.tolq or (t0 and dq < 0)
-            if at_s:
-                if q > qm + self.tolq or (tm and dq > 0):
-                    md = FULL
-                elif q > self.tolq or (t0 and dq >= 0):
-                    md = HOLD
-                elif abs(sp - vt) <= tol and vent_ok:
-                    md = VENT
-            elif vent_ok:
+        xr = x[1:]
+        if qm > 0 and ta < sp - tol:
+            return [ta, *xr], FULL, qm, 0.0, jh, jv
+        at_s = qm > 0 and abs(ta - sp) <= tol
+        if not at_s and not abs(ta - vt) <= tol:
+            return [ta, *xr], FLOAT, 0.0, 0.0, jh, jv
+        tc = sp if at_s else vt
+        q, dq = self._qreq(s, xr, tc)
+        tolq = self.tolq
+        t0 = abs(q) <= tolq
+        vent_ok = q < -tolq or (t0 and dq < 0)
+        md = FLOAT
+        if at_s:
+            if q > qm + tolq or (abs(q - qm) <= tolq and dq > 0):
+                return [ta, *xr], FULL, qm, 0.0, jh, jv
+            if q > tolq or (t0 and dq >= 0):
+                md = HOLD
+            elif abs(sp - vt) <= tol and vent_ok:
                 md = VENT
-            if md in (HOLD, VENT):
-                ta = tc
-            heat = q if md == HOLD else qm if md == FULL else 0.0
-            vent = -q if md == VENT else 0.0
-        x[0] = ta
-        return x, md, heat, vent, jh, jv
+        elif vent_ok:
+            md = VENT
+        if md == HOLD:
+            return [tc, *xr], HOLD, q, 0.0, jh, jv
+        if md == VENT:
+            return [tc, *xr], VENT, 0.0, -q, jh, jv
+        return [ta, *xr], FLOAT, 0.0, 0.0, jh, jv
 
-    def _event(self, s: float, x: list[float], md: int, st) -> float:  # type: ignore[no-untyped-def]
-        """Offset (from s) of the next switch in mode md, inf if none this step."""
+    def _segment(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
+        """Mode md from offset s and node temperatures x to its next switch (or the step's
+        end): the switch's offset from s (inf if none this step), and at the segment's end
+        the state, the node-temperature integral over it, heat and vent energy."""
         h, sp, vt, qm = self.h, self.sp, self.vt, self.qm
-        rem = h - s
-        lam, z, beta, gam, tq, wt, il = st
-        # g = g0 + e1 s + sg * sum_i wt_i (z_i + (beta_i + gam_i s)/lam_i ...) in the form
-        # g0 + b1 s + sum a_i expm1(lam_i s): a_i = wt_i (z_i + beta_i/lam_i + gam_i/lam_i^2)
-        # |g''| <= curv / (rem^2 / 8) for every candidate, most have no way down to 0;
-        # ew: the exponential part at the step's end
-        base, slope, curv, ew = [], 0.0, 0.0, 0.0
-        for c, zi, bi, gi, la, li in zip(wt, z, beta, gam, lam, il, strict=True):
+        rem, ih = h - s, 1.0 / self.h
+        free = md in (FLOAT, FULL)
+        if free:  # modes of the whole network, the heater's share q bq in the forcing
+            tq = qm if md == FULL else 0.0
+            rows, lam, il, wt, fq = self.w, self.lam, self.il, self.v0, self.bq
+            bk, dbk, xr = self.bk, self.dbk, x
+        else:  # the air held at tq: modes of the other nodes, its share tq bc
+            tq = sp if md == HOLD else vt
+            rows, lam, il, wt, fq = self.wr, self.lr, self.ilr, self.wq, self.bc
+            bk, dbk, xr = self.brk, self.dbrk, x[1:]
+        # modal state z, forcing beta + gam t (t from s); the watched value (the air, or
+        # the held power) is g0 + b1 t + sg * sum_i a_i expm1(lam_i t) with a_i = wt_i (z_i +
+        # beta_i/lam_i + gam_i/lam_i^2), b1 = -sg sum_i wt_i gam_i/lam_i (`slope`); its
+        # curvature is bounded by sum_i |a_i| lam_i^2 (`curv` once times rem^2 / 8), and ew
+        # is the exponential part at the step's end
+        z, beta, gam, base = [], [], [], []
+        slope = curv = ew = 0.0
+        for row, la, li, c, e, b, d in zip(rows, lam, il, wt, fq, bk, dbk, strict=True):
+            zi = sum(map(_mul, row, xr))
+            gi = d * ih
+            bi = b + gi * s + tq * e
+            z.append(zi)
+            beta.append(bi)
+            gam.append(gi)
             gl = c * gi * li
             ai = c * zi + (c * bi + gl) * li
             base.append(ai)
@@ -278,12 +326,12 @@ class _ScalarStep:
             curv += abs(ai) * la * la
             ew += ai * _expm1(la * rem)
         curv *= rem * rem / 8
-        if md in (FLOAT, FULL):
+        if free:
             ta = x[0]
             cand = []
             if md == FLOAT and qm > 0:
                 cand.append((1.0, ta - sp, 0.0))
-            if md == FLOAT and math.isfinite(vt):
+            if md == FLOAT and vt != _inf:
                 cand.append((-1.0, vt - ta, 0.0))
             if md == FULL:
                 cand.append((-1.0, sp - ta, 0.0))
@@ -291,13 +339,13 @@ class _ScalarStep:
             dq = self.dqbk / h
             q0 = self.qbk + dq * s + sum(map(_mul, wt, z)) + tq * self.gsum
             cand = [(1.0, q0, dq)] if md == HOLD else [(-1.0, -q0, -dq)]
-            if md == HOLD and math.isfinite(qm):
+            if md == HOLD and qm != _inf:
                 cand.append((-1.0, qm - q0, -dq))
         root, scale = _inf, None
         for sg, g0, e1 in cand:
             gw = g0 + (e1 + sg * slope) * rem + sg * ew
             if g0 > 0 and gw > 0 and min(g0, gw) - curv > 0:
-                continue
+                continue  # |g''| <= curv / (rem^2 / 8): no way down to 0
             if scale is None:  # sizes of g' at 0 and of g's terms (round-off scales)
                 scale = noise = 0.0
                 for c, zi, bi, la, li in zip(wt, z, beta, lam, il, strict=True):
@@ -307,12 +355,11 @@ class _ScalarStep:
             a = [sg * ai for ai in base]
             sc = abs(e1) + scale + 1e-300
             rt = _first_root(g0, e1 + sg * slope, a, lam, rem, gw, sc, noise + 1e-13 * abs(g0))
-            root = min(root, rt)
-        return _inf if root >= rem * (1 - 1e-12) else root
-
-    def _advance(self, s: float, w: float, x: list[float], md: int, st):  # type: ignore[no-untyped-def]
-        """State, node-temperature integral, heat and vent energy over [s, s + w]."""
-        lam, z, beta, gam, tq = st[:5]
+            if rt < root:
+                root = rt
+        dt = _inf if root >= rem * (1 - 1e-12) else root
+        # the exact advance over [s, s + w]
+        w = rem if dt == _inf else dt
         z1, iz = [], []
         ww, www = w * w, w * w * w
         for la, zi, bi, gi in zip(lam, z, beta, gam, strict=True):
@@ -325,12 +372,11 @@ class _ScalarStep:
                 e, p3 = _exp(y), (p2 - 0.5) / y
             z1.append(e * zi + w * p1 * bi + ww * p2 * gi)
             iz.append(w * p1 * zi + ww * p2 * bi + www * p3 * gi)
-        tv = self.v if md in (FLOAT, FULL) else self.vr
+        tv = self.v if free else self.vr
         xs = [sum(map(_mul, row, z1)) for row in tv]
         ix = [sum(map(_mul, row, iz)) for row in tv]
-        if md in (FLOAT, FULL):
-            return xs, ix, tq * w, 0.0
-        h = self.h
+        if free:
+            return dt, xs, ix, tq * w, 0.0
         qb0 = self.qbk + self.dqbk * (s / h)
         iq = (
             0.5 * w * (2 * qb0 + self.dqbk * (w / h))
@@ -338,8 +384,91 @@ class _ScalarStep:
             + tq * self.gsum * w
         )
         if md == HOLD:
-            return [tq, *xs], [tq * w, *ix], iq, 0.0
-        return [tq, *xs], [tq * w, *ix], 0.0, -iq
+            return dt, [tq, *xs], [tq * w, *ix], iq, 0.0
+        return dt, [tq, *xs], [tq * w, *ix], 0.0, -iq
+
+    def _segment_two(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
+        """`_segment` for a network of two nodes (two modes, one with the air held), its
+        sums written out: the same arithmetic in the same order, so the same to the bit."""
+        h, sp, vt, qm = self.h, self.sp, self.vt, self.qm
+        rem, ih = h - s, 1.0 / self.h
+        x0, x1 = x
+        if md in (FLOAT, FULL):
+            tq = qm if md == FULL else 0.0
+            (w00, w01), (w10, w11) = self.w
+            la, lb = self.lam
+            ia, ib = self.il
+            ca, cb = self.v0
+            ea, eb = self.bq
+            za, zb = w00 * x0 + w01 * x1, w10 * x0 + w11 * x1
+            d0, d1 = self.dbk
+            ga, gb = d0 * ih, d1 * ih
+            b0, b1 = self.bk
+            ba, bb = b0 + ga * s + tq * ea, b1 + gb * s + tq * eb
+            gla, glb = ca * ga * ia, cb * gb * ib
+            aa, ab = ca * za + (ca * ba + gla) * ia, cb * zb + (cb * bb + glb) * ib
+            slope = 0.0 - gla - glb
+            curv = abs(aa) * la * la + abs(ab) * lb * lb
+            curv *= rem * rem / 8
+            ew = aa * _expm1(la * rem) + ab * _expm1(lb * rem)
+            if md == FLOAT:
+                cand = [(1.0, x0 - sp, 0.0)] if qm > 0 else []
+                if vt != _inf:
+                    cand.append((-1.0, vt - x0, 0.0))
+            else:
+                cand = [(-1.0, sp - x0, 0.0)]
+            scale = abs(ca * la * za) + abs(ca * ba) + (abs(cb * lb * zb) + abs(cb * bb))
+            noise = abs(ca * za) + abs(ca * ba * ia) + (abs(cb * zb) + abs(cb * bb * ib))
+            noise *= 1e-13
+            root = _earliest(cand, slope, ew, curv, rem, (aa, ab), self.lam, scale, noise)
+            dt = _inf if root >= rem * (1 - 1e-12) else root
+            w = rem if dt == _inf else dt
+            ww, www = w * w, w * w * w
+            e, p1, p2, p3 = _sphi(la * w)
+            z1a, iza = (
+                e * za + w * p1 * ba + ww * p2 * ga,
+                w * p1 * za + ww * p2 * ba + www * p3 * ga,
+            )
+            e, p1, p2, p3 = _sphi(lb * w)
+            z1b, izb = (
+                e * zb + w * p1 * bb + ww * p2 * gb,
+                w * p1 * zb + ww * p2 * bb + www * p3 * gb,
+            )
+            (v00, v01), (v10, v11) = self.v
+            xs = [v00 * z1a + v01 * z1b, v10 * z1a + v11 * z1b]
+            return dt, xs, [v00 * iza + v01 * izb, v10 * iza + v11 * izb], tq * w, 0.0
+        # the air held at tq: one mode of the mass node
+        tq = sp if md == HOLD else vt
+        la, ia, c = self.lr[0], self.ilr[0], self.wq[0]
+        za = self.wr[0][0] * x1
+        ga = self.dbrk[0] * ih
+        ba = self.brk[0] + ga * s + tq * self.bc[0]
+        gl = c * ga * ia
+        aa = c * za + (c * ba + gl) * ia
+        slope = 0.0 - gl
+        curv = abs(aa) * la * la
+        curv *= rem * rem / 8
+        ew = aa * _expm1(la * rem)
+        dq = self.dqbk / h
+        q0 = self.qbk + dq * s + c * za + tq * self.gsum
+        cand = [(1.0, q0, dq)] if md == HOLD else [(-1.0, -q0, -dq)]
+        if md == HOLD and qm != _inf:
+            cand.append((-1.0, qm - q0, -dq))
+        scale = abs(c * la * za) + abs(c * ba)
+        noise = (abs(c * za) + abs(c * ba * ia)) * 1e-13
+        root = _earliest(cand, slope, ew, curv, rem, (aa,), self.lr, scale, noise)
+        dt = _inf if root >= rem * (1 - 1e-12) else root
+        w = rem if dt == _inf else dt
+        ww, www = w * w, w * w * w
+        e, p1, p2, p3 = _sphi(la * w)
+        z1a, iza = e * za + w * p1 * ba + ww * p2 * ga, w * p1 * za + ww * p2 * ba + www * p3 * ga
+        v = self.vr[0][0]
+        qb0 = self.qbk + self.dqbk * (s / h)
+        iq = 0.5 * w * (2 * qb0 + self.dqbk * (w / h)) + c * iza + tq * self.gsum * w
+        xs, ix = [tq, v * z1a], [tq * w, v * iza]
+        if md == HOLD:
+            return dt, xs, ix, iq, 0.0
+        return dt, xs, ix, 0.0, -iq
 
     def step(  # type: ignore[no-untyped-def]
         self,
@@ -364,17 +493,14 @@ class _ScalarStep:
         md0 = md
         if eh > 0 or ev > 0:
             rn.scalar_events.append((i, k, 0.0, md, x))
-        s, ti, h = 0.0, [0.0] * len(x), self.h
+        s, ti = 0.0, [0.0] * len(x)
         for _ in range(_MAX_SWITCHES):
-            st = self._mode(s, x, md)
-            dt = self._event(s, x, md, st)
-            w = dt if dt != _inf else h - s
-            x1, ix, e1, e2 = self._advance(s, w, x, md, st)
+            dt, x, ix, e1, e2 = self.segment(s, x, md)
             eh, ev = eh + e1, ev + e2
             ti = list(map(_add, ti, ix))
-            s, x = s + w, x1
             if dt == _inf:
                 break
+            s += dt
             x, md, _, _, _, _ = self.classify(s, x, start=False)
             rn.scalar_events.append((i, k, s, md, x))
         else:

@@ -1,12 +1,14 @@
 """The thermostat for one member at a time: long strides of whole steps, stored at the end.
 
-Each mode gets, once per member, its particular solution over the
-whole horizon (from a zero modal state) and the limits its watched value must keep, with
+Each mode gets, once per member, a particular solution over the whole horizon (from a
+zero modal state; the heater's share at full output is its steady response, see
+`_Serial._heater`) and the limits its watched value must keep, with
 the curvature bound of that solution already taken off. A run of whole steps in one mode
 is then that solution plus the decay of the state's deviation from it, ``z_j = zb_j +
 P_j d`` with ``P_j`` the product of the step decays; a window of steps is checked in a
-dozen array operations (the deviation's share of the curvature bound by the triangle
-inequality), the first step that fails is split exactly in Python floats (`scalar`), and
+few array operations (the deviation's share of the curvature bound by the triangle
+inequality; with one step length, one matrix product against the limits stored as slacks),
+the first step that fails is split exactly in Python floats (`scalar`), and
 the accepted runs are turned into temperatures, integrals and energies in one pass per
 mode at the end. Arrays over the horizon are mode-major, ``(r, N)``: numpy is slow on
 operations that broadcast along a short last axis.
@@ -58,6 +60,10 @@ class _ModeData:
     wvl: list[float]  # wv and cv as Python floats
     cvl: list[float]
     zrows: np.ndarray  # (N, r) view of zb, a grid time a row
+    lim: np.ndarray | None  # one step length: (N-1, L) the limits as slacks, see `_limits`
+    cut: np.ndarray | None  # one step length: (N-1,) the first later step whose clamp
+    # temperature changed (N-1 if none), where a window stops
+    el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
 
 
 class _Serial:
@@ -109,6 +115,25 @@ class _Serial:
             out[j] = _recur1(tab.e[:, j], self.rn.p.uniform, forcing[j][None], np.zeros(1), 1)[0]
         return out
 
+    def _heater(self, lam: np.ndarray, tab, bq: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
+        """(r, N) a particular solution under a unit heater, the modal forcing bq (r, 1).
+
+        Any particular solution will do (a run is it plus the decay of the deviation
+        from it): for a mode that forgets within the horizon, the steady response
+        ``-bq / lam``, the fixed point of ``z = e z + f1 bq`` at every step length, with
+        no recurrence; for a slower one, the response from zero (a steady value far larger
+        than the state would cost digits in the deviation).
+        """
+        span = float(self.rn.p.times_s[-1] - self.rn.p.times_s[0])
+        fast = -lam * span >= 1.0
+        out = np.empty((lam.size, self.nt))
+        if fast.any():
+            out[fast] = (-bq[fast, 0] / lam[fast])[:, None]
+        uni, zero = self.rn.p.uniform, np.zeros(1)
+        for j in np.flatnonzero(~fast):
+            out[j] = _recur1(tab.e[:, j], uni, (tab.f1[:, j] * bq[j, 0])[None], zero, 1)[0]
+        return out
+
     def _free(self) -> np.ndarray:
         """(r, N) free float from a zero modal state, shared by FLOAT and FULL."""
         if self._zf is None:
@@ -129,8 +154,7 @@ class _Serial:
             zb, beta, db = self._free(), self.bf[:, :-1], self.dbf
             if md == FULL:
                 bq = rn.bq[:, None]
-                zq = self._base(lam, tab, tab.f1.T * bq)
-                zb, beta = zb + self.qm * zq, beta + self.qm * bq
+                zb, beta = zb + self.qm * self._heater(lam, tab, bq), beta + self.qm * bq
         else:
             lam, tab, wv = rn.r.lam, p.red, rn.wq
             tc = np.asarray(self.sp if md == HOLD else self.vt, dtype=float)
@@ -169,6 +193,9 @@ class _Serial:
             np.cumprod(np.broadcast_to(tab.e[0], (_LMAX, lam.size)), axis=0, out=pw[1:])
             cv = cv * self.hh8[0]
         fr = rn.f if tc is None else rn.r
+        lim = cut = None
+        if p.uniform:
+            lim, cut = _limits(val, hi, lo), _cuts(same, self.nt - 1)
         self.data[md] = _ModeData(
             zb,
             beta,
@@ -187,11 +214,33 @@ class _Serial:
             wv.tolist(),
             cv.tolist(),
             zb.T,
+            lim,
+            cut,
+            tab.e[0].tolist(),
         )
         return self.data[md]
 
     def _window(self, m: _ModeData, k: int, nl: int, d: list[float]) -> tuple[int, np.ndarray]:
-        """Steps k.. that keep mode m from deviation d: their number and the decays (nl+1, r)."""
+        """Steps k.. that keep mode m from deviation d: their number and the decays (nl+1, r).
+
+        With one step length the deviation's share of the value at both ends of step j and
+        of its bound is ``pw[j] @ coef`` against the slacks ``lim[j]`` (`_limits`): one
+        matrix product and one comparison for the whole window.
+        """
+        if m.lim is not None:
+            flat = []
+            two = m.lo is None
+            for a, c, x, e in zip(m.wvl, m.cvl, d, m.el, strict=True):
+                a, b = a * x, c * abs(x)
+                ae = a * e  # the deviation's share decays by e over the step
+                flat += (a + b, ae + b) if two else (a + b, ae + b, b - a, b - ae)
+            nl = min(nl, int(m.cut[k]) - k)  # type: ignore[index]
+            lim = m.lim[k : k + nl]
+            coef = np.array(flat).reshape(len(d), lim.shape[1])
+            pw = m.pw[: nl + 1]  # type: ignore[index]
+            bad = pw[:-1].dot(coef) > lim
+            j = int(bad.argmax())  # the first failing slack, row-major; 0 if none fails
+            return (j // bad.shape[1] if bad.item(j) else nl), pw
         coef = np.array([[a * x, c * abs(x)] for a, c, x in zip(m.wvl, m.cvl, d, strict=True)])
         if not d:  # no modes (the lumped network with the air held)
             coef = coef.reshape(0, 2)
@@ -348,6 +397,35 @@ class _Serial:
                 rn.heat_w[i][steps], rn.step_heat[i][steps] = qs, iq
             else:
                 rn.vent_w[i][steps], rn.step_vent[i][steps] = -qs, -iq
+
+
+def _limits(val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None) -> np.ndarray:
+    """A mode's limits on its watched value as slacks for `_Serial._window`, (N-1, L).
+
+    Step j keeps the mode when both end values plus the bound stay at or under ``hi[j]``
+    (and less it at or above ``lo[j]``): with the deviation's share ``dv`` at the step's
+    start, ``dv e`` at its end and ``bd`` of the bound, ``dv + bd <= hi - val[j]``, ``dv e
+    + bd <= hi - val[j+1]``, ``bd - dv <= val[j] - lo`` and ``bd - dv e <= val[j+1] - lo``
+    (L = 2 or 4 columns).
+    """
+    lim = np.empty((hi.size, 2 if lo is None else 4))  # written by column, read by row
+    np.subtract(hi, val[:-1], out=lim[:, 0])
+    np.subtract(hi, val[1:], out=lim[:, 1])
+    if lo is not None:
+        np.subtract(val[:-1], lo, out=lim[:, 2])
+        np.subtract(val[1:], lo, out=lim[:, 3])
+    return lim
+
+
+def _cuts(same: np.ndarray | None, steps: int) -> np.ndarray:
+    """(steps,) for each step k the first step after it whose clamp temperature changed
+    (``steps`` if none): a window from k stops there, since a run of a clamp mode cannot
+    carry across the change (the step is classified anew; a window's first step may be
+    one that changed)."""
+    if same is None:
+        return np.full(steps, steps)
+    change = np.append(np.flatnonzero(~same), steps)
+    return change[np.searchsorted(change, np.arange(steps), side="right")]
 
 
 def _put_columns(dst: np.ndarray, rows: np.ndarray, cols: np.ndarray, first: int) -> None:

@@ -23,6 +23,7 @@ import numpy as np
 
 _RF = np.array([1.0 / factorial(j) for j in range(24)])
 _RF_LIST = _RF.tolist()  # Python floats: numpy scalars are slow one at a time
+_R3, _R4, _R5, _R6, _R7, _R8, _R9, _R10, _R11, _R12 = _RF_LIST[3:13]
 
 
 def _phi123(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
@@ -111,7 +112,8 @@ def _scan(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.nda
         memory = _memory(float(e[0]))
         if memory <= _SHORT:
             return _scan_short(float(e[0]), memory, f, z0)
-    le = -np.log(np.maximum(e, math.exp(-_STEP_DECAY)))  # >= 0 per step
+    # -log e >= 0 per step (of the first step only when all are alike)
+    le = -np.log(np.maximum(e[:1] if uniform else e, math.exp(-_STEP_DECAY)))
     cum = le[0] * np.arange(1, k1 + 1) if uniform else np.cumsum(le)
     out = np.empty(f.shape)
     z = np.array(z0, dtype=float)
@@ -204,16 +206,34 @@ def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> n
     return np.ascontiguousarray(zt.transpose(1, 2, 0))
 
 
+def _series3(x: float) -> float:
+    """``phi3(x)`` by its series, for |x| < 0.05 (nine terms reach round-off), Horner's
+    scheme written out (the split steps call this often)."""
+    s3 = _R12 * x + _R11
+    s3 = s3 * x + _R10
+    s3 = s3 * x + _R9
+    s3 = s3 * x + _R8
+    s3 = s3 * x + _R7
+    s3 = s3 * x + _R6
+    s3 = s3 * x + _R5
+    s3 = s3 * x + _R4
+    return s3 * x + _R3
+
+
 def _sphi(x: float) -> tuple[float, float, float, float]:
-    """Scalar `_phi123` (series below |x| = 0.05: nine terms of phi3 reach round-off, and
-    ``phi2 = 1/2 + x phi3``, ``phi1 = 1 + x phi2``)."""
+    """Scalar `_phi123` (series below |x| = 0.05, `_series3`, with ``phi2 = 1/2 + x phi3``
+    and ``phi1 = 1 + x phi2``)."""
     if abs(x) < 0.05:
-        rf = _RF_LIST
-        s3 = rf[12]
-        for j in range(11, 2, -1):
-            s3 = s3 * x + rf[j]
+        s3 = _series3(x)
         s2 = 0.5 + x * s3
         return math.exp(x), 1.0 + x * s2, s2, s3
     p1 = math.expm1(x) / x
     p2 = (p1 - 1.0) / x
     return math.exp(x), p1, p2, (p2 - 0.5) / x
+
+
+def _sphi2(x: float) -> float:
+    """``phi2(x)`` alone, as `_sphi` computes it."""
+    if abs(x) < 0.05:
+        return 0.5 + x * _series3(x)
+    return (math.expm1(x) / x - 1.0) / x
