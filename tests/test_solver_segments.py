@@ -54,6 +54,18 @@ def test_knots_are_where_the_input_bends():
     # a curve bends everywhere
     wave = np.sin(t / (3 * H))[None, :, None]
     np.testing.assert_array_equal(segments.knots(h, wave), np.arange(t.size))
+    # zero at both ends, large between (the sun's gains over a day): the scale is the
+    # largest magnitude at the knots, so the round-off of the lines makes no knots
+    hs = np.array([0.0, 5.0, 9.0, 16.0]) * H
+    sun = np.interp(t, hs, [0.0, 20000.0, 31000.0, 0.0])[None, :, None]
+    np.testing.assert_array_equal(segments.knots(h, sun), [0, 300, 540, t.size - 1])
+    # a NaN or an infinity anywhere is named
+    for bad in (np.nan, np.inf):
+        for k in (0, 333, t.size - 1):
+            v = u.copy()
+            v[7, k, 1] = bad
+            with pytest.raises(ValueError, match="boundary_c contains NaN or inf"):
+                segments.knots(h, v, names=("boundary_c",))
     # uneven steps: a line is still a line
     tu = np.sort(np.concatenate([t[::7], t[3::60] + 1.5]))
     lu = (2.0 - tu / H)[None, :, None]

@@ -247,9 +247,9 @@ def test_ensemble_equals_member_by_member():
         assert cr.min_c[i] == pytest.approx(c1.min_c[0], abs=1e-12)
 
 
-def test_an_ensemble_run_is_each_member_run_alone():
-    # Members that differ in setpoint, heater and venting (none at night: +inf) switch
-    # at different instants; run together they must give what each gives alone.
+def _three_members():
+    """Three days at 10 min of a two-node house with sun, for three members that differ in
+    setpoint (day/night) and venting (none at night: +inf)."""
     net = two_node()
     t = np.arange(0.0, 72 * H + 1, 600.0)
     u, sun = forecast(t, mean=6.0, swing=9.0, sun_w=60000.0)
@@ -257,6 +257,13 @@ def test_an_ensemble_run_is_each_member_run_alone():
     day = (t % 86400 >= 6 * H) & (t % 86400 < 18 * H)
     sp = np.stack([np.where(day, 12.0, 7.0), np.where(day, 11.0, 8.0), np.full(t.size, 9.0)])
     vent = np.stack([np.where(day, 24.0, np.inf), np.full(t.size, 22.0), np.full(t.size, 26.0)])
+    return net, t, u, p, sp, vent
+
+
+def test_an_ensemble_run_is_each_member_run_alone():
+    # Members that differ in setpoint, heater and venting (none at night: +inf) switch
+    # at different instants; run together they must give what each gives alone.
+    net, t, u, p, sp, vent = _three_members()
     qmax = np.array([14000.0, 9000.0, np.inf])
     x0 = np.array([[10.0, 10.0], [6.0, 9.0], [13.0, 11.0]])
     tr = solver.thermostat(net, t, np.stack([u] * 3), x0, sp, qmax, vent, p)
@@ -275,13 +282,7 @@ def test_two_node_split_steps_are_the_general_ones_to_the_bit(monkeypatch):
     # `_segment_two` writes out the general split step's sums for two nodes, in the same
     # order: the whole run, with every mode, jumps and a heater without limit, must not
     # move by a bit when the general one does the splitting instead
-    net = two_node()
-    t = np.arange(0.0, 72 * H + 1, 600.0)
-    u, sun = forecast(t, mean=6.0, swing=9.0, sun_w=60000.0)
-    p = gains(net, sun)
-    day = (t % 86400 >= 6 * H) & (t % 86400 < 18 * H)
-    sp = np.stack([np.where(day, 12.0, 7.0), np.where(day, 11.0, 8.0), np.full(t.size, 9.0)])
-    vent = np.stack([np.where(day, 24.0, np.inf), np.full(t.size, 22.0), np.full(t.size, 26.0)])
+    net, t, u, p, sp, vent = _three_members()
     args = (net, t, np.stack([u] * 3), [[10.0, 10.0], [6.0, 9.0], [30.0, 11.0]], sp)
     rest = (np.array([14000.0, 9000.0, np.inf]), vent, p)
     fast = solver.thermostat(*args, *rest)

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .explin import _ExpLin, _profile, _solve
+from .explin import NEWTON_STEPS, _ExpLin, _profile, _solve
 from .modes import FLOAT, FULL
 from .network import _float_array
 from .problem import _series
@@ -117,12 +117,13 @@ def _scatter_min(best, best_t, member, val, t):  # type: ignore[no-untyped-def]
 RUN_CUTS = np.array([0.0, 1 / 8, 1 / 4, 1 / 2, 1.0])
 
 
-def _piece(lam, v0, x, s, g, e1, width, ji, mi, pi) -> _ExpLin:  # type: ignore[no-untyped-def]
-    """The exact plant temperature less threshold on pieces (run ji, member mi, cut pi)."""
+def _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi) -> _ExpLin:  # type: ignore[no-untyped-def]
+    """The exact plant temperature less threshold on pieces (run ji, cut pi, member mi);
+    ``hc`` the hold coefficients at the cuts (3, J, P, r)."""
     r = lam.size
     s0 = s[ji, pi]
-    ep, q1, q2 = hold_coefficients(lam, s0)
-    xi = x[ji, mi]
+    ep, q1, q2 = hc[:, ji, pi]
+    xi = x[ji, :, mi]  # (K, 3r)
     zi, bi, ci = xi[:, :r], xi[:, r : 2 * r], xi[:, 2 * r :]
     z0 = ep * zi + q1 * bi + q2 * ci
     return _ExpLin(
@@ -130,7 +131,7 @@ def _piece(lam, v0, x, s, g, e1, width, ji, mi, pi) -> _ExpLin:  # type: ignore[
         v0 * z0,
         v0 * (bi + ci * s0[:, None]),
         v0 * ci,
-        g[ji, mi, pi],
+        g[ji, pi, mi],
         e1[ji, mi % e1.shape[1]],
         width[ji, pi],
     )
@@ -148,6 +149,9 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     pieces that may cross the threshold, or that are not monotone and may hold a lower
     minimum than one already seen, get the exact analysis of `explin`; pieces surely
     below count whole.
+
+    The arrays are run-major with the members last, (J runs, P cuts or modes, M): every
+    array operation then runs along the members, contiguous.
     """
     seg, prob, net = tr.segments, tr.problem, tr.network
     assert seg is not None
@@ -155,74 +159,78 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     lam, v0 = full.lam, full.v[0]
     t, mm, r = tr.times_s, th.size, full.lam.size
     ks = np.union1d(seg.knots, knots(prob.h, off[:, :, None]))
-    z = seg.z if ks.size == seg.knots.size else seg.modal_at(ks)  # (r, M, K)
-    b = seg.forcing_at(ks)  # (r, Mu, K)
+    same = ks.size == seg.knots.size  # no knots of the offset's own
+    z = seg.z if same else seg.modal_at(ks)  # (r, M, K)
+    b = seg.b if same else seg.forcing_at(ks)  # (r, Mu, K)
     length = np.diff(t[ks])  # (J,) runs
     nj, npt = length.size, RUN_CUTS.size
-    # run-major: x (J, M, 3r) holds each run's start state, forcing and forcing slope
-    x = np.empty((nj, mm, 3 * r))
-    x[:, :, :r] = z[:, :, :-1].T
-    x[:, :, r : 2 * r] = b[:, :, :-1].T
-    x[:, :, 2 * r :] = (np.diff(b, axis=2) / length).T
+    # x (J, 3r, M): each run's start state, forcing and forcing slope
+    x = np.empty((nj, 3 * r, mm))
+    x[:, :r] = np.moveaxis(z[:, :, :-1], 2, 0)
+    x[:, r : 2 * r] = np.moveaxis(b[:, :, :-1], 2, 0)
+    x[:, 2 * r :] = np.moveaxis(np.diff(b, axis=2) / length, 2, 0)
     s = RUN_CUTS[None, :] * length[:, None]  # (J, P) offsets of the cuts in each run
-    e, f1, f2 = (a.reshape(nj, npt, r) * v0 for a in hold_coefficients(lam, s.ravel()))
+    hc = np.stack(hold_coefficients(lam, s.ravel())).reshape(3, nj, npt, r)
+    e, f1, f2 = hc * v0
     coef = np.concatenate(
         [np.concatenate([e, f1, f2], axis=2), np.concatenate([lam * e, e, f1], axis=2)], axis=1
     )  # (J, 2P, 3r): value and slope at each cut
-    gd = x @ coef.transpose(0, 2, 1)  # (J, M, 2P)
+    gd = coef @ x  # (J, 2P, M)
     offk = off[:, ks].T  # (K, Mo)
     e1 = -np.diff(offk, axis=0) / length[:, None]  # (J, Mo) -d(offset)/ds
-    g = np.ascontiguousarray(gd[:, :, :npt])
-    g -= offk[:-1, :, None] - e1[:, :, None] * s[:, None, :] + th[None, :, None]
-    g[0, :, 0] = seg.initial_c[:, 0] - off[:, 0] - th
-    dg = np.ascontiguousarray(gd[:, :, npt:])
-    dg += e1[:, :, None]
-    gm = g.transpose(1, 0, 2).reshape(mm, -1)  # member-major copy, time order
-    at = np.argmin(gm, axis=1)
-    gmin_seen = gm[np.arange(mm), at]
+    g = np.ascontiguousarray(gd[:, :npt])  # (J, P, M)
+    g -= offk[:-1, None, :] - e1[:, None, :] * s[:, :, None] + th
+    g[0, 0] = seg.initial_c[:, 0] - off[:, 0] - th
+    dg = gd[:, npt:]
+    dg += e1[:, None, :]
+    gm = g.reshape(nj * npt, mm)  # time order down the first axis
+    at = np.argmin(gm, axis=0)
+    gmin_seen = gm[at, np.arange(mm)]
     best = gmin_seen + th
     best_t = (t[ks[:-1]][:, None] + s).ravel()[at]
     # bounds of each piece: chord -/+ remainder, for g and for its slope
-    cexp = np.abs(v0 * (x[:, :, :r] + (x[:, :, r : 2 * r] + x[:, :, 2 * r :] / lam) / lam))
+    lc = lam[:, None]
+    cexp = np.abs(v0[:, None] * (x[:, :r] + (x[:, r : 2 * r] + x[:, 2 * r :] / lc) / lc))
     width = np.diff(s, axis=1)  # (J, P-1)
     decay = np.exp(lam * s[:, :-1, None]) * (width * width / 8.0)[:, :, None]
     rc = np.concatenate([lam * lam * decay, np.abs(lam) ** 3 * decay], axis=1)  # (J, 2P-2, r)
-    rem = cexp @ rc.transpose(0, 2, 1)  # (J, M, 2P-2)
-    ga, gb = g[:, :, :-1], g[:, :, 1:]
-    rg = rem[:, :, : npt - 1] + 1e-12 * max(float(gm.max()), -float(gm.min()))  # round-off
+    rem = rc @ cexp  # (J, 2P-2, M)
+    ga, gb = g[:, :-1], g[:, 1:]
+    rg = rem[:, : npt - 1]
+    rg += 1e-12 * max(float(gm.max()), -float(gm.min()))  # round-off
     lo = np.minimum(ga, gb) - rg
     hi = np.maximum(ga, gb) + rg
-    da, db = dg[:, :, :-1], dg[:, :, 1:]
-    rd = rem[:, :, npt - 1 :]
+    da, db = dg[:, :-1], dg[:, 1:]
+    rd = rem[:, npt - 1 :]
     mono = (np.minimum(da, db) - rd > 0) | (np.maximum(da, db) + rd < 0)
-    neg = (ga < 0) & (gb < 0)
-    one_sign = ((ga > 0) & (gb > 0)) | neg
-    exact = (lo <= 0) & (hi >= 0) & ~(mono & one_sign)
-    exact |= (lo < gmin_seen[None, :, None]) & ~mono
-    exact &= (width > 0)[:, None, :]
+    signs = np.sign(ga) * np.sign(gb)  # 1: both ends of one sign, -1: opposite, 0: a zero
+    neg = (signs > 0) & (ga < 0)
+    deeper = lo < gmin_seen
+    exact = (lo <= 0) & (hi >= 0) & ~(mono & (signs > 0))
+    exact |= deeper & ~mono
+    exact &= (width > 0)[:, :, None]
     whole = ((hi < 0) | (mono & neg)) & ~exact  # surely below all through
     # a monotone piece whose ends are of opposite signs has one root and no minimum
     # inside: Newton from the chord's root, kept in the bracket
-    simple = exact & mono & (((ga > 0) & (gb < 0)) | ((ga < 0) & (gb > 0)))
-    simple &= ~(lo < gmin_seen[None, :, None])
+    simple = exact & mono & (signs < 0) & ~deeper
     exact &= ~simple
-    below = np.einsum("jmp,jp->m", whole, width)
-    start = (t[ks[:-1]][:, None] + s[:, :-1])[:, None, :]  # (J, 1, P-1)
-    wm = whole.transpose(1, 0, 2).reshape(mm, -1)  # time order per member
-    first = np.where(wm.any(axis=1), start.ravel()[np.argmax(wm, axis=1)], np.inf)
-    ji, mi, pi = np.nonzero(simple)
+    below = np.einsum("jpm,jp->m", whole, width)
+    start = t[ks[:-1]][:, None] + s[:, :-1]  # (J, P-1)
+    wm = whole.reshape(nj * (npt - 1), mm)  # time order down the first axis
+    first = np.where(wm.any(axis=0), start.ravel()[np.argmax(wm, axis=0)], np.inf)
+    ji, pi, mi = np.unravel_index(np.flatnonzero(simple), simple.shape)  # np.nonzero, quicker
     if mi.size:
-        el = _piece(lam, v0, x, s, g, e1, width, ji, mi, pi)
-        a0, b0 = g[ji, mi, pi], g[ji, mi, pi + 1]
-        root = _solve(lambda q: (el.val(q), el.d1(q)), 0 * el.w, el.w, a0, el.w * a0 / (a0 - b0))
+        el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
+        a0, b0 = g[ji, pi, mi], g[ji, pi + 1, mi]
+        root = _solve(el.val_d1, 0 * el.w, el.w, a0, el.w * a0 / (a0 - b0), NEWTON_STEPS)
         t0 = t[ks[ji]] + s[ji, pi]
         down = a0 > 0
         below += np.bincount(mi, weights=np.where(down, el.w - root, root), minlength=mm)
         np.minimum.at(first, mi, np.where(down, t0 + root, t0))
-    ji, mi, pi = np.nonzero(exact)
+    ji, pi, mi = np.unravel_index(np.flatnonzero(exact), exact.shape)
     if mi.size:
-        el = _piece(lam, v0, x, s, g, e1, width, ji, mi, pi)
-        f, gmin, smin, blw = _profile(el)
+        el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
+        f, gmin, smin, blw = _profile(el, NEWTON_STEPS)
         t0 = t[ks[ji]] + s[ji, pi]
         below += np.bincount(mi, weights=blw, minlength=mm)
         np.minimum.at(first, mi, np.where(np.isnan(f), np.inf, t0 + f))

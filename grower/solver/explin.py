@@ -42,52 +42,117 @@ class _ExpLin:
 
         return _ExpLin(parts[0].lam, *(cat(n) for n in ("z", "b", "c", "g0", "e1", "w")))
 
-    def _x(self, s: np.ndarray):  # type: ignore[no-untyped-def]
-        x = s[..., None] * self.lam
+    def _sums(self, s: np.ndarray, v: bool, d1: bool, d2: bool) -> list[np.ndarray]:
+        """The mode sums of g, g' and g'' at offsets s (K,) or (K, P) that are asked for
+        (without g0 + e1 s, e1), one mode at a time on arrays shaped like s: numpy on (K,
+        P, r) with r = 2 or 3 innermost runs at a fraction of its speed. Summed in mode
+        order, as a reduction over the modes would."""
         sh = (slice(None),) + (None,) * (s.ndim - 1)
-        return x, np.expm1(x), sh
+        zero = np.zeros(s.shape)  # the sums over no modes (a held air node)
+        out = [zero, zero, zero]
+        for i, lam in enumerate(self.lam.tolist()):
+            x = s * lam
+            em = np.expm1(x)
+            ep = em + 1.0
+            ci = self.c[:, i][sh]
+            terms = (
+                em * self.z[:, i][sh] + em / lam * self.b[:, i][sh] + (em - x) / (lam * lam) * ci
+                if v
+                else None,
+                ep * self.k1[:, i][sh] + em / lam * ci if d1 else None,
+                ep * self.k2[:, i][sh] if d2 else None,
+            )
+            out = [
+                o if t is None else t if i == 0 else o + t for o, t in zip(out, terms, strict=True)
+            ]
+        return out
 
     def val(self, s: np.ndarray) -> np.ndarray:
-        x, em, sh = self._x(s)
-        lam = self.lam
-        t = em * self.z[sh] + em / lam * self.b[sh] + (em - x) / (lam * lam) * self.c[sh]
-        return self.g0[sh] + self.e1[sh] * s + t.sum(axis=-1)
+        sh = (slice(None),) + (None,) * (s.ndim - 1)
+        return self.g0[sh] + self.e1[sh] * s + self._sums(s, True, False, False)[0]
 
     def d1(self, s: np.ndarray) -> np.ndarray:
-        x, em, sh = self._x(s)
-        t = (em + 1.0) * self.k1[sh] + em / self.lam * self.c[sh]
-        return self.e1[sh] + t.sum(axis=-1)
+        sh = (slice(None),) + (None,) * (s.ndim - 1)
+        return self.e1[sh] + self._sums(s, False, True, False)[1]
 
     def d2(self, s: np.ndarray) -> np.ndarray:
-        x, em, sh = self._x(s)
-        return ((em + 1.0) * self.k2[sh]).sum(axis=-1)
+        return self._sums(s, False, False, True)[2]
+
+    def val_d1(self, s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """``(val(s), d1(s))`` with one exponential: the same numbers."""
+        sh = (slice(None),) + (None,) * (s.ndim - 1)
+        t, d, _ = self._sums(s, True, True, False)
+        return self.g0[sh] + self.e1[sh] * s + t, self.e1[sh] + d
+
+    def d1_d2(self, s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """``(d1(s), d2(s))`` with one exponential: the same numbers."""
+        sh = (slice(None),) + (None,) * (s.ndim - 1)
+        _, d, d2 = self._sums(s, False, True, True)
+        return self.e1[sh] + d, d2
 
 
-def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None) -> np.ndarray:  # type: ignore[no-untyped-def]
-    """Root in [a, b] of f (fd(s) -> (f, f')), f(a) and f(b) of opposite sign: Newton
-    steps kept inside a shrinking bracket, else bisection (Numerical Recipes sec. 9.4),
-    from ``x0`` inside the bracket (default its middle).
+#: plain Newton steps before the safeguards, for callers that ask for them (`_solve`):
+#: on the monotone, convex or concave brackets they give, three to six reach the tolerance
+NEWTON_STEPS = 6
+
+
+def _solve(
+    fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None, newton: int = 0
+) -> np.ndarray:  # type: ignore[no-untyped-def]
+    """Root in [a, b] of f (fd(s) -> (f, f')), f(a) and f(b) of opposite sign, from ``x0``
+    inside the bracket (default its middle): Newton steps kept inside a shrinking bracket,
+    else bisection (Numerical Recipes sec. 9.4).
+
+    ``newton`` > 0: first up to that many plain Newton steps on all items, each kept
+    inside [a, b]; an item is done when its step falls to the tolerance (a step cut at
+    an end of the bracket does not count), and only the items still moving go on to the
+    bracketed loop (from their start again if a plain step left them at an end), which
+    costs about twice the array operations a step. The roots are
+    the same to round-off, not to the bit: the analysis of a free float's runs
+    (`analysis`) asks for it, the step-by-step analysis, whose reports are pinned to the
+    bit, does not.
 
     Two cases where Newton would crawl are cut short: f(a) at round-off against f inside
-    (a double root at a: Newton only halves the distance) is the root a itself; a step
-    past an end of the bracket goes to that end first (a root next to it, which Newton
-    from inside overshoots), and bisects only if the step before went to an end too.
+    (a double root at a: Newton only halves the distance) is the root a itself; in the
+    bracketed loop, a step past an end of the bracket goes to that end first (a root next
+    to it, which Newton from inside overshoots), and bisects only if the step before went
+    to an end too.
     """
     lo, hi = a.copy(), b.copy()
     pos = fa > 0
-    x = 0.5 * (lo + hi) if x0 is None else np.clip(x0, np.minimum(lo, hi), np.maximum(lo, hi))
+    low, high = np.minimum(lo, hi), np.maximum(lo, hi)
+    x = 0.5 * (lo + hi) if x0 is None else np.clip(x0, low, high)
     tol = 1e-13 * (b - a) + 1e-300
-    flat = None
-    ended = np.zeros(np.shape(x), dtype=bool)
-    done = np.zeros(np.shape(x), dtype=bool)
-    was = np.zeros(np.shape(x), dtype=bool)
-    for _ in range(200):
+    f, df = fd(x)
+    flat = np.abs(fa) <= 1e-13 * np.abs(f)
+    if flat.any():
+        x = np.where(flat, a, x)
         f, df = fd(x)
-        if flat is None:
-            flat = np.abs(fa) <= 1e-13 * np.abs(f)
-            if flat.any():
-                x = np.where(flat, a, x)
-                f, df = fd(x)
+        f = np.where(flat, 0.0, f)
+    done = f == 0
+    start = x, f, df
+    for _ in range(newton):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = f / df
+        xn = np.minimum(np.maximum(x - step, low), high)
+        x = np.where(done | np.isnan(xn), x, xn)
+        done |= np.abs(step) <= tol
+        if done.all():
+            return x
+        f, df = fd(x)
+        if flat.any():
+            f = np.where(flat, 0.0, f)
+        done |= f == 0
+    if newton:
+        # an item still moving that a plain step left at an end of the bracket starts over
+        # from where it began: the loop below would read it as converged there
+        keep = done | ((x > low) & (x < high))
+        x, f, df = (np.where(keep, now, then) for now, then in zip((x, f, df), start, strict=True))
+    ended = np.zeros(np.shape(x), dtype=bool)
+    was = done.copy()
+    for _ in range(200):
+        if done.all():
+            break
         if flat.any():
             f = np.where(flat, 0.0, f)
         same = (f > 0) == pos
@@ -107,6 +172,7 @@ def _solve(fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None) -> np.ndar
         was = done.copy()  # converged items stay put: a batch's company changes nothing
         if done.all():
             break
+        f, df = fd(x)
     return x
 
 
@@ -155,8 +221,11 @@ def _convex_breaks(el: _ExpLin) -> np.ndarray:
     return np.sort(np.concatenate([np.zeros_like(w), np.where(np.isnan(infl), w, infl), w], 1), 1)
 
 
-def _profile(el: _ExpLin) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Exact first zero (g <= 0), minimum, its place and the length with g < 0, per item."""
+def _profile(el: _ExpLin, newton: int = 0) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Exact first zero (g <= 0), minimum, its place and the length with g < 0, per item.
+
+    ``newton`` > 0: the root searches start from the roots of the chords and take that
+    many plain Newton steps first (`_solve`): quicker, the same to round-off."""
     kk = el.w.size
     br = _convex_breaks(el)
     d = el.d1(br)
@@ -165,9 +234,10 @@ def _profile(el: _ExpLin) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarra
         sel = np.flatnonzero((d[:, p] * d[:, p + 1] < 0) & (br[:, p + 1] > br[:, p]))
         if sel.size:
             sub = el.take(sel)
-            ext[sel, p] = _solve(
-                lambda s, sub=sub: (sub.d1(s), sub.d2(s)), br[sel, p], br[sel, p + 1], d[sel, p]
-            )
+            a, b, da, db = br[sel, p], br[sel, p + 1], d[sel, p], d[sel, p + 1]
+            # from the root of the slope's chord: the slope is monotone in the bracket
+            x0 = a + (b - a) * (da / (da - db)) if newton else None
+            ext[sel, p] = _solve(sub.d1_d2, a, b, da, x0, newton)
     mono = np.sort(np.concatenate([br, np.where(np.isnan(ext), el.w[:, None], ext)], 1), 1)
     gv = el.val(mono)
     gv[:, 0] = el.g0
@@ -181,7 +251,10 @@ def _profile(el: _ExpLin) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarra
     ii, pp = np.nonzero(cross)
     if ii.size:
         sub = el.take(ii)
-        roots[ii, pp] = _solve(lambda s: (sub.val(s), sub.d1(s)), a[ii, pp], b[ii, pp], ga[ii, pp])
+        lo, hi, fl, fh = a[ii, pp], b[ii, pp], ga[ii, pp], gb[ii, pp]
+        # from the root of the chord: g is monotone in the bracket
+        x0 = lo + (hi - lo) * (fl / (fl - fh)) if newton else None
+        roots[ii, pp] = _solve(sub.val_d1, lo, hi, fl, x0, newton)
     full_below = (ga <= 0) & (gb <= 0) & ~((ga == 0) & (gb == 0))
     part = np.where(ga < 0, roots - a, b - roots)
     below = np.where(full_below, b - a, np.where(cross, part, 0.0)).sum(axis=1)

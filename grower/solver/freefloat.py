@@ -58,7 +58,7 @@ def free_float(
     mm, nt = prob.n_members, prob.times_s.size
     full, tab = network.modes, prob.full
     if heat_w is None:
-        q, step_q, heat_j = np.zeros((mm, nt)), np.zeros((mm, nt - 1)), np.zeros(mm)
+        q, step_q, heat_j = _zeros((mm, nt)), _zeros((mm, nt - 1)), np.zeros(mm)
     else:
         q = np.array(np.broadcast_to(_series(heat_w, "heat_w", nt, None), (mm, nt)))
         step_q = 0.5 * prob.h * (q[:, :-1] + q[:, 1:])
@@ -84,13 +84,13 @@ def free_float(
         prob.times_s,
         temps,
         q,
-        np.zeros((mm, nt)),
+        _zeros((mm, nt)),
         heat_j,
         np.zeros(mm),
         step_q,
-        np.zeros((mm, nt - 1)),
+        _zeros((mm, nt - 1)),
         None,
-        np.zeros((mm, nt - 1), dtype=np.int8),
+        _zeros((mm, nt - 1), np.int8),
         _no_switches(network.n_nodes),
         network,
         prob,
@@ -98,6 +98,13 @@ def free_float(
         z,
         seg,
     )
+
+
+def _zeros(shape: tuple[int, ...], dtype: type = float) -> np.ndarray:
+    """Read-only zeros of ``shape`` that take no memory (one zero, broadcast): a free float
+    has no vent, nor a heater unless prescribed, and writing M x N zeros for them cost
+    more than the run of a big ensemble (a fresh array of zeros is set byte by byte)."""
+    return np.broadcast_to(np.zeros((), dtype), shape)
 
 
 def _runs(prob: _Problem) -> Segments | None:

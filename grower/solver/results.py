@@ -58,7 +58,9 @@ class Trajectory:
     ``segments``) hold the validated inputs and intermediate results that `analyse` needs
     to re-evaluate the exact solution inside the steps; they are not part of the
     interface. A free float of many members stored at its knots (`segments.Segments`)
-    computes ``temps_c`` on first use.
+    computes ``temps_c`` on first use. The arrays a free float holds at zero
+    (``vent_w``, ``step_vent_j``, ``mode``, and ``heat_w``, ``step_heat_j`` without a
+    prescribed heater) are read-only views of a single zero.
     """
 
     times_s: np.ndarray

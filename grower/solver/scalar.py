@@ -70,6 +70,31 @@ def _newton(
     return x
 
 
+def _earliest(cand, slope, ew, curv, rem, coeffs, lam, scale, noise) -> float:
+    """The first root within `rem` [s] of the candidate switching functions `cand`
+    (sign, value at the start, its rate), each the linear part plus the modes' terms
+    `coeffs` (times the sign); inf where none. A candidate that stays positive by more
+    than its curvature bound `curv` over the step has none (no search)."""
+    root = _inf
+    for sg, g0, e1 in cand:
+        gw = g0 + (e1 + sg * slope) * rem + sg * ew
+        if g0 > 0 and gw > 0 and min(g0, gw) - curv > 0:
+            continue
+        rt = _first_root(
+            g0,
+            e1 + sg * slope,
+            [sg * a for a in coeffs],
+            lam,
+            rem,
+            gw,
+            abs(e1) + scale + 1e-300,
+            noise + 1e-13 * abs(g0),
+        )
+        if rt < root:
+            root = rt
+    return root
+
+
 def _first_root(
     g0: float,
     b1: float,
@@ -392,26 +417,10 @@ class _ScalarStep:
                     cand.append((-1.0, vt - x0, 0.0))
             else:
                 cand = [(-1.0, sp - x0, 0.0)]
-            root = _inf
-            for sg, g0, e1 in cand:
-                gw = g0 + (e1 + sg * slope) * rem + sg * ew
-                if g0 > 0 and gw > 0 and min(g0, gw) - curv > 0:
-                    continue
-                scale = abs(ca * la * za) + abs(ca * ba) + (abs(cb * lb * zb) + abs(cb * bb))
-                noise = abs(ca * za) + abs(ca * ba * ia) + (abs(cb * zb) + abs(cb * bb * ib))
-                noise *= 1e-13
-                rt = _first_root(
-                    g0,
-                    e1 + sg * slope,
-                    [sg * aa, sg * ab],
-                    self.lam,
-                    rem,
-                    gw,
-                    abs(e1) + scale + 1e-300,
-                    noise + 1e-13 * abs(g0),
-                )
-                if rt < root:
-                    root = rt
+            scale = abs(ca * la * za) + abs(ca * ba) + (abs(cb * lb * zb) + abs(cb * bb))
+            noise = abs(ca * za) + abs(ca * ba * ia) + (abs(cb * zb) + abs(cb * bb * ib))
+            noise *= 1e-13
+            root = _earliest(cand, slope, ew, curv, rem, (aa, ab), self.lam, scale, noise)
             dt = _inf if root >= rem * (1 - 1e-12) else root
             w = rem if dt == _inf else dt
             ww, www = w * w, w * w * w
@@ -445,25 +454,9 @@ class _ScalarStep:
         cand = [(1.0, q0, dq)] if md == HOLD else [(-1.0, -q0, -dq)]
         if md == HOLD and qm != _inf:
             cand.append((-1.0, qm - q0, -dq))
-        root = _inf
-        for sg, g0, e1 in cand:
-            gw = g0 + (e1 + sg * slope) * rem + sg * ew
-            if g0 > 0 and gw > 0 and min(g0, gw) - curv > 0:
-                continue
-            scale = abs(c * la * za) + abs(c * ba)
-            noise = (abs(c * za) + abs(c * ba * ia)) * 1e-13
-            rt = _first_root(
-                g0,
-                e1 + sg * slope,
-                [sg * aa],
-                self.lr,
-                rem,
-                gw,
-                abs(e1) + scale + 1e-300,
-                noise + 1e-13 * abs(g0),
-            )
-            if rt < root:
-                root = rt
+        scale = abs(c * la * za) + abs(c * ba)
+        noise = (abs(c * za) + abs(c * ba * ia)) * 1e-13
+        root = _earliest(cand, slope, ew, curv, rem, (aa,), self.lr, scale, noise)
         dt = _inf if root >= rem * (1 - 1e-12) else root
         w = rem if dt == _inf else dt
         ww, www = w * w, w * w * w

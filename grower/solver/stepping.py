@@ -206,19 +206,25 @@ def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> n
     return np.ascontiguousarray(zt.transpose(1, 2, 0))
 
 
+def _series3(x: float) -> float:
+    """``phi3(x)`` by its series, for |x| < 0.05 (nine terms reach round-off), Horner's
+    scheme written out (the split steps call this often)."""
+    s3 = _R12 * x + _R11
+    s3 = s3 * x + _R10
+    s3 = s3 * x + _R9
+    s3 = s3 * x + _R8
+    s3 = s3 * x + _R7
+    s3 = s3 * x + _R6
+    s3 = s3 * x + _R5
+    s3 = s3 * x + _R4
+    return s3 * x + _R3
+
+
 def _sphi(x: float) -> tuple[float, float, float, float]:
-    """Scalar `_phi123` (series below |x| = 0.05: nine terms of phi3 reach round-off, and
-    ``phi2 = 1/2 + x phi3``, ``phi1 = 1 + x phi2``)."""
-    if abs(x) < 0.05:  # Horner's scheme written out (the split steps call this often)
-        s3 = _R12 * x + _R11
-        s3 = s3 * x + _R10
-        s3 = s3 * x + _R9
-        s3 = s3 * x + _R8
-        s3 = s3 * x + _R7
-        s3 = s3 * x + _R6
-        s3 = s3 * x + _R5
-        s3 = s3 * x + _R4
-        s3 = s3 * x + _R3
+    """Scalar `_phi123` (series below |x| = 0.05, `_series3`, with ``phi2 = 1/2 + x phi3``
+    and ``phi1 = 1 + x phi2``)."""
+    if abs(x) < 0.05:
+        s3 = _series3(x)
         s2 = 0.5 + x * s3
         return math.exp(x), 1.0 + x * s2, s2, s3
     p1 = math.expm1(x) / x
@@ -229,14 +235,5 @@ def _sphi(x: float) -> tuple[float, float, float, float]:
 def _sphi2(x: float) -> float:
     """``phi2(x)`` alone, as `_sphi` computes it."""
     if abs(x) < 0.05:
-        s3 = _R12 * x + _R11
-        s3 = s3 * x + _R10
-        s3 = s3 * x + _R9
-        s3 = s3 * x + _R8
-        s3 = s3 * x + _R7
-        s3 = s3 * x + _R6
-        s3 = s3 * x + _R5
-        s3 = s3 * x + _R4
-        s3 = s3 * x + _R3
-        return 0.5 + x * s3
+        return 0.5 + x * _series3(x)
     return (math.expm1(x) / x - 1.0) / x
