@@ -23,6 +23,7 @@ from grower.cli import main
 from grower.errors import InputError
 from grower.fit import archive, fit_house, synthetic
 from grower.logger import read_logger_csv
+from tests.openmeteo_archive import archive_response
 
 TZ = ZoneInfo(synthetic.SITE[2])
 #: four nights under a cloud nobody logged (cover 0–1, of unknown height); seed 3's
@@ -73,25 +74,14 @@ def archive_handler(cloud, *, outside=None, missing_from: dt.datetime | None = N
                     for k in hourly:
                         if k != "time":
                             hourly[k][i] = None
-        doc = {
-            "latitude": synthetic.SITE[0],
-            "longitude": synthetic.SITE[1],
-            "generationtime_ms": 3.1,
-            "utc_offset_seconds": -18000,
-            "timezone": synthetic.SITE[2],
-            "timezone_abbreviation": "GMT-5",
-            "elevation": 80.0,
-            "hourly_units": {
-                "time": "iso8601",
-                "temperature_2m": "°C",
-                "dew_point_2m": "°C",
-                "cloud_cover": "%",
-                "wind_speed_10m": "m/s",
-                "shortwave_radiation": "W/m²",
-            },
-            "hourly": hourly,
-        }
-        return Response(json.dumps(doc), content_type="application/json")
+        return archive_response(
+            hourly,
+            latitude=synthetic.SITE[0],
+            longitude=synthetic.SITE[1],
+            timezone=synthetic.SITE[2],
+            abbreviation="GMT-5",
+            elevation=80.0,
+        )
 
     return handler
 

@@ -24,6 +24,7 @@ from grower.site import Site
 from grower.units import J_PER_BTU
 from grower.weather import history
 from tests.conftest import MINIMAL, write_house
+from tests.openmeteo_archive import archive_response
 from tests.reference_units import Q_
 
 GLASS = MINIMAL.replace('"double-poly"', '"single-glass"').replace(
@@ -164,32 +165,22 @@ def archive_answer(request) -> Response:
         for i in range(hours)
     ]
     i = np.arange(hours)
-    doc = {
-        "latitude": 44.3,
-        "longitude": -76.5,
-        "generationtime_ms": 1.2,
-        "utc_offset_seconds": -18000,
-        "timezone": "America/Toronto",
-        "timezone_abbreviation": "EST",
-        "elevation": 95.0,
-        "hourly_units": {
-            "time": "iso8601",
-            "temperature_2m": "°C",
-            "dew_point_2m": "°C",
-            "cloud_cover": "%",
-            "wind_speed_10m": "m/s",
-            "shortwave_radiation": "W/m²",
-        },
-        "hourly": {
-            "time": times,
-            "temperature_2m": list(np.round(-4 + 4 * np.sin(i / 7.0), 1)),
-            "dew_point_2m": list(np.round(-6 + 4 * np.sin(i / 7.0), 1)),
-            "cloud_cover": [60] * hours,
-            "wind_speed_10m": [2.5] * hours,
-            "shortwave_radiation": [0.0] * hours,
-        },
+    hourly = {
+        "time": times,
+        "temperature_2m": list(np.round(-4 + 4 * np.sin(i / 7.0), 1)),
+        "dew_point_2m": list(np.round(-6 + 4 * np.sin(i / 7.0), 1)),
+        "cloud_cover": [60] * hours,
+        "wind_speed_10m": [2.5] * hours,
+        "shortwave_radiation": [0.0] * hours,
     }
-    return Response(json.dumps(doc), content_type="application/json")
+    return archive_response(
+        hourly,
+        latitude=44.3,
+        longitude=-76.5,
+        timezone="America/Toronto",
+        abbreviation="EST",
+        elevation=95.0,
+    )
 
 
 @pytest.fixture
