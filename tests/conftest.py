@@ -53,3 +53,20 @@ def _no_live_ensemble(monkeypatch):
     that serve one point GROWER_ENSEMBLE_URL at their loopback server; the rest get a
     port nobody listens on (the run falls back to drawn nights, with a note)."""
     monkeypatch.setenv("GROWER_ENSEMBLE_URL", "http://127.0.0.1:9")
+
+
+#: the wall clock every test runs at (and moves on from): the evening before the bundled
+#: forecasts' night (examples/forecast-cold-night.csv starts 2026-12-03T16:00-05:00), so
+#: a test that runs them "now" meets them as a grower would on that day, whatever the date
+#: the suite runs on; without it every such test would fail once the files are past
+TEST_CLOCK = "2026-12-02T17:00:00+00:00"
+
+
+@pytest.fixture(autouse=True)
+def _fixed_clock():
+    """The clock at `TEST_CLOCK`, ticking on (time-machine: datetime.now, date.today and
+    time.time; monotonic clocks and timers are left alone)."""
+    import time_machine
+
+    with time_machine.travel(TEST_CLOCK, tick=True):
+        yield
