@@ -68,6 +68,8 @@ def commands(tmp: Path) -> dict[str, list[str]]:
             "tomato",
             "--forecast",
             "examples/forecast-cold-night.csv",
+            "--start",  # the bundled night (a file past its end is refused)
+            "2026-12-03T16:00",
         ],
         "stock": [
             *grower,
@@ -79,6 +81,8 @@ def commands(tmp: Path) -> dict[str, list[str]]:
             "5C",
             "--forecast",
             str(sixteen_days(tmp / "sixteen-days.csv")),
+            "--start",
+            "2026-12-05T00:00",
         ],
     }
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import datetime as dt
 
 from grower.errors import InputError
 
@@ -233,45 +234,45 @@ def add_forecast_options(p: argparse.ArgumentParser, *, live_days: int = 3) -> N
     p.set_defaults(live_days=live_days)
 
 
-def _parse_time(text: str, tz_name: str | None, option: str):
+def _parse_time(text: str, tz_name: str | None, option: str) -> dt.datetime:
+    """An ISO 8601 time from the command line as an aware datetime; a time without a UTC
+    offset is read in `tz_name` (in a clock change's repeated hour, the first of the two;
+    an hour the change skips is refused). The standard library's parser, not pandas':
+    `tonight --start` stays under its import floor."""
     import datetime as dt
-
-    import pandas as pd
+    import zoneinfo
 
     from grower import limits
 
+    clean = text.strip()
+    clean = clean.replace(" ", "T", 1) if "T" not in clean else clean
     try:
-        limits.check_year(dt.datetime.fromisoformat(text.strip()).year, option)
+        t = dt.datetime.fromisoformat(clean)
     except ValueError as exc:
-        if isinstance(exc, InputError):
-            raise
-    try:
-        t = pd.Timestamp(text.replace(" ", "T", 1) if "T" not in text else text)
-    except (ValueError, TypeError) as exc:
         raise InputError(
             f'"{text}" is not an ISO 8601 time (e.g. 2026-12-03T18:00)', where=option
         ) from exc
-    if t.tzinfo is None:
-        if tz_name is None:
-            raise InputError(
-                f'"{text}" has no UTC offset and the house has no [site] time zone; add one, e.g. {text}-05:00',
-                where=option,
-            )
-        try:
-            t = t.tz_localize(tz_name, ambiguous=True, nonexistent="raise")
-        except Exception as exc:  # pytz/zoneinfo raise several types for a missing hour
-            raise InputError(
-                f'"{text}" does not exist in {tz_name} (a clock change)', where=option
-            ) from exc
-    return t
+    limits.check_year(t.year, option)
+    if t.tzinfo is not None:
+        return t
+    if tz_name is None:
+        raise InputError(
+            f'"{text}" has no UTC offset and the house has no [site] time zone; add one, e.g. {text}-05:00',
+            where=option,
+        )
+    zone = zoneinfo.ZoneInfo(tz_name)
+    local = t.replace(tzinfo=zone, fold=0)  # fold 0: the first of a repeated hour
+    if local.astimezone(dt.UTC).astimezone(zone).replace(tzinfo=None) != t:
+        raise InputError(f'"{text}" does not exist in {tz_name} (a clock change)', where=option)
+    return local
 
 
 def start_time(args: argparse.Namespace, house, forecast):
-    """The --start time as a tz-aware Timestamp in the forecast's zone, or None (now)."""
+    """The --start time as an aware datetime in the forecast's zone, or None (now)."""
     if not getattr(args, "start", None):
         return None
     tz = house.site.timezone if house.site else forecast.timezone
-    return _parse_time(args.start, tz, "--start").tz_convert(forecast.tz)
+    return _parse_time(args.start, tz, "--start").astimezone(forecast.tz)
 
 
 def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
@@ -311,7 +312,7 @@ def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
         return weather.forecast_from_low(
             site,
             low,
-            (start.to_pydatetime() if start is not None else now),
+            (start if start is not None else now),
             high_c=high,
             dew_point_c=dew,
             cloud_pct=cloud,
