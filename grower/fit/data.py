@@ -169,32 +169,8 @@ def _outside_columns(
             shift = outside.shortwave_offset_s if c == "shortwave_w_m2" else 0.0
             cols[c] = np.interp(record.utc_s, src_s + shift, outside.values(c))
         source = outside.source
-        if fills and record.outside_c is not None:
-            own = record.outside_c
-            read = np.isfinite(own)
-            taken = [c for c in outside.given if c not in ("temperature_c", "dew_point_c")]
-            cols.pop("dew_point_c", None)
-            if "temperature_c" in cols:
-                cols["temperature_c"] = np.where(read, own, cols["temperature_c"])
-            filled = int((~read & covered).sum())
-            if "temperature_c" in cols and filled:
-                taken.append("temperature_c")
-                notes.append(
-                    f"{filled} row(s) without an outside reading take the weather archive's "
-                    "outside temperature"
-                )
-            if record.sun_w_m2 is not None and "shortwave_w_m2" in taken:
-                taken.remove("shortwave_w_m2")  # the record's own sun column is kept
-            names = ", ".join(_WHAT[c] for c in taken if c in _WHAT) or "nothing"
-            source = (
-                f"the record's {record.columns['outside']} column; {names} from {outside.source}"
-            )
-        elif fills:
-            taken = [c for c in outside.given if c in _WHAT]
-            if record.sun_w_m2 is not None and "shortwave_w_m2" in taken:
-                taken.remove("shortwave_w_m2")
-            names = ", ".join("temperature" if c == "temperature_c" else _WHAT[c] for c in taken)
-            source = f"{outside.source} ({names}; the record has no outside column)"
+        if fills:
+            source = _archive_fill(record, outside, cols, covered, notes)
         elif record.outside_c is not None:
             notes.append("outside temperature from the outside file (the record's column ignored)")
     else:
@@ -209,6 +185,34 @@ def _outside_columns(
     if record.sun_w_m2 is not None:
         cols["shortwave_w_m2"] = record.sun_w_m2
     return cols, covered, source
+
+
+def _archive_fill(
+    record: LoggerRecord, outside, cols: dict[str, np.ndarray], covered, notes: list[str]
+) -> str:
+    """A weather archive beside the record (`_outside_columns`, ``fills``): the record's
+    outside temperature kept where it has a reading, the archive's dew point dropped
+    beside it; `cols` changed in place; the source line."""
+    taken = [c for c in outside.given if c in _WHAT]
+    if record.sun_w_m2 is not None and "shortwave_w_m2" in taken:
+        taken.remove("shortwave_w_m2")  # the record's own sun column is kept
+    if record.outside_c is None:
+        names = ", ".join("temperature" if c == "temperature_c" else _WHAT[c] for c in taken)
+        return f"{outside.source} ({names}; the record has no outside column)"
+    read = np.isfinite(record.outside_c)
+    cols.pop("dew_point_c", None)
+    taken = [c for c in taken if c not in ("temperature_c", "dew_point_c")]
+    if "temperature_c" in cols:
+        cols["temperature_c"] = np.where(read, record.outside_c, cols["temperature_c"])
+        filled = int((~read & covered).sum())
+        if filled:
+            taken.append("temperature_c")
+            notes.append(
+                f"{filled} row(s) without an outside reading take the weather archive's "
+                "outside temperature"
+            )
+    names = ", ".join(_WHAT[c] for c in taken) or "nothing"
+    return f"the record's {record.columns['outside']} column; {names} from {outside.source}"
 
 
 #: how the source line names each column it took from a weather archive

@@ -61,6 +61,7 @@ class WintersResult:
     night_setpoint_c: float
     heater_output_w: float | None
     fuel_label: str
+    fuel: str  # the fuel's key ("propane"), for the screens' unit conversion
     appliance: str
     efficiency: float
     unit: str
@@ -77,7 +78,6 @@ class WintersResult:
     #: the house file's [calibration] not used (an older format, a house changed since
     #: the fit): the line, also in `assumptions`, that the report shows as a warning
     calibration_warning: str | None = None
-    fuel: str = ""  # the fuel's key ("propane"), for the screens' unit conversion
     #: the fuel unit was asked for (--fuel-unit): screens keep it as it is
     fuel_unit_chosen: bool = False
 

@@ -83,7 +83,7 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
     heat_fmt = "{:,.0f}" if us else "{:,.1f}"
     deg = "°F" if us else "°C"
     # fuel in the screen's system (`fuel_value`), or in the unit --fuel-unit asked for
-    per, unit = fuel_value(1.0, r.unit, r.fuel, system, keep=r.fuel_unit_chosen or not r.fuel)
+    per, unit = fuel_value(1.0, r.unit, r.fuel, system, keep=r.fuel_unit_chosen)
     n = len(r.winters)
     short = [w for w in r.winters if w.hours_not_held > 0.05]
     if short:
