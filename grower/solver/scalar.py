@@ -30,7 +30,7 @@ import numpy as np
 
 from .explin import _roots_sum
 from .modes import _MAX_SWITCHES, _TOL_K, FLOAT, FULL, HOLD, VENT
-from .stepping import _sphi, _sphi2
+from .stepping import _series3, _sphi, _sphi2
 
 if TYPE_CHECKING:
     from .runs import _Run
@@ -43,13 +43,10 @@ def _newton(
 ) -> float:
     """Root in [a, b] of f, f(a) and f(b) of opposite sign: steps ``x - f/d`` (``fd(s) ->
     (f, d)``, d = f' for Newton's) kept inside a shrinking bracket, else bisection; with
-    ``fb`` it starts from the secant instead of the midpoint (Numerical Recipes sec. 9.4)."""
+    ``fb`` it starts from the secant instead of the midpoint (Numerical Recipes sec. 9.4).
+    (`_halley1`, `_halley2`: this loop for one and two modes, with their ``fd`` written in.)"""
     lo, hi, pos = a, b, fa > 0
-    x = 0.5 * (a + b)
-    if fb is not None and fa != fb:
-        xs = a - fa * (b - a) / (fb - fa)
-        if a < xs < b:
-            x = xs
+    x = _start(a, b, fa, fb)
     tol = 1e-13 * (b - a) + 1e-300
     for _ in range(200):
         fx, d = fd(x)
@@ -64,6 +61,74 @@ def _newton(
             # out of the bracket: bisection. A step below round-off (xn == x, x at the
             # bracket's end) is convergence, not a reason to bisect down to the tolerance
             xn = 0.5 * (lo + hi)
+        if abs(xn - x) <= tol or abs(hi - lo) <= tol:
+            return xn
+        x = xn
+    return x
+
+
+def _start(a: float, b: float, fa: float, fb: float | None) -> float:
+    """`_newton`'s first point in [a, b]: the secant's root if ``fb`` is given (and inside),
+    else the midpoint."""
+    if fb is not None and fa != fb:
+        xs = a - fa * (b - a) / (fb - fa)
+        if a < xs < b:
+            return xs
+    return 0.5 * (a + b)
+
+
+def _halley1(g0, b1, a0, l0, k0, a, b, fa, fb) -> float:  # type: ignore[no-untyped-def]
+    """`_newton` with Halley's step on ``g(s) = g0 + b1 s + a0 expm1(l0 s)`` (one mode,
+    ``k0 = a0 l0^2``), the step written in: the general ``fd``'s arithmetic, to the bit.
+    Every point lies in the bracket, so lo <= hi throughout (`_newton`'s ``min(lo, hi)``
+    and ``max(lo, hi)``)."""
+    al0 = a0 * l0
+    lo, hi, pos = a, b, fa > 0
+    x = _start(a, b, fa, fb)
+    tol = 1e-13 * (b - a) + 1e-300
+    for _ in range(200):
+        em0 = _expm1(l0 * x)
+        fx = g0 + b1 * x + a0 * em0
+        if fx == 0:
+            return x
+        d = b1 + al0 * (em0 + 1.0)
+        if d:  # Halley's: g' - g g'' / (2 g')
+            d -= fx * (0.0 + k0 * (em0 + 1.0)) / (2 * d)
+        if (fx > 0) == pos:
+            lo = x
+        else:
+            hi = x
+        xn = x - fx / d if d != 0 else math.nan
+        if not (lo < xn < hi) and xn != x:
+            xn = 0.5 * (lo + hi)  # out of the bracket: bisection (see `_newton`)
+        if abs(xn - x) <= tol or abs(hi - lo) <= tol:
+            return xn
+        x = xn
+    return x
+
+
+def _halley2(g0, b1, a0, a1, l0, l1, k0, k1, a, b, fa, fb) -> float:  # type: ignore[no-untyped-def]
+    """`_halley1` for two modes, ``g(s) = g0 + b1 s + a0 expm1(l0 s) + a1 expm1(l1 s)``."""
+    al0, al1 = a0 * l0, a1 * l1
+    lo, hi, pos = a, b, fa > 0
+    x = _start(a, b, fa, fb)
+    tol = 1e-13 * (b - a) + 1e-300
+    for _ in range(200):
+        em0, em1 = _expm1(l0 * x), _expm1(l1 * x)
+        fx = g0 + b1 * x + a0 * em0 + a1 * em1
+        if fx == 0:
+            return x
+        e0, e1 = em0 + 1.0, em1 + 1.0
+        d = b1 + al0 * e0 + al1 * e1
+        if d:  # Halley's: g' - g g'' / (2 g')
+            d -= fx * (0.0 + k0 * e0 + k1 * e1) / (2 * d)
+        if (fx > 0) == pos:
+            lo = x
+        else:
+            hi = x
+        xn = x - fx / d if d != 0 else math.nan
+        if not (lo < xn < hi) and xn != x:
+            xn = 0.5 * (lo + hi)  # out of the bracket: bisection (see `_newton`)
         if abs(xn - x) <= tol or abs(hi - lo) <= tol:
             return xn
         x = xn
@@ -109,8 +174,14 @@ def _first_root(
 
     ``g(0) ~ 0`` counts only if g heads down; a dip within round-off (``noise``) of 0 is
     no switch; ``scale`` is the size of g' at 0 for telling a tangent start. The caller
-    has already tried the bound ``|g''| <= sum |k2|`` that rules out most roots.
+    has already tried the bound ``|g''| <= sum |k2|`` that rules out most roots. One and
+    two modes go to `_first_root1`, `_first_root2`: the same steps written out.
     """
+    r = len(lam)
+    if r == 2:
+        return _first_root2(g0, b1, a[0], a[1], lam[0], lam[1], w, gw, scale, noise)
+    if r == 1:
+        return _first_root1(g0, b1, a[0], lam[0], w, gw, scale, noise)
     k2 = [ai * li * li for ai, li in zip(a, lam, strict=True)]  # g'' = sum k2 exp(lam s)
     # On [0, w], g(s) = g0 + d0 s + sum_i k2_i s^2 phi2(lam_i s), and phi2 falls from 1/2
     # at 0 to phi2(lam_i w): g lies above g0 + d0 s + cq s^2. If that parabola stays above 0
@@ -121,18 +192,43 @@ def _first_root(
         cq = 0.0
         for k, li in zip(k2, lam, strict=True):
             cq += k * _sphi2(li * w) * (1 - 1e-12) if k > 0 else 0.5 * k
-        if cq > 0 and 0 < -d0 < 2 * cq * w:
-            low = g0 - d0 * d0 / (4 * cq)
-        else:
-            low = min(g0, g0 + (d0 + cq * w) * w)
-        if low > (0.0 if g0 > 0 else -noise):
+        if _no_dip(g0, d0, cq, w, noise):
             return _inf
+    br = [0.0, w]
+    if r > 2:
+        infl = _roots_sum(np.array([k2]), np.array(lam), np.array([w]))[0]
+        br = [0.0, *sorted(float(x) for x in infl[~np.isnan(infl)]), w]
+    gv = [g0] + [_gval(g0, b1, a, lam, x) for x in br[1:-1]] + [gw]
+    if g0 <= 0:
+        if down:
+            return 0.0
+        gv[0] = 1e-300  # just entered: g(0) counts as +0
+    return _in_pieces(g0, b1, a, lam, k2, br, gv, noise)
 
-    def f(s: float) -> float:
-        out = g0 + b1 * s
-        for ai, li in zip(a, lam, strict=True):
-            out += ai * _expm1(li * s)
-        return out
+
+def _no_dip(g0: float, d0: float, cq: float, w: float, noise: float) -> bool:
+    """Whether the parabola ``g0 + d0 s + cq s^2`` below g stays above 0 on [0, w] (above
+    ``-noise`` for a mode entered at its limit, g0 <= 0)."""
+    if cq > 0 and 0 < -d0 < 2 * cq * w:
+        low = g0 - d0 * d0 / (4 * cq)
+    else:
+        low = min(g0, g0 + (d0 + cq * w) * w)
+    return low > (0.0 if g0 > 0 else -noise)
+
+
+def _gval(g0: float, b1: float, a: list[float], lam: list[float], s: float) -> float:
+    """g(s) = g0 + b1 s + sum_i a_i expm1(lam_i s)."""
+    out = g0 + b1 * s
+    for ai, li in zip(a, lam, strict=True):
+        out += ai * _expm1(li * s)
+    return out
+
+
+def _in_pieces(g0, b1, a, lam, k2, br, gv, noise) -> float:  # type: ignore[no-untyped-def]
+    """The first root of g on the pieces between the breaks `br` (its inflection points,
+    where g is convex or concave), g's values there `gv`: a piece whose end is at or
+    below 0 holds a root (Halley's steps from the secant); one with both ends above 0
+    holds one only where g dips between them, checked by the tangents at its ends."""
 
     def fd(s: float) -> tuple[float, float]:  # g, and g' - g g''/(2 g') for Halley's step
         out, d, d2 = g0 + b1 * s, b1, 0.0
@@ -151,34 +247,6 @@ def _first_root(
             d2 += ki * e
         return d, d2
 
-    r = len(lam)
-    if r == 2:  # `fd` with its sums written out (the same arithmetic): Newton's hot loop
-        (a0, a1), (l0, l1), (k0, k1) = a, lam, k2
-        al0, al1 = a0 * l0, a1 * l1
-
-        def fd(s: float) -> tuple[float, float]:
-            e0, e1 = _expm1(l0 * s), _expm1(l1 * s)
-            out = g0 + b1 * s + a0 * e0 + a1 * e1
-            d = b1 + al0 * (e0 + 1.0) + al1 * (e1 + 1.0)
-            d2 = 0.0 + k0 * (e0 + 1.0) + k1 * (e1 + 1.0)
-            return out, (d - out * d2 / (2 * d) if d else 0.0)
-
-    br = [0.0, w]
-    if r == 2:
-        j = 0 if lam[0] >= lam[1] else 1
-        o = 1 - j
-        if k2[o] != 0 and -k2[j] / k2[o] > 0 and lam[o] != lam[j]:
-            si = math.log(-k2[j] / k2[o]) / (lam[o] - lam[j])
-            if 0 < si < w:
-                br = [0.0, si, w]
-    elif r > 2:
-        infl = _roots_sum(np.array([k2]), np.array(lam), np.array([w]))[0]
-        br = [0.0, *sorted(float(x) for x in infl[~np.isnan(infl)]), w]
-    gv = [g0] + [f(x) for x in br[1:-1]] + [gw]
-    if g0 <= 0:
-        if down:
-            return 0.0
-        gv[0] = 1e-300  # just entered: g(0) counts as +0
     for p in range(len(br) - 1):
         lo, hi = br[p], br[p + 1]
         if hi <= lo:
@@ -188,7 +256,12 @@ def _first_root(
             if gb == 0:
                 return hi
             # secant start unless g(0) only counts as +0 (a mode just entered)
-            return _newton(fd, lo, hi, ga, gb if ga > 1e-250 else None)
+            fb = gb if ga > 1e-250 else None
+            if len(lam) == 2:
+                return _halley2(g0, b1, *a, *lam, *k2, lo, hi, ga, fb)
+            if len(lam) == 1:
+                return _halley1(g0, b1, *a, *lam, *k2, lo, hi, ga, fb)
+            return _newton(fd, lo, hi, ga, fb)
         da = dd(lo)[0]
         if da >= 0:  # a dip below 0 needs g to head down first, then up
             continue
@@ -198,9 +271,85 @@ def _first_root(
             sx = (gb - ga + da * lo - db * hi) / (da - db)
             if not ga + da * (sx - lo) > -noise:  # (else no dip can reach below -noise)
                 sm = _newton(dd, lo, hi, da, None)
-                if f(sm) <= -noise:
+                if _gval(g0, b1, a, lam, sm) <= -noise:
                     return _newton(fd, lo, sm, ga, None)
     return _inf
+
+
+def _first_root1(g0, b1, a0, l0, w, gw, scale, noise) -> float:  # type: ignore[no-untyped-def]
+    """`_first_root` for one mode, ``g(s) = g0 + b1 s + a0 expm1(l0 s)``, written out (the
+    same arithmetic): no inflection point, one piece."""
+    k0 = a0 * l0 * l0
+    d0, tie = b1 + (0.0 + a0 * l0), 1e-12 * scale  # (`sum` starts from 0)
+    down = g0 <= 0 and (d0 < -tie or (d0 <= tie and k0 < 0))
+    if gw > 0 and g0 > -noise and not down:
+        if k0 > 0:
+            y = l0 * w
+            p2 = 0.5 + y * _series3(y) if abs(y) < 0.05 else (_expm1(y) / y - 1.0) / y
+            cq = 0.0 + k0 * p2 * (1 - 1e-12)
+        else:
+            cq = 0.0 + 0.5 * k0
+        if _no_dip(g0, d0, cq, w, noise):
+            return _inf
+    ga = g0
+    if g0 <= 0:
+        if down:
+            return 0.0
+        ga = 1e-300  # just entered: g(0) counts as +0
+    if w <= 0:  # (no piece to search)
+        return _inf
+    if gw <= 0:
+        if gw == 0:
+            return w
+        return _halley1(g0, b1, a0, l0, k0, 0.0, w, ga, gw if ga > 1e-250 else None)
+    return _in_pieces(g0, b1, [a0], [l0], [k0], [0.0, w], [ga, gw], noise)
+
+
+def _first_root2(g0, b1, a0, a1, l0, l1, w, gw, scale, noise) -> float:  # type: ignore[no-untyped-def]
+    """`_first_root` for two modes, ``g(s) = g0 + b1 s + a0 expm1(l0 s) + a1 expm1(l1 s)``,
+    written out (the same arithmetic): at most one inflection point, where ``k0 e^(l0 s) +
+    k1 e^(l1 s) = 0`` (closed form)."""
+    k0, k1 = a0 * l0 * l0, a1 * l1 * l1
+    d0, tie = b1 + (0.0 + a0 * l0 + a1 * l1), 1e-12 * scale  # (`sum` starts from 0)
+    down = g0 <= 0 and (d0 < -tie or (d0 <= tie and k0 + k1 < 0))
+    if gw > 0 and g0 > -noise and not down:
+        cq = 0.0
+        for k, li in ((k0, l0), (k1, l1)):
+            if k > 0:
+                y = li * w
+                p2 = 0.5 + y * _series3(y) if abs(y) < 0.05 else (_expm1(y) / y - 1.0) / y
+                cq += k * p2 * (1 - 1e-12)
+            else:
+                cq += 0.5 * k
+        if _no_dip(g0, d0, cq, w, noise):
+            return _inf
+    si = -1.0  # the inflection point, if inside
+    kj, ko, lj, lo_ = (k0, k1, l0, l1) if l0 >= l1 else (k1, k0, l1, l0)
+    if ko != 0 and -kj / ko > 0 and lo_ != lj:
+        si = math.log(-kj / ko) / (lo_ - lj)
+    ga = g0
+    if g0 <= 0:
+        if down:
+            return 0.0
+        ga = 1e-300  # just entered: g(0) counts as +0
+    if w <= 0:  # (no piece to search)
+        return _inf
+    if 0 < si < w:
+        gs = g0 + b1 * si + a0 * _expm1(l0 * si) + a1 * _expm1(l1 * si)
+        br, gv = [0.0, si, w], [ga, gs, gw]
+        if gs <= 0:  # (the first piece ends at or below 0)
+            if gs == 0:
+                return si
+            return _halley2(
+                g0, b1, a0, a1, l0, l1, k0, k1, 0.0, si, ga, gs if ga > 1e-250 else None
+            )
+    else:
+        br, gv = [0.0, w], [ga, gw]
+        if gw <= 0:
+            if gw == 0:
+                return w
+            return _halley2(g0, b1, a0, a1, l0, l1, k0, k1, 0.0, w, ga, gw if ga > 1e-250 else None)
+    return _in_pieces(g0, b1, [a0, a1], [l0, l1], [k0, k1], br, gv, noise)
 
 
 class _ScalarStep:
