@@ -367,37 +367,58 @@ class _ScalarStep:
         self.tolq = run.tolq
         self.il, self.ilr = [1.0 / x for x in self.lam], [1.0 / x for x in self.lr]
         self._member = -1  # the member whose heater output `qm` holds
+        self._jr = 1 + 2 * len(self.lam)  # where `row` holds the held modes' forcing
         two = len(self.lam) == 2 and len(self.lr) == 1
         self.segment = self._segment_two if two else self._segment
+        self._qreq = self._qreq_one if len(self.lr) == 1 else self._qreq_many
+        if len(self.lr) == 1:  # constants of the one mode with the air held
+            la, ia, c = self.lr[0], self.ilr[0], self.wq[0]
+            self._held1 = (la, ia, c, self.wr[0][0], self.vr[0][0], self.bc[0], self.gsum)
+        if two:  # `_segment_two`'s constants, unpacked there in one go
+            (w00, w01), (w10, w11) = self.w
+            (v00, v01), (v10, v11) = self.v
+            self._free2 = (w00, w01, w10, w11, *self.lam, *self.il, *self.v0, *self.bq)
+            self._free2 += (v00, v01, v10, v11)
 
     def inputs(self, k: int, i: int, pack: np.ndarray) -> None:
         """Step k's inputs for member i from ``pack``, whose row k is (h, b (r), db (r),
-        b_held (r'), db_held (r'), qb, dqb, setpoint, vent)."""
+        b_held (r'), db_held (r'), qb, dqb, setpoint, vent): kept whole as `row`, the
+        segments take their parts from it."""
         if i != self._member:
             self._member, self.qm = i, float(self.run.q[i])
-        v = pack[k].tolist()
-        rf, rr = len(self.lam), len(self.lr)
+        self.row = v = pack[k].tolist()
         self.h = v[0]
-        self.bk, self.dbk = v[1 : 1 + rf], v[1 + rf : 1 + 2 * rf]
-        j = 1 + 2 * rf
-        self.brk, self.dbrk = v[j : j + rr], v[j + rr : j + 2 * rr]
-        self.qbk, self.dqbk, self.sp, self.vt = v[j + 2 * rr :]
+        self.qbk, self.dqbk, self.sp, self.vt = v[-4:]
 
     def qreq(self, s: float, x: list[float], tc: float) -> tuple[float, float]:
         """Heater power that holds the air at tc from state x at offset s, and its rate."""
         return self._qreq(s, x[1:], tc)
 
-    def _qreq(self, s: float, xr: list[float], tc: float) -> tuple[float, float]:
+    def _qreq_many(self, s: float, xr: list[float], tc: float) -> tuple[float, float]:
         """`qreq` from the temperatures of the nodes other than the air, xr."""
         frac = s / self.h
         q = self.qbk + self.dqbk * frac + tc * self.gsum
         dq = self.dqbk / self.h
+        j, rr = self._jr, len(self.lr)
+        brk, dbrk = self.row[j : j + rr], self.row[j + rr : j + 2 * rr]
         for la, row, bi, di, ci, wi in zip(
-            self.lr, self.wr, self.brk, self.dbrk, self.bc, self.wq, strict=True
+            self.lr, self.wr, brk, dbrk, self.bc, self.wq, strict=True
         ):
             zi = sum(map(_mul, row, xr))
             q += wi * zi
             dq += wi * (la * zi + bi + di * frac + ci * tc)
+        return q, dq
+
+    def _qreq_one(self, s: float, xr: list[float], tc: float) -> tuple[float, float]:
+        """`_qreq_many` for one mode with the air held, written out (the same arithmetic)."""
+        h, qbk, dqbk, row, j = self.h, self.qbk, self.dqbk, self.row, self._jr
+        la, _, wi, w0, _, ci, gsum = self._held1
+        frac = s / h
+        q = qbk + dqbk * frac + tc * gsum
+        dq = dqbk / h
+        zi = 0.0 + w0 * xr[0]  # (`sum` starts from 0)
+        q += wi * zi
+        dq += wi * (la * zi + row[j] + row[j + 1] * frac + ci * tc)
         return q, dq
 
     def classify(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
@@ -445,15 +466,17 @@ class _ScalarStep:
         the state, the node-temperature integral over it, heat and vent energy."""
         h, sp, vt, qm = self.h, self.sp, self.vt, self.qm
         rem, ih = h - s, 1.0 / self.h
+        row, rf, rr = self.row, len(self.lam), len(self.lr)
         free = md in (FLOAT, FULL)
         if free:  # modes of the whole network, the heater's share q bq in the forcing
             tq = qm if md == FULL else 0.0
             rows, lam, il, wt, fq = self.w, self.lam, self.il, self.v0, self.bq
-            bk, dbk, xr = self.bk, self.dbk, x
+            bk, dbk, xr = row[1 : 1 + rf], row[1 + rf : 1 + 2 * rf], x
         else:  # the air held at tq: modes of the other nodes, its share tq bc
             tq = sp if md == HOLD else vt
             rows, lam, il, wt, fq = self.wr, self.lr, self.ilr, self.wq, self.bc
-            bk, dbk, xr = self.brk, self.dbrk, x[1:]
+            j = 1 + 2 * rf
+            bk, dbk, xr = row[j : j + rr], row[j + rr : j + 2 * rr], x[1:]
         # modal state z, forcing beta + gam t (t from s); the watched value (the air, or
         # the held power) is g0 + b1 t + sg * sum_i a_i expm1(lam_i t) with a_i = wt_i (z_i +
         # beta_i/lam_i + gam_i/lam_i^2), b1 = -sg sum_i wt_i gam_i/lam_i (`slope`); its
@@ -538,82 +561,132 @@ class _ScalarStep:
 
     def _segment_two(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
         """`_segment` for a network of two nodes (two modes, one with the air held), its
-        sums written out: the same arithmetic in the same order, so the same to the bit."""
-        h, sp, vt, qm = self.h, self.sp, self.vt, self.qm
-        rem, ih = h - s, 1.0 / self.h
+        sums written out: the same arithmetic in the same order, so the same to the bit.
+        The network's constants come unpacked from `_consts2`; `_sphi` is written in, and
+        with no switch its ``expm1`` is the one of the end value ``ew``."""
+        h, b0, b1, d0, d1, br0, dbr0, qbk, dqbk, sp, vt = self.row
+        qm, rem, ih = self.qm, h - s, 1.0 / h
         x0, x1 = x
         if md in (FLOAT, FULL):
             tq = qm if md == FULL else 0.0
-            (w00, w01), (w10, w11) = self.w
-            la, lb = self.lam
-            ia, ib = self.il
-            ca, cb = self.v0
-            ea, eb = self.bq
+            w00, w01, w10, w11, la, lb, ia, ib, ca, cb, ea, eb, v00, v01, v10, v11 = self._free2
             za, zb = w00 * x0 + w01 * x1, w10 * x0 + w11 * x1
-            d0, d1 = self.dbk
             ga, gb = d0 * ih, d1 * ih
-            b0, b1 = self.bk
             ba, bb = b0 + ga * s + tq * ea, b1 + gb * s + tq * eb
             gla, glb = ca * ga * ia, cb * gb * ib
             aa, ab = ca * za + (ca * ba + gla) * ia, cb * zb + (cb * bb + glb) * ib
             slope = 0.0 - gla - glb
             curv = abs(aa) * la * la + abs(ab) * lb * lb
             curv *= rem * rem / 8
-            ew = aa * _expm1(la * rem) + ab * _expm1(lb * rem)
+            ema, emb = _expm1(la * rem), _expm1(lb * rem)
+            ew = aa * ema + ab * emb
             if md == FLOAT:
-                cand = [(1.0, x0 - sp, 0.0)] if qm > 0 else []
-                if vt != _inf:
-                    cand.append((-1.0, vt - x0, 0.0))
+                up = (1.0, x0 - sp, 0.0)  # (sign, value at the start, its rate)
+                if vt == _inf:
+                    cand = (up,) if qm > 0 else ()
+                else:
+                    cand = (up, (-1.0, vt - x0, 0.0)) if qm > 0 else ((-1.0, vt - x0, 0.0),)
             else:
-                cand = [(-1.0, sp - x0, 0.0)]
-            scale = abs(ca * la * za) + abs(ca * ba) + (abs(cb * lb * zb) + abs(cb * bb))
-            noise = abs(ca * za) + abs(ca * ba * ia) + (abs(cb * zb) + abs(cb * bb * ib))
-            noise *= 1e-13
-            root = _earliest(cand, slope, ew, curv, rem, (aa, ab), self.lam, scale, noise)
-            dt = _inf if root >= rem * (1 - 1e-12) else root
-            w = rem if dt == _inf else dt
+                cand = ((-1.0, sp - x0, 0.0),)
+            root, scale = _inf, -1.0
+            for sg, g0, e1 in cand:  # `_earliest` written in
+                b = e1 + sg * slope
+                gw = g0 + b * rem + sg * ew
+                if g0 > 0 and gw > 0 and (gw if gw < g0 else g0) - curv > 0:
+                    continue  # |g''| <= curv / (rem^2 / 8): no way down to 0
+                if scale < 0:  # sizes of g' at 0 and of g's terms (round-off scales)
+                    scale = abs(ca * la * za) + abs(ca * ba) + (abs(cb * lb * zb) + abs(cb * bb))
+                    noise = abs(ca * za) + abs(ca * ba * ia) + (abs(cb * zb) + abs(cb * bb * ib))
+                    noise *= 1e-13
+                rt = _first_root2(
+                    g0,
+                    b,
+                    sg * aa,
+                    sg * ab,
+                    la,
+                    lb,
+                    rem,
+                    gw,
+                    abs(e1) + scale + 1e-300,
+                    noise + 1e-13 * abs(g0),
+                )
+                if rt < root:
+                    root = rt
+            if root >= rem * (1 - 1e-12):
+                dt, w = _inf, rem
+            else:
+                dt = w = root
+                ema, emb = _expm1(la * w), _expm1(lb * w)
             ww, www = w * w, w * w * w
-            e, p1, p2, p3 = _sphi(la * w)
-            z1a, iza = (
-                e * za + w * p1 * ba + ww * p2 * ga,
-                w * p1 * za + ww * p2 * ba + www * p3 * ga,
-            )
-            e, p1, p2, p3 = _sphi(lb * w)
-            z1b, izb = (
-                e * zb + w * p1 * bb + ww * p2 * gb,
-                w * p1 * zb + ww * p2 * bb + www * p3 * gb,
-            )
-            (v00, v01), (v10, v11) = self.v
+            y = la * w
+            if abs(y) < 0.05:
+                e, p1, p2, p3 = _sphi(y)
+            else:
+                p1 = ema / y
+                p2 = (p1 - 1.0) / y
+                e, p3 = _exp(y), (p2 - 0.5) / y
+            z1a = e * za + w * p1 * ba + ww * p2 * ga
+            iza = w * p1 * za + ww * p2 * ba + www * p3 * ga
+            y = lb * w
+            if abs(y) < 0.05:
+                e, p1, p2, p3 = _sphi(y)
+            else:
+                p1 = emb / y
+                p2 = (p1 - 1.0) / y
+                e, p3 = _exp(y), (p2 - 0.5) / y
+            z1b = e * zb + w * p1 * bb + ww * p2 * gb
+            izb = w * p1 * zb + ww * p2 * bb + www * p3 * gb
             xs = [v00 * z1a + v01 * z1b, v10 * z1a + v11 * z1b]
             return dt, xs, [v00 * iza + v01 * izb, v10 * iza + v11 * izb], tq * w, 0.0
         # the air held at tq: one mode of the mass node
         tq = sp if md == HOLD else vt
-        la, ia, c = self.lr[0], self.ilr[0], self.wq[0]
-        za = self.wr[0][0] * x1
-        ga = self.dbrk[0] * ih
-        ba = self.brk[0] + ga * s + tq * self.bc[0]
+        la, ia, c, wr, v, bc, gsum = self._held1
+        za = wr * x1
+        ga = dbr0 * ih
+        ba = br0 + ga * s + tq * bc
         gl = c * ga * ia
         aa = c * za + (c * ba + gl) * ia
         slope = 0.0 - gl
         curv = abs(aa) * la * la
         curv *= rem * rem / 8
-        ew = aa * _expm1(la * rem)
-        dq = self.dqbk / h
-        q0 = self.qbk + dq * s + c * za + tq * self.gsum
-        cand = [(1.0, q0, dq)] if md == HOLD else [(-1.0, -q0, -dq)]
-        if md == HOLD and qm != _inf:
-            cand.append((-1.0, qm - q0, -dq))
-        scale = abs(c * la * za) + abs(c * ba)
-        noise = (abs(c * za) + abs(c * ba * ia)) * 1e-13
-        root = _earliest(cand, slope, ew, curv, rem, (aa,), self.lr, scale, noise)
-        dt = _inf if root >= rem * (1 - 1e-12) else root
-        w = rem if dt == _inf else dt
+        ema = _expm1(la * rem)
+        ew = aa * ema
+        dq = dqbk / h
+        q0 = qbk + dq * s + c * za + tq * gsum
+        if md == HOLD:
+            cand = ((1.0, q0, dq),) if qm == _inf else ((1.0, q0, dq), (-1.0, qm - q0, -dq))
+        else:
+            cand = ((-1.0, -q0, -dq),)
+        root, scale = _inf, -1.0
+        for sg, g0, e1 in cand:  # `_earliest` written in
+            b = e1 + sg * slope
+            gw = g0 + b * rem + sg * ew
+            if g0 > 0 and gw > 0 and (gw if gw < g0 else g0) - curv > 0:
+                continue
+            if scale < 0:
+                scale = abs(c * la * za) + abs(c * ba)
+                noise = (abs(c * za) + abs(c * ba * ia)) * 1e-13
+            rt = _first_root1(
+                g0, b, sg * aa, la, rem, gw, abs(e1) + scale + 1e-300, noise + 1e-13 * abs(g0)
+            )
+            if rt < root:
+                root = rt
+        if root >= rem * (1 - 1e-12):
+            dt, w = _inf, rem
+        else:
+            dt = w = root
+            ema = _expm1(la * w)
         ww, www = w * w, w * w * w
-        e, p1, p2, p3 = _sphi(la * w)
+        y = la * w
+        if abs(y) < 0.05:
+            e, p1, p2, p3 = _sphi(y)
+        else:
+            p1 = ema / y
+            p2 = (p1 - 1.0) / y
+            e, p3 = _exp(y), (p2 - 0.5) / y
         z1a, iza = e * za + w * p1 * ba + ww * p2 * ga, w * p1 * za + ww * p2 * ba + www * p3 * ga
-        v = self.vr[0][0]
-        qb0 = self.qbk + self.dqbk * (s / h)
-        iq = 0.5 * w * (2 * qb0 + self.dqbk * (w / h)) + c * iza + tq * self.gsum * w
+        qb0 = qbk + dqbk * (s / h)
+        iq = 0.5 * w * (2 * qb0 + dqbk * (w / h)) + c * iza + tq * gsum * w
         xs, ix = [tq, v * z1a], [tq * w, v * iza]
         if md == HOLD:
             return dt, xs, ix, iq, 0.0
