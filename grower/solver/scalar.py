@@ -370,6 +370,8 @@ class _ScalarStep:
         self._jr = 1 + 2 * len(self.lam)  # where `row` holds the held modes' forcing
         two = len(self.lam) == 2 and len(self.lr) == 1
         self.segment = self._segment_two if two else self._segment
+        if two:
+            self.classify = self._classify_two  # type: ignore[method-assign]
         self._qreq = self._qreq_one if len(self.lr) == 1 else self._qreq_many
         if len(self.lr) == 1:  # constants of the one mode with the air held
             la, ia, c = self.lr[0], self.ilr[0], self.wq[0]
@@ -459,6 +461,50 @@ class _ScalarStep:
         if md == VENT:
             return [tc, *xr], VENT, 0.0, -q, jh, jv
         return [ta, *xr], FLOAT, 0.0, 0.0, jh, jv
+
+    def _classify_two(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
+        """`classify` for a network of two nodes, `_qreq_one` written in (the same
+        arithmetic and rules)."""
+        tol, sp, vt, qm = _TOL_K, self.sp, self.vt, self.qm
+        ta, x1 = x
+        jh = jv = 0.0
+        if start:
+            if ta > vt + tol:
+                jv, ta = self.c0 * (ta - vt), vt
+            if qm == _inf and ta < sp - tol:
+                jh, ta = self.c0 * (sp - ta), sp
+        if qm > 0 and ta < sp - tol:
+            return [ta, x1], FULL, qm, 0.0, jh, jv
+        at_s = qm > 0 and -tol <= ta - sp <= tol
+        if not at_s and not -tol <= ta - vt <= tol:
+            return [ta, x1], FLOAT, 0.0, 0.0, jh, jv
+        tc = sp if at_s else vt
+        h, row, j = self.h, self.row, self._jr
+        la, _, wi, w0, _, ci, gsum = self._held1
+        frac = s / h
+        q = self.qbk + self.dqbk * frac + tc * gsum  # `_qreq_one`
+        dq = self.dqbk / h
+        zi = 0.0 + w0 * x1
+        q += wi * zi
+        dq += wi * (la * zi + row[j] + row[j + 1] * frac + ci * tc)
+        tolq = self.tolq
+        t0 = -tolq <= q <= tolq
+        vent_ok = q < -tolq or (t0 and dq < 0)
+        md = FLOAT
+        if at_s:
+            if q > qm + tolq or (-tolq <= q - qm <= tolq and dq > 0):
+                return [ta, x1], FULL, qm, 0.0, jh, jv
+            if q > tolq or (t0 and dq >= 0):
+                md = HOLD
+            elif -tol <= sp - vt <= tol and vent_ok:
+                md = VENT
+        elif vent_ok:
+            md = VENT
+        if md == HOLD:
+            return [tc, x1], HOLD, q, 0.0, jh, jv
+        if md == VENT:
+            return [tc, x1], VENT, 0.0, -q, jh, jv
+        return [ta, x1], FLOAT, 0.0, 0.0, jh, jv
 
     def _segment(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
         """Mode md from offset s and node temperatures x to its next switch (or the step's
@@ -707,25 +753,25 @@ class _ScalarStep:
         ``out`` as ``(k, mode, heat_w, vent_w, heat_j, vent_j, temp_integral, end state)``.
         ``pre``: `classify` of x at the step's start, with step k's inputs already loaded.
         """
-        rn = self.run
+        rn, segment, classify = self.run, self.segment, self.classify
         if pre is None:
             self.inputs(k, i, pack)
-            pre = self.classify(0.0, x, start=True)
+            pre = classify(0.0, x, start=True)
         x, md, heat, vent, eh, ev = pre
         md0 = md
         if eh > 0 or ev > 0:
             rn.scalar_events.append((i, k, 0.0, md, x))
-        s, ti = 0.0, [0.0] * len(x)
-        for _ in range(_MAX_SWITCHES):
-            dt, x, ix, e1, e2 = self.segment(s, x, md)
+        dt, x, ti, e1, e2 = segment(0.0, x, md)
+        eh, ev = eh + e1, ev + e2
+        s, n = 0.0, 1  # n: the segments so far
+        while dt != _inf:
+            if n == _MAX_SWITCHES:
+                raise RuntimeError(f"thermostat: more than {_MAX_SWITCHES} switches in step {k}")
+            s, n = s + dt, n + 1
+            x, md, _, _, _, _ = classify(s, x, start=False)
+            rn.scalar_events.append((i, k, s, md, x))
+            dt, x, ix, e1, e2 = segment(s, x, md)
             eh, ev = eh + e1, ev + e2
             ti = list(map(_add, ti, ix))
-            if dt == _inf:
-                break
-            s += dt
-            x, md, _, _, _, _ = self.classify(s, x, start=False)
-            rn.scalar_events.append((i, k, s, md, x))
-        else:
-            raise RuntimeError(f"thermostat: more than {_MAX_SWITCHES} switches in step {k}")
         out.append((k, md0, heat, vent, eh, ev, ti, x))
         return x, md
