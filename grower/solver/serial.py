@@ -464,7 +464,7 @@ def _cuts(same: np.ndarray | None, steps: int) -> np.ndarray:
     if same is None:
         return np.full(steps, steps)
     change = np.append(np.flatnonzero(~same), steps)  # increasing, the first >= 1
-    return np.repeat(change, np.diff(change, prepend=0))  # k in [c_i-1, c_i) -> c_i
+    return np.repeat(change, np.diff(change, prepend=0))  # k in [c_(i-1), c_i) -> c_i
 
 
 def _put_columns(dst: np.ndarray, rows: np.ndarray, cols: np.ndarray, first: int) -> None:
