@@ -133,3 +133,25 @@ def test_an_older_calibration_is_refused_and_tonight_runs_on_the_geometry(capsys
     assert main([*argv, "--no-calibration", "--json"]) == 0
     [ignored] = [a for a in json.loads(capsys.readouterr().out)["assumptions"] if "[cal" in a]
     assert "ignored (--no-calibration)" in ignored
+
+
+def test_time_to_the_alarm_agrees_with_the_clock_times_shown(capsys, monkeypatch):
+    # "reaches … at 18:28, 2 h 28 min after the start (16:00)": the span is the difference
+    # of the two clock times on the screen (both cut to the minute), never a minute more
+    import datetime as dt
+    import re
+
+    monkeypatch.setenv("COLUMNS", "200")
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", NIGHT]
+    assert main([*argv, "--start", "2026-12-03T16:00"]) == 0
+    out = capsys.readouterr().out
+    m = re.search(
+        r"at (\d\d):(\d\d), (?:(\d+)\s+h\s+)?(\d+)\s+min after the start \((\d\d):(\d\d)\)", out
+    )
+    assert m, out
+    hh, mm, h, mi, sh, sm = (int(g or 0) for g in m.groups())
+    shown = dt.timedelta(hours=hh, minutes=mm) - dt.timedelta(hours=sh, minutes=sm)
+    assert shown == dt.timedelta(hours=h, minutes=mi)
+    doc = _tonight(capsys, NIGHT, "--inside-now", "3C", "--soil-now", "6C")
+    crossing = dt.datetime.fromisoformat(doc["crossing_time"])
+    assert crossing.strftime("%H:%M") == f"{hh:02d}:{mm:02d}" and crossing.second > 30

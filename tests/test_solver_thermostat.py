@@ -326,3 +326,24 @@ def test_larger_heater_never_colder(out, q1, extra):
     small = solver.thermostat(net, t, u, [9.0, 9.0], 10.0, q1, 20.0)
     big = solver.thermostat(net, t, u, [9.0, 9.0], 10.0, q1 + extra, 20.0)
     assert np.all(big.temps_c >= small.temps_c - 1e-8)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.floats(-20.0, -1e-7), st.floats(1.0, 3600.0))
+def test_chord_gap_is_the_exponentials_largest_gap_from_its_chord(lam_h, h):
+    # analytic: e^(lam t) is convex, its chord lies above it; the largest gap, on a dense
+    # grid, is what the window may take off (never less), and at most the general
+    # curvature bound (lam h)^2/8 (interpolation error of a linear chord)
+    from grower.solver.serial import _GAP_SERIES, _chord_gap
+
+    lam = lam_h / h
+    t = np.linspace(0.0, h, 20001)
+    chord = 1.0 + (math.exp(lam * h) - 1.0) * t / h
+    grid = float((chord - np.exp(lam * t)).max())
+    gap = float(_chord_gap(np.array([lam]), h)[0]) * lam * lam
+    assert grid <= gap * (1 + 1e-9) + 1e-15
+    assert gap <= (lam * h) ** 2 / 8 * (1 + 1e-12)
+    if -lam_h >= _GAP_SERIES:  # the closed form: close, nothing left on the table
+        assert gap <= grid + 1e-6 * (lam * h) ** 2 + 1e-12
+    else:  # slow modes keep the general bound
+        assert gap == pytest.approx((lam * h) ** 2 / 8, rel=1e-12)

@@ -535,3 +535,18 @@ def test_fuel_unit_asked_for_is_kept_on_either_screen(capsys, units, fuel_unit):
     assert (" gal of propane" if units == "us" else " L of propane") in plain
     doc = run_json(capsys, *argv, "--fuel-unit", fuel_unit)
     assert doc["fuel"]["unit"] == fuel_unit
+
+
+def test_cost_line_gives_the_price_per_the_unit_shown(capsys, monkeypatch):
+    # the example's price is 0.85 per litre; a US screen shows the amounts in gallons, so
+    # the price is per gallon too: 1 US gal = 3.785411784 L exactly (NIST SP 811, B.8),
+    # 0.85 × 3.785411784 = 3.2176. The cost itself does not depend on the screen.
+    argv = ["stock", "examples/gable-house.toml", "--setpoint", "8C", "--forecast", SNAP]
+    monkeypatch.setenv("COLUMNS", "200")  # the cost line on one line
+    costs = {}
+    for units, price in (("metric", "0.85 per L"), ("us", "3.22 per gal")):
+        assert main([*argv, "--units", units]) == 0
+        out = capsys.readouterr().out
+        assert f"at {price}" in out
+        costs[units] = out.split(", cost ")[1].split(" at ")[0]
+    assert costs["metric"] == costs["us"]

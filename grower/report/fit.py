@@ -11,8 +11,8 @@ from grower.fit import FitResult, ModelFit, Parameter, calibration_values
 from grower.fit.estimate import CONFIDENCE
 from grower.report import chart
 from grower.report.common import NARROW, data_table, plain
+from grower.report.quantities import capacity_text
 from grower.units import (
-    J_PER_BTU,
     UnitSystem,
     note_text,
     show_conductance,
@@ -55,8 +55,6 @@ NARROW_SHORT = {
     "heater_output_w": "heater",
     "sun_factor": "sun factor",
 }
-#: 1 Btu/°F in J/K
-J_PER_K_PER_BTU_F = J_PER_BTU * 1.8
 
 
 def _iso(t: dt.datetime | None) -> str | None:
@@ -170,9 +168,7 @@ def _show(name: str, value: float, system: UnitSystem) -> str:
     if name in ("k_w_per_k", "k_outside_w_per_k", "k_sky_w_per_k", "coupling_w_per_k"):
         return show_conductance(value, system).text(0)
     if name == "c_j_per_k":
-        if system == "us":
-            return f"{value / J_PER_K_PER_BTU_F / 1e3:,.1f} kBtu/°F"
-        return f"{value / 1e6:,.1f} MJ/K"
+        return capacity_text(value, system)
     if name == "heater_output_w":
         s = show_power(value, system)
         return s.text(0) if system == "us" else s.text(1)

@@ -244,7 +244,8 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
         f"({_when(r.start)} to {_when(r.end)})"
     )
     if r.cost is not None:
-        head += f", cost {r.cost:,.2f} at {r.price:,.2f} per {r.fuel.unit}"
+        # the price per the unit the amounts are shown in (it is given per the unit bought)
+        head += f", cost {r.cost:,.2f} at {r.price / per:,.2f} per {unit}"
     plain(console, head, "bold")
     if lasts and r.shortfalls:
         plain(console, lasts)

@@ -179,8 +179,12 @@ def by_urgency(docs: list[dict[str, Any]]) -> list[dict[str, Any]]:
     return sorted(docs, key=key)
 
 
-def _span(seconds: float) -> str:
-    minutes = int(round(seconds / 60.0))
+def _span(t: dt.datetime, ref: dt.datetime) -> str:
+    """ "2 h 28 min" from `ref` to `t`, between the clock minutes the screen shows (both cut
+    to the minute, as `_clock` writes them): 16:00 and 18:28 are 2 h 28 min apart on the
+    screen even when the crossing is at 18:28:40."""
+    cut = lambda x: x.replace(second=0, microsecond=0)  # noqa: E731
+    minutes = int((cut(t) - cut(ref)).total_seconds() // 60)
     h, m = divmod(minutes, 60)
     return f"{h}\u00a0h\u00a0{m:02d}\u00a0min" if h else f"{m}\u00a0min"  # never split
 
@@ -275,7 +279,7 @@ def _verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None 
     return (
         f"With no heat: {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
         f"{_clock(v.crossing_time, r.start)}, "
-        f"{_span((v.crossing_time - ref).total_seconds())} {rel}; coldest plants "
+        f"{_span(v.crossing_time, ref)} {rel}; coldest plants "
         f"{T(v.min_plant_c)}"
     )
 

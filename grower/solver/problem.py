@@ -169,7 +169,10 @@ def _problem(
     quantum = 4.0 * float(np.spacing(np.max(np.abs(t[[0, -1]]))))
     steps = np.diff(t)
     hq = np.round(steps / quantum) * quantum
-    hu, kind = np.unique(hq, return_inverse=True)
+    if (hq == hq[0]).all():  # one step length, the common case: no sort
+        hu, kind = hq[:1].copy(), np.zeros(hq.size, dtype=np.intp)
+    else:
+        hu, kind = np.unique(hq, return_inverse=True)
     hu = np.maximum(hu, np.finfo(float).tiny)
     full = network.modes
     return _Problem(
