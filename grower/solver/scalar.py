@@ -8,7 +8,8 @@ two modes) and found by Halley steps (Newton's with the curvature, which g has a
 extra cost) kept inside the bracket, else bisection. For one member numpy's per-call
 overhead would dominate such tiny arrays, so this is plain ``math``; for a network of two
 nodes (two modes, one with the air held) the sums over the modes are written out, in the
-same order as the general loops (the same results to the bit).
+same order as the general loops (the same results to the bit), and so is the root search
+for one and two modes, Halley's steps included (`_first_root1`, `_first_root2`).
 
 References
 ----------
@@ -133,31 +134,6 @@ def _halley2(g0, b1, a0, a1, l0, l1, k0, k1, a, b, fa, fb) -> float:  # type: ig
             return xn
         x = xn
     return x
-
-
-def _earliest(cand, slope, ew, curv, rem, coeffs, lam, scale, noise) -> float:
-    """The first root within `rem` [s] of the candidate switching functions `cand`
-    (sign, value at the start, its rate), each the linear part plus the modes' terms
-    `coeffs` (times the sign); inf where none. A candidate that stays positive by more
-    than its curvature bound `curv` over the step has none (no search)."""
-    root = _inf
-    for sg, g0, e1 in cand:
-        gw = g0 + (e1 + sg * slope) * rem + sg * ew
-        if g0 > 0 and gw > 0 and min(g0, gw) - curv > 0:
-            continue
-        rt = _first_root(
-            g0,
-            e1 + sg * slope,
-            [sg * a for a in coeffs],
-            lam,
-            rem,
-            gw,
-            abs(e1) + scale + 1e-300,
-            noise + 1e-13 * abs(g0),
-        )
-        if rt < root:
-            root = rt
-    return root
 
 
 def _first_root(
@@ -635,7 +611,7 @@ class _ScalarStep:
             else:
                 cand = ((-1.0, sp - x0, 0.0),)
             root, scale = _inf, -1.0
-            for sg, g0, e1 in cand:  # `_earliest` written in
+            for sg, g0, e1 in cand:  # as in `_segment`, the modes written out
                 b = e1 + sg * slope
                 gw = g0 + b * rem + sg * ew
                 if g0 > 0 and gw > 0 and (gw if gw < g0 else g0) - curv > 0:
@@ -704,7 +680,7 @@ class _ScalarStep:
         else:
             cand = ((-1.0, -q0, -dq),)
         root, scale = _inf, -1.0
-        for sg, g0, e1 in cand:  # `_earliest` written in
+        for sg, g0, e1 in cand:  # as in `_segment`, the modes written out
             b = e1 + sg * slope
             gw = g0 + b * rem + sg * ew
             if g0 > 0 and gw > 0 and (gw if gw < g0 else g0) - curv > 0:
