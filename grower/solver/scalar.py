@@ -45,7 +45,7 @@ def _newton(
     """Root in [a, b] of f, f(a) and f(b) of opposite sign: steps ``x - f/d`` (``fd(s) ->
     (f, d)``, d = f' for Newton's) kept inside a shrinking bracket, else bisection; with
     ``fb`` it starts from the secant instead of the midpoint (Numerical Recipes sec. 9.4).
-    (`_halley1`, `_halley2`: this loop for one and two modes, with their ``fd`` written in.)"""
+    (`_halley2`: this loop for one and two modes, with their ``fd`` written in.)"""
     lo, hi, pos = a, b, fa > 0
     x = _start(a, b, fa, fb)
     tol = 1e-13 * (b - a) + 1e-300
@@ -78,38 +78,11 @@ def _start(a: float, b: float, fa: float, fb: float | None) -> float:
     return 0.5 * (a + b)
 
 
-def _halley1(g0, b1, a0, l0, k0, a, b, fa, fb) -> float:  # type: ignore[no-untyped-def]
-    """`_newton` with Halley's step on ``g(s) = g0 + b1 s + a0 expm1(l0 s)`` (one mode,
-    ``k0 = a0 l0^2``), the step written in: the general ``fd``'s arithmetic, to the bit.
-    Every point lies in the bracket, so lo <= hi throughout (`_newton`'s ``min(lo, hi)``
-    and ``max(lo, hi)``)."""
-    al0 = a0 * l0
-    lo, hi, pos = a, b, fa > 0
-    x = _start(a, b, fa, fb)
-    tol = 1e-13 * (b - a) + 1e-300
-    for _ in range(200):
-        em0 = _expm1(l0 * x)
-        fx = g0 + b1 * x + a0 * em0
-        if fx == 0:
-            return x
-        d = b1 + al0 * (em0 + 1.0)
-        if d:  # Halley's: g' - g g'' / (2 g')
-            d -= fx * (0.0 + k0 * (em0 + 1.0)) / (2 * d)
-        if (fx > 0) == pos:
-            lo = x
-        else:
-            hi = x
-        xn = x - fx / d if d != 0 else math.nan
-        if not (lo < xn < hi) and xn != x:
-            xn = 0.5 * (lo + hi)  # out of the bracket: bisection (see `_newton`)
-        if abs(xn - x) <= tol or abs(hi - lo) <= tol:
-            return xn
-        x = xn
-    return x
-
-
 def _halley2(g0, b1, a0, a1, l0, l1, k0, k1, a, b, fa, fb) -> float:  # type: ignore[no-untyped-def]
-    """`_halley1` for two modes, ``g(s) = g0 + b1 s + a0 expm1(l0 s) + a1 expm1(l1 s)``."""
+    """`_newton` with Halley's step on ``g(s) = g0 + b1 s + a0 expm1(l0 s) + a1 expm1(l1 s)``
+    (``k_i = a_i l_i^2``), the step written in: the general ``fd``'s arithmetic, to the bit.
+    One mode is two with ``a1 = l1 = k1 = 0`` (its terms add zeros). Every point lies in
+    the bracket, so lo <= hi throughout (`_newton`'s ``min(lo, hi)`` and ``max(lo, hi)``)."""
     al0, al1 = a0 * l0, a1 * l1
     lo, hi, pos = a, b, fa > 0
     x = _start(a, b, fa, fb)
@@ -235,8 +208,6 @@ def _in_pieces(g0, b1, a, lam, k2, br, gv, noise) -> float:  # type: ignore[no-u
             fb = gb if ga > 1e-250 else None
             if len(lam) == 2:
                 return _halley2(g0, b1, *a, *lam, *k2, lo, hi, ga, fb)
-            if len(lam) == 1:
-                return _halley1(g0, b1, *a, *lam, *k2, lo, hi, ga, fb)
             return _newton(fd, lo, hi, ga, fb)
         da = dd(lo)[0]
         if da >= 0:  # a dip below 0 needs g to head down first, then up
@@ -253,32 +224,10 @@ def _in_pieces(g0, b1, a, lam, k2, br, gv, noise) -> float:  # type: ignore[no-u
 
 
 def _first_root1(g0, b1, a0, l0, w, gw, scale, noise) -> float:  # type: ignore[no-untyped-def]
-    """`_first_root` for one mode, ``g(s) = g0 + b1 s + a0 expm1(l0 s)``, written out (the
-    same arithmetic): no inflection point, one piece."""
-    k0 = a0 * l0 * l0
-    d0, tie = b1 + (0.0 + a0 * l0), 1e-12 * scale  # (`sum` starts from 0)
-    down = g0 <= 0 and (d0 < -tie or (d0 <= tie and k0 < 0))
-    if gw > 0 and g0 > -noise and not down:
-        if k0 > 0:
-            y = l0 * w
-            p2 = 0.5 + y * _series3(y) if abs(y) < 0.05 else (_expm1(y) / y - 1.0) / y
-            cq = 0.0 + k0 * p2 * (1 - 1e-12)
-        else:
-            cq = 0.0 + 0.5 * k0
-        if _no_dip(g0, d0, cq, w, noise):
-            return _inf
-    ga = g0
-    if g0 <= 0:
-        if down:
-            return 0.0
-        ga = 1e-300  # just entered: g(0) counts as +0
-    if w <= 0:  # (no piece to search)
-        return _inf
-    if gw <= 0:
-        if gw == 0:
-            return w
-        return _halley1(g0, b1, a0, l0, k0, 0.0, w, ga, gw if ga > 1e-250 else None)
-    return _in_pieces(g0, b1, [a0], [l0], [k0], [0.0, w], [ga, gw], noise)
+    """`_first_root` for one mode, ``g(s) = g0 + b1 s + a0 expm1(l0 s)``: `_first_root2`
+    with a second mode of zero amplitude and rate (its terms add zeros, the same arithmetic;
+    no inflection point, one piece)."""
+    return _first_root2(g0, b1, a0, 0.0, l0, 0.0, w, gw, scale, noise)
 
 
 def _first_root2(g0, b1, a0, a1, l0, l1, w, gw, scale, noise) -> float:  # type: ignore[no-untyped-def]
