@@ -507,12 +507,7 @@ class _ScalarStep:
         ww, www = w * w, w * w * w
         for la, zi, bi, gi in zip(lam, z, beta, gam, strict=True):
             y = la * w
-            if abs(y) < 0.05:
-                e, p1, p2, p3 = _sphi(y)
-            else:  # `_sphi` written out: the common case, one call less per mode
-                p1 = _expm1(y) / y
-                p2 = (p1 - 1.0) / y
-                e, p3 = _exp(y), (p2 - 0.5) / y
+            e, p1, p2, p3 = _sphi(y)
             z1.append(e * zi + w * p1 * bi + ww * p2 * gi)
             iz.append(w * p1 * zi + ww * p2 * bi + www * p3 * gi)
         tv = self.v if free else self.vr
@@ -590,21 +585,11 @@ class _ScalarStep:
                 ema, emb = _expm1(la * w), _expm1(lb * w)
             ww, www = w * w, w * w * w
             y = la * w
-            if abs(y) < 0.05:
-                e, p1, p2, p3 = _sphi(y)
-            else:
-                p1 = ema / y
-                p2 = (p1 - 1.0) / y
-                e, p3 = _exp(y), (p2 - 0.5) / y
+            e, p1, p2, p3 = _sphi(y, ema)
             z1a = e * za + w * p1 * ba + ww * p2 * ga
             iza = w * p1 * za + ww * p2 * ba + www * p3 * ga
             y = lb * w
-            if abs(y) < 0.05:
-                e, p1, p2, p3 = _sphi(y)
-            else:
-                p1 = emb / y
-                p2 = (p1 - 1.0) / y
-                e, p3 = _exp(y), (p2 - 0.5) / y
+            e, p1, p2, p3 = _sphi(y, emb)
             z1b = e * zb + w * p1 * bb + ww * p2 * gb
             izb = w * p1 * zb + ww * p2 * bb + www * p3 * gb
             xs = [v00 * z1a + v01 * z1b, v10 * z1a + v11 * z1b]
@@ -649,12 +634,7 @@ class _ScalarStep:
             ema = _expm1(la * w)
         ww, www = w * w, w * w * w
         y = la * w
-        if abs(y) < 0.05:
-            e, p1, p2, p3 = _sphi(y)
-        else:
-            p1 = ema / y
-            p2 = (p1 - 1.0) / y
-            e, p3 = _exp(y), (p2 - 0.5) / y
+        e, p1, p2, p3 = _sphi(y, ema)
         z1a, iza = e * za + w * p1 * ba + ww * p2 * ga, w * p1 * za + ww * p2 * ba + www * p3 * ga
         qb0 = qbk + dqbk * (s / h)
         iq = 0.5 * w * (2 * qb0 + dqbk * (w / h)) + c * iza + tq * gsum * w

@@ -220,14 +220,14 @@ def _series3(x: float) -> float:
     return s3 * x + _R3
 
 
-def _sphi(x: float) -> tuple[float, float, float, float]:
+def _sphi(x: float, em: float | None = None) -> tuple[float, float, float, float]:
     """Scalar `_phi123` (series below |x| = 0.05, `_series3`, with ``phi2 = 1/2 + x phi3``
-    and ``phi1 = 1 + x phi2``)."""
+    and ``phi1 = 1 + x phi2``); ``em``: ``expm1(x)`` if the caller has it already."""
     if abs(x) < 0.05:
         s3 = _series3(x)
         s2 = 0.5 + x * s3
         return math.exp(x), 1.0 + x * s2, s2, s3
-    p1 = math.expm1(x) / x
+    p1 = (math.expm1(x) if em is None else em) / x
     p2 = (p1 - 1.0) / x
     return math.exp(x), p1, p2, (p2 - 0.5) / x
 
