@@ -38,7 +38,7 @@ sys.path.insert(0, str(ROOT))  # run from a checkout without installing, like th
 
 
 def invented_forecast(site, days: int):
-    from grower.weather.forecast import COLUMNS, _make, _zone_offsets
+    from grower.weather.forecast import COLUMNS, make_forecast, zone_offsets
 
     start = pd.Timestamp("2025-11-01T00:00", tz=site.timezone)
     t = pd.date_range(start, periods=days * 24 + 1, freq="h")
@@ -56,9 +56,9 @@ def invented_forecast(site, days: int):
     from zoneinfo import ZoneInfo
 
     tz = ZoneInfo(site.timezone)
-    return _make(
+    return make_forecast(
         utc,
-        _zone_offsets(utc, tz),
+        zone_offsets(utc, tz),
         values,
         set(COLUMNS) & set(values),
         tz=tz,

@@ -14,7 +14,7 @@ import tomllib
 from dataclasses import replace
 from typing import Any
 
-from grower.crops import _RANK, BASES, KINDS, Crop, Origin, Stage, Threshold, _key
+from grower.crops import BASES, KINDS, RANK, Crop, Origin, Stage, Threshold, lookup_key
 from grower.errors import InputError, did_you_mean
 from grower.units import f_to_c
 
@@ -108,7 +108,7 @@ def _threshold(entry: Any, kind: str, sources: dict[str, str], where: str) -> Th
 def _check_order(found: dict[str, Threshold], where: str) -> None:
     for warm in found.values():
         for cold in found.values():
-            if _RANK[warm.kind] < _RANK[cold.kind] and warm.value_c < cold.value_c:
+            if RANK[warm.kind] < RANK[cold.kind] and warm.value_c < cold.value_c:
                 raise InputError(
                     f"{warm.kind} ({warm.printed_value:g} {warm.printed_unit}) is colder than "
                     f"{cold.kind} ({cold.printed_value:g} {cold.printed_unit}); thresholds must "
@@ -168,7 +168,7 @@ def parse_crop(text: str, where: str, *, origin: Origin = "shipped") -> Crop:
     stages = tuple(_stage(t, sources, f"{where}: stage[{i}]") for i, t in enumerate(tables))
     seen: dict[str, str] = {}
     for stage in stages:
-        own = {_key(label): label for label in (stage.name, *stage.aliases)}
+        own = {lookup_key(label): label for label in (stage.name, *stage.aliases)}
         for key, label in own.items():
             if key in seen:
                 raise InputError(
@@ -182,7 +182,7 @@ def parse_crop(text: str, where: str, *, origin: Origin = "shipped") -> Crop:
             raise InputError('missing "default_stage" (there is more than one stage)', where=where)
         default = stages[0].name
     default = _text(default, f"{where}: default_stage")
-    if _key(default) not in seen:
+    if lookup_key(default) not in seen:
         names = [s.name for s in stages]
         raise InputError(
             f'default_stage "{default}" is not a stage{did_you_mean(default, names)}; '
@@ -192,7 +192,7 @@ def parse_crop(text: str, where: str, *, origin: Origin = "shipped") -> Crop:
     return Crop(
         name=name,
         stages=stages,
-        default_stage=seen[_key(default)],
+        default_stage=seen[lookup_key(default)],
         aliases=_texts(doc.get("aliases", []), f"{where}: aliases"),
         group=_text(doc.get("group", ""), f"{where}: group", empty_ok=True),
         note=_text(doc.get("note", ""), f"{where}: note", empty_ok=True),

@@ -41,7 +41,7 @@ MARGIN_BASIS = "common practice, no source"
 
 #: threshold kinds, warm to cold; rank = position in the required ordering
 KINDS = ("chill", "damage", "severe", "kill_10", "kill", "kill_90")
-_RANK = {"chill": 0, "damage": 1, "severe": 2, "kill_10": 2, "kill": 3, "kill_90": 3}
+RANK = {"chill": 0, "damage": 1, "severe": 2, "kill_10": 2, "kill": 3, "kill_90": 3}
 LABELS = {
     "chill": "chilling",
     "damage": "damage",
@@ -123,9 +123,9 @@ class Crop:
     def stage(self, name: str | None = None) -> Stage:
         """The named stage (forgiving case, plurals, aliases), or the default one."""
         wanted = self.default_stage if name is None or not name.strip() else name
-        key = _key(wanted)
+        key = lookup_key(wanted)
         for stage in self.stages:
-            if key in {_key(n) for n in (stage.name, *stage.aliases)}:
+            if key in {lookup_key(n) for n in (stage.name, *stage.aliases)}:
                 return stage
         names = [s.name for s in self.stages]
         raise InputError(
@@ -177,7 +177,7 @@ class CropBook:
 
     def get(self, name: str) -> Crop | None:
         """The crop called `name` (or an alias, any case, plural), else None."""
-        return self.index.get(_key(name))
+        return self.index.get(lookup_key(name))
 
     def find(self, name: str) -> Crop:
         """Like `get`, but an unknown name is an `InputError` with a suggestion."""
@@ -198,9 +198,11 @@ class CropBook:
 
     def search(self, query: str) -> tuple[Crop, ...]:
         """Crops whose name, alias or group contains `query` (forgiving)."""
-        key = _key(query)
+        key = lookup_key(query)
         return tuple(
-            c for c in self.crops if any(key in _key(n) for n in (c.name, *c.aliases, c.group) if n)
+            c
+            for c in self.crops
+            if any(key in lookup_key(n) for n in (c.name, *c.aliases, c.group) if n)
         )
 
 
@@ -217,7 +219,7 @@ def _singular(word: str) -> str:
     return word
 
 
-def _key(text: str) -> str:
+def lookup_key(text: str) -> str:
     """Lookup key: lower case, no separators, last word singular."""
     words = re.sub(r"[\s_\-./]+", " ", text.strip().lower()).split()
     if words:
@@ -229,14 +231,14 @@ def _build_index(crops: Iterable[Crop]) -> dict[str, Crop]:
     index: dict[str, Crop] = {}
     for crop in crops:
         for name in (crop.name, *crop.aliases):
-            other = index.get(_key(name))
+            other = index.get(lookup_key(name))
             if other is not None and other is not crop:
                 raise InputError(
                     f'"{name}" names both "{other.name}" ({other.path}) and "{crop.name}"; '
                     "rename one or drop the alias",
                     where=crop.path,
                 )
-            index[_key(name)] = crop
+            index[lookup_key(name)] = crop
     return index
 
 
@@ -273,7 +275,7 @@ def _read_dir(directory: Path, origin: Origin) -> list[Crop]:
         except UnicodeDecodeError:
             raise InputError("not UTF-8 text", where=where) from None
         crop = parse_crop(text, where, origin=origin)
-        key = _key(crop.name)
+        key = lookup_key(crop.name)
         if key in crops:
             raise InputError(
                 f'crop "{crop.name}" is also defined in {crops[key].path}', where=where
@@ -323,7 +325,7 @@ def load_crops(
         All crops, a later file replacing an earlier crop of the same name (its
         ``overrides`` names the file it replaced).
     """
-    merged: dict[str, Crop] = {_key(c.name): c for c in _shipped(str(shipped_crops_dir()))}
+    merged: dict[str, Crop] = {lookup_key(c.name): c for c in _shipped(str(shipped_crops_dir()))}
     for directory, required in _layers(crops_dir, user_dir):
         if not directory.exists():
             if required:
@@ -332,7 +334,7 @@ def load_crops(
         if not directory.is_dir():
             raise InputError(f'"{directory}" is not a directory', where="crops directory")
         for crop in _read_dir(directory, "user"):
-            key = _key(crop.name)
+            key = lookup_key(crop.name)
             if key in merged:
                 crop = replace(crop, overrides=merged[key].path)
             merged[key] = crop
@@ -374,7 +376,7 @@ def load_crop(
     from grower.cropfile import parse_crop  # grower.cropfile builds this module's types
 
     name = spec.partition(":")[0]
-    key = _key(name)
+    key = lookup_key(name)
     root = shipped_crops_dir()
     shipped = None
     if root.is_dir():
@@ -384,7 +386,7 @@ def load_crop(
             names = _raw_names(file.read_bytes().decode("utf-8", errors="replace"))
             if names is None:
                 return load_crops(crops_dir, user_dir=user_dir).resolve(spec)
-            if key in {_key(n) for n in names}:
+            if key in {lookup_key(n) for n in names}:
                 shipped = file
                 break
     if shipped is None or any(d.exists() or req for d, req in _layers(crops_dir, user_dir)):

@@ -21,7 +21,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from grower.solver import explin, scalar
-from grower.solver.stepping import _phi123, _sphi
+from grower.solver.stepping import phi123, phi123_scalar
 
 
 def _phi_reference(x: float) -> tuple[float, float, float, float]:
@@ -40,12 +40,12 @@ def _phi_reference(x: float) -> tuple[float, float, float, float]:
 
 @pytest.mark.parametrize("x", [-3.0, -0.7, -0.0501, -0.0499, -0.02, -1e-3, -1e-6, 0.01, 0.049])
 def test_phi_functions_against_decimal_arithmetic(x):
-    got, ref = _sphi(x), _phi_reference(x)
+    got, ref = phi123_scalar(x), _phi_reference(x)
     # e and phi1 to a few ulp; phi2, phi3 outside the series lose ~|x|^-1, |x|^-2 ulp to
     # cancellation near |x| = 0.05 (~2e-15, ~1e-13); the series below keeps a few ulp
     for g, r, tol in zip(got, ref, (4e-16, 4e-16, 4e-15, 2e-13), strict=True):
         assert abs(g - r) <= tol * abs(r)
-    many = _phi123(np.full(40, x))  # the array formula, for more than 16 values at once
+    many = phi123(np.full(40, x))  # the array formula, for more than 16 values at once
     for g, r in zip(many, got, strict=True):
         assert np.allclose(g, r, rtol=2e-13, atol=0)
 
@@ -76,7 +76,7 @@ def test_newton_converging_from_one_side_stops_at_the_root():
         lo, hi = (mid, hi) if fd(mid)[0] > 0 else (lo, mid)
     assert root == pytest.approx(0.5 * (lo + hi), abs=3e-11)
     calls.clear()
-    roots = explin._solve(fd, np.zeros(2), np.full(2, 300.0), np.full(2, g0))
+    roots = explin.safe_newton(fd, np.zeros(2), np.full(2, 300.0), np.full(2, g0))
     assert np.allclose(roots, root, rtol=0, atol=3e-11) and len(calls) <= 8
 
 
@@ -141,7 +141,7 @@ def test_first_root_against_a_fine_grid_and_brentq(g0, z, b, c, rates):
     r = lam.size
     z, b, c = np.array(z[:r]), np.array(b[:r]), np.array(c[:r])
     w = 300.0
-    el = explin._ExpLin(lam, z[None], b[None], c[None], np.array([g0]), np.zeros(1), np.full(1, w))
+    el = explin.ExpLin(lam, z[None], b[None], c[None], np.array([g0]), np.zeros(1), np.full(1, w))
 
     def g(s: float) -> float:
         return float(el.val(np.array([s]))[0])
@@ -224,9 +224,9 @@ def test_profile_with_newton_steps_first_agrees_with_the_bracketed_search(g0, z,
     r = lam.size
     z, b, c = (np.array(v).reshape(8, 3)[:, :r] for v in (z, b, c))
     w = np.full(8, 450.0)
-    el = explin._ExpLin(lam, z, b, c, np.array(g0), np.array(e1), w)
-    f0, m0, s0, b0 = explin._profile(el)
-    f1, m1, s1, b1 = explin._profile(el, explin.NEWTON_STEPS)
+    el = explin.ExpLin(lam, z, b, c, np.array(g0), np.array(e1), w)
+    f0, m0, s0, b0 = explin.step_profile(el)
+    f1, m1, s1, b1 = explin.step_profile(el, explin.NEWTON_STEPS)
     scale = 1e-12 * (np.abs(z).sum(1) + np.abs(b / lam).sum(1) + np.abs(g0) + 1.0)
     np.testing.assert_allclose(m1, m0, rtol=0, atol=1e-11)
     assert np.all(np.abs(el.val(s1[:, None])[:, 0] - m1) <= 10 * scale)

@@ -286,7 +286,7 @@ def test_two_node_split_steps_are_the_general_ones_to_the_bit(monkeypatch):
     args = (net, t, np.stack([u] * 3), [[10.0, 10.0], [6.0, 9.0], [30.0, 11.0]], sp)
     rest = (np.array([14000.0, 9000.0, np.inf]), vent, p)
     fast = solver.thermostat(*args, *rest)
-    monkeypatch.setattr(scalar._ScalarStep, "_segment_two", scalar._ScalarStep._segment)
+    monkeypatch.setattr(scalar.ScalarStep, "_segment_two", scalar.ScalarStep._segment)
     general = solver.thermostat(*args, *rest)
     assert set(np.unique(fast.mode)) == {FLOAT, FULL, HOLD, VENT}
     assert fast.switches.time_s.size > 30

@@ -5,6 +5,8 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+from grower.commands import Subcommands
+
 
 def add_crops_dir_argument(parser: argparse.ArgumentParser) -> None:
     """The ``--crops-dir DIR`` option (any command that looks crops up can add it)."""
@@ -23,7 +25,7 @@ def add_crops_dir_argument(parser: argparse.ArgumentParser) -> None:
     )
 
 
-def register(subparsers: argparse._SubParsersAction, common: argparse.ArgumentParser) -> None:
+def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
     parser = subparsers.add_parser(
         "crops",
         parents=[common],

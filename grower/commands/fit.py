@@ -4,8 +4,10 @@ from __future__ import annotations
 
 import argparse
 
+from grower.commands import Subcommands
 
-def register(subparsers, common: argparse.ArgumentParser) -> None:
+
+def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
         "fit",
         parents=[common],

@@ -4,10 +4,11 @@ from __future__ import annotations
 
 import argparse
 
+from grower.commands import Subcommands
 from grower.commands._options import add_crop_options, choose_threshold, speed, temperature
 
 
-def register(subparsers, common: argparse.ArgumentParser) -> None:
+def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
         "size",
         parents=[common],

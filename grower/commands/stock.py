@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 
+from grower.commands import Subcommands
 from grower.commands._options import add_crop_options, add_forecast_options
 
 #: a forecast file is run for at most this many days unless --days says otherwise
@@ -12,7 +13,7 @@ FILE_DAYS_DEFAULT = 62
 FILE_DAYS_MAX = 366
 
 
-def register(subparsers, common: argparse.ArgumentParser) -> None:
+def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
         "stock",
         parents=[common],

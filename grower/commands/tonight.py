@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 
+from grower.commands import Subcommands
 from grower.commands._options import add_crop_options, add_forecast_options, temperature
 
 #: as grower.plans.chance (not imported here: `grower --help` stays light)
@@ -11,7 +12,7 @@ DEFAULT_DRAWS = 300
 DEFAULT_SEED = 12
 
 
-def register(subparsers, common: argparse.ArgumentParser) -> None:
+def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
         "tonight",
         parents=[common],

@@ -5,8 +5,10 @@ from __future__ import annotations
 import argparse
 import math
 
+from grower.commands import Subcommands
 
-def register(subparsers, common: argparse.ArgumentParser) -> None:
+
+def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
     p = subparsers.add_parser(
         "winters",
         parents=[common],

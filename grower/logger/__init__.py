@@ -46,24 +46,24 @@ import pandas as pd
 
 from grower.errors import InputError
 from grower.logger.columns import (
-    _HEADER_SEARCH_LINES,
+    HEADER_SEARCH_LINES,
     ROLE_WORDS,
     ROLES,
     TEMPERATURE_WORDS,
-    _header,
-    _is_units_row,
-    _roles,
-    _unit_of,
+    column_roles,
+    find_header,
+    is_units_row,
+    unit_of,
 )
-from grower.logger.times import _offset_in_name, _parse_times, _to_utc
+from grower.logger.times import offset_in_name, parse_times, to_utc
 from grower.logger.values import (
     ASSUMED_C_MEDIAN_MAX,
     MISSING,
     SUN_RANGE_W_M2,
     TEMPERATURE_RANGE_C,
-    _heater,
-    _sun,
-    _temperatures,
+    heater_values,
+    sun_values,
+    temperature_values,
 )
 
 __all__ = [
@@ -200,13 +200,13 @@ def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> L
     except csv.Error as exc:
         raise InputError(f"not a readable CSV file ({exc})", where=where) from None
     del text
-    head_at, header = _header(rows, columns, where)
+    head_at, header = find_header(rows, columns, where)
     if head_at > 0:
         notes.append(f"the first {head_at} line(s) before the header were skipped")
-    roles = _roles(header, columns or {}, where, rows[head_at][0])
+    roles = column_roles(header, columns or {}, where, rows[head_at][0])
     body = rows[head_at + 1 :]
     units_row: list[str] | None = None
-    if body and _is_units_row(body[0][1], header, roles, day_first):
+    if body and is_units_row(body[0][1], header, roles, day_first):
         units_row = body[0][1]
         body = body[1:]
     if not body:
@@ -223,7 +223,7 @@ def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> L
         return [row[roles[role]] for _, row in body]
 
     units = {
-        r: _unit_of(header[j], units_row[j] if units_row else "", r, where)
+        r: unit_of(header[j], units_row[j] if units_row else "", r, where)
         for r, j in roles.items()
         if r != "time" and r != "date"
     }
@@ -234,11 +234,11 @@ def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> L
     else:
         time_text = cells("time")
         time_col = header[roles["time"]]
-    naive, fmt = _parse_times(time_text, line_no, time_col, where, day_first)
-    header_offset = _offset_in_name(header[roles["time"]])
-    utc_s, offsets, zone_used = _to_utc(naive, header_offset, timezone, line_no, time_col, where)
+    naive, fmt = parse_times(time_text, line_no, time_col, where, day_first)
+    header_offset = offset_in_name(header[roles["time"]])
+    utc_s, offsets, zone_used = to_utc(naive, header_offset, timezone, line_no, time_col, where)
     # values
-    inside = _temperatures(
+    inside = temperature_values(
         cells("inside"), units["inside"], line_no, header[roles["inside"]], where, decimal_comma
     )
     read = np.isfinite(inside)
@@ -252,7 +252,7 @@ def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> L
     keep = np.ones(inside.size, dtype=bool)
     outside = heater_frac = heater_w = sun = None
     if "outside" in roles:
-        outside = _temperatures(
+        outside = temperature_values(
             cells("outside"),
             units["outside"],
             line_no,
@@ -261,11 +261,11 @@ def _read(path, where: str, notes: list[str], timezone, columns, day_first) -> L
             decimal_comma,
         )
     if "heater" in roles:
-        heater_frac, heater_w, units["heater"] = _heater(
+        heater_frac, heater_w, units["heater"] = heater_values(
             cells("heater"), units["heater"], line_no, header[roles["heater"]], where, decimal_comma
         )
     if "sun" in roles:
-        sun = _sun(
+        sun = sun_values(
             cells("sun"), units["sun"], line_no, header[roles["sun"]], where, decimal_comma, notes
         )
     # loggers drop readings: a short gap in a secondary column is filled, a longer one
@@ -418,7 +418,7 @@ def _decode(path, where: str, notes: list[str]) -> str:
 
 def _delimiter(lines: Sequence[str]) -> str:
     """';' or tab when the header-ish lines use it (then ',' is a decimal comma), else ','."""
-    sample = [line for line in lines[:_HEADER_SEARCH_LINES] if line.strip()]
+    sample = [line for line in lines[:HEADER_SEARCH_LINES] if line.strip()]
     for d in (";", "\t"):
         if sum(line.count(d) >= 1 for line in sample) >= max(1, len(sample) // 2):
             return d

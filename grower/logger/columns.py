@@ -6,8 +6,8 @@ import re
 from collections.abc import Mapping
 
 from grower.errors import InputError
-from grower.logger.times import _try_time
-from grower.logger.values import _OFF, _ON, _number
+from grower.logger.times import try_time
+from grower.logger.values import OFF_WORDS, ON_WORDS, parse_number
 
 #: what a column can hold
 ROLES = ("time", "inside", "outside", "heater", "sun")
@@ -28,7 +28,7 @@ ROLE_WORDS: dict[str, frozenset[str]] = {
 #: words of a plain temperature column ("Temperature", "Temp", "T", "Air")
 TEMPERATURE_WORDS = frozenset({"temperature", "temp", "t", "air"})
 #: how many lines are searched for the header row
-_HEADER_SEARCH_LINES = 12
+HEADER_SEARCH_LINES = 12
 
 
 def _words(name: str) -> list[str]:
@@ -53,10 +53,10 @@ def _role_of(name: str) -> str | None:
     return None
 
 
-def _header(rows, columns: Mapping[str, str] | None, where: str) -> tuple[int, list[str]]:
+def find_header(rows, columns: Mapping[str, str] | None, where: str) -> tuple[int, list[str]]:
     """Index and cells of the header row: the first with a time column and 2+ fields."""
     wanted = {v.strip().lower() for v in (columns or {}).values()}
-    for i, (_n, row) in enumerate(rows[:_HEADER_SEARCH_LINES]):
+    for i, (_n, row) in enumerate(rows[:HEADER_SEARCH_LINES]):
         if len(row) < 2:
             continue
         names = [c.strip().lower() for c in row]
@@ -74,7 +74,9 @@ def _header(rows, columns: Mapping[str, str] | None, where: str) -> tuple[int, l
     )
 
 
-def _roles(header: list[str], given: Mapping[str, str], where: str, line: int) -> dict[str, int]:
+def column_roles(
+    header: list[str], given: Mapping[str, str], where: str, line: int
+) -> dict[str, int]:
     lower = [h.lower() for h in header]
     roles: dict[str, int] = {}
     for role, name in given.items():
@@ -164,7 +166,7 @@ def _unit_text(text: str) -> str:
     return ""
 
 
-def _unit_of(name: str, row_cell: str, role: str, where: str) -> str:
+def unit_of(name: str, row_cell: str, role: str, where: str) -> str:
     by_name, by_row = _unit_text(name), _unit_text(row_cell)
     if row_cell.strip() and not by_row:
         raise InputError(
@@ -186,7 +188,7 @@ def _unit_of(name: str, row_cell: str, role: str, where: str) -> str:
     return unit
 
 
-def _is_units_row(row: list[str], header: list[str], roles: Mapping[str, int], day_first) -> bool:
+def is_units_row(row: list[str], header: list[str], roles: Mapping[str, int], day_first) -> bool:
     """The row under the header states units: no number and no time in it."""
     if len(row) < len(header) and not any(row):
         return False
@@ -197,9 +199,9 @@ def _is_units_row(row: list[str], header: list[str], roles: Mapping[str, int], d
         if not c:
             continue
         if j in (roles.get("time"), roles.get("date")):
-            if _try_time(c) is not None:
+            if try_time(c) is not None:
                 return False
             continue
-        if _number(c, True) is not None or c.lower() in _ON | _OFF:
+        if parse_number(c, True) is not None or c.lower() in ON_WORDS | OFF_WORDS:
             return False
     return True

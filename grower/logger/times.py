@@ -62,7 +62,7 @@ def _strptime(text: str, formats: tuple[str, ...]) -> dt.datetime | None:
     return None
 
 
-def _try_time(text: str) -> dt.datetime | None:
+def try_time(text: str) -> dt.datetime | None:
     t = _clean_time(text)
     got = _iso(t)
     if got is not None:
@@ -88,7 +88,7 @@ def _parse_all(
     return out, None
 
 
-def _parse_times(
+def parse_times(
     raw: list[str], lines: np.ndarray, col: str, where: str, day_first: bool | None
 ) -> tuple[list[dt.datetime], str]:
     texts = [_clean_time(t) for t in raw]
@@ -136,7 +136,7 @@ def _parse_times(
 _OFFSET_NAME = re.compile(r"(?i)\b(?:gmt|utc)\s*([+-])\s*(\d{1,2})(?::?(\d{2}))?")
 
 
-def _offset_in_name(name: str) -> dt.timezone | None:
+def offset_in_name(name: str) -> dt.timezone | None:
     m = _OFFSET_NAME.search(name)
     if not m:
         return None
@@ -145,7 +145,7 @@ def _offset_in_name(name: str) -> dt.timezone | None:
     return dt.timezone(dt.timedelta(minutes=sign * minutes))
 
 
-def _to_utc(
+def to_utc(
     times: list[dt.datetime],
     header_offset: dt.timezone | None,
     zone_name: str | None,

@@ -16,11 +16,11 @@ SUN_RANGE_W_M2 = (-20.0, 1400.0)
 #: (common practice, no source: cold-season greenhouse records sit well below 30 °C)
 ASSUMED_C_MEDIAN_MAX = 30.0
 MISSING = frozenset({"", "nan", "na", "n/a", "null", "none", "-", "--", "---", "#n/a"})
-_ON = frozenset({"on", "true", "yes", "y", "1"})
-_OFF = frozenset({"off", "false", "no", "n", "0"})
+ON_WORDS = frozenset({"on", "true", "yes", "y", "1"})
+OFF_WORDS = frozenset({"off", "false", "no", "n", "0"})
 
 
-def _number(text: str, decimal_comma: bool) -> float | None:
+def parse_number(text: str, decimal_comma: bool) -> float | None:
     t = text.strip().replace("\u2212", "-").replace(" ", "")
     if decimal_comma:
         t = t.replace(",", ".")
@@ -36,14 +36,14 @@ def _numbers(cells: list[str], lines: np.ndarray, col: str, where: str, dc: bool
         if c.strip().lower() in MISSING:
             out[i] = np.nan
             continue
-        v = _number(c, dc)
+        v = parse_number(c, dc)
         if v is None or not np.isfinite(v):
             raise InputError(f'line {lines[i]}, column {col}: "{c}" is not a number', where=where)
         out[i] = v
     return out
 
 
-def _temperatures(cells, unit: str, lines, col: str, where: str, dc: bool) -> np.ndarray:
+def temperature_values(cells, unit: str, lines, col: str, where: str, dc: bool) -> np.ndarray:
     v = _numbers(cells, lines, col, where, dc)
     if unit == "°F":
         v = f_to_c(v)
@@ -68,7 +68,7 @@ def _temperatures(cells, unit: str, lines, col: str, where: str, dc: bool) -> np
     return v
 
 
-def _heater(cells, unit: str, lines, col: str, where: str, dc: bool):
+def heater_values(cells, unit: str, lines, col: str, where: str, dc: bool):
     """(fraction, power_w, unit): one of the first two is None."""
     if unit in ("W", "kW", "Btu/h"):
         factor = parse_quantity(f"1 {unit}", "power", where=col)
@@ -83,14 +83,14 @@ def _heater(cells, unit: str, lines, col: str, where: str, dc: bool):
     out = np.empty(len(cells))
     for i, c in enumerate(cells):
         low = c.strip().lower()
-        if low in _ON:
+        if low in ON_WORDS:
             out[i] = 1.0
-        elif low in _OFF:
+        elif low in OFF_WORDS:
             out[i] = 0.0
         elif low in MISSING:
             out[i] = np.nan
         else:
-            v = _number(c, dc)
+            v = parse_number(c, dc)
             top = 100.0 if unit == "%" else 1.0
             if v is None or not 0.0 <= v <= top:
                 what = (
@@ -110,7 +110,9 @@ def _heater(cells, unit: str, lines, col: str, where: str, dc: bool):
     return out, None, unit or "on/off"
 
 
-def _sun(cells, unit: str, lines, col: str, where: str, dc: bool, notes: list[str]) -> np.ndarray:
+def sun_values(
+    cells, unit: str, lines, col: str, where: str, dc: bool, notes: list[str]
+) -> np.ndarray:
     v = _numbers(cells, lines, col, where, dc)
     lo, hi = SUN_RANGE_W_M2
     bad = np.flatnonzero(np.isfinite(v) & ((v < lo) | (v > hi)))

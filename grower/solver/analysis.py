@@ -12,10 +12,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .explin import NEWTON_STEPS, _ExpLin, _profile, _solve
+from .explin import NEWTON_STEPS, ExpLin, safe_newton, step_profile
 from .modes import FLOAT, FULL
-from .network import _float_array
-from .problem import _series
+from .network import float_array
+from .problem import as_series
 from .results import Crossing, Trajectory
 from .segments import hold_coefficients, knots
 
@@ -33,7 +33,7 @@ class _Pieces:
     x0: np.ndarray  # (K, n)
 
 
-def _pieces(tr: Trajectory) -> _Pieces:
+def pieces_of(tr: Trajectory) -> _Pieces:
     mm, n1 = tr.mode.shape
     sw = tr.switches
     split = np.zeros((mm, n1), dtype=bool)
@@ -59,7 +59,7 @@ def _pieces(tr: Trajectory) -> _Pieces:
 
 
 def _float_el(tr, member, step, s0, w, x0, q, weight, g0, e1):  # type: ignore[no-untyped-def]
-    """_ExpLin of ``weight . z`` for float pieces (full network, heater q)."""
+    """ExpLin of ``weight . z`` for float pieces (full network, heater q)."""
     prob, full = tr.problem, tr.network.modes
     m = tr.network.n_boundaries
     bk = prob.bt[:, member % prob.bt.shape[1], step].T
@@ -67,11 +67,11 @@ def _float_el(tr, member, step, s0, w, x0, q, weight, g0, e1):  # type: ignore[n
     h = prob.h[step][:, None]
     beta = bk + db * (s0[:, None] / h) + q[:, None] * full.bm[:, m]
     z0 = x0 @ full.w.T
-    return _ExpLin(full.lam, weight * z0, weight * beta, weight * db / h, g0, e1, w)
+    return ExpLin(full.lam, weight * z0, weight * beta, weight * db / h, g0, e1, w)
 
 
-def _clamp_el(tr, member, step, s0, w, x0, tc, weight, g0, e1):  # type: ignore[no-untyped-def]
-    """_ExpLin of ``weight . z_red`` for pieces with the air held at tc."""
+def clamp_explin(tr, member, step, s0, w, x0, tc, weight, g0, e1):  # type: ignore[no-untyped-def]
+    """ExpLin of ``weight . z_red`` for pieces with the air held at tc."""
     prob, red = tr.problem, tr.network.held_modes
     m = tr.network.n_boundaries
     bk = prob.brt[:, member % prob.brt.shape[1], step].T
@@ -79,11 +79,11 @@ def _clamp_el(tr, member, step, s0, w, x0, tc, weight, g0, e1):  # type: ignore[
     h = prob.h[step][:, None]
     beta = bk + db * (s0[:, None] / h) + tc[:, None] * red.bm[:, m]
     z0 = x0[:, 1:] @ red.w.T
-    return _ExpLin(red.lam, weight * z0, weight * beta, weight * db / h, g0, e1, w)
+    return ExpLin(red.lam, weight * z0, weight * beta, weight * db / h, g0, e1, w)
 
 
 def _member_values(value: object, name: str, mm: int) -> np.ndarray:
-    a = _float_array(value, name)
+    a = float_array(value, name)
     if a.ndim > 1 or (a.ndim == 1 and a.size not in (1, mm)):
         raise ValueError(f"{name} must be a number or one per member ({mm}); got shape {a.shape}")
     return np.array(np.broadcast_to(a.reshape(-1), (mm,)))
@@ -92,7 +92,7 @@ def _member_values(value: object, name: str, mm: int) -> np.ndarray:
 def _offset(offset_k: object, nt: int, mm: int) -> np.ndarray:
     if offset_k is None:
         return np.zeros((1, nt))
-    off = _series(offset_k, "offset_k", nt, None)
+    off = as_series(offset_k, "offset_k", nt, None)
     if off.shape[0] not in (1, mm):
         raise ValueError(f"offset_k has {off.shape[0]} members, the trajectory {mm}")
     if np.any(off < 0):
@@ -100,7 +100,7 @@ def _offset(offset_k: object, nt: int, mm: int) -> np.ndarray:
     return off
 
 
-def _scatter_min(best, best_t, member, val, t):  # type: ignore[no-untyped-def]
+def scatter_min(best, best_t, member, val, t):  # type: ignore[no-untyped-def]
     """best[member] = min(best, val), with the time of the minimum."""
     better = val < best[member]
     if better.any():
@@ -117,7 +117,7 @@ def _scatter_min(best, best_t, member, val, t):  # type: ignore[no-untyped-def]
 RUN_CUTS = np.array([0.0, 1 / 8, 1 / 4, 1 / 2, 1.0])
 
 
-def _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi) -> _ExpLin:  # type: ignore[no-untyped-def]
+def _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi) -> ExpLin:  # type: ignore[no-untyped-def]
     """The exact plant temperature less threshold on pieces (run ji, cut pi, member mi);
     ``hc`` the hold coefficients at the cuts (3, J, P, r)."""
     r = lam.size
@@ -126,7 +126,7 @@ def _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi) -> _ExpLin:  # type: ign
     xi = x[ji, :, mi]  # (K, 3r)
     zi, bi, ci = xi[:, :r], xi[:, r : 2 * r], xi[:, 2 * r :]
     z0 = ep * zi + q1 * bi + q2 * ci
-    return _ExpLin(
+    return ExpLin(
         lam,
         v0 * z0,
         v0 * (bi + ci * s0[:, None]),
@@ -222,7 +222,7 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     if mi.size:
         el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
         a0, b0 = g[ji, pi, mi], g[ji, pi + 1, mi]
-        root = _solve(el.val_d1, 0 * el.w, el.w, a0, el.w * a0 / (a0 - b0), NEWTON_STEPS)
+        root = safe_newton(el.val_d1, 0 * el.w, el.w, a0, el.w * a0 / (a0 - b0), NEWTON_STEPS)
         t0 = t[ks[ji]] + s[ji, pi]
         down = a0 > 0
         below += np.bincount(mi, weights=np.where(down, el.w - root, root), minlength=mm)
@@ -230,11 +230,11 @@ def _analyse_runs(tr: Trajectory, th: np.ndarray, off: np.ndarray) -> Crossing:
     ji, pi, mi = np.unravel_index(np.flatnonzero(exact), exact.shape)
     if mi.size:
         el = _piece(lam, v0, x, hc, s, g, e1, width, ji, pi, mi)
-        f, gmin, smin, blw = _profile(el, NEWTON_STEPS)
+        f, gmin, smin, blw = step_profile(el, NEWTON_STEPS)
         t0 = t[ks[ji]] + s[ji, pi]
         below += np.bincount(mi, weights=blw, minlength=mm)
         np.minimum.at(first, mi, np.where(np.isnan(f), np.inf, t0 + f))
-        _scatter_min(best, best_t, mi, gmin + th[mi], t0 + smin)
+        scatter_min(best, best_t, mi, gmin + th[mi], t0 + smin)
     return Crossing(th, np.where(np.isinf(first), np.nan, first), best, best_t, below / 3600.0)
 
 
@@ -280,7 +280,7 @@ def analyse(
     first = np.full(mm, np.inf)
     below = np.zeros(mm)
     h = prob.h
-    pcs = _pieces(tr)
+    pcs = pieces_of(tr)
     doff = np.diff(off, axis=1) / h  # (Mo, N-1)
     full = net.modes
     m = net.n_boundaries
@@ -366,7 +366,7 @@ def analyse(
                 (
                     mi[j],
                     t[ki[j]],
-                    _ExpLin(np.zeros(0), r0, r0, r0, g0[j], e1[j], h[ki[j]]),
+                    ExpLin(np.zeros(0), r0, r0, r0, g0[j], e1[j], h[ki[j]]),
                     unsure[mi[j], ki[j]],
                 )
             )
@@ -388,7 +388,7 @@ def analyse(
             j = ~isf
             tc = pcs.x0[j, 0]
             r0 = np.zeros((j.sum(), 0))
-            el = _ExpLin(np.zeros(0), r0, r0, r0, tc - offa[j] - th[pm[j]], e1[j], pcs.w[j])
+            el = ExpLin(np.zeros(0), r0, r0, r0, tc - offa[j] - th[pm[j]], e1[j], pcs.w[j])
             items.append((pm[j], t[pk[j]] + pcs.s0[j], el, np.ones(j.sum(), dtype=bool)))
     # one exact profile per mode set (steps and pieces of the same modes together)
     groups: dict[bytes, list] = {}
@@ -398,15 +398,15 @@ def analyse(
         (
             np.concatenate([g[0] for g in grp]),
             np.concatenate([g[1] for g in grp]),
-            _ExpLin.join([g[2] for g in grp]),
+            ExpLin.join([g[2] for g in grp]),
             np.concatenate([g[3] for g in grp]),
         )
         for grp in groups.values()
     ]
     for member, t0, el, count in items:
-        f, gmin, smin, blw = _profile(el)
+        f, gmin, smin, blw = step_profile(el)
         below += np.bincount(member[count], weights=blw[count], minlength=mm)
         ft = np.where(np.isnan(f), np.inf, t0 + f)
         np.minimum.at(first, member, ft)
-        _scatter_min(best, best_t, member, gmin + th[member], t0 + smin)
+        scatter_min(best, best_t, member, gmin + th[member], t0 + smin)
     return Crossing(th, np.where(np.isinf(first), np.nan, first), best, best_t, below / 3600.0)

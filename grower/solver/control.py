@@ -12,28 +12,28 @@ from __future__ import annotations
 
 import numpy as np
 
-from .analysis import _clamp_el, _pieces, _scatter_min
-from .explin import _profile
+from .analysis import clamp_explin, pieces_of, scatter_min
+from .explin import step_profile
 from .modes import HOLD
-from .network import Network, _float_array
-from .problem import _problem, _series, _times
-from .results import HoldResult, Trajectory, _Control
-from .runs import _Run
+from .network import Network, float_array
+from .problem import as_series, as_times, make_problem
+from .results import ControlInputs, HoldResult, Trajectory
+from .runs import Run
 
 
 def _control(setpoint_c, q_max_w, vent_c, nt):  # type: ignore[no-untyped-def]
-    sp = _series(setpoint_c, "setpoint_c", nt, None)
+    sp = as_series(setpoint_c, "setpoint_c", nt, None)
     if vent_c is None:
         vt = np.full((1, nt), np.inf)
     else:
-        vt = _float_array(vent_c, "vent_c")
+        vt = float_array(vent_c, "vent_c")
         if np.any(np.isnan(vt)) or np.any(vt == -np.inf):
             raise ValueError("vent_c contains NaN or -inf")
-        vt = _series(np.where(np.isinf(vt), 1e300, vt), "vent_c", nt, None)
+        vt = as_series(np.where(np.isinf(vt), 1e300, vt), "vent_c", nt, None)
         vt = np.where(vt >= 1e300, np.inf, vt)
     if np.any(np.broadcast_to(vt, np.broadcast_shapes(vt.shape, sp.shape)) < sp):
         raise ValueError("vent_c must not be below setpoint_c")
-    q = _float_array(q_max_w, "q_max_w")
+    q = float_array(q_max_w, "q_max_w")
     if q.ndim > 1 or np.any(np.isnan(q)) or np.any(q < 0):
         raise ValueError("q_max_w must be >= 0 (inf for no limit), a number or one per member")
     return sp, vt, q.reshape(-1)
@@ -87,11 +87,11 @@ def thermostat(
     """
     if not isinstance(network, Network):
         raise ValueError("network must be a grower.solver.Network")
-    nt = _times(times_s).size
+    nt = as_times(times_s).size
     sp, vt, q = _control(setpoint_c, q_max_w, vent_c, nt)
     extra = {"setpoint_c": sp, "vent_c": vt, "q_max_w": q[:, None]}
-    prob = _problem(network, times_s, boundary_c, initial_c, gains_w, extra=extra)
-    return _Run(prob, _Control(sp, vt, q)).run()
+    prob = make_problem(network, times_s, boundary_c, initial_c, gains_w, extra=extra)
+    return Run(prob, ControlInputs(sp, vt, q)).run()
 
 
 def hold(
@@ -134,7 +134,7 @@ def _peak_power(tr: Trajectory) -> tuple[np.ndarray, np.ndarray]:
     k = np.argmax(hw, axis=1)
     ar = np.arange(mm)
     best, best_t = hw[ar, k].copy(), t[k].copy()
-    pcs = _pieces(tr)
+    pcs = pieces_of(tr)
     hold_ = (tr.mode == HOLD) & ~pcs.split
     mi, ki = np.nonzero(hold_)
     neg = -best
@@ -146,9 +146,9 @@ def _peak_power(tr: Trajectory) -> tuple[np.ndarray, np.ndarray]:
         mu = mi % prob.qb.shape[0]
         qa = prob.qb[mu, ki] + (x0[:, 1:] @ red.w.T) @ wq + tc * gsum
         qe = prob.qb[mu, ki + 1] + (x1[:, 1:] @ red.w.T) @ wq + tc * gsum
-        _scatter_min(neg, best_t, mi, -qe, t[ki + 1])
+        scatter_min(neg, best_t, mi, -qe, t[ki + 1])
         e1 = (prob.qb[mu, ki + 1] - prob.qb[mu, ki]) / h[ki]
-        el = _clamp_el(tr, mi, ki, np.zeros(mi.size), h[ki], x0, tc, -wq, -qa, -e1)
+        el = clamp_explin(tr, mi, ki, np.zeros(mi.size), h[ki], x0, tc, -wq, -qa, -e1)
         bound = h[ki] ** 2 / 8 * np.abs(el.k2).sum(-1)
         j = np.maximum(qa, qe) + bound > -neg[mi]
         if j.any():
@@ -161,9 +161,9 @@ def _peak_power(tr: Trajectory) -> tuple[np.ndarray, np.ndarray]:
             dqb = (prob.qb[mu, pk + 1] - prob.qb[mu, pk]) / h[pk]
             tc = pcs.x0[j, 0]
             qa = prob.qb[mu, pk] + dqb * s0 + (pcs.x0[j, 1:] @ red.w.T) @ wq + tc * gsum
-            el = _clamp_el(tr, pm, pk, s0, pcs.w[j], pcs.x0[j], tc, -wq, -qa, -dqb)
+            el = clamp_explin(tr, pm, pk, s0, pcs.w[j], pcs.x0[j], tc, -wq, -qa, -dqb)
             items.append((pm, t[pk] + s0, el))
     for member, t0, el in items:
-        _, gmin, smin, _ = _profile(el)
-        _scatter_min(neg, best_t, member, gmin, t0 + smin)
+        _, gmin, smin, _ = step_profile(el)
+        scatter_min(neg, best_t, member, gmin, t0 + smin)
     return -neg, best_t

@@ -16,7 +16,7 @@ from __future__ import annotations
 import numpy as np
 
 
-class _ExpLin:
+class ExpLin:
     """A batch of ``g(s) = g0 + e1 s + sum_i [em z_i + em/lam b_i + (em - lam s)/lam^2 c_i]``,
     ``em = expm1(lam_i s)``, on ``0 <= s <= w``: the exact solution of one mode set from
     weighted modal state z, forcing b and forcing slope c. Written as an increment on g0 so
@@ -28,11 +28,11 @@ class _ExpLin:
         self.k1 = lam * z + b  # g' coefficients at s = 0
         self.k2 = lam * self.k1 + c  # g'' = sum k2 exp(lam s)
 
-    def take(self, i: np.ndarray) -> _ExpLin:
-        return _ExpLin(self.lam, self.z[i], self.b[i], self.c[i], self.g0[i], self.e1[i], self.w[i])
+    def take(self, i: np.ndarray) -> ExpLin:
+        return ExpLin(self.lam, self.z[i], self.b[i], self.c[i], self.g0[i], self.e1[i], self.w[i])
 
     @staticmethod
-    def join(parts: list[_ExpLin]) -> _ExpLin:
+    def join(parts: list[ExpLin]) -> ExpLin:
         """One batch of the items of batches with the same modes."""
         if len(parts) == 1:
             return parts[0]
@@ -40,7 +40,7 @@ class _ExpLin:
         def cat(name: str):  # type: ignore[no-untyped-def]
             return np.concatenate([getattr(p, name) for p in parts])
 
-        return _ExpLin(parts[0].lam, *(cat(n) for n in ("z", "b", "c", "g0", "e1", "w")))
+        return ExpLin(parts[0].lam, *(cat(n) for n in ("z", "b", "c", "g0", "e1", "w")))
 
     def _sums(self, s: np.ndarray, v: bool, d1: bool, d2: bool) -> list[np.ndarray]:
         """The mode sums of g, g' and g'' at offsets s (K,) or (K, P) that are asked for
@@ -91,12 +91,12 @@ class _ExpLin:
         return self.e1[sh] + d, d2
 
 
-#: plain Newton steps before the safeguards, for callers that ask for them (`_solve`):
+#: plain Newton steps before the safeguards, for callers that ask for them (`safe_newton`):
 #: on the monotone, convex or concave brackets they give, three to six reach the tolerance
 NEWTON_STEPS = 6
 
 
-def _solve(
+def safe_newton(
     fd, a: np.ndarray, b: np.ndarray, fa: np.ndarray, x0=None, newton: int = 0
 ) -> np.ndarray:  # type: ignore[no-untyped-def]
     """Root in [a, b] of f (fd(s) -> (f, f')), f(a) and f(b) of opposite sign, from ``x0``
@@ -176,7 +176,7 @@ def _solve(
     return x
 
 
-def _roots_sum(coef: np.ndarray, mu: np.ndarray, w: np.ndarray) -> np.ndarray:
+def roots_of_sum(coef: np.ndarray, mu: np.ndarray, w: np.ndarray) -> np.ndarray:
     """Zeros in (0, w) of ``sum_i coef_i exp(mu_i s)``: (K, r-1), sorted, NaN-padded."""
     kk, r = coef.shape
     if r < 2:
@@ -191,7 +191,7 @@ def _roots_sum(coef: np.ndarray, mu: np.ndarray, w: np.ndarray) -> np.ndarray:
         return np.where(ok, s, np.nan)[:, None]
     oth = np.array([i for i in range(r) if i != j])
     dco = coef[:, oth] * nu[oth]
-    sub = _roots_sum(dco, nu[oth], w)
+    sub = roots_of_sum(dco, nu[oth], w)
     br = np.sort(
         np.concatenate(
             [np.zeros((kk, 1)), np.where(np.isnan(sub), w[:, None], sub), w[:, None]], 1
@@ -208,24 +208,26 @@ def _roots_sum(coef: np.ndarray, mu: np.ndarray, w: np.ndarray) -> np.ndarray:
     for p in range(r - 1):
         sel = np.flatnonzero((fb[:, p] * fb[:, p + 1] < 0) & (br[:, p + 1] > br[:, p]))
         if sel.size:
-            out[sel, p] = _solve(
+            out[sel, p] = safe_newton(
                 lambda s, sel=sel: f_of(s, sel), br[sel, p], br[sel, p + 1], fb[sel, p]
             )
     return np.sort(out, axis=1)
 
 
-def _convex_breaks(el: _ExpLin) -> np.ndarray:
+def _convex_breaks(el: ExpLin) -> np.ndarray:
     """0, the inflection points, w: (K, P); g is convex or concave between them."""
-    infl = _roots_sum(el.k2, el.lam, el.w)
+    infl = roots_of_sum(el.k2, el.lam, el.w)
     w = el.w[:, None]
     return np.sort(np.concatenate([np.zeros_like(w), np.where(np.isnan(infl), w, infl), w], 1), 1)
 
 
-def _profile(el: _ExpLin, newton: int = 0) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+def step_profile(
+    el: ExpLin, newton: int = 0
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Exact first zero (g <= 0), minimum, its place and the length with g < 0, per item.
 
     ``newton`` > 0: the root searches start from the roots of the chords and take that
-    many plain Newton steps first (`_solve`): quicker, the same to round-off."""
+    many plain Newton steps first (`safe_newton`): quicker, the same to round-off."""
     kk = el.w.size
     br = _convex_breaks(el)
     d = el.d1(br)
@@ -237,7 +239,7 @@ def _profile(el: _ExpLin, newton: int = 0) -> tuple[np.ndarray, np.ndarray, np.n
             a, b, da, db = br[sel, p], br[sel, p + 1], d[sel, p], d[sel, p + 1]
             # from the root of the slope's chord: the slope is monotone in the bracket
             x0 = a + (b - a) * (da / (da - db)) if newton else None
-            ext[sel, p] = _solve(sub.d1_d2, a, b, da, x0, newton)
+            ext[sel, p] = safe_newton(sub.d1_d2, a, b, da, x0, newton)
     mono = np.sort(np.concatenate([br, np.where(np.isnan(ext), el.w[:, None], ext)], 1), 1)
     gv = el.val(mono)
     gv[:, 0] = el.g0
@@ -254,7 +256,7 @@ def _profile(el: _ExpLin, newton: int = 0) -> tuple[np.ndarray, np.ndarray, np.n
         lo, hi, fl, fh = a[ii, pp], b[ii, pp], ga[ii, pp], gb[ii, pp]
         # from the root of the chord: g is monotone in the bracket
         x0 = lo + (hi - lo) * (fl / (fl - fh)) if newton else None
-        roots[ii, pp] = _solve(sub.val_d1, lo, hi, fl, x0, newton)
+        roots[ii, pp] = safe_newton(sub.val_d1, lo, hi, fl, x0, newton)
     full_below = (ga <= 0) & (gb <= 0) & ~((ga == 0) & (gb == 0))
     part = np.where(ga < 0, roots - a, b - roots)
     below = np.where(full_below, b - a, np.where(cross, part, 0.0)).sum(axis=1)

@@ -14,10 +14,10 @@ import numpy as np
 
 from .analysis import analyse
 from .network import Network
-from .problem import _Problem, _problem, _series, check_finite
-from .results import Trajectory, _no_switches
+from .problem import Problem, as_series, check_finite, make_problem
+from .results import Trajectory, no_switches
 from .segments import Segments, forcing_at, knots, step_runs
-from .stepping import _MANY, recurrence
+from .stepping import MANY, recurrence
 
 
 def free_float(
@@ -52,7 +52,7 @@ def free_float(
     """
     # no copy of the inputs: everything drawn from them is computed before returning
     # nor a separate pass for NaN and inf: the knot search or check_finite below does it
-    prob = _problem(
+    prob = make_problem(
         network, times_s, boundary_c, initial_c, gains_w, heat_w, copy=False, finite=False
     )
     mm, nt = prob.n_members, prob.times_s.size
@@ -60,13 +60,13 @@ def free_float(
     if heat_w is None:
         q, step_q, heat_j = _zeros((mm, nt)), _zeros((mm, nt - 1)), np.zeros(mm)
     else:
-        q = np.array(np.broadcast_to(_series(heat_w, "heat_w", nt, None), (mm, nt)))
+        q = np.array(np.broadcast_to(as_series(heat_w, "heat_w", nt, None), (mm, nt)))
         step_q = 0.5 * prob.h * (q[:, :-1] + q[:, 1:])
         heat_j = step_q.sum(axis=1)
-    seg = _runs(prob) if mm >= _MANY else None
+    seg = _runs(prob) if mm >= MANY else None
     temps = z = None
     if seg is None:
-        if mm < _MANY:
+        if mm < MANY:
             check_finite(prob.boundary_c, "boundary_c")
             check_finite(prob.gains_w, "gains_w")
         z0 = prob.initial_c @ full.w.T  # (Mi, r)
@@ -91,7 +91,7 @@ def free_float(
         _zeros((mm, nt - 1)),
         None,
         _zeros((mm, nt - 1), np.int8),
-        _no_switches(network.n_nodes),
+        no_switches(network.n_nodes),
         network,
         prob,
         None,
@@ -107,7 +107,7 @@ def _zeros(shape: tuple[int, ...], dtype: type = float) -> np.ndarray:
     return np.broadcast_to(np.zeros((), dtype), shape)
 
 
-def _runs(prob: _Problem) -> Segments | None:
+def _runs(prob: Problem) -> Segments | None:
     """The free float as `Segments` when its inputs run collinear over four or more steps
     on average (one exact step per run), else None (step by step)."""
     net, mm, nt = prob.network, prob.n_members, prob.times_s.size

@@ -8,6 +8,6 @@ MODE_NAMES = ("float", "full", "hold", "vent")
 
 #: air within this of a setpoint or vent temperature counts as at it [K]; far above the
 #: round-off of a root found on the exact solution (~1e-12 K), far below any physics
-_TOL_K = 1e-9
+TOL_K = 1e-9
 #: switches allowed inside one step before the run is declared inconsistent
-_MAX_SWITCHES = 24
+MAX_SWITCHES = 24

@@ -78,7 +78,7 @@ def modal_decomposition(c: np.ndarray, lap: np.ndarray, inputs: np.ndarray) -> M
     return Modes(lam, v, w, w @ (inputs / c[:, None]))
 
 
-def _float_array(value: object, name: str, copy: bool = True) -> np.ndarray:
+def float_array(value: object, name: str, copy: bool = True) -> np.ndarray:
     try:
         return np.array(value, dtype=float) if copy else np.asarray(value, dtype=float)
     except (TypeError, ValueError):
@@ -124,13 +124,13 @@ class Network:
     held_power_sum_w_per_k: float = field(init=False, repr=False)
 
     def __post_init__(self) -> None:
-        c = _float_array(self.capacitance_j_per_k, "capacitance_j_per_k")
+        c = float_array(self.capacitance_j_per_k, "capacitance_j_per_k")
         if c.ndim != 1 or c.size == 0:
             raise ValueError(f"capacitance_j_per_k must have shape (n,); got {c.shape}")
         n = c.size
         if not (np.all(np.isfinite(c)) and np.all(c > 0)):
             raise ValueError(f"capacitance_j_per_k must be finite and > 0; got {c}")
-        g = _float_array(self.coupling_w_per_k, "coupling_w_per_k")
+        g = float_array(self.coupling_w_per_k, "coupling_w_per_k")
         if g.shape != (n, n):
             raise ValueError(f"coupling_w_per_k must have shape ({n}, {n}); got {g.shape}")
         if not (np.all(np.isfinite(g)) and np.all(g >= 0)):
@@ -140,7 +140,7 @@ class Network:
         if np.any(np.abs(g - g.T) > 1e-12 * max(float(g.max(initial=0.0)), 1e-300)):
             raise ValueError("coupling_w_per_k must be symmetric")
         g = 0.5 * (g + g.T)
-        h = _float_array(self.boundary_w_per_k, "boundary_w_per_k")
+        h = float_array(self.boundary_w_per_k, "boundary_w_per_k")
         if h.ndim == 1 and n == 1:
             h = h[None, :]
         if h.ndim != 2 or h.shape[0] != n or h.shape[1] == 0:
@@ -242,10 +242,10 @@ class Network:
 
     def steady_state(self, boundary_c: object, gains_w: object = None) -> np.ndarray:
         """Node temperatures (n,) [degC] for constant boundary temperatures (m,) and gains (n,) [W]."""
-        u = _float_array(boundary_c, "boundary_c").reshape(-1)
+        u = float_array(boundary_c, "boundary_c").reshape(-1)
         if u.shape != (self.n_boundaries,) or not np.all(np.isfinite(u)):
             raise ValueError(f"boundary_c must be {self.n_boundaries} finite values")
-        p = np.zeros(self.n_nodes) if gains_w is None else _float_array(gains_w, "gains_w")
+        p = np.zeros(self.n_nodes) if gains_w is None else float_array(gains_w, "gains_w")
         p = p.reshape(-1)
         if p.shape != (self.n_nodes,) or not np.all(np.isfinite(p)):
             raise ValueError(f"gains_w must be {self.n_nodes} finite values")

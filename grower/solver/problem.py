@@ -7,12 +7,12 @@ from functools import cached_property
 
 import numpy as np
 
-from .network import Network, _float_array
-from .stepping import _Table, _table
+from .network import Network, float_array
+from .stepping import StepTable, step_table
 
 
 @dataclass(frozen=True, eq=False)
-class _Problem:
+class Problem:
     """Validated inputs, member axis first (size 1 or M), and the step tables."""
 
     network: Network
@@ -23,7 +23,7 @@ class _Problem:
     gains_w: np.ndarray  # (Mg, N, n), heater series included on the air node
     initial_c: np.ndarray  # (Mi, n)
     uniform: bool
-    full: _Table
+    full: StepTable
     unique_h: np.ndarray  # distinct step lengths [s]
     kind: np.ndarray  # (N-1,) index of each step's length in unique_h
 
@@ -37,8 +37,8 @@ class _Problem:
         return np.diff(self.bt, axis=2)
 
     @cached_property
-    def red(self) -> _Table:  # step table of the network with the air held
-        return _table(self.network.held_modes.lam, self.unique_h, self.kind)
+    def red(self) -> StepTable:  # step table of the network with the air held
+        return step_table(self.network.held_modes.lam, self.unique_h, self.kind)
 
     @cached_property
     def brt(self) -> np.ndarray:  # (n-1, Mu, N) reduced modal forcing of (U, P_1..)
@@ -63,8 +63,8 @@ class _Problem:
         return np.moveaxis(self.brt, 0, -1)
 
 
-def _times(times_s: object) -> np.ndarray:
-    t = _float_array(times_s, "times_s")
+def as_times(times_s: object) -> np.ndarray:
+    t = float_array(times_s, "times_s")
     if t.ndim != 1 or t.size < 2:
         raise ValueError(f"times_s must be a 1-D array of at least 2 times; got shape {t.shape}")
     if not np.all(np.isfinite(t)):
@@ -77,7 +77,7 @@ def _times(times_s: object) -> np.ndarray:
     return t
 
 
-def _series(
+def as_series(
     value: object,
     name: str,
     n_t: int,
@@ -88,7 +88,7 @@ def _series(
     """(N,) / (N, w) / (M, N, w) -> (M', N, w); width None: (N,) / (M, N) -> (M', N).
     ``copy=False``: the caller's array itself where it is already float (read only);
     ``finite=False``: the caller checks for NaN and inf (`check_finite`) itself."""
-    a = _float_array(value, name, copy)
+    a = float_array(value, name, copy)
     if width is None:
         if a.ndim == 0:
             a = np.full((1, n_t), float(a))
@@ -125,7 +125,7 @@ def _members(arrays: dict[str, np.ndarray | None]) -> int:
     return next(iter(sizes.values()), 1)
 
 
-def _problem(
+def make_problem(
     network: Network,
     times_s: object,
     boundary_c: object,
@@ -135,7 +135,7 @@ def _problem(
     extra: dict[str, np.ndarray | None] | None = None,
     copy: bool = True,
     finite: bool = True,
-) -> _Problem:
+) -> Problem:
     """Validated inputs. ``copy=False`` keeps the caller's boundary and gains arrays (no
     copy of a big ensemble): only for a caller that uses them before it returns;
     ``finite=False`` leaves their check for NaN and inf to the caller (one pass less
@@ -143,15 +143,15 @@ def _problem(
     if not isinstance(network, Network):
         raise ValueError("network must be a grower.solver.Network")
     n, m = network.n_nodes, network.n_boundaries
-    t = _times(times_s)
+    t = as_times(times_s)
     nt = t.size
-    u = _series(boundary_c, "boundary_c", nt, m, copy, finite)
+    u = as_series(boundary_c, "boundary_c", nt, m, copy, finite)
     p = (
         np.zeros((1, nt, n))
         if gains_w is None
-        else _series(gains_w, "gains_w", nt, n, copy, finite)
+        else as_series(gains_w, "gains_w", nt, n, copy, finite)
     )
-    x0 = _float_array(initial_c, "initial_c")
+    x0 = float_array(initial_c, "initial_c")
     if x0.ndim == 0 and n == 1:
         x0 = x0.reshape(1)
     if x0.ndim == 1:
@@ -160,7 +160,7 @@ def _problem(
         raise ValueError(f"initial_c must have shape ({n},) or (M, {n}); got {x0.shape}")
     if not np.all(np.isfinite(x0)):
         raise ValueError("initial_c contains NaN or inf")
-    q = None if heat_w is None else _series(heat_w, "heat_w", nt, None)
+    q = None if heat_w is None else as_series(heat_w, "heat_w", nt, None)
     mm = _members({"boundary_c": u, "gains_w": p, "initial_c": x0, "heat_w": q, **(extra or {})})
     if q is not None:
         p = np.array(np.broadcast_to(p, (max(p.shape[0], q.shape[0]), nt, n)))
@@ -175,7 +175,7 @@ def _problem(
         hu, kind = np.unique(hq, return_inverse=True)
     hu = np.maximum(hu, np.finfo(float).tiny)
     full = network.modes
-    return _Problem(
+    return Problem(
         network,
         t,
         hu[kind],
@@ -184,7 +184,7 @@ def _problem(
         p,
         x0,
         hu.size == 1,
-        _table(full.lam, hu, kind),
+        step_table(full.lam, hu, kind),
         hu,
         kind,
     )

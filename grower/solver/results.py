@@ -7,7 +7,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .network import Network
-from .problem import _Problem
+from .problem import Problem
 from .segments import Segments
 
 
@@ -28,7 +28,9 @@ class Switches:
 
 
 @dataclass(frozen=True, eq=False)
-class _Control:
+class ControlInputs:
+    """The thermostat's inputs per step, member axis first (size 1 or M)."""
+
     setpoint_c: np.ndarray  # (Ms, N)
     vent_c: np.ndarray  # (Mv, N), +inf where no venting
     q_max_w: np.ndarray  # (Mq,)
@@ -75,8 +77,8 @@ class Trajectory:
     mode: np.ndarray
     switches: Switches
     network: Network
-    problem: _Problem = field(repr=False)
-    control: _Control | None = field(repr=False, default=None)
+    problem: Problem = field(repr=False)
+    control: ControlInputs | None = field(repr=False, default=None)
     modal_z: np.ndarray | None = field(repr=False, default=None)  # free float: (r, M, N)
     segments: Segments | None = field(repr=False, default=None)
 
@@ -171,6 +173,6 @@ class HoldResult:
     trajectory: Trajectory
 
 
-def _no_switches(n: int) -> Switches:
+def no_switches(n: int) -> Switches:
     e = np.zeros(0)
     return Switches(e.astype(int), e.astype(int), e, e, e.astype(np.int8), np.zeros((0, n)))

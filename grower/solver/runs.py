@@ -1,6 +1,6 @@
 """The thermostat run: its inputs, its results, and the one mode machine over them.
 
-`_Run` holds the run's inputs and the arrays the results are written into. Each member
+`Run` holds the run's inputs and the arrays the results are written into. Each member
 goes through the mode machine on its own: `serial` strides over runs of whole steps in
 one mode, and `scalar` splits the steps in which the mode changes at the exact switching
 instants. Members are independent (a thermostat acts on its own house), so an ensemble is
@@ -11,18 +11,18 @@ from __future__ import annotations
 
 import numpy as np
 
-from .modes import _TOL_K, HOLD, VENT
-from .problem import _Problem
-from .results import Switches, Trajectory, _Control, _no_switches
-from .scalar import _ScalarStep
-from .serial import _Serial
+from .modes import HOLD, TOL_K, VENT
+from .problem import Problem
+from .results import ControlInputs, Switches, Trajectory, no_switches
+from .scalar import ScalarStep
+from .serial import SerialRun
 
 
-class _Run:
+class Run:
     """One thermostat run: runs of whole steps in one mode as a linear recurrence, and the
     steps where a mode changes split at the exact switching instants."""
 
-    def __init__(self, prob: _Problem, ctl: _Control) -> None:
+    def __init__(self, prob: Problem, ctl: ControlInputs) -> None:
         net = prob.network
         self.p, self.ctl = prob, ctl
         self.net = net
@@ -31,7 +31,7 @@ class _Run:
         self.v0, self.bq, self.bc = self.f.v[0], self.f.bm[:, m], self.r.bm[:, m]
         self.wq, self.gsum = net.held_power_weights, net.held_power_sum_w_per_k
         self.c0 = float(net.capacitance_j_per_k[0])
-        self.tolq = _TOL_K * self.gsum
+        self.tolq = TOL_K * self.gsum
         self.clamp = {HOLD: ctl.setpoint_c, VENT: ctl.vent_c}
         self.q = np.broadcast_to(ctl.q_max_w, (mm,))
         self.temps = np.empty((mm, nt, n))
@@ -42,14 +42,14 @@ class _Run:
         self.tint = np.zeros((mm, nt - 1, n))
         self.mode = np.zeros((mm, nt - 1), dtype=np.int8)
         self.scalar_events: list[tuple[int, int, float, int, list[float]]] = []  # one each
-        self.scalar = _ScalarStep(self)
+        self.scalar = ScalarStep(self)
 
     def run(self) -> Trajectory:
         """The whole run, one member at a time (`serial`, splitting with `scalar`)."""
         p = self.p
         self.temps[:, 0] = np.broadcast_to(p.initial_c, (p.n_members, self.net.n_nodes))
         for i in range(p.n_members):
-            _Serial(self, i).run()
+            SerialRun(self, i).run()
         return self._trajectory()
 
     def _trajectory(self) -> Trajectory:
@@ -72,7 +72,7 @@ class _Run:
             o = np.lexsort((off, stp, mem))
             sw = Switches(mem[o], stp[o], off[o], p.times_s[stp[o]] + off[o], mode[o], st[o])
         else:
-            sw = _no_switches(n)
+            sw = no_switches(n)
         return Trajectory(
             p.times_s,
             self.temps,

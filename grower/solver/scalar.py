@@ -29,12 +29,12 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .explin import _roots_sum
-from .modes import _MAX_SWITCHES, _TOL_K, FLOAT, FULL, HOLD, VENT
-from .stepping import _series3, _sphi, _sphi2
+from .explin import roots_of_sum
+from .modes import FLOAT, FULL, HOLD, MAX_SWITCHES, TOL_K, VENT
+from .stepping import phi2_scalar, phi3_series, phi123_scalar
 
 if TYPE_CHECKING:
-    from .runs import _Run
+    from .runs import Run
 
 _expm1, _exp, _inf = math.expm1, math.exp, math.inf
 
@@ -140,12 +140,12 @@ def _first_root(
     if gw > 0 and g0 > -noise and not down:
         cq = 0.0
         for k, li in zip(k2, lam, strict=True):
-            cq += k * _sphi2(li * w) * (1 - 1e-12) if k > 0 else 0.5 * k
+            cq += k * phi2_scalar(li * w) * (1 - 1e-12) if k > 0 else 0.5 * k
         if _no_dip(g0, d0, cq, w, noise):
             return _inf
     br = [0.0, w]
     if r > 2:
-        infl = _roots_sum(np.array([k2]), np.array(lam), np.array([w]))[0]
+        infl = roots_of_sum(np.array([k2]), np.array(lam), np.array([w]))[0]
         br = [0.0, *sorted(float(x) for x in infl[~np.isnan(infl)]), w]
     gv = [g0] + [_gval(g0, b1, a, lam, x) for x in br[1:-1]] + [gw]
     if g0 <= 0:
@@ -242,7 +242,7 @@ def _first_root2(g0, b1, a0, a1, l0, l1, w, gw, scale, noise) -> float:  # type:
         for k, li in ((k0, l0), (k1, l1)):
             if k > 0:
                 y = li * w
-                p2 = 0.5 + y * _series3(y) if abs(y) < 0.05 else (_expm1(y) / y - 1.0) / y
+                p2 = 0.5 + y * phi3_series(y) if abs(y) < 0.05 else (_expm1(y) / y - 1.0) / y
                 cq += k * p2 * (1 - 1e-12)
             else:
                 cq += 0.5 * k
@@ -277,11 +277,11 @@ def _first_root2(g0, b1, a0, a1, l0, l1, w, gw, scale, noise) -> float:  # type:
     return _in_pieces(g0, b1, [a0, a1], [l0, l1], [k0, k1], br, gv, noise)
 
 
-class _ScalarStep:
+class ScalarStep:
     """The mode machine inside one step of one member, in Python floats: the modes, the
     switching instants (first roots on the exact solution), the jumps at a step's start."""
 
-    def __init__(self, run: _Run) -> None:
+    def __init__(self, run: Run) -> None:
         self.run = run
         f, r = run.f, run.r
         self.lam, self.w, self.v = f.lam.tolist(), f.w.tolist(), f.v.tolist()
@@ -353,7 +353,7 @@ class _ScalarStep:
         to a clamp or by a jump, mode, heater and vent output, heat and vent jump [J]).
         ``start``: at a step's start, where the air may jump to the vent temperature (above
         it) or to the setpoint (below it, with a heater without limit)."""
-        tol, sp, vt, qm = _TOL_K, self.sp, self.vt, self.qm
+        tol, sp, vt, qm = TOL_K, self.sp, self.vt, self.qm
         ta, jh, jv = x[0], 0.0, 0.0
         if start:
             if ta > vt + tol:
@@ -390,7 +390,7 @@ class _ScalarStep:
     def _classify_two(self, s: float, x: list[float], start: bool):  # type: ignore[no-untyped-def]
         """`classify` for a network of two nodes, `_qreq_one` written in (the same
         arithmetic and rules)."""
-        tol, sp, vt, qm = _TOL_K, self.sp, self.vt, self.qm
+        tol, sp, vt, qm = TOL_K, self.sp, self.vt, self.qm
         ta, x1 = x
         jh = jv = 0.0
         if start:
@@ -507,7 +507,7 @@ class _ScalarStep:
         ww, www = w * w, w * w * w
         for la, zi, bi, gi in zip(lam, z, beta, gam, strict=True):
             y = la * w
-            e, p1, p2, p3 = _sphi(y)
+            e, p1, p2, p3 = phi123_scalar(y)
             z1.append(e * zi + w * p1 * bi + ww * p2 * gi)
             iz.append(w * p1 * zi + ww * p2 * bi + www * p3 * gi)
         tv = self.v if free else self.vr
@@ -528,7 +528,7 @@ class _ScalarStep:
     def _segment_two(self, s: float, x: list[float], md: int):  # type: ignore[no-untyped-def]
         """`_segment` for a network of two nodes (two modes, one with the air held), its
         sums written out: the same arithmetic in the same order, so the same to the bit.
-        The network's constants come unpacked from `_consts2`; `_sphi` is written in, and
+        The network's constants come unpacked from `_consts2`; `phi123_scalar` is written in, and
         with no switch its ``expm1`` is the one of the end value ``ew``."""
         h, b0, b1, d0, d1, br0, dbr0, qbk, dqbk, sp, vt = self.row
         qm, rem, ih = self.qm, h - s, 1.0 / h
@@ -585,11 +585,11 @@ class _ScalarStep:
                 ema, emb = _expm1(la * w), _expm1(lb * w)
             ww, www = w * w, w * w * w
             y = la * w
-            e, p1, p2, p3 = _sphi(y, ema)
+            e, p1, p2, p3 = phi123_scalar(y, ema)
             z1a = e * za + w * p1 * ba + ww * p2 * ga
             iza = w * p1 * za + ww * p2 * ba + www * p3 * ga
             y = lb * w
-            e, p1, p2, p3 = _sphi(y, emb)
+            e, p1, p2, p3 = phi123_scalar(y, emb)
             z1b = e * zb + w * p1 * bb + ww * p2 * gb
             izb = w * p1 * zb + ww * p2 * bb + www * p3 * gb
             xs = [v00 * z1a + v01 * z1b, v10 * z1a + v11 * z1b]
@@ -634,7 +634,7 @@ class _ScalarStep:
             ema = _expm1(la * w)
         ww, www = w * w, w * w * w
         y = la * w
-        e, p1, p2, p3 = _sphi(y, ema)
+        e, p1, p2, p3 = phi123_scalar(y, ema)
         z1a, iza = e * za + w * p1 * ba + ww * p2 * ga, w * p1 * za + ww * p2 * ba + www * p3 * ga
         qb0 = qbk + dqbk * (s / h)
         iq = 0.5 * w * (2 * qb0 + dqbk * (w / h)) + c * iza + tq * gsum * w
@@ -670,8 +670,8 @@ class _ScalarStep:
         eh, ev = eh + e1, ev + e2
         s, n = 0.0, 1  # n: the segments so far
         while dt != _inf:
-            if n == _MAX_SWITCHES:
-                raise RuntimeError(f"thermostat: more than {_MAX_SWITCHES} switches in step {k}")
+            if n == MAX_SWITCHES:
+                raise RuntimeError(f"thermostat: more than {MAX_SWITCHES} switches in step {k}")
             s, n = s + dt, n + 1
             x, md, _, _, _, _ = classify(s, x, start=False)
             rn.scalar_events.append((i, k, s, md, x))

@@ -33,7 +33,7 @@ from functools import cached_property
 import numpy as np
 
 from .network import Network
-from .stepping import _phi123
+from .stepping import phi123
 
 #: a change of slope (times the step) above this share of an input's largest
 #: magnitude makes a knot; a straight line sampled by np.interp bends by a few 1e-16. An
@@ -129,7 +129,7 @@ def knots(h: np.ndarray, *series: np.ndarray, names: tuple[str, ...] = ()) -> np
 def hold_coefficients(lam: np.ndarray, s: np.ndarray) -> tuple[np.ndarray, ...]:
     """``e^(lam s)``, ``s phi1(lam s)``, ``s^2 phi2(lam s)`` for offsets s (K,): (K, r) each."""
     sc = np.asarray(s, dtype=float)[:, None]
-    e, p1, p2, _ = _phi123(lam[None, :] * sc)
+    e, p1, p2, _ = phi123(lam[None, :] * sc)
     return e, sc * p1, sc * sc * p2
 
 

@@ -2,7 +2,7 @@
 
 Each mode gets, once per member, a particular solution over the whole horizon (from a
 zero modal state; the heater's share at full output is its steady response, see
-`_Serial._heater`) and the limits its watched value must keep, with
+`SerialRun._heater`) and the limits its watched value must keep, with
 the curvature bound of that solution already taken off. A run of whole steps in one mode
 is then that solution plus the decay of the state's deviation from it, ``z_j = zb_j +
 P_j d`` with ``P_j`` the product of the step decays; a window of steps is checked in a
@@ -29,11 +29,11 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .modes import _TOL_K, FLOAT, FULL, HOLD, VENT
-from .stepping import _recur1
+from .modes import FLOAT, FULL, HOLD, TOL_K, VENT
+from .stepping import recur_one
 
 if TYPE_CHECKING:
-    from .runs import _Run
+    from .runs import Run
 
 #: longest window of whole steps checked at once
 _LMAX = 4096
@@ -68,10 +68,10 @@ class _ModeData:
     el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
 
 
-class _Serial:
-    """The thermostat run of member ``i`` of `_Run` ``run``, writing into its arrays."""
+class SerialRun:
+    """The thermostat run of member ``i`` of `Run` ``run``, writing into its arrays."""
 
-    def __init__(self, run: _Run, i: int) -> None:
+    def __init__(self, run: Run, i: int) -> None:
         self.rn, self.i = run, i
         p, ctl = run.p, run.ctl
         self.nt = p.times_s.size
@@ -115,7 +115,7 @@ class _Serial:
         """(r, N) solution of ``z[k+1] = e z[k] + forcing[:, k]`` from z = 0, per mode."""
         out = np.empty((lam.size, self.nt))
         for j in range(lam.size):
-            out[j] = _recur1(tab.e[:, j], self.rn.p.uniform, forcing[j][None], np.zeros(1), 1)[0]
+            out[j] = recur_one(tab.e[:, j], self.rn.p.uniform, forcing[j][None], np.zeros(1), 1)[0]
         return out
 
     def _heater(self, lam: np.ndarray, tab, bq: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
@@ -134,7 +134,7 @@ class _Serial:
             out[fast] = (-bq[fast, 0] / lam[fast])[:, None]
         uni, zero = self.rn.p.uniform, np.zeros(1)
         for j in np.flatnonzero(~fast):
-            out[j] = _recur1(tab.e[:, j], uni, (tab.f1[:, j] * bq[j, 0])[None], zero, 1)[0]
+            out[j] = recur_one(tab.e[:, j], uni, (tab.f1[:, j] * bq[j, 0])[None], zero, 1)[0]
         return out
 
     def _free(self) -> np.ndarray:
@@ -150,7 +150,7 @@ class _Serial:
         if md in self.data:
             return self.data[md]
         rn, p = self.rn, self.rn.p
-        tol, tolq, h = _TOL_K, rn.tolq, p.h
+        tol, tolq, h = TOL_K, rn.tolq, p.h
         lo = same = tc = None
         if md in (FLOAT, FULL):
             lam, tab, wv = rn.f.lam, p.full, rn.v0
@@ -304,7 +304,7 @@ class _Serial:
             run = 0
             if md >= 0:
                 m = data.get(md) or self._mode(md)
-                if m.tc is None or abs(x[0] - m.tc[k]) <= _TOL_K:
+                if m.tc is None or abs(x[0] - m.tc[k]) <= TOL_K:
                     xr = x if m.tc is None else x[1:]
                     zk = m.zrows[k].tolist()
                     d = [sum(map(mul, row, xr)) - b for row, b in zip(m.to_modes, zk, strict=True)]
@@ -439,7 +439,7 @@ def _chord_gap(lam: np.ndarray, h: float) -> np.ndarray:
 
 
 def _limits(val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None) -> np.ndarray:
-    """A mode's limits on its watched value as slacks for `_Serial._window`, (N-1, L).
+    """A mode's limits on its watched value as slacks for `SerialRun._window`, (N-1, L).
 
     Step j keeps the mode when both end values plus the bound stay at or under ``hi[j]``
     (and less it at or above ``lo[j]``): with the deviation's share ``dv`` at the step's

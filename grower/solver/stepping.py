@@ -26,11 +26,11 @@ _RF_LIST = _RF.tolist()  # Python floats: numpy scalars are slow one at a time
 _R3, _R4, _R5, _R6, _R7, _R8, _R9, _R10, _R11, _R12 = _RF_LIST[3:13]
 
 
-def _phi123(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+def phi123(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """``exp(x), phi1(x), phi2(x), phi3(x)``, to round-off for any x <= 0."""
     x = np.asarray(x, dtype=float)
     if x.size <= 16:  # a few step lengths: Python floats are quicker than array calls
-        out = np.array([_sphi(v) for v in x.ravel().tolist()]).T.reshape((4, *x.shape))
+        out = np.array([phi123_scalar(v) for v in x.ravel().tolist()]).T.reshape((4, *x.shape))
         return out[0], out[1], out[2], out[3]
     small = np.abs(x) < 0.5
     xs = np.where(small, 1.0, x)
@@ -52,7 +52,7 @@ def _phi123(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarr
 
 
 @dataclass(frozen=True)
-class _Table:
+class StepTable:
     """Per-step coefficients (N-1, r): z1 = e z0 + f1 b0 + f2 (b1 - b0); int z = i1 z0 + i2 b0 + i3 (b1 - b0)."""
 
     e: np.ndarray
@@ -62,16 +62,16 @@ class _Table:
     i3: np.ndarray
 
 
-def _table(lam: np.ndarray, unique_h: np.ndarray, kind: np.ndarray) -> _Table:
+def step_table(lam: np.ndarray, unique_h: np.ndarray, kind: np.ndarray) -> StepTable:
     hu = unique_h[:, None]
-    e, p1, p2, p3 = _phi123(lam[None, :] * hu)
+    e, p1, p2, p3 = phi123(lam[None, :] * hu)
     cols = (e, hu * p1, hu * p2, hu * hu * p2, hu * hu * p3)
     if unique_h.size == 1:  # one step length: read-only views of its single row
-        return _Table(*(np.broadcast_to(a, (kind.size, lam.size)) for a in cols))
-    return _Table(*(a[kind] for a in cols))
+        return StepTable(*(np.broadcast_to(a, (kind.size, lam.size)) for a in cols))
+    return StepTable(*(a[kind] for a in cols))
 
 
-def _recur1(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray, mm: int) -> np.ndarray:
+def recur_one(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray, mm: int) -> np.ndarray:
     """``z[k+1] = e[k] z[k] + f[k]`` for one mode: f (Mf, N-1), z0 (Mz,) -> z (mm, N)."""
     k1 = f.shape[1]
     out = np.empty((mm, k1 + 1))
@@ -79,7 +79,7 @@ def _recur1(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray, mm: int
     if k1 == 0:
         return out
     if f.shape[0] != mm:  # shared forcing: one particular solution plus the free decay
-        zp = _recur1(e, uniform, f, np.zeros(1), 1)
+        zp = recur_one(e, uniform, f, np.zeros(1), 1)
         decay = np.empty(k1 + 1)
         decay[0] = 1.0
         np.cumprod(e, out=decay[1:])
@@ -165,7 +165,7 @@ def _scan_short(e: float, memory: int, f: np.ndarray, z0: np.ndarray) -> np.ndar
 
 
 #: from this many members on, `recurrence` steps all of them at once, step by step
-_MANY = 32
+MANY = 32
 
 
 def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.ndarray:
@@ -175,7 +175,7 @@ def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> n
     ----------
     e : (N-1, r) step decays ``exp(lam h)`` of each mode
     uniform : all steps have one length (``e`` is the same on every row)
-    f : (r, M, N-1) forcing of each step (from `_table`'s ``f1``, ``f2``)
+    f : (r, M, N-1) forcing of each step (from `step_table`'s ``f1``, ``f2``)
     z0 : (r, M) or (r, 1) modal state at the first grid time
 
     Returns
@@ -189,10 +189,10 @@ def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> n
     round-off.
     """
     r, mm, k1 = f.shape
-    if mm < _MANY:
+    if mm < MANY:
         out = np.empty((r, mm, k1 + 1))
         for i in range(r):
-            out[i] = _recur1(e[:, i], uniform, f[i], z0[i], mm)
+            out[i] = recur_one(e[:, i], uniform, f[i], z0[i], mm)
         return out
     ft = np.ascontiguousarray(f.transpose(2, 0, 1))  # (N-1, r, M): a step is a row
     zt = np.empty((k1 + 1, r, mm))
@@ -206,7 +206,7 @@ def recurrence(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> n
     return np.ascontiguousarray(zt.transpose(1, 2, 0))
 
 
-def _series3(x: float) -> float:
+def phi3_series(x: float) -> float:
     """``phi3(x)`` by its series, for |x| < 0.05 (nine terms reach round-off), Horner's
     scheme written out (the split steps call this often)."""
     s3 = _R12 * x + _R11
@@ -220,11 +220,11 @@ def _series3(x: float) -> float:
     return s3 * x + _R3
 
 
-def _sphi(x: float, em: float | None = None) -> tuple[float, float, float, float]:
-    """Scalar `_phi123` (series below |x| = 0.05, `_series3`, with ``phi2 = 1/2 + x phi3``
+def phi123_scalar(x: float, em: float | None = None) -> tuple[float, float, float, float]:
+    """Scalar `phi123` (series below |x| = 0.05, `phi3_series`, with ``phi2 = 1/2 + x phi3``
     and ``phi1 = 1 + x phi2``); ``em``: ``expm1(x)`` if the caller has it already."""
     if abs(x) < 0.05:
-        s3 = _series3(x)
+        s3 = phi3_series(x)
         s2 = 0.5 + x * s3
         return math.exp(x), 1.0 + x * s2, s2, s3
     p1 = (math.expm1(x) if em is None else em) / x
@@ -232,8 +232,8 @@ def _sphi(x: float, em: float | None = None) -> tuple[float, float, float, float
     return math.exp(x), p1, p2, (p2 - 0.5) / x
 
 
-def _sphi2(x: float) -> float:
-    """``phi2(x)`` alone, as `_sphi` computes it."""
+def phi2_scalar(x: float) -> float:
+    """``phi2(x)`` alone, as `phi123_scalar` computes it."""
     if abs(x) < 0.05:
-        return 0.5 + x * _series3(x)
+        return 0.5 + x * phi3_series(x)
     return (math.expm1(x) / x - 1.0) / x

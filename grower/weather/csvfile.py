@@ -21,12 +21,12 @@ from grower.site import Site
 from grower.units import M_S_PER_MPH, f_to_c
 from grower.weather.forecast import (
     Forecast,
-    _check_and_repair,
-    _localize,
-    _make,
-    _parse_time,
-    _zone,
-    _zone_offsets,
+    check_and_repair,
+    localize,
+    make_forecast,
+    parse_time,
+    zone_info,
+    zone_offsets,
 )
 
 #: CSV column -> (frame column, conversion to the frame's unit, unit label)
@@ -74,7 +74,7 @@ def read_forecast_csv(
     """
     where = os.fspath(path)
     zone_name = timezone or (site.timezone if site else None)
-    zone = _zone(zone_name, where) if zone_name else None
+    zone = zone_info(zone_name, where) if zone_name else None
     text = files.read_text(path, files.FORECAST_FILE_MAX_BYTES, where, what="UTF-8 text")
     try:
         reader = csv.reader(io.StringIO(text, newline=""))
@@ -100,7 +100,7 @@ def read_forecast_csv(
     cells = {h: [row[j].strip() for _, row in rows] for j, h in enumerate(header)}
 
     times = [
-        _parse_time(text, f"line {line}", where)
+        parse_time(text, f"line {line}", where)
         for text, line in zip(cells["time"], lines, strict=True)
     ]
     lo_year, hi_year = limits.YEARS
@@ -126,7 +126,7 @@ def read_forecast_csv(
         utc_s = np.array([t.timestamp() for t in times])
         offsets = np.array([int(t.utcoffset().total_seconds()) for t in times])
     else:
-        utc_s, offsets = _localize(times, zone, [f"line {n}, column time" for n in lines], where)
+        utc_s, offsets = localize(times, zone, [f"line {n}, column time" for n in lines], where)
 
     values, label_unit = {}, {}
     for head, (col, convert, unit) in columns.items():
@@ -145,7 +145,7 @@ def read_forecast_csv(
         return f"{cells[head][i]} {unit}"
 
     _check_wind(values, label_unit, cells, lines, where)
-    utc_s, offsets, values, warnings = _check_and_repair(
+    utc_s, offsets, values, warnings = check_and_repair(
         utc_s,
         offsets,
         values,
@@ -156,12 +156,12 @@ def read_forecast_csv(
     )
     _check_fahrenheit(values, label_unit, where)
     if site is not None and "shortwave_w_m2" in values:
-        _check_sun(utc_s, values["shortwave_w_m2"], site, where)
+        check_sun(utc_s, values["shortwave_w_m2"], site, where)
     elif "shortwave_w_m2" in values:
         _warn_night_sun(utc_s, offsets, values["shortwave_w_m2"], where)
     if zone is not None:
         tz, tz_name = zone, zone_name
-        offsets = _zone_offsets(utc_s, zone)
+        offsets = zone_offsets(utc_s, zone)
     elif arrays.unique(offsets).size == 1:
         tz, tz_name = dt.timezone(dt.timedelta(seconds=int(offsets[0]))), None
     else:
@@ -173,7 +173,7 @@ def read_forecast_csv(
                 *warnings,
                 "the file's UTC offsets change in a way no time zone does: times shown in UTC",
             ]
-    return _make(
+    return make_forecast(
         utc_s,
         offsets,
         values,
@@ -200,7 +200,7 @@ def _zone_keeping(utc_s, offsets) -> dt.tzinfo:
             dt.datetime.fromtimestamp(float(utc_s[i]), zone).utcoffset().total_seconds()
             == offsets[i]
             for i in probe
-        ) and np.array_equal(_zone_offsets(utc_s, zone), offsets):
+        ) and np.array_equal(zone_offsets(utc_s, zone), offsets):
             return zone
     return dt.UTC
 
@@ -241,7 +241,7 @@ CELSIUS_MEDIAN_WARN_C = 30.0
 #: the solar constant [W m-2] (Kopp & Lean 2011, Geophys. Res. Lett. 38:L01706)
 SOLAR_CONSTANT_W_M2 = 1361.0
 #: slack on the sun's elevation [°] and on the irradiance [W m-2] before sun in a file
-#: is called impossible (see `_check_sun`; common practice, no source)
+#: is called impossible (see `check_sun`; common practice, no source)
 SUN_SLACK_DEG = 30.0
 SUN_OFFSET_W_M2 = 100.0
 
@@ -289,7 +289,7 @@ def solar_elevation_deg(utc_s, latitude_deg: float, longitude_deg: float):
     return np.degrees(np.arcsin(np.clip(sin_el, -1.0, 1.0)))
 
 
-def _check_sun(
+def check_sun(
     utc_s, shortwave, site: Site, where: str, column: str = "column shortwave_w_m2"
 ) -> None:
     """Refuse sun the sky cannot give: more than the solar constant on a horizontal

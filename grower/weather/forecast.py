@@ -2,8 +2,8 @@
 
 A `Forecast` is an hourly (or finer) frame with a time-zone-aware index and the columns
 of `COLUMNS`, NaN where the source gave nothing. Each source (`grower.weather.csvfile`,
-`grower.weather.low`, `grower.weather.openmeteo`) builds one with `_make` after
-`_check_and_repair` has checked order, ranges, gaps and dew point and filled a single
+`grower.weather.low`, `grower.weather.openmeteo`) builds one with `make_forecast` after
+`check_and_repair` has checked order, ranges, gaps and dew point and filled a single
 missing value or row by linear interpolation, stating each repair.
 
 Times: inside, every instant is UTC epoch seconds, so durations are right across a DST
@@ -47,7 +47,7 @@ RANGES: dict[str, tuple[float, float]] = {
 MAX_GAP_S = 3 * 3600.0
 #: a dew point this far above the air temperature [K] is clipped (with a warning); more is an error
 DEW_POINT_EXCESS_K = 0.5
-_UNIT_LABEL = {
+UNIT_LABEL = {
     "temperature_c": "°C",
     "dew_point_c": "°C",
     "cloud_cover_pct": "%",
@@ -57,7 +57,7 @@ _UNIT_LABEL = {
 }
 
 
-def _num(value: float) -> str:
+def signed_number(value: float) -> str:
     """A number for messages, with a true minus sign: −4, 2.5."""
     return f"{value:g}".replace("-", "−")
 
@@ -325,7 +325,7 @@ def time_index(utc_s: NDArray[np.float64], tz: Any) -> Any:
     return pd.DatetimeIndex(pd.to_datetime(micro, unit="us", utc=True), name="time").tz_convert(tz)
 
 
-def _zone(name: str, where: str) -> ZoneInfo:
+def zone_info(name: str, where: str) -> ZoneInfo:
     try:
         return ZoneInfo(name)
     except (ZoneInfoNotFoundError, ValueError):
@@ -334,7 +334,7 @@ def _zone(name: str, where: str) -> ZoneInfo:
         ) from None
 
 
-def _make(utc_s, offsets_s, values, given, *, tz, timezone, **meta) -> Forecast:
+def make_forecast(utc_s, offsets_s, values, given, *, tz, timezone, **meta) -> Forecast:
     return Forecast(
         samples=_samples(utc_s, offsets_s, values, tz),
         given=tuple(c for c in COLUMNS if c in given),
@@ -346,7 +346,7 @@ def _make(utc_s, offsets_s, values, given, *, tz, timezone, **meta) -> Forecast:
 # ---------------------------------------------------------------- validation (shared)
 
 
-def _check_and_repair(
+def check_and_repair(
     utc_s: NDArray[np.float64],
     offsets: NDArray[np.int64],
     values: dict[str, NDArray[np.float64]],
@@ -375,7 +375,7 @@ def _check_and_repair(
             elif col == "wind_speed_m_s":
                 what = "is a negative wind speed"
             else:
-                what = f"is outside {_num(lo)}…{_num(hi)} {_UNIT_LABEL[col]}"
+                what = f"is outside {signed_number(lo)}…{signed_number(hi)} {UNIT_LABEL[col]}"
             raise InputError(f"{label(i)}, column {name[col]}: {raw(col, i)} {what}", where=where)
     n = utc_s.size
     if n < 2:
@@ -448,7 +448,7 @@ def _check_and_repair(
 # ---------------------------------------------------------------- times (shared)
 
 
-def _parse_time(text: str, label: str, where: str) -> dt.datetime:
+def parse_time(text: str, label: str, where: str) -> dt.datetime:
     try:
         return dt.datetime.fromisoformat(text)
     except ValueError:
@@ -459,7 +459,7 @@ def _parse_time(text: str, label: str, where: str) -> dt.datetime:
         ) from None
 
 
-def _localize(
+def localize(
     naive: Sequence[dt.datetime], zone: ZoneInfo, labels: Sequence[str], where: str | None
 ) -> tuple[NDArray[np.float64], NDArray[np.int64]]:
     """Naive clock times in `zone` → UTC seconds and offsets; ambiguous ones by order."""
@@ -480,7 +480,7 @@ def _localize(
     return np.array(utc), np.array(offsets)
 
 
-def _zone_offsets(utc_s: NDArray[np.float64], zone: Any) -> NDArray[np.int64]:
+def zone_offsets(utc_s: NDArray[np.float64], zone: Any) -> NDArray[np.int64]:
     return np.array(
         [int(dt.datetime.fromtimestamp(t, zone).utcoffset().total_seconds()) for t in utc_s]
     )

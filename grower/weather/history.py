@@ -30,7 +30,7 @@ import numpy as np
 from grower.errors import InputError
 from grower.site import Site
 from grower.weather.forecast import Forecast
-from grower.weather.openmeteo import _OPEN_METEO_VARS, _is_forecast, _reason, parse_openmeteo
+from grower.weather.openmeteo import OPEN_METEO_VARS, failure_reason, is_forecast, parse_openmeteo
 
 DEFAULT_HISTORY_URL = "https://archive-api.open-meteo.com"
 #: the archive lags real time by a few days (from memory: about five)
@@ -56,13 +56,13 @@ def _is_complete_history(response) -> bool:
     """Cache only whole answers: 200, hourly data, and a value at the last hour of every
     variable. The archive lags real time by a few days and answers the days it does not
     have yet with nulls; such an answer is used once, not kept for good."""
-    if not _is_forecast(response):
+    if not is_forecast(response):
         return False
     try:
         hourly = response.json()["hourly"]
         return all(
             isinstance(hourly.get(v), list) and hourly[v] and hourly[v][-1] is not None
-            for v in _OPEN_METEO_VARS
+            for v in OPEN_METEO_VARS
         )
     except Exception:
         return False
@@ -99,7 +99,7 @@ def fetch_history(
         "longitude": f"{site.longitude_deg:.4f}",
         "start_date": start.isoformat(),
         "end_date": end.isoformat(),
-        "hourly": ",".join(_OPEN_METEO_VARS),
+        "hourly": ",".join(OPEN_METEO_VARS),
         "timezone": "auto",
         "wind_speed_unit": "ms",
     }
@@ -130,7 +130,7 @@ def fetch_history(
             )
         except requests.exceptions.RequestException as exc:
             raise InputError(
-                f"cannot reach the weather history service at {base} ({_reason(exc)}) and no "
+                f"cannot reach the weather history service at {base} ({failure_reason(exc)}) and no "
                 f"cached history for {span}; give {instead} instead"
             ) from None
         except sqlite3.Error as exc:

@@ -21,15 +21,15 @@ from grower import diurnal
 from grower.errors import InputError
 from grower.site import Site
 from grower.weather.forecast import (
-    _UNIT_LABEL,
     MAX_GAP_S,
     RANGES,
+    UNIT_LABEL,
     Forecast,
-    _localize,
-    _make,
-    _num,
-    _zone,
-    _zone_offsets,
+    localize,
+    make_forecast,
+    signed_number,
+    zone_info,
+    zone_offsets,
 )
 
 #: high = low + this when no high is given [K]. from memory: a typical clear-day range in
@@ -82,25 +82,27 @@ def forecast_from_low(
     Parton & Logan (1981), *Agric. Meteorol.* 23:205–216; Kimball & Bellamy (1986),
     *Energy in Agriculture* 5:185–197 (see `grower.diurnal`).
     """
-    zone = _zone(site.timezone, "site")
+    zone = zone_info(site.timezone, "site")
     if start.tzinfo is None:
-        start_s = float(_localize([start], zone, ["start time"], None)[0][0])
+        start_s = float(localize([start], zone, ["start time"], None)[0][0])
     else:
         start_s = start.timestamp()
     warnings = []
-    source = f"forecast low {_num(low_c)} °C"
+    source = f"forecast low {signed_number(low_c)} °C"
     _check_range(low_c, "temperature_c", "forecast low")
     if high_c is None:
         high_c = low_c + DEFAULT_DIURNAL_RANGE_K
         warnings.append(
             f"no forecast high given: high taken as the low + {DEFAULT_DIURNAL_RANGE_K:g} K = "
-            f"{_num(high_c)} °C (a typical day's range, from memory)"
+            f"{signed_number(high_c)} °C (a typical day's range, from memory)"
         )
     else:
-        source += f", high {_num(high_c)} °C"
+        source += f", high {signed_number(high_c)} °C"
     _check_range(high_c, "temperature_c", "forecast high")
     if high_c < low_c:
-        raise InputError(f"forecast high {_num(high_c)} °C is below the low {_num(low_c)} °C")
+        raise InputError(
+            f"forecast high {signed_number(high_c)} °C is below the low {signed_number(low_c)} °C"
+        )
     _check_range(dew_point_c, "dew_point_c", "dew point")
     _check_range(cloud_pct, "cloud_cover_pct", "cloud cover")
     _check_range(wind_m_s, "wind_speed_m_s", "wind speed")
@@ -121,14 +123,14 @@ def forecast_from_low(
         values["dew_point_c"] = np.minimum(dew_point_c, temp)
         if dew_point_c > temp.min():
             warnings.append(
-                f"dew point {_num(dew_point_c)} °C is above the air temperature at times: "
+                f"dew point {signed_number(dew_point_c)} °C is above the air temperature at times: "
                 "capped at the air temperature there (saturated air)"
             )
     for value, col in ((cloud_pct, "cloud_cover_pct"), (wind_m_s, "wind_speed_m_s")):
         if value is not None:
             values[col] = np.full(count, float(value))
-    offsets = _zone_offsets(utc_s, zone)
-    return _make(
+    offsets = zone_offsets(utc_s, zone)
+    return make_forecast(
         utc_s,
         offsets,
         values,
@@ -143,5 +145,7 @@ def forecast_from_low(
 def _check_range(value: float | None, col: str, what: str) -> None:
     lo, hi = RANGES[col]
     if value is not None and not (np.isfinite(value) and lo <= value <= hi):
-        unit = _UNIT_LABEL[col]
-        raise InputError(f"{what} {_num(value)} {unit} is outside {_num(lo)}…{_num(hi)} {unit}")
+        unit = UNIT_LABEL[col]
+        raise InputError(
+            f"{what} {signed_number(value)} {unit} is outside {signed_number(lo)}…{signed_number(hi)} {unit}"
+        )

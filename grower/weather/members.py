@@ -28,8 +28,8 @@ from grower.errors import InputError
 from grower.site import Site
 from grower.weather.forecast import Forecast
 from grower.weather.openmeteo import (
-    _OPEN_METEO_VARS,
-    _OPTIONAL_VARS,
+    OPEN_METEO_VARS,
+    OPTIONAL_VARS,
     Fetched,
     check_answer,
     get_cached_json,
@@ -136,7 +136,7 @@ def parse_ensemble(
         suffix = f"_member{n:02d}" if n else ""
         sub_hourly: dict[str, Any] = {"time": hourly.get("time")}
         sub_units: dict[str, Any] = {}
-        for var in (*_OPEN_METEO_VARS, *_OPTIONAL_VARS):
+        for var in (*OPEN_METEO_VARS, *OPTIONAL_VARS):
             key = f"{var}{suffix}"
             if key in hourly:
                 sub_hourly[var] = hourly[key]

@@ -33,12 +33,12 @@ from grower.errors import InputError
 from grower.site import Site
 from grower.units import M_S_PER_MPH, f_to_c
 from grower.weather.forecast import (
-    _UNIT_LABEL,
+    UNIT_LABEL,
     Forecast,
-    _check_and_repair,
-    _make,
-    _parse_time,
-    _zone_offsets,
+    check_and_repair,
+    make_forecast,
+    parse_time,
+    zone_offsets,
 )
 
 DEFAULT_FORECAST_URL = "https://api.open-meteo.com"
@@ -47,7 +47,7 @@ MAX_UTC_OFFSET_S = 14 * 3600
 #: most hours an answer may hold (30 years of history; a forecast has 384)
 MAX_HOURS = 24 * 366 * 30
 OPEN_METEO_ATTRIBUTION = "Weather data by Open-Meteo.com (CC BY 4.0)"
-_OPEN_METEO_VARS = {
+OPEN_METEO_VARS = {
     "temperature_2m": "temperature_c",
     "dew_point_2m": "dew_point_c",
     "cloud_cover": "cloud_cover_pct",
@@ -55,7 +55,7 @@ _OPEN_METEO_VARS = {
     "shortwave_radiation": "shortwave_w_m2",
 }
 #: asked for too, used when the answer carries it (the sky under low cloud is warmer)
-_OPTIONAL_VARS = {"cloud_cover_low": "cloud_cover_low_pct"}
+OPTIONAL_VARS = {"cloud_cover_low": "cloud_cover_low_pct"}
 
 
 def forecast_url() -> str:
@@ -85,7 +85,7 @@ class Fetched:
     age_s: float
 
 
-def _is_forecast(response: Any) -> bool:
+def is_forecast(response: Any) -> bool:
     """Cache only 200 answers that are JSON objects with hourly data."""
     try:
         return response.status_code == 200 and isinstance(response.json().get("hourly"), dict)
@@ -93,7 +93,7 @@ def _is_forecast(response: Any) -> bool:
         return False
 
 
-def _reason(exc: Exception) -> str:
+def failure_reason(exc: Exception) -> str:
     text = str(exc)
     match = re.search(r"\[Errno -?\d+\] ([^'\")]+)", text)
     return match.group(1).strip() if match else type(exc).__name__
@@ -141,7 +141,7 @@ def site_query(site: Site, days: int, **more: str) -> dict[str, str]:
     return {
         "latitude": f"{site.latitude_deg:.4f}",
         "longitude": f"{site.longitude_deg:.4f}",
-        "hourly": ",".join([*_OPEN_METEO_VARS, *_OPTIONAL_VARS]),
+        "hourly": ",".join([*OPEN_METEO_VARS, *OPTIONAL_VARS]),
         **more,
         "timezone": "auto",
         "forecast_days": str(days),
@@ -176,7 +176,7 @@ def get_cached_json(
             expire_after=expire_after_s,
             stale_if_error=True,
             allowable_codes=(200,),
-            filter_fn=_is_forecast,
+            filter_fn=is_forecast,
         )
     except Exception as exc:  # sqlite3 / OS errors opening the cache
         raise InputError(
@@ -199,7 +199,7 @@ def get_cached_json(
             ) from None
         except requests.exceptions.RequestException as exc:
             raise InputError(
-                f"cannot reach {service} ({_reason(exc)}) and no cached {what} for this site"
+                f"cannot reach {service} ({failure_reason(exc)}) and no cached {what} for this site"
             ) from None
         except sqlite3.Error as exc:
             raise InputError(
@@ -290,8 +290,8 @@ def parse_openmeteo(
             f"hourly_units is a JSON {type(units).__name__}, not an object of units", where=where
         )
     values: dict[str, NDArray[np.float64]] = {}
-    present = {v: c for v, c in _OPTIONAL_VARS.items() if isinstance(hourly.get(v), list)}
-    for var, col in {**_OPEN_METEO_VARS, **present}.items():
+    present = {v: c for v, c in OPTIONAL_VARS.items() if isinstance(hourly.get(v), list)}
+    for var, col in {**OPEN_METEO_VARS, **present}.items():
         series = hourly.get(var)
         if not isinstance(series, list):
             raise InputError(f"the answer has no hourly.{var}", where=where)
@@ -323,7 +323,7 @@ def parse_openmeteo(
     utc_s = np.empty(len(stamps))
     lo_year, hi_year = limits.YEARS
     for i, text in enumerate(stamps):
-        when = _parse_time(str(text), f"hourly.time[{i}]", where)
+        when = parse_time(str(text), f"hourly.time[{i}]", where)
         if not lo_year <= when.year <= hi_year:
             raise InputError(
                 f"hourly.time[{i}]: the year {when.year} is outside {lo_year}–{hi_year}",
@@ -337,20 +337,20 @@ def parse_openmeteo(
     if utc_s.size == 0:
         raise InputError("no hour has all variables", where=where)
     raw = {c: v.copy() for c, v in values.items()}
-    utc_s, _, values, more = _check_and_repair(
+    utc_s, _, values, more = check_and_repair(
         utc_s,
         np.full(utc_s.size, int(offset)),
         values,
         label=labels.__getitem__,
-        name={c: v for v, c in {**_OPEN_METEO_VARS, **present}.items() if c in values},
-        raw=lambda c, i: f"{raw[c][i]:g} {_UNIT_LABEL[c]}",
+        name={c: v for v, c in {**OPEN_METEO_VARS, **present}.items() if c in values},
+        raw=lambda c, i: f"{raw[c][i]:g} {UNIT_LABEL[c]}",
         where=where,
     )
     warnings += more
     if site is not None:
-        from grower.weather.csvfile import _check_sun
+        from grower.weather.csvfile import check_sun
 
-        _check_sun(utc_s, values["shortwave_w_m2"], site, where, "hourly.shortwave_radiation")
+        check_sun(utc_s, values["shortwave_w_m2"], site, where, "hourly.shortwave_radiation")
     zone_name = site.timezone if site else document.get("timezone")
     if not isinstance(zone_name, str):
         zone_name = None
@@ -360,9 +360,9 @@ def parse_openmeteo(
         tz = None
     if tz is None:
         zone_name, tz = None, dt.timezone(dt.timedelta(seconds=int(offset)))
-    return _make(
+    return make_forecast(
         utc_s,
-        _zone_offsets(utc_s, tz),
+        zone_offsets(utc_s, tz),
         values,
         set(values),
         tz=tz,
