@@ -403,6 +403,7 @@ def test_crop_alarm_against_scipy_on_the_lumped_model(tmp_path, capsys):
     # and it is the first shortfall, the heater's second, with the same coldest value
     kinds = [s["kind"] for s in d["shortfalls"]]
     assert kinds == ["crop", "heater"]
+    assert d["crop"]["cause"] == "heater" and d["crop"]["heater_stops_at_run_out"] is False
     assert d["shortfalls"][0]["min_c"] == pytest.approx(d["crop"]["min_plant_c"])
     assert d["shortfalls"][0]["to"] == d["crop"]["last_below_at"] == d["end"]
     assert main([*args, "--threshold", "2C", "--start", start]) == 0
@@ -550,3 +551,54 @@ def test_cost_line_gives_the_price_per_the_unit_shown(capsys, monkeypatch):
         assert f"at {price}" in out
         costs[units] = out.split(", cost ")[1].split(" at ")[0]
     assert costs["metric"] == costs["us"]
+
+
+RUN_OUT = [
+    "stock",
+    "examples/gable-house.toml",
+    "--setpoint",
+    "10C",
+    "--night-setpoint",
+    "5C",
+    "--forecast",
+    SNAP,
+    "--start",
+    "2026-12-05T00:00",
+    "--on-hand",
+    "2 100-lb cylinders",
+    "--fill",
+    "50%",
+    "--crop",
+    "tomato",
+]
+
+
+def test_the_crop_line_describes_the_run_out(capsys):
+    # two half-full 100-lb cylinders run out on the second night: the crop check is the
+    # run whose heater stops then, so the crop, the fuel line and after_run_out agree
+    d = run_json(capsys, *RUN_OUT)
+    c, after = d["crop"], d["after_run_out"]
+    assert d["runs_out_at"] is not None and after["crop_alarm_at"] is not None
+    assert c["reached"] is True and c["heater_stops_at_run_out"] is True
+    assert c["cause"] == "run_out"
+    assert c["first_below_at"] == after["crop_alarm_at"]
+    assert c["min_plant_c"] == pytest.approx(after["min_plant_c"])
+    assert c["first_below_at"] > d["runs_out_at"]
+    # the run-out is the one shortfall to act on for the crop: no crop shortfall of its own
+    assert [s["kind"] for s in d["shortfalls"]][0] == "fuel"
+    assert all(s["kind"] != "crop" for s in d["shortfalls"])
+    assert main(RUN_OUT) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Crop alarm not reached" not in out
+    assert "Crop alarm reached once the fuel runs out — tomato (fruiting)" in out
+    assert "pass the tomato (fruiting) alarm at Sun 06 Dec 03:50" in out
+    assert "fall below -0.1 °C from Sun 06 Dec 03:50" in out
+
+
+def test_the_crop_with_fuel_enough_is_the_heated_run(capsys):
+    # 900 L (the house file's stock) lasts the snap: the crop check is the heated run
+    argv = [a for a in RUN_OUT if a not in ("--on-hand", "2 100-lb cylinders", "--fill", "50%")]
+    d = run_json(capsys, *argv)
+    assert d["runs_out_at"] is None and d["after_run_out"] is None
+    assert d["crop"]["heater_stops_at_run_out"] is False
+    assert d["crop"]["reached"] is False and d["crop"]["cause"] is None

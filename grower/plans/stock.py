@@ -20,7 +20,7 @@ from __future__ import annotations
 import datetime as dt
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -91,6 +91,12 @@ class CropCheck:
     damage_c: float | None = None
     margin_k: float = 0.0
     basis: str = ""
+    #: the run checked stops heating when the stock is gone (the fuel runs out in the
+    #: forecast); False: the heater runs all through
+    run_out: bool = False
+    #: what takes the plants below the alarm: "heater" (while there is fuel: the heater or
+    #: the setpoint falls short), "run_out" (only once the fuel is gone), None (not reached)
+    cause: str | None = None
 
 
 @dataclass(frozen=True)
@@ -391,9 +397,35 @@ def vapour(
     return worst or first
 
 
-def crop_check(run: tr.Run, crop: str | CropAlarm, alarm_c: float | None = None) -> CropCheck:
-    """Plants (air less the leaf offset) against the crop's alarm temperature."""
+def crop_check(
+    run: tr.Run,
+    crop: str | CropAlarm,
+    alarm_c: float | None = None,
+    *,
+    dry: tr.Run | None = None,
+    runs_out: dt.datetime | None = None,
+) -> CropCheck:
+    """Plants (air less the leaf offset) against the crop's alarm temperature.
+
+    With `dry`, the run whose heater stops when the fuel runs out at `runs_out`, the
+    plants are checked on it (what the house does with the fuel on hand), and ``cause``
+    says whether the heater falls short while there is fuel (`run`, unlimited fuel,
+    reaches the alarm before the run-out) or only the run-out takes them there."""
     a = crop if isinstance(crop, CropAlarm) else CropAlarm(crop, float(alarm_c))
+    heated = _crop_on(run, a)
+    if dry is None:
+        return heated
+    out = _crop_on(dry, a)
+    if out.first_at is None:
+        cause = None
+    elif heated.first_at is not None and (runs_out is None or heated.first_at < runs_out):
+        cause = "heater"
+    else:
+        cause = "run_out"
+    return replace(out, run_out=True, cause=cause)
+
+
+def _crop_on(run: tr.Run, a: CropAlarm) -> CropCheck:
     below = run.plant_c[:-1] < a.alarm_c
     first = int(np.argmax(below)) if below.any() else None
     return CropCheck(
@@ -406,6 +438,7 @@ def crop_check(run: tr.Run, crop: str | CropAlarm, alarm_c: float | None = None)
         hours_below=float(run.step_s[below].sum() / 3600.0),
         min_plant_c=float(run.plant_c.min()),
         last_at=_last_end(run, below),
+        cause=None if first is None else "heater",
     )
 
 
@@ -440,12 +473,13 @@ def shortfalls(
     run, crop, runs_out, lasts, vap, extra_w=None, after: AfterRunOut | None = None
 ) -> tuple[Shortfall, ...]:
     """What falls short, worst first: the crop, the heater, the fuel, the vapour — the
-    fuel before the heater when the plants reach their alarm once it has run out.
+    fuel before the heater when the plants reach their alarm once it has run out (the
+    crop then is no shortfall of its own: the fuel's is the one to act on).
 
     `extra_w`: the output the heater lacks (an unlimited heater's peak less its own);
     `after`: the house once the fuel has run out."""
     out = []
-    if crop is not None and crop.first_at is not None:
+    if crop is not None and crop.first_at is not None and crop.cause != "run_out":
         out.append(
             Shortfall("crop", crop.first_at, crop.hours_below, crop.min_plant_c, until=crop.last_at)
         )
@@ -583,11 +617,13 @@ def stock(
     vap = vapour(run, heat, stock_, withdrawal, runs_out)
     if isinstance(crop, tuple):
         crop = CropAlarm(*crop)
-    crop_result = crop_check(run, crop) if crop else None
-    dry = None
+    dry = dry_run = None
     if runs_out is not None:
         # the same forecast with the heater stopping when the fuel is gone
-        dry = after_run_out(simulate(heat_until_ns=t_out), t_out, crop)
+        dry_run = simulate(heat_until_ns=t_out)
+        dry = after_run_out(dry_run, t_out, crop)
+    # the plants as the fuel on hand keeps them: on the run whose heater stops at run-out
+    crop_result = crop_check(run, crop, dry=dry_run, runs_out=runs_out) if crop else None
 
     notes += list(weather.assumptions(forecast))
     note = hm.calibration_note(house, kind, use_calibration)

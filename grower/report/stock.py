@@ -91,6 +91,9 @@ def stock_json(r: StockResult) -> dict[str, Any]:
             "min_plant_c": r.crop.min_plant_c,
             "last_below_at": iso(r.crop.last_at),
             "reached": r.crop.first_at is not None,
+            # true: checked on the run whose heater stops when the stock is gone
+            "heater_stops_at_run_out": r.crop.run_out,
+            "cause": r.crop.cause,
             "damage_c": r.crop.damage_c,
             "margin_k": r.crop.margin_k,
             "threshold_basis": r.crop.basis,
@@ -262,11 +265,22 @@ def render_stock(console, r: StockResult, system: UnitSystem) -> None:
             "bold" if r.order.order_now else None,
         )
     if r.crop is not None and r.crop.first_at is None:
+        once = " even once the fuel runs out" if r.crop.run_out else ""
         plain(
             console,
             f"Crop alarm not reached — {r.crop.crop}: the plants stay above "
-            f"{T(r.crop.alarm_c)}; coldest {T(r.crop.min_plant_c)}.",
+            f"{T(r.crop.alarm_c)}{once}; coldest {T(r.crop.min_plant_c)}.",
             None if r.shortfalls else "green",
+        )
+    elif r.crop is not None and r.crop.cause == "run_out":
+        c = r.crop
+        span = f"from {_when(c.first_at)}" + (f" to {_when(c.last_at)}" if c.last_at else "")
+        plain(
+            console,
+            f"Crop alarm reached once the fuel runs out — {c.crop}: the plants fall below "
+            f"{T(c.alarm_c)} {span}, {c.hours_below:.1f} h in all, down to "
+            f"{T(c.min_plant_c)}.",
+            "red",
         )
     if r.crop is not None:
         from grower.report.tonight import alarm_words
