@@ -105,6 +105,12 @@ class VapourCheck:
     short: bool = False
     count_needed: int | None = None  # containers of this kind, at this fill, for the input
     at: Any = None  # the time of the check (a datetime) or None for a design condition
+    #: which fill is checked: "now" (the fill given), "then" (the fill left at the hour
+    #: checked), "refill" (the refill level `refill_pct`: the fill left then is lower),
+    #: or None (a design condition or the house file's fill)
+    fill_basis: str | None = None
+    #: the refill level checked at [%: a cylinder's share of full, a tank's gauge]
+    refill_pct: float | None = None
 
     @property
     def vaporisation_w(self) -> float | None:

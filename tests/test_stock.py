@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -602,3 +603,42 @@ def test_the_crop_with_fuel_enough_is_the_heated_run(capsys):
     assert d["runs_out_at"] is None and d["after_run_out"] is None
     assert d["crop"]["heater_stops_at_run_out"] is False
     assert d["crop"]["reached"] is False and d["crop"]["cause"] is None
+
+
+def test_vapour_is_checked_at_the_refill_level_not_at_the_run_out(capsys):
+    # the same two half-full cylinders: the coldest heated hour before the run-out is
+    # Sun 06 Dec 03:20, when almost nothing is left; the check takes the 30 % refill
+    # level there (the grower refills or swaps by then), never the empty cylinder
+    d = run_json(capsys, *RUN_OUT)
+    v = d["vaporisation"]
+    assert v["fill_basis"] == "refill" and v["refill_pct"] == 30.0
+    assert v["share_full"] == pytest.approx(0.30) and v["gauge_pct"] == pytest.approx(30.0)
+    assert v["at"] < d["runs_out_at"]
+    assert not v["extrapolated"]
+    # by hand from the published table (Flame Engineering, "Propane Information: Propane
+    # Vaporization Chart", the same as Kohler TP-6727 Appendix D Figure 1): 30 lb of
+    # propane, 45,000 Btu/h at 0 °F and 66,000 at 20 °F, linear between; °F = °C × 9/5 +
+    # 32 exactly; 1 Btu/h = 1055.05585262 J / 3600 s (the International Table Btu)
+    t_f = v["outside_c"] * 9 / 5 + 32
+    assert 0 <= t_f <= 20
+    per = (45_000 + (66_000 - 45_000) * t_f / 20) * 1055.05585262 / 3600
+    assert v["per_container_w"] == pytest.approx(per, rel=1e-9)
+    assert d["vaporisation_w"] == pytest.approx(2 * per, rel=1e-9)
+    assert d["vaporisation_short"] is False  # about 38 kW against the 29.3 kW input
+    assert all(s["kind"] != "vapour" for s in d["shortfalls"])
+    assert main(RUN_OUT) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Two 100-lb cylinders at 30 % full (the refill level; less is left then)" in out
+    assert not re.search(r"(?<![\d.])0 % full", out)
+
+
+def test_vapour_above_the_refill_level_is_the_fill_left_then(capsys):
+    # a full pair: the fill left at the coldest hour it reaches before the 30 % floor
+    argv = [("100%" if a == "50%" else a) for a in RUN_OUT]
+    d = run_json(capsys, *argv)
+    v = d["vaporisation"]
+    assert v["fill_basis"] in ("then", "refill") and v["share_full"] >= 0.30 - 1e-12
+    from grower import vaporisation
+
+    again = vaporisation.supply("100-lb cylinder", 2, v["share_full"], v["outside_c"])
+    assert d["vaporisation_w"] == pytest.approx(again.capacity_w)

@@ -312,11 +312,7 @@ def order(
     j_per = fuel.j_per(stock.unit)
     known = stock.capacity is not None and stock.container is not None
     full = stock.capacity if known else stock.amount
-    if known and stock.container.fill_fraction is not None:
-        share = reserve_pct / (100.0 * stock.container.fill_fraction.value)
-    else:
-        share = reserve_pct / 100.0
-    level = full * share
+    level = full * (refill_share(stock, reserve_pct) if known else reserve_pct / 100.0)
     left = fuel_left_j(run, stock, eff)
     at = time_of_level(run, left, level * j_per)
     extrapolated = False
@@ -348,15 +344,31 @@ def order(
     )
 
 
+def refill_share(stock: fuels.FuelStock, reserve_pct: float) -> float:
+    """The refill level as a share of a full fill [0–1]: `reserve_pct` is a tank's gauge
+    reading (a full tank reads 80 %, the filling limit) or a cylinder's share of full."""
+    c = stock.container
+    if c is not None and c.fill_fraction is not None:
+        return reserve_pct / (100.0 * c.fill_fraction.value)
+    return reserve_pct / 100.0
+
+
 def vapour(
     run: tr.Run,
     heat: Heating,
     stock: fuels.FuelStock | None,
     withdrawal: str,
     runs_out: dt.datetime | None,
+    reserve_pct: float = DEFAULT_RESERVE_PCT,
 ) -> vaporisation.VapourCheck:
-    """The containers' vapour on the day's coldest heated hour that gives least, at the
-    fill they will have then, against the heaters' input (the unlimited one's peak)."""
+    """The containers' vapour on the day's coldest heated hour (before any run-out) that
+    gives least, against the heaters' input (the unlimited one's peak).
+
+    The fill checked is the one left at that hour, but never below the refill level
+    (`reserve_pct`, the level the grower orders at and refills or swaps containers by:
+    below it a nearly empty container's vapour says nothing the order-by line does not,
+    and at the run-out it is zero); when the fill now is at or below the refill level
+    already, the fill now. ``fill_basis`` says which: "then", "refill" or "now"."""
     peak_in = float(run.heat_w.max()) / heat.efficiency
     input_w = heat.input_w if heat.input_w else peak_in
     first = vaporisation.check(
@@ -370,6 +382,11 @@ def vapour(
         if stock.energy_j > 0
         else 0 * left
     )
+    floor = refill_share(stock, reserve_pct)
+    if stock.share_full <= floor:
+        share = np.full_like(share, stock.share_full)
+    basis = np.where(stock.share_full <= floor, "now", np.where(share < floor, "refill", "then"))
+    share = np.where(basis == "refill", floor, share)
     firing = run.heat_w > 0
     if runs_out is not None:
         firing &= run.utc_s < runs_out.timestamp()
@@ -377,7 +394,7 @@ def vapour(
         firing = np.ones_like(firing)
     dates, idx = tr.local_days(run)
     idx = np.append(idx, idx[-1])
-    worst = None
+    worst = worst_k = None
     for d in range(len(dates)):
         sel = np.flatnonzero((idx == d) & firing)
         if sel.size == 0:
@@ -393,8 +410,13 @@ def vapour(
             at=run.time(run.times_ns[k]),
         )
         if worst is None or c.supply.capacity_w < worst.supply.capacity_w:
-            worst = c
-    return worst or first
+            worst, worst_k = c, k
+    if worst is None:
+        return first
+    b = str(basis[worst_k])
+    if b == "then" and share[worst_k] >= stock.share_full - 1e-9:
+        b = "now"  # the hour checked comes before any fuel is burned
+    return replace(worst, fill_basis=b, refill_pct=reserve_pct if b == "refill" else None)
 
 
 def crop_check(
@@ -614,7 +636,7 @@ def stock(
                 "fuel on hand"
             )
     withdrawal = str(house.stock.get("withdrawal", "vapour"))
-    vap = vapour(run, heat, stock_, withdrawal, runs_out)
+    vap = vapour(run, heat, stock_, withdrawal, runs_out, plan.reserve_pct)
     if isinstance(crop, tuple):
         crop = CropAlarm(*crop)
     dry = dry_run = None

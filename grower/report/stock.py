@@ -80,7 +80,7 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         else r.order.order_by.isoformat(),
         "order_amount": None if r.order is None else r.order.amount,
         "order": None if r.order is None else _order_json(r.order),
-        **vapour.fields(r.vapour),
+        **_vapour_fields(r),
         "crop": None
         if r.crop is None
         else {
@@ -125,6 +125,16 @@ def stock_json(r: StockResult) -> dict[str, Any]:
         "thermostat_runs": r.n_runs,
         "cautions": list(r.cautions),
     }
+
+
+def _vapour_fields(r: StockResult) -> dict[str, Any]:
+    """The vapour check's JSON, with the fill it was made at: `fill_basis` "now" (the fill
+    given), "then" (the fill left at the hour checked) or "refill" (the refill level,
+    `refill_pct`: less is left then), null when not checked."""
+    out = vapour.fields(r.vapour)
+    out["vaporisation"]["fill_basis"] = r.vapour.fill_basis
+    out["vaporisation"]["refill_pct"] = r.vapour.refill_pct
+    return out
 
 
 def _order_json(o: Order) -> dict[str, Any]:

@@ -30,6 +30,12 @@ def sentence(check: VapourCheck, system: UnitSystem) -> tuple[str, bool]:
     s = check.supply
     what = _containers(s.container, s.count)
     level = f"{s.gauge_pct:.0f} %" + ("" if "tank" in s.container else " full")
+    if check.fill_basis == "now":
+        level += " (the fill now)"
+    elif check.fill_basis == "then":
+        level += " (the fill left then)"
+    elif check.fill_basis == "refill":
+        level += " (the refill level; less is left then)"
     temp = show_temperature(s.outside_c, system).text(0)
     when = f" ({check.at:%a %d %b %H:%M})" if check.at is not None else ""
     est = " (extrapolated beyond the printed table)" if s.extrapolated else ""
