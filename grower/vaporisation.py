@@ -111,6 +111,9 @@ class VapourCheck:
     fill_basis: str | None = None
     #: the refill level checked at [%: a cylinder's share of full, a tank's gauge]
     refill_pct: float | None = None
+    #: below this share of a full fill the containers fall short at the hour checked
+    #: (None: not asked, or short already)
+    short_below_share: float | None = None
 
     @property
     def vaporisation_w(self) -> float | None:
@@ -301,6 +304,22 @@ def check(
     per = sup.per_container_w
     need = math.ceil(input_w / per - 1e-9) if per > 0 else None
     return VapourCheck(True, None, sup, float(input_w), sup.capacity_w < input_w, need, at)
+
+
+def short_below(container_name: str, count: float, outside_c: float, input_w: float) -> float:
+    """The share of a full fill [0–1] below which `count` containers give less vapour
+    than `input_w` [W] at `outside_c` (1.0: short even full). The vapour rises with the
+    fill (the tables rise with pounds and gauge), so a bisection finds it."""
+    if supply(container_name, count, 1.0, outside_c).capacity_w < input_w:
+        return 1.0
+    lo, hi = 0.0, 1.0
+    for _ in range(40):
+        mid = 0.5 * (lo + hi)
+        if supply(container_name, count, mid, outside_c).capacity_w < input_w:
+            lo = mid
+        else:
+            hi = mid
+    return hi
 
 
 def house_check(

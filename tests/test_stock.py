@@ -626,9 +626,19 @@ def test_vapour_is_checked_at_the_refill_level_not_at_the_run_out(capsys):
     assert d["vaporisation_w"] == pytest.approx(2 * per, rel=1e-9)
     assert d["vaporisation_short"] is False  # about 38 kW against the 29.3 kW input
     assert all(s["kind"] != "vapour" for s in d["shortfalls"])
+    # below the refill level the cylinders run low in the forecast: the fill from which
+    # they starve the heater at that hour, where the 20 lb row's 36,000 and 51,000 Btu/h
+    # at 0 and 20 °F give about half the 100,000 Btu/h input each: about 20 %
+    below = v["short_below_share"]
+    from grower import vaporisation
+
+    at = vaporisation.supply("100-lb cylinder", 2, below, v["outside_c"]).capacity_w
+    assert at == pytest.approx(v["input_w"], rel=1e-6)
+    assert below == pytest.approx(0.20, abs=0.01)
     assert main(RUN_OUT) == 0
     out = " ".join(capsys.readouterr().out.split())
     assert "Two 100-lb cylinders at 30 % full (the refill level; less is left then)" in out
+    assert "below 20 % full they fall short at that temperature: refill or swap before." in out
     assert not re.search(r"(?<![\d.])0 % full", out)
 
 

@@ -416,7 +416,18 @@ def vapour(
     b = str(basis[worst_k])
     if b == "then" and share[worst_k] >= stock.share_full - 1e-9:
         b = "now"  # the hour checked comes before any fuel is burned
-    return replace(worst, fill_basis=b, refill_pct=reserve_pct if b == "refill" else None)
+    below = None
+    if b == "refill" and not worst.short:
+        # the fill goes below the refill level in the forecast: from what fill on the
+        # containers starve the heater at that hour (swap or refill before it)
+        s = worst.supply
+        below = vaporisation.short_below(s.container, s.count, s.outside_c, input_w)
+    return replace(
+        worst,
+        fill_basis=b,
+        refill_pct=reserve_pct if b == "refill" else None,
+        short_below_share=below,
+    )
 
 
 def crop_check(

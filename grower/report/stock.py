@@ -134,6 +134,8 @@ def _vapour_fields(r: StockResult) -> dict[str, Any]:
     out = vapour.fields(r.vapour)
     out["vaporisation"]["fill_basis"] = r.vapour.fill_basis
     out["vaporisation"]["refill_pct"] = r.vapour.refill_pct
+    # below this share of full the containers fall short at the hour checked (null: n/a)
+    out["vaporisation"]["short_below_share"] = r.vapour.short_below_share
     return out
 
 

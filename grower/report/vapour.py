@@ -44,6 +44,12 @@ def sentence(check: VapourCheck, system: UnitSystem) -> tuple[str, bool]:
         f"at {temp}{when}{est}; the heater needs {power(check.input_w, system)}"
     )
     if not check.short:
+        if check.short_below_share is not None:
+            from grower.vaporisation import gauge_pct
+
+            low = gauge_pct(s.container, check.short_below_share)
+            unit = "" if "tank" in s.container else " full"
+            head += f"; below {low:.0f} %{unit} they fall short at that temperature: refill or swap before"
         return head + ".", False
     if "cylinder" in s.container:
         more = (
