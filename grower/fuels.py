@@ -703,3 +703,31 @@ def heat_source(
             f"a {appliance.label} at {appliance.efficiency:.0%} instead of the installed heater"
         )
     return HeatSource(fuel, appliance, appliance.efficiency, False, None, tuple(notes))
+
+
+def house_on_hand(house: Any, fuel: str | Fuel) -> str | None:
+    """The house file's ``[stock] on_hand`` when it holds `fuel`, else None.
+
+    The stock holds ``[stock] fuel``, else the fuel the house burns by `heat_source`'s
+    rule (its heater's, else propane): a stock of propane is not read as natural gas or
+    oil when another fuel is asked for."""
+    stock = getattr(house, "stock", None) or {}
+    text = stock.get("on_hand")
+    if not text:
+        return None
+    held = get_fuel(stock.get("fuel") or heat_source(house).fuel.name)
+    return text if held == get_fuel(fuel) else None
+
+
+def bought_unit(house: Any, fuel: str | Fuel, on_hand_text: str | None = None) -> str:
+    """The one rule for the unit fuel amounts are given in (tonight, size, stock; their
+    JSON and the screens before any display conversion): the unit the grower buys it in
+    — that of `on_hand_text` (``--on-hand``) when given, else of the house file's
+    ``[stock] on_hand`` when it holds this fuel (`house_on_hand`) — else the fuel's
+    default unit (fuels.toml)."""
+    fuel = get_fuel(fuel)
+    text = on_hand_text if on_hand_text is not None else house_on_hand(house, fuel)
+    if not text:
+        return fuel.unit
+    where = "--on-hand" if on_hand_text is not None else f"{house.path}: stock.on_hand"
+    return parse_amount(text, fuel, where=where).unit

@@ -342,10 +342,10 @@ def house_check(
 
     stock_t = getattr(house, "stock", None) or {}
     withdrawal = str(stock_t.get("withdrawal", "vapour"))
-    text = stock_t.get("on_hand")
+    text = fuels.house_on_hand(house, source.fuel)  # the stock only if it holds this fuel
     where = f"{getattr(house, 'path', 'house')}: stock"
     stock = None
-    if text and fuels.get_fuel(stock_t.get("fuel") or source.fuel.name) == source.fuel:
+    if text:
         stock = fuels.parse_amount(text, source.fuel, where=f"{where}.on_hand")
         fill = stock_t.get("fill")
         if fill is not None:

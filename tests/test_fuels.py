@@ -377,3 +377,69 @@ def test_unit_table_factors_against_pint():
     for unit, (_, factor) in UNITS.items():
         expected = UREG.parse_expression(pint_names[unit]).to_base_units().magnitude
         assert factor == pytest.approx(expected, rel=PINT_BTU_RTOL), unit
+
+
+# ---------------------------------------------------------------- one unit rule
+
+
+def _json(capsys, argv):
+    import json
+
+    from grower.cli import main
+
+    code = main([*argv, "--json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    return json.loads(out)
+
+
+@pytest.mark.parametrize(
+    "house_file, unit",
+    [
+        # [stock] on_hand "900 L" of propane: litres
+        ("examples/gable-house.toml", "L"),
+        # [stock] natural gas with no amount on hand: the fuel table's therm
+        ("examples/glass-range.toml", "therm"),
+        ("examples/hoop-tunnel.toml", None),
+    ],
+)
+def test_tonight_size_and_stock_json_give_fuel_in_one_unit(capsys, house_file, unit):
+    from grower import fuels, house
+    from tests.reference_units import Q_
+
+    h = house.read(house_file)
+    src = fuels.heat_source(h)
+    expect = unit or fuels.bought_unit(h, src.fuel)
+    night = ["--forecast", "examples/forecast-cold-night.csv", "--start", "2026-12-03T16:00"]
+    snap = ["--forecast", "examples/forecast-cold-snap.csv", "--start", "2026-12-05T00:00"]
+    t = _json(capsys, ["tonight", house_file, "--crop", "tomato", *night])
+    s = _json(capsys, ["size", house_file, "--outside=-20C", "--hold", "10C"])
+    k = _json(capsys, ["stock", house_file, "--setpoint", "10C", *snap])
+    assert t["hold_fuel"]["unit"] == s["fuel"]["unit"] == k["fuel"]["unit"] == expect
+    # the size amount is the nameplate input over the unit's heating value; in litres it
+    # is the gallons by pint's US gallon (3.785411784 L, exact)
+    per_hour = s["recommended_input_w"] * 3600 / s["fuel"]["heating_value_j_per_unit"]
+    assert s["fuel"]["per_hour_at_full_fire"] == pytest.approx(per_hour, rel=1e-12)
+    if expect == "L":
+        gal = fuels.fuel_per_hour(s["recommended_input_w"], src.fuel, "gal").amount_per_hour
+        litres = Q_(gal, "gallon").to("liter").magnitude
+        assert s["fuel"]["per_hour_at_full_fire"] == pytest.approx(litres, rel=1e-9)
+
+
+def test_a_stock_of_another_fuel_is_not_read_as_this_one(capsys):
+    # the gable house keeps 900 L of propane: asked for natural gas or oil, stock does
+    # not take those litres for gas (an error before) or for oil (900 L of oil before),
+    # nor their price
+    from grower import fuels, house
+
+    snap = ["--forecast", "examples/forecast-cold-snap.csv", "--start", "2026-12-05T00:00"]
+    base = ["stock", "examples/gable-house.toml", "--setpoint", "10C", *snap]
+    for fuel, unit in (("natural-gas", "therm"), ("heating-oil", "gal")):
+        d = _json(capsys, [*base, "--fuel", fuel])
+        assert d["on_hand"] is None and d["price"] is None and d["runs_out_at"] is None
+        assert d["fuel"]["unit"] == unit
+    h = house.read("examples/gable-house.toml")
+    assert fuels.house_on_hand(h, "propane") == "900 L"
+    assert fuels.house_on_hand(h, "natural-gas") is None
+    assert fuels.bought_unit(h, "propane") == "L"
+    assert fuels.bought_unit(h, "propane", "2 100-lb cylinders") == "gal"

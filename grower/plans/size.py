@@ -292,7 +292,8 @@ def size(
     fuel, appliance = source.fuel, source.appliance
     output = loss * safety_factor
     inp = output / source.efficiency
-    per_hour = fuels.fuel_per_hour(inp, fuel)
+    # in the unit the grower buys the fuel in (the rule tonight and stock use too)
+    per_hour = fuels.fuel_per_hour(inp, fuel, fuels.bought_unit(house, fuel))
     electric = fuel.name == "electricity"
     units = unit_choices(inp, electric, source.efficiency, loss)
     air = {} if electric else combustion_air_openings(inp)

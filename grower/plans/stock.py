@@ -227,14 +227,15 @@ def on_hand(
 ) -> fuels.FuelStock | None:
     """The fuel on hand (--on-hand, else [stock] on_hand) at its fill (--fill, [stock] fill)."""
     where = "--on-hand" if text is not None else f"{house.path}: stock.on_hand"
-    src = text if text is not None else house.stock.get("on_hand")
+    # the house file's stock only when it holds this fuel (fuels.house_on_hand)
+    src = text if text is not None else fuels.house_on_hand(house, fuel)
     if fill is None and text is None:
         fill = house.stock.get("fill")
         fill_where = f"{house.path}: stock.fill"
     else:
         fill_where = "--fill"
     if not src:
-        if fill is not None:
+        if fill is not None and fill_where == "--fill":
             raise InputError("a fill level needs the fuel on hand (--on-hand)", where=fill_where)
         return None
     stock = fuels.parse_amount(src, fuel, where=where)
@@ -605,9 +606,16 @@ def stock(
     notes += more
     fuel, eff = heat.fuel, heat.efficiency
     stock_ = on_hand(house, fuel, plan.on_hand_text, plan.fill_text)
-    out_unit = plan.unit or (stock_.unit if stock_ else fuel.unit)
+    # the unit the grower buys it in: the one rule tonight and size use (fuels.bought_unit)
+    out_unit = plan.unit or (stock_.unit if stock_ else fuels.bought_unit(house, fuel))
     price = plan.price
-    if price is None and house.stock.get("price") is not None and plan.on_hand_text is None:
+    if (
+        price is None
+        and house.stock.get("price") is not None
+        and plan.on_hand_text is None
+        and fuels.house_on_hand(house, fuel) is not None
+    ):
+        # the house file's price is per unit of its stock's fuel
         price = float(house.stock["price"])
 
     installed = math.inf if heat.heater_output_w is None else heat.heater_output_w
