@@ -120,6 +120,36 @@ def _grid(
     return times, np.array(nights, dtype=bool)[which]
 
 
+def _start_state(mdl, bnd, t_s: np.ndarray, sp: np.ndarray, day_s: float = 86400.0):
+    """Node temperatures [°C] at the start: the air at the setpoint in force, the other
+    nodes (soil, water) at their steady state with the air held at the mean setpoint and
+    the time-mean boundary (outside air, sky, deep ground) and sun over the run's first
+    `day_s` seconds (all of it when shorter).
+
+    The mean of a linear network's periodic state is exactly its steady state under the
+    mean inputs (the derivative of a periodic state averages to zero over its period), so
+    this is the soil of a house held at its setpoints through days like the first one:
+    the days before the forecast are taken to be like its first. The soil (τ about half a
+    day) is not in balance with the hour it starts at: one clear hour's sky, −20 °C, held
+    for days would put it below both the air and the deep ground.
+    (common practice, no source: building simulation runs its first day over and over
+    before the period it reports, for the same reason)"""
+    end = min(t_s[0] + day_s, t_s[-1])
+    keep = int(np.searchsorted(t_s, end, side="right"))
+    t = t_s[:keep]
+    w = np.zeros(keep)
+    dt_ = np.diff(t)
+    w[:-1] += dt_ / 2.0
+    w[1:] += dt_ / 2.0
+    w = w / w.sum() if w.sum() > 0 else np.full(keep, 1.0 / keep)
+    bc = np.asarray(bnd.solver_boundary(mdl))[:keep]
+    gains = np.asarray(bnd.solver_gains(mdl))[:keep]
+    level = np.append(sp, sp[-1])[:keep]
+    x = runs.held_steady_state(mdl, w @ bc, w @ gains, float(w @ level))
+    x[0] = float(sp[0])
+    return x
+
+
 def _weighted(values: np.ndarray, weights: np.ndarray) -> float:
     total = float(weights.sum())
     return float((values * weights).sum() / total) if total > 0 else float(values.mean())
@@ -208,10 +238,17 @@ def simulate(
         bc = bnd.solver_boundary(mdl)[sl]
         gains = bnd.solver_gains(mdl)[sl]
         if x is None:
-            # start in balance with a house held at its setpoint: air at the setpoint,
-            # the mass at its steady state with the air there (common practice, no source)
-            x = runs.held_steady_state(mdl, bc[0], gains[0], float(sp[0]))
-            notes.append("the house is taken to start at its setpoint, the soil in balance with it")
+            x = _start_state(mdl, bnd, t_s, sp)
+            span_h = (t_s[-1] - t_s[0]) / 3600.0
+            notes.append(
+                "the house is taken to start at its setpoint, the soil in balance with it "
+                + (
+                    "and the first day's mean weather (the days before taken to be like it)"
+                    if span_h >= 24.0
+                    else f"and the mean weather of the forecast's {span_h:.0f} h (the days "
+                    "before taken to be like them: with no day in them, the cautious side)"
+                )
+            )
         setp = np.append(fire[i0:i1], fire[i1 - 1])
         res = runs.thermostat(
             mdl, t_s[sl] - t_s[i0], bc, x, setp, q_max_w, gains, house.vent_temperature_c
