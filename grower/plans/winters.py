@@ -2,10 +2,10 @@
 
 Each winter runs as `stock` runs a forecast (`plans.thermostat_run`: the same thermostat,
 setpoints, sun, venting and curtain), from the first to the last hour of its history,
-starting at the setpoint with the soil in balance with the first day's mean weather. So one winter's heat is exactly what
-`stock` gives on the same hourly series. Per winter: heat and fuel per month and for the
-season, its cost, and the hours the installed heater could not hold the setpoint; over
-the winters: the median and the coldest (lowest mean outside temperature).
+starting at the setpoint with the soil in balance with the first day's mean weather. So
+one winter's heat is exactly what `stock` gives on the same hourly series. Per winter:
+heat and fuel per month and for the season, its cost, and the hours the installed heater
+could not hold the setpoint; over the winters: the median and the coldest (lowest mean outside temperature).
 """
 
 from __future__ import annotations
