@@ -5,7 +5,8 @@ setpoints, sun, venting and curtain), from the first to the last hour of its his
 starting at the setpoint with the soil in balance with the first day's mean weather. So
 one winter's heat is exactly what `stock` gives on the same hourly series. Per winter:
 heat and fuel per month and for the season, its cost, and the hours the installed heater
-could not hold the setpoint; over the winters: the median and the coldest (lowest mean outside temperature).
+could not hold the setpoint; over the winters: the median and the coldest (lowest mean
+outside temperature).
 """
 
 from __future__ import annotations
