@@ -64,9 +64,14 @@ def test_size_heat_loss_is_k_times_difference(capsys, house):
 
 def test_size_propane_gallon_per_hour_from_eia_figure(capsys):
     # US EIA: propane 91,452 Btu/gal. A 100,000 Btu/h input burns 100000/91452 gal/h.
+    # The gable house buys its propane in litres ([stock] on_hand = "900 L"), so size
+    # gives litres like tonight and stock: the US gallon is 3.785411784 L exactly (NIST
+    # Handbook 44, Appendix C: 231 in³)
     d = run_json(capsys, "size", "examples/gable-house.toml", "--outside", "-20C", "--hold", "5C")
     btu_h = d["recommended_input_w"] / 0.29307107
-    assert d["fuel"]["per_hour_at_full_fire"] == pytest.approx(btu_h / 91452, rel=2e-3)
+    assert d["fuel"]["unit"] == "L"
+    litres = btu_h / 91452 * 3.785411784
+    assert d["fuel"]["per_hour_at_full_fire"] == pytest.approx(litres, rel=2e-3)
 
 
 def test_size_wind_and_crop(capsys):
