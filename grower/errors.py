@@ -18,6 +18,7 @@ EXIT_OK = 0
 #: bad input: one line on stderr says what and where
 EXIT_INPUT = 2
 #: ``tonight --alert-status``: action needed tonight, and the installed heater holds the alarm
+#: (or, the plants below it at the start, brings them back before damage and holds them)
 EXIT_ACTION = 3
 #: ``tonight --alert-status``: damage expected even with the installed heat (too small, none
 #: installed, or the plants are below the alarm already and the heater cannot bring them back)
