@@ -324,3 +324,57 @@ def test_a_heater_too_small_to_hold_it_stays_4(capsys, tmp_path, soil):
         assert h["recovered_at"] is None and h["damage_at"] is not None
         assert _seconds(d, h["damage_at"]) > 0
         assert "even at full output the plants reach the damage temperature -1.1 °C at" in out
+
+
+# ------------------------------------ one bare number, houses of different units (issue)
+
+MIXED = ["tonight", "examples/hoop-tunnel.toml", "examples/gable-house.toml", "--crop", "kale"]
+
+
+@pytest.mark.parametrize(
+    ("extra", "option"),
+    [
+        (["--low", "-4"], "--low"),
+        (["--low", "-4C", "--high", "50"], "--high"),
+        (["--low", "-4C", "--dew-point", "-9"], "--dew-point"),
+        (["--forecast", NIGHT, "--inside-now", "3"], "--inside-now"),
+        (["--forecast", NIGHT, "--threshold", "1"], "--threshold"),
+        (["--forecast", NIGHT, "--colder", "3"], "--colder"),
+    ],
+)
+def test_a_bare_number_is_refused_when_the_houses_disagree_on_units(capsys, extra, option):
+    # the tunnel's [site] says us, the gable house's metric: "-4" would be -4 °F for one
+    # and -4 °C for the other. One line naming the option, exit 2, nothing on stdout
+    code = main([*MIXED, *extra, "--start", "2026-12-03T16:00"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == ""
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith(f"Error: {option}: "), err
+    assert "different units" in lines[0] and "Traceback" not in err
+    value = extra[-1]
+    assert f"write {value}" in lines[0]  # e.g. "write -4C or -4F"
+
+
+def test_a_written_unit_reads_the_same_for_every_house(capsys):
+    # -4C is -4 °C for both houses: the two nights are the same curve, whatever the screen
+    argv = [*MIXED, "--low", "-4C", "--start", "2026-12-03T16:00", "--json", "--draws", "0"]
+    assert main(argv) == 0
+    out, err = capsys.readouterr()
+    docs = json.loads(out)["houses"]
+    lows = {d["house"]: min(p["outside_c"] for p in d["series"]) for d in docs}
+    assert set(lows) == {"Lane tunnel", "Propagation house"}
+    assert all(v == pytest.approx(-4.0, abs=0.05) for v in lows.values()), lows
+    assert "read as" not in err  # nothing was bare
+
+
+def test_a_bare_number_with_units_given_is_read_once_and_said_once(capsys):
+    argv = [*MIXED, "--low", "25", "--units", "us", "--start", "2026-12-03T16:00"]
+    assert main([*argv, "--json", "--draws", "0"]) == 0
+    out, err = capsys.readouterr()
+    assert err.count("--low: 25 read as 25 °F") == 1, err
+    lows = [min(p["outside_c"] for p in d["series"]) for d in json.loads(out)["houses"]]
+    # 25 °F = -3.89 °C for both houses (pint: tests/reference_units.py)
+    from .reference_units import UREG
+
+    expected = UREG.Quantity(25.0, "degF").to("degC").magnitude
+    assert lows == pytest.approx([expected, expected], abs=0.05)

@@ -275,15 +275,19 @@ def start_time(args: argparse.Namespace, house, forecast):
     return _parse_time(args.start, tz, "--start").astimezone(forecast.tz)
 
 
-def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
-    """The forecast the options ask for: a file, a forecast low, or the live service."""
+def get_forecast(args: argparse.Namespace, house, *, days: int | None = None, houses=None):
+    """The forecast the options ask for: a file, a forecast low, or the live service.
+
+    Bare numbers (``--low -4``) are read in the units of `houses`, the run's houses
+    (default: this one): one number means one temperature for every house of the run,
+    and it is refused when their units disagree."""
     import datetime as dt
 
     from grower import limits, weather
     from grower.units import parse_quantity
 
     site = house.site
-    system = reading_system(args, [house])
+    system = reading_system(args, houses if houses is not None else [house])
     why = _why(args, system or "metric")
     extras = [o for o in ("high", "dew_point", "cloud", "wind") if getattr(args, o, None)]
     if args.forecast:
