@@ -51,6 +51,29 @@ def test_trip_wire_is_the_night_that_just_touches_the_alarm(capsys, tmp_path):
     assert abs(at["air_c"] - trip["air_below_c"]) < 1.5
 
 
+def test_the_check_again_line_says_what_the_forecast_expects_then(capsys):
+    # the forecast's own inside air at the check time, no heat: the night's series there
+    # (a grid time, or between two), and below the trip-wire reading on a night that
+    # reaches the alarm (the trip wire's night is the warmer one that just touches it)
+    import datetime as dt
+
+    doc = _tonight(capsys, NIGHT)
+    trip = doc["check_again"]
+    when = dt.datetime.fromisoformat(trip["time"]).timestamp()
+    ts = [dt.datetime.fromisoformat(p["time"]).timestamp() for p in doc["series"]]
+    air = [p["air_c"] for p in doc["series"]]
+    assert trip["air_expected_c"] == pytest.approx(float(np.interp(when, ts, air)), abs=1e-9)
+    assert trip["air_expected_c"] < trip["air_below_c"]
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", "8C", "--soil-now", "9C"]
+    clock = trip["time"][11:16]
+    f = trip["air_expected_c"] * 1.8 + 32.0  # °F = °C·1.8 + 32 (exact, by definition)
+    for units, shown in (("metric", f"{trip['air_expected_c']:.1f} °C"), ("us", f"{f:.1f} °F")):
+        assert main([*argv, "--brief", "--units", units]) == 0
+        out = " ".join(capsys.readouterr().out.split())
+        assert f"Check again at {clock} (the forecast has the inside air at {shown} then)" in out
+
+
 def test_no_trip_wire_when_below_the_alarm_now(capsys):
     doc = _tonight(capsys, NIGHT, "--inside-now", "-6C")
     assert doc["action"] == "below" and doc["check_again"] is None

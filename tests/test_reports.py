@@ -134,7 +134,7 @@ def test_the_json_comparison_sees_a_changed_value_key_or_type():
 
 #: a number followed by an SI unit: none may show on a US screen (material names such as
 #: "twin-wall-polycarbonate-8mm" are names, not quantities: no space before the unit)
-SI_UNIT = r"\d ?(°C|kW\b|W/K|MJ|MJ/K|L\b|cm|km|m/s|m²|m³|kg\b|W\b)"
+SI_UNIT = r"\d ?(°C|K\b|kW\b|W/K|MJ|MJ/K|L\b|cm|km|m/s|m²|m³|kg\b|W\b)"
 US_SCREENS = {
     "tonight": ["tonight", "examples/gable-house.toml", "--crop", "tomato"],
     "tonight, several houses": [
@@ -144,6 +144,15 @@ US_SCREENS = {
         "examples/glass-range.toml",
         "--crop",
         "tomato",
+    ],
+    # a forecast low (its high assumed, its dew point capped), and plants below the alarm
+    "tonight, a forecast low": [
+        *["tonight", "examples/gable-house.toml", "examples/hoop-tunnel.toml", "--crop", "kale"],
+        *["--low=-4F", "--dew-point", "30F", "--start", "2026-12-03T16:00"],
+    ],
+    "tonight, below the alarm now": [
+        *["tonight", "examples/gable-house.toml", "--crop", "tomato"],
+        *["--inside-now", "32F", "--start", "2026-12-03T16:00"],
     ],
     "stock": ["stock", "examples/gable-house.toml", "--crop", "tomato", "--setpoint", "50F"],
     "size": ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C"],
@@ -160,7 +169,7 @@ def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch):
     import re
 
     argv = list(US_SCREENS[name])
-    if argv[0] == "tonight":
+    if argv[0] == "tonight" and not any(a.startswith("--low") for a in argv):
         argv += ["--forecast", "examples/forecast-cold-night.csv"]
     if argv[0] == "stock":
         argv += ["--forecast", "examples/forecast-cold-snap.csv"]

@@ -838,6 +838,8 @@ class TripWire:
     time: dt.datetime
     air_c: float
     shift_k: float
+    #: the inside air the forecast itself expects at ``time`` with no heat [°C]
+    expected_c: float | None = None
 
 
 def trip_wire(r: TonightResult) -> TripWire | None:
@@ -872,4 +874,5 @@ def trip_wire(r: TonightResult) -> TripWire | None:
     secs = np.array([(t - r.start).total_seconds() for t in r.times])
     x = (at - r.start).total_seconds()
     air_at = float(np.interp(x, secs, air - shift * g))
-    return TripWire(time=at, air_c=air_at, shift_k=-shift)
+    expected = float(np.interp(x, secs, air))
+    return TripWire(time=at, air_c=air_at, shift_k=-shift, expected_c=expected)

@@ -172,7 +172,12 @@ def _trip_json(r: TonightResult) -> dict[str, Any] | None:
     w = trip_wire(r)
     if w is None:
         return None
-    return {"time": iso(w.time), "air_below_c": w.air_c, "forecast_shift_k": w.shift_k}
+    return {
+        "time": iso(w.time),
+        "air_below_c": w.air_c,
+        "forecast_shift_k": w.shift_k,
+        "air_expected_c": w.expected_c,  # the forecast's own inside air then, no heat
+    }
 
 
 def by_urgency(docs: list[dict[str, Any]]) -> list[dict[str, Any]]:
@@ -375,7 +380,8 @@ def _verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None 
 
 
 def trip_wire_line(r: TonightResult, system: UnitSystem) -> str | None:
-    """ "Check again at 22:00: if the inside air is below 3.0 °C then, …"."""
+    """ "Check again at 22:00 (the forecast has the inside air at 1.8 °C then): if it is
+    below 3.0 °C, …"."""
     w = trip_wire(r)
     if w is None:
         return None
@@ -387,8 +393,13 @@ def trip_wire_line(r: TonightResult, system: UnitSystem) -> str | None:
         if r.heater is not None
         else "heat or cover the crop"
     )
+    at = _clock(w.time, r.start)
+    if w.expected_c is None:
+        return keep_units(f"Check again at {at}: if the inside air is below {T} then, {act}.")
+    expected = show_temperature(w.expected_c, system).text(1)
     return keep_units(
-        f"Check again at {_clock(w.time, r.start)}: if the inside air is below {T} then, {act}."
+        f"Check again at {at} (the forecast has the inside air at {expected} then): "
+        f"if it is below {T}, {act}."
     )
 
 
@@ -527,7 +538,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     chart.render(console, rows)
     console.print()
     vapour_report.render(console, r.vapour, system)
-    src = f"Forecast: {r.forecast_source}"
+    src = f"Forecast: {note_text(r.forecast_source, system)}"
     if r.forecast_issued_at:
         src += f", issued {r.forecast_issued_at:%d %b %H:%M}"
     if r.forecast_age_s is not None:
@@ -536,7 +547,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     if r.forecast_attribution:
         plain(console, f"{r.forecast_attribution}", "dim")
     for w in r.forecast_warnings:
-        plain(console, f"! {w}", "yellow")
+        plain(console, f"! {note_text(w, system)}", "yellow")
     for a in r.assumptions:
         if a == r.calibration_warning:
             plain(console, f"! {note_text(a, system)}", "yellow")
@@ -731,7 +742,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     )
     for r in order:
         for w in r.forecast_warnings:
-            plain(console, f"! {r.house_name}: {w}", "yellow")
+            plain(console, f"! {r.house_name}: {note_text(w, system)}", "yellow")
     attributions = {r.forecast_attribution for r in order if r.forecast_attribution}
     for a in sorted(attributions):
         plain(console, f"{a}", "dim")
