@@ -341,6 +341,10 @@ def test_a_heater_too_small_to_hold_it_stays_4(capsys, tmp_path, soil):
     if soil == "6C":
         assert h["recovered_at"] is not None and h["damage_at"] is None
         assert h["min_plant_after_recovery_c"] < d["damage_c"]
+        # the run restarted at the recovery (a grid point added there, the state carried)
+        # and the whole night's analysis find the same coldest hour: the restart is exact
+        assert h["min_plant_after_recovery_c"] == pytest.approx(h["min_plant_c"], abs=1e-9)
+        assert h["min_time_after_recovery"] == h["min_time"]
         assert "at full output the plants are back above -0.1 °C by 16:0" in out
         assert "then fall to -6.1 °C at 07:04 Fri; needs" in out
     else:
