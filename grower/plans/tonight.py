@@ -7,7 +7,10 @@ under the cover (`grower.plans.model.LEAF_BELOW_AIR_CLEAR_K`). We report the fir
 the plants reach the alarm temperature (damage + margin), the coldest air and plant
 temperature, hours below the alarm, the heat that holds the plants at the alarm
 temperature all night (peak and energy, and the fuel that burns), whether the installed
-heater holds it, and the same night a few degrees colder than forecast.
+heater holds it, and the same night a few degrees colder than forecast. Plants already
+below the alarm at the start are judged on the heater's recovery (`heated_night`): when
+the solver finds the air back at the alarm, whether the plants reached the crop's damage
+temperature first, and whether the heater holds them from then on.
 """
 
 from __future__ import annotations
