@@ -405,3 +405,22 @@ def test_a_bare_number_with_units_given_is_read_once_and_said_once(capsys):
 
     expected = UREG.Quantity(25.0, "degF").to("degC").magnitude
     assert lows == pytest.approx([expected, expected], abs=0.05)
+
+
+@pytest.mark.parametrize("inside", ["1C", "3C"])
+def test_a_heater_that_holds_only_at_full_output_has_nothing_to_spare(capsys, inside):
+    # the lumped gable house at a 2 °C alarm: the coldest hour needs 23.50 kW of the
+    # heater's 23.45 kW; the thermostat keeps the plants within the holding tolerance
+    # (0.05 K), so it holds, but no margin is shown as "-0.1 kW to spare"
+    argv = ["tonight", "examples/gable-house.toml", "--threshold", "2C", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", inside, "--model", "lumped"]
+    argv += ["--draws", "0", "--alert-status"]
+    assert main([*argv, "--json"]) == 3
+    d = json.loads(capsys.readouterr().out)
+    assert d["hold_peak_w"] > d["heater"]["output_w"] and d["heater"]["holds"]
+    assert main([*argv, "--brief"]) == 3
+    out = " ".join(capsys.readouterr().out.split())
+    assert "at its full output, with nothing to spare" in out
+    assert "-0.1 kW" not in out and "-0 Btu/h" not in out
+    if inside == "1C":  # below the alarm at the start, no crop: "them", the plants
+        assert "the installed heater brings them back above 2.0 °C by 17:16 and holds them" in out

@@ -243,11 +243,10 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     if r.action == "none":
         return head + f"{_does(r, 'stays', 'stay')} above {T(r.threshold_c)} tonight with no heat"
     if r.action == "heat":
-        margin = power_text(h.output_w - r.hold_peak_w, system)
         fuel = f"; about {_fuel(h.fuel, system)} of {r.hold_fuel_label} tonight" if h.fuel else ""
         return (
             head + f"heat from [bold]{_clock(v.crossing_time, r.start)}[/bold]; the installed "
-            f"heater holds {T(r.threshold_c)} with {margin} to spare{fuel}"
+            f"heater holds {T(r.threshold_c)} {_spare(r, system)}{fuel}"
         )
     if r.action == "below":
         return (
@@ -268,6 +267,19 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     )
 
 
+#: a margin under this shows as "0.0 kW" (or below): said as none [W]
+NO_SPARE_W = 50.0
+
+
+def _spare(r: TonightResult, system: UnitSystem) -> str:
+    """ "with 8.2 kW to spare", or, a heater that holds within the tolerance only at its
+    full output (the coldest hour needs a little more than it gives), no margin."""
+    spare = r.heater.output_w - r.hold_peak_w
+    if spare < NO_SPARE_W:
+        return "at its full output, with nothing to spare"
+    return f"with {power_text(spare, system)} to spare"
+
+
 def _below_tail(r: TonightResult, system: UnitSystem) -> str:
     """What the installed heater does for plants that start below the alarm."""
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
@@ -277,10 +289,10 @@ def _below_tail(r: TonightResult, system: UnitSystem) -> str:
     if h.holds and h.recovered_at is None:  # at the alarm within its tolerance: held
         return f"; the installed heater holds {T(r.threshold_c)}"
     if h.holds:
-        spare = power_text(max(h.output_w - r.hold_peak_w, 0.0), system)
+        them = "it" if r.crop else "them"
         return (
-            f"; the installed heater brings it back above {T(r.threshold_c)} by "
-            f"[bold]{_by(h.recovered_at, r.start)}[/bold] and holds it with {spare} to spare"
+            f"; the installed heater brings {them} back above {T(r.threshold_c)} by "
+            f"[bold]{_by(h.recovered_at, r.start)}[/bold] and holds {them} {_spare(r, system)}"
         )
     if h.damage_at is not None and _at_start(h.damage_at, r):
         return f"; the plants are below the damage temperature {T(r.damage_c)} too"
