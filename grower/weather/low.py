@@ -97,7 +97,7 @@ def forecast_from_low(
         warnings.append(
             Note(
                 f"no forecast high given: high taken as the low + {DEFAULT_DIURNAL_RANGE_K:g} K = "
-                f"{signed_number(high_c)} °C (a typical day's range, from memory)",
+                f"{signed_number(round(high_c, 1))} °C (a typical day's range, from memory)",
                 us_template="no forecast high given: high taken as the low + {range} = {high} "
                 "(a typical day's range, from memory)",
                 range=("delta", DEFAULT_DIURNAL_RANGE_K, 0),
@@ -105,8 +105,8 @@ def forecast_from_low(
             )
         )
     source = Note(
-        f"forecast low {signed_number(low_c)} °C"
-        + (f", high {signed_number(high_c)} °C" if given_high else ""),
+        f"forecast low {signed_number(round(low_c, 1))} °C"
+        + (f", high {signed_number(round(high_c, 1))} °C" if given_high else ""),
         us_template="forecast low {low}" + (", high {high}" if given_high else ""),
         low=("temp", low_c, 1),
         high=("temp", high_c, 1),
@@ -114,7 +114,7 @@ def forecast_from_low(
     _check_range(high_c, "temperature_c", "forecast high")
     if high_c < low_c:
         raise InputError(
-            f"forecast high {signed_number(high_c)} °C is below the low {signed_number(low_c)} °C"
+            f"forecast high {signed_number(round(high_c, 1))} °C is below the low {signed_number(round(low_c, 1))} °C"
         )
     _check_range(dew_point_c, "dew_point_c", "dew point")
     _check_range(cloud_pct, "cloud_cover_pct", "cloud cover")
@@ -137,7 +137,7 @@ def forecast_from_low(
         if dew_point_c > temp.min():
             warnings.append(
                 Note(
-                    f"dew point {signed_number(dew_point_c)} °C is above the air temperature "
+                    f"dew point {signed_number(round(dew_point_c, 1))} °C is above the air temperature "
                     "at times: capped at the air temperature there (saturated air)",
                     us_template="dew point {dew} is above the air temperature at times: "
                     "capped at the air temperature there (saturated air)",
