@@ -18,6 +18,7 @@ from grower.units import (
     show_conductance,
     show_power,
     show_temperature,
+    show_temperature_difference,
 )
 
 INTERVAL_NOTE = (
@@ -331,9 +332,10 @@ def render_fit(
     tu = show_temperature(0, system).unit
     if f.model == "two-node":
         seg.add_column(
-            f"floor {tu}" if narrow else f"floor at start, {tu}", justify="right", no_wrap=True
+            "floor" if narrow else f"floor at start, {tu}", justify="right", no_wrap=True
         )
-    seg.add_column("RMS K" if narrow else "RMS, K", justify="right", no_wrap=True)
+    du = show_temperature_difference(1.0, system).unit
+    seg.add_column("RMS" if narrow else f"RMS, {du}", justify="right", no_wrap=True)
     for i, s in enumerate(f.segments, start=1):
         same_day = s.start.date() == s.end.date()
         cells = [
@@ -351,9 +353,12 @@ def render_fit(
             m = show_temperature(s.initial_mass_c, system)
             hw = s.initial_mass_half_width * (1.8 if system == "us" else 1.0)
             cells.append(f"{m.value:.1f} ± {hw:.1f}")
-        cells.append(f"{s.rms_k:.2f}")
+        cells.append(f"{show_temperature_difference(s.rms_k, system).value:.2f}")
         seg.add_row(*cells)
     console.print(seg)
+    if narrow:  # the headers are short: their units under the table
+        floor = f"floor at start in {tu}; " if f.model == "two-node" else ""
+        plain(console, f"{floor}RMS in {du}", "dim")
     plain(console, f"· {r.anchor_note}", "dim")
     plain(console, f"· {INTERVAL_NOTE}", "dim")
     for n in r.notes:
