@@ -32,6 +32,14 @@ NOISE_NOTE = (
     "sensor noise from the record's own scatter: 1.4826·MAD of the second differences of the "
     "inside temperature / √6 (white noise), leaving out rows where the heater switches"
 )
+#: what K is in the fit's report, for the fitted value and the geometry's alike
+#: (`grower.fit.estimate`: the sum of the conductance columns)
+K_DEFINITION = (
+    "K here is the sum of the conductances to the outside air and to the sky (the floor's "
+    "exchange with the sky counted in full), for the fit and the geometry alike, so their "
+    "ratio compares like with like; `grower house` gives the steady K, with the floor's "
+    "sky part reached through its coupling to the air, which is smaller"
+)
 #: a lag-1 autocorrelation of the residuals above this is called out (common practice, no
 #: source)
 HIGH_LAG1 = 0.5
@@ -108,6 +116,7 @@ def fit_json(r: FitResult, written: dict[str, str] | None = None) -> dict[str, A
         "heater": r.heater,
         "with_days": r.with_days,
         "k_w_per_k": values["k_w_per_k"].value,
+        "k_definition": K_DEFINITION,
         "k_outside_w_per_k": values["k_outside_w_per_k"].value,
         "k_sky_w_per_k": values["k_sky_w_per_k"].value,
         "sky_by_night": None if f.sky_by_segment is None else list(f.sky_by_segment),
@@ -359,6 +368,7 @@ def render_fit(
     if narrow:  # the headers are short: their units under the table
         floor = f"floor at start in {tu}; " if f.model == "two-node" else ""
         plain(console, f"{floor}RMS in {du}", "dim")
+    plain(console, f"· {K_DEFINITION}", "dim")
     plain(console, f"· {r.anchor_note}", "dim")
     plain(console, f"· {INTERVAL_NOTE}", "dim")
     for n in r.notes:
