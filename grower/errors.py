@@ -10,6 +10,7 @@ The exit statuses live here too, so commands and tests need not import the comma
 
 from __future__ import annotations
 
+import datetime as dt
 import difflib
 from collections.abc import Iterable
 
@@ -33,6 +34,13 @@ class InputError(ValueError):
         if where:
             text = f"{where}: {text}"
         super().__init__(text)
+
+
+def message_time(t: dt.datetime) -> str:
+    """`t` for a message: ISO 8601 to the nearest minute, with its UTC offset
+    ("2026-12-05T09:26-05:00"); a message never shows seconds or microseconds."""
+    minute = (t + dt.timedelta(seconds=30)).replace(second=0, microsecond=0)
+    return minute.isoformat(timespec="minutes")
 
 
 def did_you_mean(word: str, choices: Iterable[str]) -> str:

@@ -22,7 +22,7 @@ from typing import Any
 import numpy as np
 
 from grower import fuels, safety, solver, vaporisation
-from grower.errors import InputError
+from grower.errors import InputError, message_time
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
@@ -206,14 +206,14 @@ def night_window(
             )
         elif now > last:
             raise InputError(
-                f"the forecast ends at {last.isoformat()}, before now; give a newer forecast or --start",
+                f"the forecast ends at {message_time(last)}, before now; give a newer forecast or --start",
                 where=forecast.source,
             )
         else:
             start = now
     elif not first <= start <= last:
         raise InputError(
-            f"--start {start.isoformat()} is outside the forecast ({first.isoformat()} to {last.isoformat()})",
+            f"--start {message_time(start)} is outside the forecast ({message_time(first)} to {message_time(last)})",
             where="--start",
         )
     sunrise = None
@@ -230,7 +230,7 @@ def night_window(
         notes.append("no [site] in the house file: the night is taken as 16 h (no sunrise known)")
     if end > last:
         raise InputError(
-            f"the forecast ends at {last.isoformat()}, but the night runs to {end.isoformat()} "
+            f"the forecast ends at {message_time(last)}, but the night runs to {message_time(end)} "
             "(2 h after sunrise); give a longer forecast",
             where=forecast.source,
         )
