@@ -10,6 +10,7 @@ The exit statuses live here too, so commands and tests need not import the comma
 
 from __future__ import annotations
 
+import datetime as dt
 import difflib
 from collections.abc import Iterable
 
@@ -18,6 +19,7 @@ EXIT_OK = 0
 #: bad input: one line on stderr says what and where
 EXIT_INPUT = 2
 #: ``tonight --alert-status``: action needed tonight, and the installed heater holds the alarm
+#: (or, the plants below it at the start, brings them back before damage and holds them)
 EXIT_ACTION = 3
 #: ``tonight --alert-status``: damage expected even with the installed heat (too small, none
 #: installed, or the plants are below the alarm already and the heater cannot bring them back)
@@ -32,6 +34,13 @@ class InputError(ValueError):
         if where:
             text = f"{where}: {text}"
         super().__init__(text)
+
+
+def message_time(t: dt.datetime) -> str:
+    """`t` for a message: ISO 8601 to the nearest minute, with its UTC offset
+    ("2026-12-05T09:26-05:00"); a message never shows seconds or microseconds."""
+    minute = (t + dt.timedelta(seconds=30)).replace(second=0, microsecond=0)
+    return minute.isoformat(timespec="minutes")
 
 
 def did_you_mean(word: str, choices: Iterable[str]) -> str:

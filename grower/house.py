@@ -633,9 +633,17 @@ def _calibration(table: Any, at) -> dict[str, Any]:
     """
     if not isinstance(table, Mapping):
         raise InputError("must be a table", where=at("calibration"))
+    # the values first, each naming its own key (a bad number is what the user wrote;
+    # a missing key is reported after)
     for key in _CALIBRATION_POSITIVE:
         if key in table:
             _calibration_number(table[key], "positive", at(f"calibration.{key}"))
+    for key, sign in _CALIBRATION_REQUIRED.items():
+        if key in table:
+            _calibration_number(table[key], sign, at(f"calibration.{key}"))
+    for key in _CALIBRATION_NON_NEGATIVE:
+        if key in table:
+            _calibration_number(table[key], "non-negative", at(f"calibration.{key}"))
     fmt = table.get("format")
     if "format" in table and (isinstance(fmt, bool) or not isinstance(fmt, int)):
         raise InputError(
@@ -645,20 +653,20 @@ def _calibration(table: Any, at) -> dict[str, Any]:
     if fmt != 2:
         return dict(table)
     model = table.get("model")
+    if "model" not in table:
+        raise InputError(
+            f'missing key "model" (format 2) {_CALIBRATION_REFIT}', where=at("calibration")
+        )
     if model not in ("lumped", "two-node"):
         raise InputError(
             f'{model!r} must be "lumped" or "two-node" {_CALIBRATION_REFIT}',
             where=at("calibration.model"),
         )
-    for key, sign in _CALIBRATION_REQUIRED.items():
+    for key in _CALIBRATION_REQUIRED:
         if key not in table:
             raise InputError(
                 f'missing key "{key}" (format 2) {_CALIBRATION_REFIT}', where=at("calibration")
             )
-        _calibration_number(table[key], sign, at(f"calibration.{key}"))
-    for key in _CALIBRATION_NON_NEGATIVE:
-        if key in table:
-            _calibration_number(table[key], "non-negative", at(f"calibration.{key}"))
     if ("k_ground_w_per_k" in table) != ("geometry_k_ground_w_per_k" in table):
         raise InputError(
             f"k_ground_w_per_k and geometry_k_ground_w_per_k go together {_CALIBRATION_REFIT}",

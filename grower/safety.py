@@ -27,6 +27,65 @@ if TYPE_CHECKING:
 M2_PER_IN2 = 0.0254**2
 
 
+#: supply voltages the electrical caution gives the current at [V]: single-phase and
+#: three-phase line to line, the usual North American ones (120/240 V split phase, 208 V
+#: and 480 V three-phase) and the IEC nominal ones (230 V, 400 V: IEC 60038, from memory)
+US_VOLTS = {"single": (240.0, 120.0), "three": (208.0, 480.0)}
+IEC_VOLTS = {"single": (230.0,), "three": (400.0,)}
+#: the US code's continuous-load factor: branch-circuit conductors and the breaker are
+#: sized at 125 % of a continuous load (NEC 210.19(A)(1) and 210.20(A); fixed electric
+#: space heating is a continuous load, NEC 424.4(B): from memory), the "80 % rule"
+NEC_CONTINUOUS = 1.25
+
+
+def amps(power_w: float, volts: float, phases: int = 1) -> float:
+    """Current [A] a resistance heater of `power_w` [W] draws at `volts` [V]: single-phase
+    I = P / V; balanced three-phase I = P / (√3 · V_LL) with V_LL the line-to-line
+    voltage, per line. Unity power factor (a resistance heater). Common practice, no
+    source (the textbook relation P = √3 · V_LL · I · cos φ)."""
+    if phases == 1:
+        return power_w / volts
+    if phases == 3:
+        return power_w / (3.0**0.5 * volts)
+    raise ValueError("phases must be 1 or 3")
+
+
+def electrical_load(input_w: float, example: bool = False) -> Note:
+    """The electrical caution for an electric heater of `input_w` [W]: its current single-
+    and three-phase at the usual voltages; on a US screen the circuit rating the NEC's
+    125 % continuous-load rule asks for, on a metric one a pointer to IEC 60364 and the
+    national rules; both defer to a licensed electrician and local code. `example`: no
+    heater size is known, `input_w` is an example."""
+
+    def a(volts: float, phases: int, factor: float = 1.0) -> str:
+        return f"{amps(input_w, volts, phases) * factor:,.1f} A"
+
+    (v1, v1b), (v3a, v3b) = US_VOLTS["single"], US_VOLTS["three"]
+    (iec1,), (iec3,) = IEC_VOLTS["single"], IEC_VOLTS["three"]
+    head = (
+        "Electrical load: for example, {p} of electric heat draws"
+        if example
+        else ("Electrical load: {p} of electric heat draws")
+    )
+    three = "three-phase (I = P ÷ (√3 · V between lines), per line)"
+    metric = (
+        f"{head} {a(iec1, 1)} on one {iec1:.0f} V phase, or {a(iec3, 3)} at {iec3:.0f} V "
+        f"{three}. A heater is a continuous load: size the circuit for continuous duty as "
+        "IEC 60364 and your national wiring rules require, and have a licensed electrician "
+        "check the circuit and the supply against local code."
+    )
+    us = (
+        f"{head} {a(v1, 1)} at {v1:.0f} V ({a(v1b, 1)} at {v1b:.0f} V) single-phase, or "
+        f"{a(v3a, 3)} at {v3a:.0f} V and {a(v3b, 3)} at {v3b:.0f} V {three}. A heater is a "
+        "continuous load: the NEC sizes its conductors and breaker at 125 % of it (NEC "
+        "210.19(A), 210.20(A): the 80 % rule), a circuit rated for at least "
+        f"{a(v1, 1, NEC_CONTINUOUS)} at {v1:.0f} V, {a(v3a, 3, NEC_CONTINUOUS)} at {v3a:.0f} V "
+        f"or {a(v3b, 3, NEC_CONTINUOUS)} at {v3b:.0f} V three-phase. Have a licensed "
+        "electrician check the circuit and the service against local code."
+    )
+    return Note(metric, us_template=us, p=("power", float(input_w)))
+
+
 def cautions(
     fuel: str | Fuel,
     appliance: str | Appliance | None = None,
@@ -174,20 +233,7 @@ def cautions(
         else:
             out.append(Note(text, need=("power", float(input_w))))
     if fuel.name == "electricity":
-        if input_w is not None:
-            text = (
-                f"Electrical load: {input_w / 1e3:,.1f} kW draws {input_w / 240:,.1f} A at "
-                f"240 V ({input_w / 120:,.1f} A at 120 V). "
-            )
-        else:
-            text = (
-                "Electrical load: current = power ÷ voltage (a 5 kW heater draws 20.8 A at 240 V). "
-            )
-        # common practice: a continuous load within 80 % of the circuit rating.
-        out.append(
-            text + "A heater is a continuous load: keep it within 80 % of the circuit rating "
-            "(common practice) and have a licensed electrician check the circuit and service."
-        )
+        out.append(electrical_load(5000.0 if input_w is None else float(input_w), input_w is None))
         out.append(
             "Power cuts: an electric heater is no backup when the grid fails unless a "
             "generator, sized for it and connected through a transfer switch, carries it."

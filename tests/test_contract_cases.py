@@ -189,6 +189,21 @@ def test_a_bare_number_follows_units_option_and_metric_houses(tmp_path):
     assert f["design_outside_c"] == pytest.approx((-10 - 32) / 1.8)
 
 
+def test_a_bare_wind_is_read_in_the_houses_units_and_echoed(tmp_path):
+    """On the hoop tunnel (units = "us") "--wind 15" is 15 mph, as "15mph", not 15 m/s."""
+    h = _house(tmp_path, HOOP)
+    a = ["size", str(h), "--outside", "-10F", "--crop", "lettuce", "--json"]
+    runs = {w: assert_contract([*a, "--wind", w], [h], json_out=True) for w in ("15", "15mph")}
+    bare, unit = (json.loads(runs[w][1]) for w in ("15", "15mph"))
+    # NIST SP 811 (2008), appendix B: 1 mi/h = 0.44704 m/s exactly
+    assert bare["wind_m_s"] == unit["wind_m_s"] == pytest.approx(15 * 0.44704, rel=1e-12)
+    assert bare["heat_loss_w"] == unit["heat_loss_w"]
+    assert "Note: --wind: 15 read as 15 mph" in runs["15"][2] and "Note:" not in runs["15mph"][2]
+    metric = _house(tmp_path, GABLE, "metric.toml")
+    m = ["size", str(metric), "--outside", "-20C", "--hold", "5C", "--wind", "4", "--json"]
+    assert json.loads(assert_contract(m, [metric], json_out=True)[1])["wind_m_s"] == 4.0
+
+
 def test_houses_with_different_units_need_a_unit_on_a_bare_number(tmp_path):
     us, metric = _house(tmp_path, HOOP, "us.toml"), _house(tmp_path, GABLE, "m.toml")
     argv = ["tonight", str(us), str(metric), "--threshold", "1", "--forecast", NIGHT, *START]

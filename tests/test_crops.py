@@ -493,13 +493,16 @@ def test_cli_shows_one_crop_in_metric(capsys):
     assert "Damage (10 % kill)" in out and "90 % kill" in out
     assert "-2.8 °C [1]" in out and "-6.1 °C [1]" in out
     assert "Every figure is for an exposure of 30 min." in out
-    assert "Penn State" in out and "27 °F" in out and "21 °F" in out
+    # the source's 27 °F and 21 °F, in the screen's units, said to be printed in °F
+    # (the printed values themselves are in the crop file and `--json`)
+    assert "Penn State" in out and "-2.8 °C" in out and "-6.1 °C" in out
+    assert "(printed in °F)" in " ".join(out.split()) and "°F" not in out.replace("in °F", "")
 
 
 def test_cli_marks_from_memory_values(capsys):
     assert main(["crops", "geranium"]) == 0
     out = capsys.readouterr().out
-    assert "from memory — not checked against a publication: 32 °F" in out
+    assert "from memory — not checked against a publication: 0 °C (printed in °F)" in out
 
 
 def test_cli_json_document(capsys):
@@ -575,3 +578,39 @@ def test_cli_shows_durations_and_mixed_kinds_per_cell(tmp_path, capsys):
     assert "5.0 °C, 12 h [2]" in out  # chill of stage "one", 12 h as given
     assert "(10 % kill), 30 min" in out and "(90 %), 30 min" in out  # stage "two"
     assert "[3] from memory — not checked against a publication: -5 °C" in out
+
+
+@pytest.mark.parametrize(
+    ("text", "system", "expected"),
+    [
+        ("injury at 0–5 °C.", "us", "injury at 32–41 °F."),
+        ("below 10 °C flowering crops", "us", "below 50 °F flowering crops"),
+        (
+            "damaging range -4 to -7 °C (warm end)",
+            "us",
+            "damaging range 24.8 to 19.4 °F (warm end)",
+        ),
+        ("freezes at 28 °F", "metric", "freezes at -2.2 °C"),
+        ("survives 32–39 °F; the cold end", "metric", "survives 0–3.9 °C; the cold end"),
+        ("OMAFRA's warmer −2.2 °C is kept", "us", "OMAFRA's warmer 28 °F is kept"),
+        ("freezes at 28 °F", "us", "freezes at 28 °F"),  # already in the screen's unit
+        ("10 % kill after 30 minutes", "us", "10 % kill after 30 minutes"),  # no temperature
+    ],
+)
+def test_a_note_shows_its_temperatures_in_the_screens_units(text, system, expected):
+    from grower.report.crops import temperatures_in
+
+    assert temperatures_in(text, system) == expected
+
+
+@pytest.mark.parametrize("value", [-10.0, -7.0, -4.0, -2.2, 0.0, 5.0, 12.5, 28.0, 41.0])
+def test_note_conversion_agrees_with_pint(value):
+    # pint's offset units are the independent reference for the two scales
+    from grower.report.crops import temperatures_in
+
+    q = UREG.Quantity
+    as_f = q(value, UREG.degC).to(UREG.degF).magnitude
+    as_c = q(value, UREG.degF).to(UREG.degC).magnitude
+    assert float(temperatures_in(f"{value:g} °C", "us").split()[0]) == pytest.approx(as_f, abs=0.05)
+    got_c = float(temperatures_in(f"{value:g} °F", "metric").split()[0])
+    assert got_c == pytest.approx(as_c, abs=0.05)

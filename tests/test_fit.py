@@ -622,6 +622,31 @@ def test_example_record_recovers_its_invented_house(example_fit):
     assert abs(sky.value - truth["k_sky_w_per_k"]) <= sky.half_width
 
 
+def test_the_k_ratio_compares_one_definition(example_fit):
+    """K's "× the geometry's" compares like with like: the fitted K and the geometry's are
+    both the sum of the conductance columns (to the outside air + to the sky), not a sum
+    against the steady K to T_eff (whose sky part goes through the air–floor coupling).
+    On the example record the truth (examples/logger-gable-house.truth.json, written by
+    make_logger_record.py) is 1,123.7 + 407.4 = 1,531.2 W/K against the geometry's
+    977.2 + 582.0 = 1,559.2 W/K: 0.982, where the steady geometry K (1,498.5) gave 1.02."""
+    doc = json.loads((EXAMPLES / "logger-gable-house.truth.json").read_text(encoding="utf-8"))
+    truth, geometry = doc["truth"], doc["geometry"]
+    k = example_fit.chosen.get("k_w_per_k")
+    k_out, sky = (
+        example_fit.chosen.get("k_outside_w_per_k"),
+        example_fit.chosen.get("k_sky_w_per_k"),
+    )
+    columns_geo = geometry["k_outside_w_per_k"] + geometry["k_sky_w_per_k"]
+    assert k.value == pytest.approx(k_out.value + sky.value, rel=1e-12)
+    assert k.geometry == pytest.approx(columns_geo, rel=1e-3)
+    assert k.geometry != pytest.approx(geometry["k_w_per_k"], rel=0.01)  # not the steady K
+    columns_truth = truth["k_outside_w_per_k"] + truth["k_sky_w_per_k"]
+    assert abs(k.value - columns_truth) <= k.half_width
+    assert k.ratio == pytest.approx(columns_truth / columns_geo, abs=0.02)  # 0.982
+    tau = example_fit.chosen.get("time_constant_h")
+    assert tau.geometry == pytest.approx(geometry["c_j_per_k"] / columns_geo / 3600.0, rel=1e-3)
+
+
 def _outside_table(text: str) -> str:
     """The file's text with the [calibration] table (header to the next table) cut out."""
     lines = text.splitlines(keepends=True)

@@ -263,6 +263,20 @@ def test_check_calibration_against_the_geometry(factors, ok):
             house.check_calibration(cal)
 
 
+def test_a_bad_fitted_value_is_named_in_any_format(tmp_path, capsys):
+    # no `format` (not used), but a value the user wrote that is no number still is one
+    # clear line naming it, not "has no fitted values"
+    text = MINIMAL + '\n[calibration]\nk_outside_w_per_k = "lots"\n'
+    path = write_house(tmp_path, text, "h.toml")
+    assert main(["house", str(path)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert err == (
+        f"Error: {path}: calibration.k_outside_w_per_k: 'lots' must be a positive number "
+        "(written by `grower fit --write`; refit, or delete the [calibration] table to use "
+        "the geometry)"
+    )
+
+
 def test_an_older_calibration_is_read_but_not_checked():
     """No `format`: the one-factor fit's table; not used, so not refused for its K."""
     text = MINIMAL + "\n[calibration]\nk_w_per_k = 10.0\nc_j_per_k = 5.0e7\n"
@@ -282,6 +296,16 @@ def test_an_older_calibration_is_read_but_not_checked():
         (("rms_k = 0.3", "k_ground_w_per_k = 5.0"), ["go together"]),
         (("rms_k = 0.3", "k_sky_by_night_w_per_k = 5.0"), ["k_sky_by_night", "list"]),
         (("rms_k = 0.3", "k_sky_by_night_w_per_k = [1.0, -2.0]"), ["non-negative"]),
+        # a bad value is named by its own key, also when another key is missing
+        (('model = "two-node"', ""), ['missing key "model"']),
+        (
+            (
+                'model = "two-node"\nanchor = "measured power"\nquality = "good"\n'
+                "k_outside_w_per_k = ",
+                'quality = "good"\nk_outside_w_per_k = "lots"\n#',
+            ),
+            ["calibration.k_outside_w_per_k: 'lots' must be a positive number"],
+        ),
     ],
 )
 def test_a_malformed_format_2_table_is_one_line_exit_2(tmp_path, capsys, edit, words):

@@ -295,6 +295,22 @@ def test_tonight_bad_input(capsys, tmp_path):
         capsys, "tonight", "examples/hoop-tunnel.toml", "--crop", "kale", "--forecast", str(short)
     )
     assert "night runs to" in line
+    # times in a message are to the minute (sunrise + 2 h is computed to the microsecond)
+    import re
+
+    assert re.search(r"night runs to \d{4}-\d\d-\d\dT\d\d:\d\d[+-]\d\d:\d\d \(", line), line
+
+
+def test_message_times_round_to_the_minute():
+    import datetime as dt
+
+    from grower.errors import message_time
+
+    tz = dt.timezone(dt.timedelta(hours=-5))
+    t = dt.datetime(2026, 12, 5, 9, 26, 19, 322470, tzinfo=tz)
+    assert message_time(t) == "2026-12-05T09:26-05:00"
+    assert message_time(t.replace(second=30, microsecond=0)) == "2026-12-05T09:27-05:00"
+    assert message_time(t.replace(hour=23, minute=59, second=45)) == "2026-12-06T00:00-05:00"
 
 
 def test_plot_writes_png(capsys, tmp_path):

@@ -503,3 +503,38 @@ def test_a_rising_leaf_offset_leaves_members_to_the_analysis():
     assert chance._held_unsaturated(held, b.plant_offset_k).all()
     assert not chance._held_unsaturated(held, risen).any()  # the same run, the offset risen
     assert not chance._held_unsaturated(run(risen), risen).any()
+
+
+@pytest.mark.parametrize("heater_w", [12e3, 23e3, 40e3])
+def test_members_starting_below_the_alarm_are_judged_alike_quick_or_exact(heater_w):
+    # plants 0.4 K below the alarm at the start, damage 1 K below it: `fails` (the quick
+    # judgement, sparing the restarted run where the heater never saturates again after
+    # the recovery) must agree member by member with the exact one (every member's run
+    # restarted at its recovery), and per-member leaf offsets with the shared one
+    ctx = _heater_context()
+    mdl, b = ctx["mdl"], ctx["b"]
+    base = b.solver_boundary(mdl)
+    shifts = np.linspace(-6.0, 4.0, 15)
+    bc = np.repeat(base[None], shifts.size, axis=0)
+    bc[:, :, :2] += shifts[:, None, None]
+    off, gains, threshold = b.plant_offset_k, b.solver_gains(mdl), 0.5
+    x0 = np.array([threshold + off[0] - 0.4, 8.0])
+    args = (mdl, b.times_s, bc, x0, threshold, off, heater_w, gains)
+    exact = tonight.heated_night(*args, damage_c=threshold - 1.0)
+    assert exact.start_below.all() and np.isfinite(exact.recovered_s).all()
+    quick = tonight.heated_night(
+        *args, damage_c=threshold - 1.0, run=exact.trajectory, coldest_after=False
+    )
+    assert (quick.holds == exact.holds).all()
+    apart = np.repeat(np.asarray(off, float)[None], shifts.size, axis=0)
+    each = tonight.heated_night(
+        mdl, b.times_s, bc, x0, threshold, apart, heater_w, gains, damage_c=threshold - 1.0
+    )
+    assert (each.holds == exact.holds).all()
+    np.testing.assert_allclose(each.recovered_s, exact.recovered_s, atol=1e-6)
+    # held members stay at the alarm from the recovery on; the others fall below it
+    held = exact.holds
+    assert (exact.min_after_c[held] >= threshold - tonight.HOLD_TOLERANCE_K).all()
+    assert (exact.min_after_c[~held] < threshold - tonight.HOLD_TOLERANCE_K).all()
+    if heater_w == 23e3:
+        assert held.any() and not held.all()  # a real test: both kinds of member

@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import json
 
+import numpy as np
 import pytest
 
 from grower.cli import main
@@ -48,6 +49,29 @@ def test_trip_wire_is_the_night_that_just_touches_the_alarm(capsys, tmp_path):
     at = next(p for p in again["series"] if p["time"] >= trip["time"])
     # the series is hourly: the reading at the check time lies on the shifted night's air
     assert abs(at["air_c"] - trip["air_below_c"]) < 1.5
+
+
+def test_the_check_again_line_says_what_the_forecast_expects_then(capsys):
+    # the forecast's own inside air at the check time, no heat: the night's series there
+    # (a grid time, or between two), and below the trip-wire reading on a night that
+    # reaches the alarm (the trip wire's night is the warmer one that just touches it)
+    import datetime as dt
+
+    doc = _tonight(capsys, NIGHT)
+    trip = doc["check_again"]
+    when = dt.datetime.fromisoformat(trip["time"]).timestamp()
+    ts = [dt.datetime.fromisoformat(p["time"]).timestamp() for p in doc["series"]]
+    air = [p["air_c"] for p in doc["series"]]
+    assert trip["air_expected_c"] == pytest.approx(float(np.interp(when, ts, air)), abs=1e-9)
+    assert trip["air_expected_c"] < trip["air_below_c"]
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", "8C", "--soil-now", "9C"]
+    clock = trip["time"][11:16]
+    f = trip["air_expected_c"] * 1.8 + 32.0  # °F = °C·1.8 + 32 (exact, by definition)
+    for units, shown in (("metric", f"{trip['air_expected_c']:.1f} °C"), ("us", f"{f:.1f} °F")):
+        assert main([*argv, "--brief", "--units", units]) == 0
+        out = " ".join(capsys.readouterr().out.split())
+        assert f"Check again at {clock} (the forecast has the inside air at {shown} then)" in out
 
 
 def test_no_trip_wire_when_below_the_alarm_now(capsys):
@@ -155,3 +179,248 @@ def test_time_to_the_alarm_agrees_with_the_clock_times_shown(capsys, monkeypatch
     doc = _tonight(capsys, NIGHT, "--inside-now", "3C", "--soil-now", "6C")
     crossing = dt.datetime.fromisoformat(doc["crossing_time"])
     assert crossing.strftime("%H:%M") == f"{hh:02d}:{mm:02d}" and crossing.second > 30
+
+
+# ------------------------------------------- plants below the alarm at the start (issue)
+
+
+def _overcast(tmp_path, temp_c: float = -5.0, hours: int = 30) -> str:
+    """A constant overcast night, no wind, no sun: the leaf offset is 0 and the lumped
+    house sees one constant effective outside temperature."""
+    lines = ["time,temperature_c,cloud_cover_pct,wind_speed_m_s,shortwave_w_m2"]
+    for h in range(hours):
+        day, hour = divmod(16 + h, 24)
+        lines.append(f"2026-12-{3 + day:02d}T{hour:02d}:00-05:00,{temp_c},100,0,0")
+    path = tmp_path / "overcast.csv"
+    path.write_text("\n".join(lines) + "\n")
+    return str(path)
+
+
+def _seconds(doc: dict, key_time: str) -> float:
+    import datetime as dt
+
+    start = dt.datetime.fromisoformat(doc["start"])
+    return (dt.datetime.fromisoformat(key_time) - start).total_seconds()
+
+
+def test_recovery_from_below_the_alarm_is_the_closed_form(capsys, tmp_path):
+    # One node, constant boundary, heater at full output q: the air follows
+    # T(t) = T_inf + (T0 − T_inf)·exp(−t/τ), T_inf = T_eff + q/K, τ = C/K (the one-node
+    # closed form), so it is back at the alarm air T_a at t = τ·ln((T0 − T_inf)/(T_a − T_inf)).
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--model", "lumped"]
+    argv += ["--forecast", _overcast(tmp_path), "--start", "2026-12-03T16:00", "--draws", "0"]
+    assert main([*argv, "--inside-now", "-0.3C", "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    s0 = d["series"][0]
+    offset = s0["air_c"] - s0["plant_c"]
+    # the premise: below the alarm, above the damage temperature, on a constant boundary
+    assert d["damage_c"] < s0["plant_c"] < d["threshold_c"]
+    assert all(
+        r["effective_outside_c"] == pytest.approx(s0["effective_outside_c"]) for r in d["series"]
+    )
+    k, c, q = d["k_w_per_k"], d["c_j_per_k"], d["heater"]["output_w"]
+    t_inf = s0["effective_outside_c"] + q / k
+    t_a = d["threshold_c"] + offset
+    expected = c / k * np.log((s0["air_c"] - t_inf) / (t_a - t_inf))
+    assert expected > 300.0  # a real wait, several minutes
+    h = d["heater"]
+    assert _seconds(d, h["recovered_at"]) == pytest.approx(expected, abs=1.0)  # to the second
+    assert h["holds"] and h["damage_at"] is None
+    assert h["min_plant_after_recovery_c"] >= d["threshold_c"] - 0.05
+    assert d["action"] == "below" and d["alert_status"] == 3
+    # the screen says so: heat now, back by the clock minute after the recovery
+    assert main([*argv, "--inside-now", "-0.3C", "--brief"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    by = f"16:{int(np.ceil(expected / 60)):02d}"
+    assert f"heat now; the installed heater brings it back above -0.1 °C by {by}" in out
+
+
+def test_recovery_of_the_two_node_house_against_solve_ivp(capsys, tmp_path):
+    # An independent integration (scipy's RK45, rtol 1e-10) of the two-node equations as
+    # grower.network writes them, the heater's full output on the air node, from a start
+    # below the alarm: the instant the air is back at the alarm air (an event) against the
+    # solver's recovery, to the second.
+    import datetime as dt
+
+    from scipy.integrate import solve_ivp
+
+    from grower import house
+    from grower.plans import model as hm
+
+    from .test_plans_model import _constant_night, _odes, _sky_of_series
+
+    path = _constant_night(tmp_path)  # −5 °C, dew point −8 °C, clear, wind 1 m/s
+    argv = ["tonight", "examples/gable-house.toml", "--threshold", "1C", "--forecast", path]
+    argv += ["--inside-now", "0C", "--soil-now", "9C", "--start", "2026-12-03T16:00"]
+    assert main([*argv, "--json", "--draws", "0", "--alert-status"]) == 3
+    d = json.loads(capsys.readouterr().out)
+    h = house.read("examples/gable-house.toml")
+    mdl = hm.build(h, wind_m_s=1.0, mean_radiant_temp_c=-10.0, air_temp_c=-5.0)
+    ts, skies = _sky_of_series(d, mdl)
+    free = _odes(mdl.conductances, mdl.capacities, -5.0, lambda t: np.interp(t, ts, skies))
+    q, c_air = d["heater"]["output_w"], mdl.capacities.air_j_per_k
+    offsets = [r["air_c"] - r["plant_c"] for r in d["series"]]
+    t_a = d["threshold_c"] + offsets[0]
+
+    def heated(t, x):
+        da, dm = free(t, x)
+        return [da + q / c_air, dm]
+
+    def back(_t, x):
+        return x[0] - t_a
+
+    back.terminal, back.direction = True, 1
+    sol = solve_ivp(heated, (0, 3600.0), [0.0, 9.0], events=back, rtol=1e-10, atol=1e-10)
+    expected = float(sol.t_events[0][0])
+    got = _seconds(d, d["heater"]["recovered_at"])
+    # the leaf offset moves by under 1e-3 K in the first minutes: the alarm air is its start's
+    assert abs(offsets[1] - offsets[0]) < 1e-3
+    assert got == pytest.approx(expected, abs=1.0)  # printed to the second
+    assert d["heater"]["holds"] and d["action"] == "below"
+    assert dt.datetime.fromisoformat(d["heater"]["recovered_at"]) > dt.datetime.fromisoformat(
+        d["start"]
+    )
+
+
+def _cold_night(extra: list[str]) -> list[str]:
+    argv = ["tonight", "examples/gable-house.toml", "--crop", "tomato", "--forecast", NIGHT]
+    return [*argv, "--start", "2026-12-03T16:00", *extra]
+
+
+def test_below_the_alarm_but_recoverable_exits_3_not_4(capsys):
+    # the reviewer's night: the air read at 0 °C, plants -0.5 °C, between the damage
+    # temperature (-1.1 °C) and the alarm (-0.1 °C); the installed heater holds the alarm
+    assert main(_cold_night(["--inside-now", "0C", "--alert-status"])) == 3
+    out = " ".join(capsys.readouterr().out.split())
+    assert out.startswith("BELOW THE ALARM NOW Propagation house:")
+    assert "heat now; the installed heater brings it back above -0.1 °C by 16:01" in out
+    assert "does not hold it" not in out and "fall to" not in out
+    assert "brings it back above -0.1 °C by 16:01, then holds it" in out  # the heater's row
+    # the chance with the heater judges each night the same way: not every night is lost
+    assert main(_cold_night(["--inside-now", "0C", "--json", "--alert-status"])) == 3
+    d = json.loads(capsys.readouterr().out)
+    assert d["alert_status"] == 3 and d["action"] == "below"
+    assert d["chance_of_damage"] > 0.99 and d["chance_of_damage_heated"] < 0.2
+    assert d["heater"]["min_plant_c"] == pytest.approx(d["series"][0]["plant_c"])  # the start
+    assert d["heater"]["min_time"] == d["start"]
+
+
+def test_below_the_damage_temperature_at_the_start_stays_4(capsys):
+    # air -1 °C: plants -1.5 °C, below the damage temperature already; the heater brings
+    # them back, but too late: damage expected even with the installed heat
+    assert main(_cold_night(["--inside-now", "-1C", "--json", "--alert-status"])) == 4
+    d = json.loads(capsys.readouterr().out)
+    h = d["heater"]
+    assert d["series"][0]["plant_c"] < d["damage_c"]
+    assert not h["holds"] and h["damage_at"] == d["start"] and h["recovered_at"] is not None
+    assert d["chance_of_damage_heated"] > 0.99
+    assert main(_cold_night(["--inside-now", "-1C", "--brief", "--alert-status"])) == 4
+    out = " ".join(capsys.readouterr().out.split())
+    assert "heat now; the plants are below the damage temperature -1.1 °C too" in out
+
+
+@pytest.mark.parametrize("soil", ["6C", "-2C"])
+def test_a_heater_too_small_to_hold_it_stays_4(capsys, tmp_path, soil):
+    # 1.2 kW against the night's 15 kW: the warm soil (6 °C) brings the air back within
+    # minutes and the plants fall later; a cold soil (-2 °C) does not, and the plants reach
+    # the damage temperature on the way down. Either way, damage expected: 4
+    from pathlib import Path
+
+    text = Path("examples/gable-house.toml").read_text(encoding="utf-8")
+    small = tmp_path / "small.toml"
+    small.write_text(text.replace('input = "100000 BTU/h"', 'input = "5000 BTU/h"'))
+    argv = ["tonight", str(small), "--crop", "tomato", "--forecast", NIGHT, "--draws", "0"]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", "0C", "--soil-now", soil]
+    argv += ["--alert-status"]
+    assert main([*argv, "--json"]) == 4
+    d = json.loads(capsys.readouterr().out)
+    h = d["heater"]
+    assert not h["holds"] and d["alert_status"] == 4
+    assert main([*argv, "--brief"]) == 4
+    out = " ".join(capsys.readouterr().out.split())
+    if soil == "6C":
+        assert h["recovered_at"] is not None and h["damage_at"] is None
+        assert h["min_plant_after_recovery_c"] < d["damage_c"]
+        # the run restarted at the recovery (a grid point added there, the state carried)
+        # and the whole night's analysis find the same coldest hour: the restart is exact
+        assert h["min_plant_after_recovery_c"] == pytest.approx(h["min_plant_c"], abs=1e-9)
+        assert h["min_time_after_recovery"] == h["min_time"]
+        assert "at full output the plants are back above -0.1 °C by 16:0" in out
+        assert "then fall to -6.1 °C at 07:04 Fri; needs" in out
+    else:
+        assert h["recovered_at"] is None and h["damage_at"] is not None
+        assert _seconds(d, h["damage_at"]) > 0
+        assert "even at full output the plants reach the damage temperature -1.1 °C at" in out
+
+
+# ------------------------------------ one bare number, houses of different units (issue)
+
+MIXED = ["tonight", "examples/hoop-tunnel.toml", "examples/gable-house.toml", "--crop", "kale"]
+
+
+@pytest.mark.parametrize(
+    ("extra", "option"),
+    [
+        (["--low", "-4"], "--low"),
+        (["--low", "-4C", "--high", "50"], "--high"),
+        (["--low", "-4C", "--dew-point", "-9"], "--dew-point"),
+        (["--forecast", NIGHT, "--inside-now", "3"], "--inside-now"),
+        (["--forecast", NIGHT, "--threshold", "1"], "--threshold"),
+        (["--forecast", NIGHT, "--colder", "3"], "--colder"),
+    ],
+)
+def test_a_bare_number_is_refused_when_the_houses_disagree_on_units(capsys, extra, option):
+    # the tunnel's [site] says us, the gable house's metric: "-4" would be -4 °F for one
+    # and -4 °C for the other. One line naming the option, exit 2, nothing on stdout
+    code = main([*MIXED, *extra, "--start", "2026-12-03T16:00"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == ""
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith(f"Error: {option}: "), err
+    assert "different units" in lines[0] and "Traceback" not in err
+    value = extra[-1]
+    assert f"write {value}" in lines[0]  # e.g. "write -4C or -4F"
+
+
+def test_a_written_unit_reads_the_same_for_every_house(capsys):
+    # -4C is -4 °C for both houses: the two nights are the same curve, whatever the screen
+    argv = [*MIXED, "--low", "-4C", "--start", "2026-12-03T16:00", "--json", "--draws", "0"]
+    assert main(argv) == 0
+    out, err = capsys.readouterr()
+    docs = json.loads(out)["houses"]
+    lows = {d["house"]: min(p["outside_c"] for p in d["series"]) for d in docs}
+    assert set(lows) == {"Lane tunnel", "Propagation house"}
+    assert all(v == pytest.approx(-4.0, abs=0.05) for v in lows.values()), lows
+    assert "read as" not in err  # nothing was bare
+
+
+def test_a_bare_number_with_units_given_is_read_once_and_said_once(capsys):
+    argv = [*MIXED, "--low", "25", "--units", "us", "--start", "2026-12-03T16:00"]
+    assert main([*argv, "--json", "--draws", "0"]) == 0
+    out, err = capsys.readouterr()
+    assert err.count("--low: 25 read as 25 °F") == 1, err
+    lows = [min(p["outside_c"] for p in d["series"]) for d in json.loads(out)["houses"]]
+    # 25 °F = -3.89 °C for both houses (pint: tests/reference_units.py)
+    from .reference_units import UREG
+
+    expected = UREG.Quantity(25.0, "degF").to("degC").magnitude
+    assert lows == pytest.approx([expected, expected], abs=0.05)
+
+
+@pytest.mark.parametrize("inside", ["1C", "3C"])
+def test_a_heater_that_holds_only_at_full_output_has_nothing_to_spare(capsys, inside):
+    # the lumped gable house at a 2 °C alarm: the coldest hour needs 23.50 kW of the
+    # heater's 23.45 kW; the thermostat keeps the plants within the holding tolerance
+    # (0.05 K), so it holds, but no margin is shown as "-0.1 kW to spare"
+    argv = ["tonight", "examples/gable-house.toml", "--threshold", "2C", "--forecast", NIGHT]
+    argv += ["--start", "2026-12-03T16:00", "--inside-now", inside, "--model", "lumped"]
+    argv += ["--draws", "0", "--alert-status"]
+    assert main([*argv, "--json"]) == 3
+    d = json.loads(capsys.readouterr().out)
+    assert d["hold_peak_w"] > d["heater"]["output_w"] and d["heater"]["holds"]
+    assert main([*argv, "--brief"]) == 3
+    out = " ".join(capsys.readouterr().out.split())
+    assert "at its full output, with nothing to spare" in out
+    assert "-0.1 kW" not in out and "-0 Btu/h" not in out
+    if inside == "1C":  # below the alarm at the start, no crop: "them", the plants
+        assert "the installed heater brings them back above 2.0 °C by 17:16 and holds them" in out

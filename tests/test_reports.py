@@ -134,7 +134,13 @@ def test_the_json_comparison_sees_a_changed_value_key_or_type():
 
 #: a number followed by an SI unit: none may show on a US screen (material names such as
 #: "twin-wall-polycarbonate-8mm" are names, not quantities: no space before the unit)
-SI_UNIT = r"\d ?(°C|kW\b|W/K|MJ|MJ/K|L\b|cm|km|m/s|m²|m³|kg\b|W\b)"
+SI_UNIT = r"\d ?(°C|K\b|kW\b|W/K|MJ|MJ/K|L\b|cm|km|m/s|m²|m³|kg\b|W\b)"
+#: an SI unit a column or a value is said to be in: "RMS, K", "per L", "power (W)"
+SI_UNIT_NAMED = r"\((W|kW|W/K|L|kg|K|°C)\)|\bper (L|kg|m³|kelvin|K)\b|\bRMS,? K\b"
+#: a crop source's value is shown converted and says the scale it was printed in
+PRINTED_IN = r"\(printed in °[CF]\)"
+#: the several-day hourly history `winters` runs on (tests/test_winters.history_csv)
+WINTERS = ["--season-start", "11-01", "--season-days", "8", "--winters", "1"]
 US_SCREENS = {
     "tonight": ["tonight", "examples/gable-house.toml", "--crop", "tomato"],
     "tonight, several houses": [
@@ -145,37 +151,87 @@ US_SCREENS = {
         "--crop",
         "tomato",
     ],
+    # a forecast low (its high assumed, its dew point capped), and plants below the alarm
+    "tonight, a forecast low": [
+        *["tonight", "examples/gable-house.toml", "examples/hoop-tunnel.toml", "--crop", "kale"],
+        *["--low=-4F", "--dew-point", "30F", "--start", "2026-12-03T16:00"],
+    ],
+    "tonight, below the alarm now": [
+        *["tonight", "examples/gable-house.toml", "--crop", "tomato"],
+        *["--inside-now", "32F", "--start", "2026-12-03T16:00"],
+    ],
     "stock": ["stock", "examples/gable-house.toml", "--crop", "tomato", "--setpoint", "50F"],
     "size": ["size", "examples/gable-house.toml", "--outside=-20C", "--hold", "10C"],
     "size, a crop": ["size", "examples/hoop-tunnel.toml", "--outside=-25C", "--crop", "kale"],
     "house": ["house", "examples/hoop-tunnel.toml"],
     "fit": ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"],
     "crops": ["crops"],
+    "crops, tomato": ["crops", "tomato"],  # notes and sources printed in °C
+    "crops, strawberry": ["crops", "strawberry"],
+    "size, electricity": [
+        "size",
+        "examples/gable-house.toml",
+        "--outside=-25C",
+        "--hold",
+        "5C",
+        "--fuel",
+        "electricity",
+    ],
+    "winters": ["winters", "examples/gable-house.toml", "--setpoint", "10C", *WINTERS],
 }
+
+
+def _screen(argv: list[str], system: str, tmp_path, capsys) -> str:
+    """The screen `argv` prints in `system` (a `winters` run on a short history file)."""
+    argv = list(argv)
+    if argv[0] == "winters":
+        from tests.test_winters import history_csv
+
+        argv += ["--history", history_csv(tmp_path / "history.csv", "2025-11-01", 9)]
+    assert main([*argv, "--units", system]) == EXIT_OK
+    return capsys.readouterr().out
 
 
 @pytest.mark.parametrize("name", sorted(US_SCREENS))
 @pytest.mark.parametrize("columns", [60, 100])
-def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch):
-    import re
+def test_us_screens_show_no_si_quantity(name, columns, capsys, monkeypatch, tmp_path):
 
     argv = list(US_SCREENS[name])
-    if argv[0] == "tonight":
+    if argv[0] == "tonight" and not any(a.startswith("--low") for a in argv):
         argv += ["--forecast", "examples/forecast-cold-night.csv"]
     if argv[0] == "stock":
         argv += ["--forecast", "examples/forecast-cold-snap.csv"]
     monkeypatch.chdir(ROOT)
     monkeypatch.setenv("COLUMNS", str(columns))
-    main([*argv, "--units", "us"])
-    out = capsys.readouterr().out
+    out = _screen(argv, "us", tmp_path, capsys)
     assert "°F" in out or name == "house"
     if columns == 60:
         # a narrow screen wraps or shortens; it never runs past the edge or cuts a cell
         # (rich marks a cut with "…")
         cut = [line for line in out.splitlines() if len(line) > columns or "…" in line]
         assert not cut, f"{name} at {columns} columns cuts or overruns: {cut}"
-    found = [line for line in out.splitlines() if re.search(SI_UNIT, line)]
+    found = _unit_hits(out, rf"{SI_UNIT}|{SI_UNIT_NAMED}")
     assert not found, f"{name} at {columns} columns shows SI units: {found}"
+
+
+def _unit_hits(out: str, pattern: str, kept: tuple[str, ...] = ()) -> list[str]:
+    """The lines of `out` (and the seams where prose wraps a number away from its unit:
+    the last word of a line with the first of the next) that match `pattern`, once the
+    crop sources' "(printed in °F)" and the `kept` patterns are taken out."""
+    import re
+
+    lines = out.splitlines()
+    seams = [
+        f"{a.split()[-1]} {b.split()[0]}"
+        for a, b in zip(lines[:-1], lines[1:], strict=True)
+        if a.split() and b.split()
+    ]
+    found = []
+    for piece in lines + seams:
+        for drop in (PRINTED_IN, *kept):
+            piece = re.sub(drop, "", piece)
+        found += [m[0] for m in re.finditer(rf".{{0,30}}(?:{pattern}).{{0,10}}", piece)]
+    return found
 
 
 @pytest.mark.parametrize("system", ["us", "metric"])
@@ -192,9 +248,19 @@ def test_several_houses_at_60_columns_keep_headers_and_names_whole(system, capsy
     assert {"Propagation", "Glass", "Lane", "tunnel"} <= words
 
 
-#: a number followed by a US unit; the SI screens keep only the trade's Btu/h beside a
-#: heater's kW, the container names ("20-lb cylinder") and the quoted "1 in² per 1,000 Btu/h"
-US_UNIT = r"\d ?(°F|gal\b|therm|lb\b|mph|ft\b|ft²|ft³)"
+#: a number followed by a US unit; the SI screens keep only the trade's Btu/h in brackets
+#: beside a heater's kW ("84.8 kW (289,000 Btu/h)", README: the SI screens keep the trade's
+#: Btu/h beside a heater's kW), the container names ("20-lb cylinder", "500-gal tank") and
+#: the quoted "1 in² per 1,000 Btu/h"
+US_UNIT = r"\d ?(°F|Btu\b|Btu/|gal\b|therm|lb\b|mph|ft\b|ft²|ft³|in²)"
+#: a US unit a column or a value is said to be in: "per gal", "(°F)"
+US_UNIT_NAMED = r"\((°F|gal|lb|Btu/h|therm)\)|\bper (gal|lb|therm|°F)\b|\bRMS,? °F\b"
+#: what the SI screens may keep (see above)
+US_KEPT = (
+    r"\(\d[\d,]* Btu/h\)",
+    r"\b\d+-(lb|gal)\b",
+    r"1 in² per 1,000 Btu/h",
+)
 SI_SCREENS = {
     "tonight, natural gas": ["tonight", "examples/glass-range.toml", "--crop", "tomato", *NIGHT],
     "stock, natural gas": ["stock", "examples/glass-range.toml", "--setpoint", "12C", *SNAP],
@@ -208,17 +274,39 @@ SI_SCREENS = {
         "5C",
     ],
     "stock, propane": ["stock", "examples/gable-house.toml", "--setpoint", "8C", *SNAP],
+    "house, gable": ["house", "examples/gable-house.toml"],  # a US-file house on a metric screen
+    "house, hoop": ["house", "examples/hoop-tunnel.toml"],
+    "crops, tomato": ["crops", "tomato"],  # notes and sources printed in °F
+    "crops, apple": ["crops", "apple"],
+    "fit": ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"],
+    "size, electricity": [
+        "size",
+        "examples/gable-house.toml",
+        "--outside=-25C",
+        "--hold",
+        "5C",
+        "--fuel",
+        "electricity",
+    ],
+    "winters": [
+        "winters",
+        "examples/hoop-tunnel.toml",
+        "--setpoint",
+        "10C",
+        *WINTERS,
+        "--price",
+        "3",
+    ],
 }
 
 
 @pytest.mark.parametrize("name", sorted(SI_SCREENS))
-def test_si_screens_show_no_us_quantity(name, capsys, monkeypatch):
-    import re
+@pytest.mark.parametrize("columns", [60, 100])
+def test_si_screens_show_no_us_quantity(name, columns, capsys, monkeypatch, tmp_path):
 
     monkeypatch.chdir(ROOT)
-    monkeypatch.setenv("COLUMNS", "100")
-    main([*SI_SCREENS[name], "--units", "metric"])
-    out = capsys.readouterr().out
-    assert "°C" in out
-    found = [line for line in out.splitlines() if re.search(US_UNIT, line)]
-    assert not found, f"{name} shows US units: {found}"
+    monkeypatch.setenv("COLUMNS", str(columns))
+    out = _screen(SI_SCREENS[name], "metric", tmp_path, capsys)
+    assert "°C" in out or name.startswith("house")
+    found = _unit_hits(out, rf"{US_UNIT}|{US_UNIT_NAMED}", US_KEPT)
+    assert not found, f"{name} at {columns} columns shows US units: {found}"

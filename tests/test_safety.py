@@ -55,11 +55,31 @@ def test_unvented_heater_gets_the_stronger_warning():
 
 
 def test_electric_cautions_give_the_current():
-    notes = " ".join(cautions("electricity", None, 10_000.0))
+    us = " ".join(note_text(n, "us") for n in cautions("electricity", None, 10_000.0))
     # I = P / V: 10 kW -> 41.7 A at 240 V, 83.3 A at 120 V
-    assert "41.7 A at 240 V" in notes and "83.3 A at 120 V" in notes
-    assert "licensed electrician" in notes
-    assert "Combustion air" not in notes and "Carbon monoxide" not in notes
+    assert "41.7 A at 240 V" in us and "83.3 A at 120 V" in us
+    # three-phase I = P / (√3 · V_LL): 27.8 A at 208 V, 12.0 A at 480 V; the NEC's 125 %
+    # for a continuous load (210.19(A), 210.20(A)): 52.1 A, 34.7 A, 15.0 A
+    assert "27.8 A at 208 V and 12.0 A at 480 V three-phase" in us
+    assert "125 %" in us and "210.19(A), 210.20(A)" in us
+    assert "52.1 A at 240 V, 34.7 A at 208 V or 15.0 A at 480 V" in us
+    assert "kW" not in us and "licensed electrician" in us and "local code" in us
+    metric = " ".join(note_text(n, "metric") for n in cautions("electricity", None, 10_000.0))
+    # IEC nominal 230 V single-phase, 400 V three-phase: 43.5 A, 14.4 A; no NEC figure
+    assert "10.0 kW" in metric and "43.5 A on one 230 V phase, or 14.4 A at 400 V" in metric
+    assert "IEC 60364" in metric and "NEC" not in metric and "local code" in metric
+    assert "Combustion air" not in us and "Carbon monoxide" not in us
+
+
+@pytest.mark.parametrize("power_kw", [5.0, 10.0, 84.8])
+@pytest.mark.parametrize(("volts", "phases"), [(120, 1), (240, 1), (208, 3), (400, 3), (480, 3)])
+def test_heater_current_agrees_with_pint(power_kw, volts, phases):
+    # pint carries the units: kW / V is A; balanced three-phase at unity power factor
+    # divides by √3 times the line-to-line voltage (common practice, no source)
+    p = UREG.Quantity(power_kw, "kW")
+    v = UREG.Quantity(volts, "V") * (3**0.5 if phases == 3 else 1.0)
+    expected = (p / v).to("A").magnitude
+    assert safety.amps(power_kw * 1e3, volts, phases) == pytest.approx(expected, rel=1e-12)
 
 
 def test_cautions_without_a_size_still_warn():

@@ -214,8 +214,9 @@ def test_error_gap_over_three_hours(tmp_path):
 @pytest.mark.parametrize(
     ("row", "fragment"),
     [
-        ("75,-2,0,1,0", "line 3, column temperature_c: 75 °C is outside −60…60 °C"),
-        ("-61,-70,0,1,0", "line 3, column temperature_c: -61 °C is outside −60…60 °C"),
+        ("75,-2,0,1,0", "line 3, column temperature_c: 75 °C is outside −90…60 °C"),
+        # the command line's limit (grower/limits.py: WMO's −89.2 °C record), one for both
+        ("-91,-95,0,1,0", "line 3, column temperature_c: -91 °C is outside −90…60 °C"),
         ("1,-2,120,1,0", "line 3, column cloud_cover_pct: 120 % is outside 0…100 %"),
         ("1,-2,0,-0.5,0", "line 3, column wind_speed_m_s: -0.5 m/s is a negative wind speed"),
         ("1,-2,0,1,1500", "line 3, column shortwave_w_m2: 1500 W/m² is outside 0…1400 W/m²"),
@@ -229,7 +230,7 @@ def test_error_value_out_of_range(tmp_path, row, fragment):
 
 def test_error_fahrenheit_out_of_range_shows_the_files_value(tmp_path):
     text = _hourly("2026-12-03T16:00-05:00", ["40", "150"], header="time,temperature_f")
-    assert "line 3, column temperature_f: 150 °F is outside −60…60 °C" in _read_error(
+    assert "line 3, column temperature_f: 150 °F is outside −90…60 °C" in _read_error(
         tmp_path, text
     )
 
@@ -381,7 +382,7 @@ def test_forecast_low_across_fall_back_keeps_durations():
     ("kwargs", "fragment"),
     [
         ({"low_c": -6.0, "high_c": -8.0}, "forecast high −8 °C is below the low −6 °C"),
-        ({"low_c": -70.0}, "forecast low −70 °C is outside −60…60 °C"),
+        ({"low_c": -95.0}, "forecast low −95 °C is outside −90…60 °C"),
         ({"low_c": -6.0, "cloud_pct": 130.0}, "cloud cover 130 % is outside 0…100 %"),
     ],
 )
@@ -820,3 +821,11 @@ def test_local_time_and_time_index_are_one_instant():
     idx = time_index(utc, TORONTO)
     assert [local_time(x, TORONTO) for x in utc] == [t.to_pydatetime() for t in idx]
     assert local_time(utc[0], TORONTO).utcoffset() == dt.timedelta(hours=-5)
+
+
+def test_a_forecast_file_and_the_command_line_share_one_outside_limit():
+    # grower/limits.py holds the bound; the forecast reader uses it, not a copy
+    from grower import limits
+
+    assert weather.RANGES["temperature_c"] == (limits.OUTSIDE_AIR_C.lo, limits.OUTSIDE_AIR_C.hi)
+    assert weather.RANGES["dew_point_c"] == (limits.DEW_POINT_C.lo, limits.DEW_POINT_C.hi)

@@ -198,10 +198,25 @@ def setpoints(args: argparse.Namespace, house, system: str | None) -> tuple[floa
     return values[0], values[1]
 
 
-def speed(text: str, option: str) -> float:
+def speed(text: str, option: str, system: str | None = "metric") -> float:
+    """A command-line wind speed [m/s]; a bare number is read in `system` (m/s or mph,
+    as the report's forecasts give it) and echoed, like a bare temperature."""
     from grower import limits
+    from grower.errors import note
     from grower.units import parse_quantity
 
+    if _is_bare(text):
+        if system is None:
+            raise InputError(
+                f'"{text}" has no unit and the house files use different units; write {text} m/s or {text} mph',
+                where=option,
+            )
+        unit = "mph" if system == "us" else "m/s"
+        note(
+            f"{text} read as {text} {unit} (the report's units; write the unit to be explicit)",
+            where=option,
+        )
+        text = f"{text} {unit}"
     v = parse_quantity(text, "speed", where=option)
     if v < 0:
         raise InputError("cannot be negative", where=option)
@@ -275,15 +290,19 @@ def start_time(args: argparse.Namespace, house, forecast):
     return _parse_time(args.start, tz, "--start").astimezone(forecast.tz)
 
 
-def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
-    """The forecast the options ask for: a file, a forecast low, or the live service."""
+def get_forecast(args: argparse.Namespace, house, *, days: int | None = None, houses=None):
+    """The forecast the options ask for: a file, a forecast low, or the live service.
+
+    Bare numbers (``--low -4``) are read in the units of `houses`, the run's houses
+    (default: this one): one number means one temperature for every house of the run,
+    and it is refused when their units disagree."""
     import datetime as dt
 
     from grower import limits, weather
     from grower.units import parse_quantity
 
     site = house.site
-    system = reading_system(args, [house])
+    system = reading_system(args, houses if houses is not None else [house])
     why = _why(args, system or "metric")
     extras = [o for o in ("high", "dew_point", "cloud", "wind") if getattr(args, o, None)]
     if args.forecast:
@@ -316,7 +335,7 @@ def get_forecast(args: argparse.Namespace, house, *, days: int | None = None):
             high_c=high,
             dew_point_c=dew,
             cloud_pct=cloud,
-            wind_m_s=None if args.wind is None else speed(args.wind, "--wind"),
+            wind_m_s=None if args.wind is None else speed(args.wind, "--wind", system),
             step_s=900.0,
         )
     if extras:

@@ -68,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
     system = reading_system(args, [h])  # bare numbers are read in the report's units
     check_house(h, use_calibration=not args.no_calibration)
     outside = temperature(args.outside, "--outside", system, limits.OUTSIDE_AIR_C)
-    wind = speed(args.wind, "--wind")
+    wind = speed(args.wind, "--wind", system)
     crop, stage, choice, override = choose_threshold(args, system)
     hold = temperature(args.hold, "--hold", system, limits.HOLD_C)
     if hold is not None and (crop or override is not None):

@@ -89,6 +89,8 @@ def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    import warnings
+
     from grower import house, limits
     from grower.commands._options import (
         alarm_basis,
@@ -99,7 +101,7 @@ def run(args: argparse.Namespace) -> int:
         reading_system,
         start_time,
     )
-    from grower.errors import EXIT_OK, InputError
+    from grower.errors import EXIT_OK, InputError, InputNote
     from grower.plans import tonight
     from grower.report import common
     from grower.report import tonight as report
@@ -123,8 +125,11 @@ def run(args: argparse.Namespace) -> int:
         check_house(h, use_calibration=not args.no_calibration)
     draws, seed = _count(args.draws, "--draws", limits.DRAWS), _count(args.seed, "--seed")
     results = []
-    for h in houses:
-        forecast = get_forecast(args, h)
+    for i, h in enumerate(houses):
+        with warnings.catch_warnings():
+            if i:  # a bare --low (--high, --dew-point) is read once for all: said once
+                warnings.simplefilter("ignore", InputNote)
+            forecast = get_forecast(args, h, houses=houses)
         start = start_time(args, h, forecast)
         members = _members(args, h, draws, seed)
         threshold, basis = alarm_basis(crop, stage, choice, override)

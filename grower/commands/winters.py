@@ -48,7 +48,14 @@ def register(subparsers: Subcommands, common: argparse.ArgumentParser) -> None:
         help="hourly weather CSV in the forecast format instead of the history service",
     )
     p.add_argument("--fuel", metavar="KIND", help="fuel (default: the installed heater's)")
-    p.add_argument("--price", type=float, metavar="P", help="price per unit of fuel")
+    p.add_argument(
+        "--price",
+        type=float,
+        metavar="P",
+        help="price per unit of fuel: the --fuel-unit, else the unit of the house file's "
+        "[stock] on_hand, else the fuel's usual unit (the report prints the price per the "
+        "unit it shows)",
+    )
     p.add_argument("--fuel-unit", metavar="UNIT", help="report fuel in this unit (gal, L, therm …)")
     p.add_argument(
         "--model", choices=("two-node", "lumped"), default="two-node", help="thermal model"

@@ -9,8 +9,8 @@ import numpy as np
 
 #: what to log when a parameter is not identified
 ADVICE = {
-    "k_w_per_k": "log nights with the heater both on and off, with its power (W)",
-    "k_outside_w_per_k": "log nights with the heater both on and off, with its power (W)",
+    "k_w_per_k": "log nights with the heater both on and off, with its power (a column in W, kW or Btu/h)",
+    "k_outside_w_per_k": "log nights with the heater both on and off, with its power (a column in W, kW or Btu/h)",
     "k_sky_w_per_k": "give the cloud cover (--weather-archive, or cloud_cover_pct in an --outside file), and log nights both clear and cloudy",
     "c_j_per_k": "log at least two clear nights with the heater off, so the house cools at its own pace",
     "time_constant_h": "log at least two clear nights with the heater off, so the house cools at its own pace",

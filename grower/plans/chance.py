@@ -69,7 +69,9 @@ from grower import arrays, solver
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
-from grower.plans.tonight import HOLD_TOLERANCE_K  # within it of the alarm, the heater holds
+
+# within it of the alarm, the heater holds; the heated run judged as tonight judges it
+from grower.plans.tonight import HOLD_TOLERANCE_K, heated_night
 
 if TYPE_CHECKING:
     from grower.weather.members import Ensemble
@@ -112,7 +114,8 @@ class Member:
 
     crossing_time: dt.datetime | None  # plants reach the alarm with no heat (None: never)
     min_plant_c: float  # coldest plants with no heat [°C]
-    heated_damage: bool | None  # plants below the alarm with the installed heater (None: none)
+    #: the installed heater does not hold the alarm (`_Heated.fails`; None: no heater)
+    heated_damage: bool | None
     outside_shift_k: float | None  # drawn: the forecast error; ensemble: None
     k_factor: float  # on the conductances to outside and sky
 
@@ -253,9 +256,12 @@ class _Heated:
     gains: np.ndarray  # (N, n): the forecast's (drawn members)
     gain_sets: np.ndarray | None  # (M, N, n): each member's (ensemble)
     offsets: np.ndarray | None  # (M, N): each member's leaf offset (ensemble)
+    damage_c: float | None = None  # the crop's damage temperature (None: not known)
 
     def fails(self, which: np.ndarray) -> np.ndarray:
-        """Which of members `which` fall below the alarm with the heater."""
+        """Which of members `which` the heater does not hold at the alarm: as tonight's
+        heated run judges it (`grower.plans.tonight.heated_night`: plants that start
+        below the alarm count as held when it brings them back in time and holds them)."""
         g = self.gains if self.gain_sets is None else self.gain_sets[which]
         off = self.b.plant_offset_k if self.offsets is None else self.offsets[which]
         tr = runs.thermostat(
@@ -269,7 +275,20 @@ class _Heated:
         )
         if _held_unsaturated(tr, off).all():  # no analysis needed: all held
             return np.zeros(len(which), dtype=bool)
-        return solver.analyse(tr, self.threshold_c, off).min_c < self.threshold_c - HOLD_TOLERANCE_K
+        heated = heated_night(
+            self.mdl,
+            self.b.times_s,
+            self.boundaries[which],
+            self.initial_c,
+            self.threshold_c,
+            off,
+            self.heater_w,
+            g,
+            damage_c=self.damage_c,
+            run=tr,
+            coldest_after=False,
+        )
+        return ~heated.holds
 
 
 def _held_unsaturated(tr: solver.Trajectory, offset_k: np.ndarray) -> np.ndarray:
@@ -367,11 +386,14 @@ def run(
     threshold_c: float,
     heater_w: float | None,
     pressure_hpa: float | None = None,
+    damage_c: float | None = None,
 ) -> Chance | None:
     """Run the members `spec` asks for; None when it asks for none.
 
     `b` is the night's boundary on the solver grid (the forecast as given), `initial_c`
-    the start, `heater_w` the installed heater's output (None: no heater).
+    the start, `heater_w` the installed heater's output (None: no heater), `damage_c` the
+    crop's damage temperature (plants that start below the alarm must be back at it
+    before they reach it).
     """
     notes = list(spec.notes)
     rng = np.random.default_rng(spec.seed)
@@ -424,7 +446,16 @@ def run(
         if heater_w is None or cold.size == 0:
             continue
         run = _Heated(
-            scaled, b, boundaries, initial_c, threshold_c, heater_w, gains, gain_sets, offsets
+            scaled,
+            b,
+            boundaries,
+            initial_c,
+            threshold_c,
+            heater_w,
+            gains,
+            gain_sets,
+            offsets,
+            damage_c,
         )
         if shifts is None:
             damaged_heated[cold] = run.fails(cold)

@@ -25,7 +25,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from grower import fuels, safety, vaporisation
-from grower.errors import InputError
+from grower.errors import InputError, message_time
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import thermostat_run as tr
@@ -193,7 +193,7 @@ def span(forecast, start, now) -> tuple[dt.datetime, dt.datetime, list[str]]:
             notes.append(f"the forecast starts later than now: from {first:%a %d %b %H:%M}")
         elif now > last:
             raise InputError(
-                f"the forecast ends at {last.isoformat()}, before now", where=forecast.source
+                f"the forecast ends at {message_time(last)}, before now", where=forecast.source
             )
     if (last - start).total_seconds() < 6 * 3600:
         raise InputError(

@@ -7,7 +7,10 @@ under the cover (`grower.plans.model.LEAF_BELOW_AIR_CLEAR_K`). We report the fir
 the plants reach the alarm temperature (damage + margin), the coldest air and plant
 temperature, hours below the alarm, the heat that holds the plants at the alarm
 temperature all night (peak and energy, and the fuel that burns), whether the installed
-heater holds it, and the same night a few degrees colder than forecast.
+heater holds it, and the same night a few degrees colder than forecast. Plants already
+below the alarm at the start are judged on the heater's recovery (`heated_night`): when
+the solver finds the air back at the alarm, whether the plants reached the crop's damage
+temperature first, and whether the heater holds them from then on.
 """
 
 from __future__ import annotations
@@ -19,7 +22,7 @@ from typing import Any
 import numpy as np
 
 from grower import fuels, safety, solver, vaporisation
-from grower.errors import InputError
+from grower.errors import InputError, message_time
 from grower.house import House
 from grower.plans import model as hm
 from grower.plans import runs
@@ -56,7 +59,13 @@ class Verdict:
 
 @dataclass(frozen=True)
 class HeaterCheck:
-    """Whether the installed heater holds the alarm temperature."""
+    """Whether the installed heater holds the alarm temperature.
+
+    `holds`: the plants stay at the alarm all night (within `HOLD_TOLERANCE_K`); or, when
+    they start below it, the heater brings them back to it before they reach the damage
+    temperature and holds them there from then on. `min_plant_c`, `min_time`: the
+    coldest plants of the whole heated night (the start, when they start below).
+    """
 
     output_w: float
     holds: bool
@@ -64,6 +73,14 @@ class HeaterCheck:
     min_time: dt.datetime
     energy_kwh: float
     fuel: fuels.FuelAmount | None = None  # the night's fuel for energy_kwh, as the hold's fuel
+    #: the plants start below the alarm: when the heater brings them back to it (None:
+    #: they start at or above it, or it does not bring them back tonight)
+    recovered_at: dt.datetime | None = None
+    #: starting below: when they reach the damage temperature before they are back
+    damage_at: dt.datetime | None = None
+    #: once back at the alarm: the coldest plants from then on (None: not back)
+    min_after_c: float | None = None
+    min_after_time: dt.datetime | None = None
 
 
 @dataclass(frozen=True)
@@ -189,14 +206,14 @@ def night_window(
             )
         elif now > last:
             raise InputError(
-                f"the forecast ends at {last.isoformat()}, before now; give a newer forecast or --start",
+                f"the forecast ends at {message_time(last)}, before now; give a newer forecast or --start",
                 where=forecast.source,
             )
         else:
             start = now
     elif not first <= start <= last:
         raise InputError(
-            f"--start {start.isoformat()} is outside the forecast ({first.isoformat()} to {last.isoformat()})",
+            f"--start {message_time(start)} is outside the forecast ({message_time(first)} to {message_time(last)})",
             where="--start",
         )
     sunrise = None
@@ -213,7 +230,7 @@ def night_window(
         notes.append("no [site] in the house file: the night is taken as 16 h (no sunrise known)")
     if end > last:
         raise InputError(
-            f"the forecast ends at {last.isoformat()}, but the night runs to {end.isoformat()} "
+            f"the forecast ends at {message_time(last)}, but the night runs to {message_time(end)} "
             "(2 h after sunrise); give a longer forecast",
             where=forecast.source,
         )
@@ -429,6 +446,196 @@ def hold(house: House, night: NightModel, state: StartState, threshold_c: float)
     return Hold(float(held.peak_w[0]), energy, source, unit, amount)
 
 
+@dataclass(frozen=True)
+class HeatedNight:
+    """A heater on its thermostat at the alarm, per member, as the plants see it.
+
+    Times are seconds from the run's start; NaN where there is none. A member whose
+    plants start more than `HOLD_TOLERANCE_K` below the alarm is judged on its recovery:
+    the instant the air reaches the setpoint (the alarm plus the leaf offset: the plants
+    at the alarm), found by the solver as the thermostat's first switch out of full
+    output; it holds when that comes before the plants reach the damage temperature
+    (when one is known) and the plants stay at the alarm from then on.
+    """
+
+    holds: np.ndarray  # (M,) bool
+    min_c: np.ndarray  # (M,) coldest plants of the whole run [°C]
+    min_time_s: np.ndarray  # (M,) [s]
+    start_below: np.ndarray  # (M,) bool
+    recovered_s: np.ndarray  # (M,) back at the alarm [s]
+    damage_s: np.ndarray  # (M,) at the damage temperature before that [s]
+    min_after_c: np.ndarray  # (M,) coldest plants from the recovery on [°C]
+    min_after_time_s: np.ndarray  # (M,) [s]
+    trajectory: solver.Trajectory
+
+
+def _member_rows(a: np.ndarray, m: int, single_ndim: int) -> np.ndarray:
+    """Member `m`'s series of an input given once for all (`single_ndim`) or per member."""
+    a = np.asarray(a, float)
+    return a if a.ndim == single_ndim else a[m % a.shape[0]]
+
+
+def _back_at_alarm(tr: solver.Trajectory, m: int) -> tuple[float, np.ndarray | None]:
+    """(time [s], node temperatures) at which member `m`'s thermostat first leaves full
+    output: the air at the setpoint. (NaN, None) when it never does."""
+    sw = tr.switches
+    t_sw, x_sw = np.inf, None
+    sel = np.flatnonzero((sw.member == m) & (sw.mode != solver.FULL))
+    if sel.size:
+        i = sel[np.argmin(sw.time_s[sel])]
+        t_sw, x_sw = float(sw.time_s[i]), np.array(sw.state_c[i], float)
+    grid = np.flatnonzero(tr.mode[m] != solver.FULL)
+    if grid.size and float(tr.times_s[grid[0]]) < t_sw:
+        k = int(grid[0])
+        return float(tr.times_s[k]), np.array(tr.temps_c[m, k], float)
+    return (t_sw, x_sw) if x_sw is not None else (np.nan, None)
+
+
+def _unsaturated_after(tr: solver.Trajectory, m: int, r: float, off: np.ndarray) -> bool:
+    """Member `m`'s thermostat never at full output after `r`, and the leaf offset's
+    rise within a step under half the holding tolerance: held for certain from `r`."""
+    t = np.asarray(tr.times_s, float)
+    o = off[m % off.shape[0]]
+    if np.max(np.diff(o), initial=0.0) >= HOLD_TOLERANCE_K / 2:
+        return False
+    k = int(np.searchsorted(t, r, side="right")) - 1  # the step the recovery is in
+    sw = tr.switches
+    later = (sw.member == m) & (sw.time_s > r) & (sw.mode == solver.FULL)
+    return not later.any() and not (tr.mode[m, k + 1 :] == solver.FULL).any()
+
+
+def _coldest_after(
+    mdl: hm.Model,
+    tr: solver.Trajectory,
+    m: int,
+    r: float,
+    x_r: np.ndarray,
+    boundary_c,
+    gains_w,
+    setpoint_c: np.ndarray,
+    offset_k: np.ndarray,
+    threshold_c: float,
+    q_max_w: float,
+) -> tuple[float, float]:
+    """(coldest plants [°C], when [s]) of member `m` from `r` to the end: the same
+    thermostat run restarted at `r` from the state there. The inputs are linear between
+    the grid times, so a grid point added at `r` with the interpolated values leaves them
+    unchanged; the setpoint keeps the value at its step's start, as the run had it."""
+    t = np.asarray(tr.times_s, float)
+    bc = _member_rows(boundary_c, m, 2)
+    g = _member_rows(gains_w, m, 2)
+    sp, off = setpoint_c[m % setpoint_c.shape[0]], offset_k[m % offset_k.shape[0]]
+    k = min(int(np.searchsorted(t, r, side="right")) - 1, t.size - 2)
+    plant_r = float(x_r[0] - np.interp(r, t, off))
+    if t[-1] - r < 1e-6:
+        return plant_r, r
+    if t[k + 1] - r < 1e-6:  # the recovery is at a grid time: start there
+        rows = np.arange(k + 1, t.size)
+        new_t, new_sp = t[rows], sp[rows]
+        new_bc, new_g, new_off = bc[rows], g[rows], off[rows]
+    else:
+        f = (r - t[k]) / (t[k + 1] - t[k])
+        rows = np.arange(k + 1, t.size)
+        new_t = np.concatenate([[r], t[rows]])
+        new_sp = np.concatenate([[sp[k]], sp[rows]])
+        new_bc = np.concatenate([(bc[k] + f * (bc[k + 1] - bc[k]))[None], bc[rows]])
+        new_g = np.concatenate([(g[k] + f * (g[k + 1] - g[k]))[None], g[rows]])
+        new_off = np.concatenate([[off[k] + f * (off[k + 1] - off[k])], off[rows]])
+    if new_t.size < 2:
+        return plant_r, r
+    run = runs.thermostat(mdl, new_t - r, new_bc, x_r, new_sp, q_max_w, new_g)
+    c = solver.analyse(run, threshold_c, new_off)
+    at = float(c.min_c[0]), r + float(c.min_time_s[0])
+    return at if at[0] < plant_r else (plant_r, r)
+
+
+def heated_night(
+    mdl: hm.Model,
+    times_s: np.ndarray,
+    boundary_c: np.ndarray,
+    initial_c: np.ndarray,
+    threshold_c: float,
+    offset_k: np.ndarray,
+    q_max_w: float,
+    gains_w: np.ndarray,
+    *,
+    damage_c: float | None = None,
+    run: solver.Trajectory | None = None,
+    coldest_after: bool = True,
+) -> HeatedNight:
+    """The heater of output `q_max_w` [W] on its thermostat at the alarm (`threshold_c`
+    plus the leaf offset `offset_k`, (N,) or (M, N) [K]), per member of `boundary_c`
+    ((N, 3) or (M, N, 3)); `run` is that thermostat run when already made. See
+    `HeatedNight` for what is judged and how.
+
+    ``coldest_after=False``: only `holds` is wanted. A member whose thermostat never
+    runs at full output again after the recovery, on a night whose leaf offset rises by
+    less than half the tolerance within a step, is then held for certain (the air stays
+    at or above the setpoint, as `grower.plans.chance` argues for its unsaturated
+    members), and its `min_after_c` is left NaN instead of being run again."""
+    off = np.atleast_2d(np.asarray(offset_k, float))
+    setpoint = threshold_c + off
+    tr = run
+    if tr is None:
+        tr = runs.thermostat(
+            mdl,
+            times_s,
+            boundary_c,
+            initial_c,
+            setpoint if off.shape[0] > 1 else setpoint[0],
+            q_max_w,
+            gains_w,
+        )
+    c = solver.analyse(tr, threshold_c, off if off.shape[0] > 1 else off[0])
+    mm = tr.n_members
+    plant0 = tr.temps_c[:, 0, 0] - np.broadcast_to(off[:, 0], (mm,))
+    below = plant0 < threshold_c - HOLD_TOLERANCE_K
+    holds = np.asarray(c.min_c >= threshold_c - HOLD_TOLERANCE_K, bool).copy()
+    back, damage = np.full(mm, np.nan), np.full(mm, np.nan)
+    after, after_t = np.full(mm, np.nan), np.full(mm, np.nan)
+    if below.any():
+        reach = None
+        if damage_c is not None:
+            reach = solver.analyse(tr, damage_c, off if off.shape[0] > 1 else off[0]).time_s
+        for m in np.flatnonzero(below):
+            r, x_r = _back_at_alarm(tr, int(m))
+            back[m] = r
+            if reach is not None and np.isfinite(reach[m]) and not reach[m] > r:
+                damage[m] = reach[m]  # r NaN (never back) compares False: damage stays
+            if x_r is None or np.isfinite(damage[m]):
+                holds[m] = False
+                continue
+            if not coldest_after and _unsaturated_after(tr, int(m), r, off):
+                continue  # held for certain: holds[m] = True below
+            after[m], after_t[m] = _coldest_after(
+                mdl,
+                tr,
+                int(m),
+                r,
+                x_r,
+                boundary_c,
+                gains_w,
+                setpoint,
+                off,
+                threshold_c,
+                q_max_w,
+            )
+            holds[m] = after[m] >= threshold_c - HOLD_TOLERANCE_K
+        sure = below & np.isnan(after) & np.isfinite(back) & np.isnan(damage)
+        holds[sure] = True
+    return HeatedNight(
+        holds=holds,
+        min_c=np.asarray(c.min_c, float),
+        min_time_s=np.asarray(c.min_time_s, float),
+        start_below=below,
+        recovered_s=back,
+        damage_s=damage,
+        min_after_c=after,
+        min_after_time_s=after_t,
+        trajectory=tr,
+    )
+
+
 def heater_check(
     house: House,
     night: NightModel,
@@ -436,8 +643,10 @@ def heater_check(
     threshold_c: float,
     heat: Hold,
     use_calibration: bool,
+    damage_c: float | None = None,
 ) -> tuple[HeaterCheck | None, tuple[str, ...]]:
-    """The installed heater on its thermostat at the alarm: does it hold the plants?
+    """The installed heater on its thermostat at the alarm: does it hold the plants, or,
+    when they start below the alarm, bring them back before `damage_c` and hold them?
     (None without a heater.) The note says when fit's measured output is used."""
     if not house.heaters:
         return None, ()
@@ -448,18 +657,34 @@ def heater_check(
     if measured is not None:
         q = measured
         notes = (Note("installed heater output {q} as measured by grower fit", q=("power", q)),)
-    setpoint = threshold_c + b.plant_offset_k
-    run = runs.thermostat(mdl, b.times_s, night.bc, state.x0, setpoint, q, night.gains)
-    c = solver.analyse(run, threshold_c, b.plant_offset_k)
-    energy = float(run.heat_j[0])
+    h = heated_night(
+        mdl,
+        b.times_s,
+        night.bc,
+        state.x0,
+        threshold_c,
+        b.plant_offset_k,
+        q,
+        night.gains,
+        damage_c=damage_c,
+    )
+    energy = float(h.trajectory.heat_j[0])
+
+    def at(seconds: float) -> dt.datetime | None:
+        return None if np.isnan(seconds) else _at(b, seconds)
+
     check = HeaterCheck(
         output_w=q,
         # the thermostat holds the plants *at* the alarm: allow for round-off
-        holds=bool(c.min_c[0] >= threshold_c - HOLD_TOLERANCE_K),
-        min_plant_c=float(c.min_c[0]),
-        min_time=_at(b, c.min_time_s[0]),
+        holds=bool(h.holds[0]),
+        min_plant_c=float(h.min_c[0]),
+        min_time=_at(b, h.min_time_s[0]),
         energy_kwh=energy / 3.6e6,
         fuel=fuels.fuel_amount(energy, heat.source.fuel, heat.source.efficiency, heat.unit),
+        recovered_at=at(h.recovered_s[0]),
+        damage_at=at(h.damage_s[0]),
+        min_after_c=None if np.isnan(h.min_after_c[0]) else float(h.min_after_c[0]),
+        min_after_time=at(h.min_after_time_s[0]),
     )
     return check, notes
 
@@ -515,7 +740,7 @@ def tonight(
     free = free_runs(night, state, alarm.threshold_c, colder_by_k)
     heat = hold(house, night, state, alarm.threshold_c)
     check, heater_notes = heater_check(
-        house, night, state, alarm.threshold_c, heat, use_calibration
+        house, night, state, alarm.threshold_c, heat, use_calibration, alarm.damage_c
     )
     odds = None
     if members is not None:
@@ -532,6 +757,7 @@ def tonight(
             threshold_c=alarm.threshold_c,
             heater_w=check.output_w if check is not None else None,
             pressure_hpa=night.pressure_hpa,
+            damage_c=alarm.damage_c,
         )
     calibration = hm.calibration_note(house, kind, use_calibration)
     assumptions = (
@@ -615,6 +841,8 @@ class TripWire:
     time: dt.datetime
     air_c: float
     shift_k: float
+    #: the inside air the forecast itself expects at ``time`` with no heat [°C]
+    expected_c: float | None = None
 
 
 def trip_wire(r: TonightResult) -> TripWire | None:
@@ -649,4 +877,5 @@ def trip_wire(r: TonightResult) -> TripWire | None:
     secs = np.array([(t - r.start).total_seconds() for t in r.times])
     x = (at - r.start).total_seconds()
     air_at = float(np.interp(x, secs, air - shift * g))
-    return TripWire(time=at, air_c=air_at, shift_k=-shift)
+    expected = float(np.interp(x, secs, air))
+    return TripWire(time=at, air_c=air_at, shift_k=-shift, expected_c=expected)

@@ -171,7 +171,8 @@ def winters(
         price = (
             float(house.stock["price"]) * heat.fuel.j_per(out_unit) / heat.fuel.j_per(stock_.unit)
         )
-        notes.append(f"price from the house file's [stock] price, per {out_unit}")
+        # the report says the price per the unit it shows the fuel in
+        notes.append("price from the house file's [stock] price (per its on_hand unit)")
     done = []
     run = None
     for i, fc in enumerate(seasons):

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from typing import Any
 
 from grower.crops import (
@@ -12,7 +13,13 @@ from grower.crops import (
     select_threshold,
 )
 from grower.report.common import NARROW, console, data_table, jsonable
-from grower.units import UnitSystem, show_temperature, show_temperature_difference
+from grower.units import (
+    UnitSystem,
+    c_to_f,
+    f_to_c,
+    show_temperature,
+    show_temperature_difference,
+)
 
 
 def _e(text: str) -> str:
@@ -27,6 +34,40 @@ _MAX_ALIASES = 3
 
 def _temp(value_c: float, system: UnitSystem) -> str:
     return show_temperature(value_c, system).text(1)
+
+
+#: a temperature, or a range of two, as crop files write them in their notes: "28 °F",
+#: "about 12.5 °C", "0–5 °C", "-4 to -7 °C", "−2.2 °C" (a hyphen between two numbers
+#: would read as a minus sign, so a range takes an en dash or "to")
+_TEMPERATURE = re.compile(
+    r"(?P<a>[-−]?\d+(?:\.\d+)?)(?:(?P<sep>\s*–\s*|\s+to\s+)(?P<b>[-−]?\d+(?:\.\d+)?))?"
+    r"\s?°\s?(?P<unit>[CF])\b"
+)
+
+
+def _number(value: float) -> str:
+    """A converted temperature to 0.1 degree, no trailing ".0", a hyphen for minus."""
+    text = f"{round(value, 1):.1f}".removesuffix(".0")
+    return "0" if text == "-0" else text
+
+
+def temperatures_in(text: str, system: UnitSystem) -> str:
+    """`text` (a crop file's note) with every temperature written in it shown in the
+    screen's units: "0–5 °C" is "32–41 °F" on a US screen, "28 °F" is "-2.2 °C" on a
+    metric one (to 0.1 degree); one already in the screen's unit is left as written.
+    The factors are the definitions of the two scales (`grower.units.c_to_f`)."""
+    want = "F" if system == "us" else "C"
+
+    def shown(m: re.Match[str]) -> str:
+        if m["unit"] == want:
+            return m[0]
+        convert = c_to_f if want == "F" else f_to_c
+        values = [m["a"]] + ([m["b"]] if m["b"] is not None else [])
+        out = [_number(convert(float(v.replace("−", "-")))) for v in values]
+        joined = out[0] if len(out) == 1 else f"{out[0]}{m['sep']}{out[1]}"
+        return f"{joined} °{want}"
+
+    return _TEMPERATURE.sub(shown, text)
 
 
 def _origin(crop: Crop) -> str:
@@ -154,20 +195,38 @@ def render_list(crops: tuple[Crop, ...], system: UnitSystem, query: str | None) 
 
 
 class _Refs:
-    """Numbered footnotes, one per distinct basis text."""
+    """Numbered footnotes, one per distinct basis text, each with the values it gives in
+    the screen's units (marked where the source printed the other scale)."""
 
-    def __init__(self) -> None:
+    def __init__(self, system: UnitSystem) -> None:
+        self.system = system
         self.texts: list[str] = []
-        self.printed: dict[str, list[str]] = {}
+        self.printed: dict[str, list[tuple[str, str]]] = {}  # (shown, printed unit)
 
     def mark(self, t: Threshold) -> str:
         if t.basis_text not in self.texts:
             self.texts.append(t.basis_text)
             self.printed[t.basis_text] = []
-        shown = f"{t.printed_value:g} {t.printed_unit}"
+        shown = (
+            temperatures_in(f"{t.printed_value:g} {t.printed_unit}", self.system),
+            t.printed_unit,
+        )
         if shown not in self.printed[t.basis_text]:
             self.printed[t.basis_text].append(shown)
         return f"[{self.texts.index(t.basis_text) + 1}]"
+
+    def values(self, text: str) -> str:
+        """The values of source `text`, "-2.2 °C, -1.1 °C (printed in °F)": the unit the
+        source printed is said once when it differs from the screen's, after each value
+        when the source printed both."""
+        here = self.printed[text]
+        unit = show_temperature(0.0, self.system).unit
+        printed = {p for _, p in here}
+        if printed == {unit}:
+            return ", ".join(v for v, _ in here)
+        if len(printed) == 1:
+            return f"{', '.join(v for v, _ in here)} (printed in {printed.pop()})"
+        return ", ".join(v if p == unit else f"{v} (printed in {p})" for v, p in here)
 
 
 def _duration(hours: float) -> str:
@@ -189,7 +248,7 @@ def render_detail(
     """One crop: every stage's thresholds in the chosen units, with their sources."""
 
     out = console()
-    refs = _Refs()
+    refs = _Refs(system)
     title = crop.name + (f" — {crop.group}" if crop.group else "")
     out.print(f"[bold]{_e(title)}[/bold]")
     if crop.aliases:
@@ -199,7 +258,7 @@ def render_detail(
         if crop.overrides:
             out.print(f"  (replaces the shipped crop in {_e(crop.overrides)})")
     if crop.note:
-        out.print(_e(crop.note))
+        out.print(_e(temperatures_in(crop.note, system)))
     has = {k: any(getattr(s, k) is not None for s in crop.stages) for k in KINDS}
     all_k10 = all(s.kill_10 is not None for s in crop.stages)
     all_k90 = all(s.kill is None and s.kill_90 is not None for s in crop.stages)
@@ -250,9 +309,9 @@ def render_detail(
         out.print("[bold]Notes[/bold]")
         for note, where in notes.items():
             scope = "" if len(where) == len(crop.stages) > 1 else f"{', '.join(where)} — "
-            out.print(f"  {scope}{note}", markup=False)
-    out.print("[bold]Sources[/bold] (values as printed there)")
+            out.print(f"  {scope}{temperatures_in(note, system)}", markup=False)
+    out.print("[bold]Sources[/bold] (the values each gives)")
     for i, text in enumerate(refs.texts, 1):
-        printed = ", ".join(refs.printed[text])
+        printed = refs.values(text)
         kind = " — not checked against a publication" if text == "from memory" else ""
         out.print(f"  [{i}] {text}{kind}: {printed}", highlight=False, markup=False)

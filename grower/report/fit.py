@@ -18,6 +18,7 @@ from grower.units import (
     show_conductance,
     show_power,
     show_temperature,
+    show_temperature_difference,
 )
 
 INTERVAL_NOTE = (
@@ -30,6 +31,14 @@ INTERVAL_NOTE = (
 NOISE_NOTE = (
     "sensor noise from the record's own scatter: 1.4826·MAD of the second differences of the "
     "inside temperature / √6 (white noise), leaving out rows where the heater switches"
+)
+#: what K is in the fit's report, for the fitted value and the geometry's alike
+#: (`grower.fit.estimate`: the sum of the conductance columns)
+K_DEFINITION = (
+    "K here is the sum of the conductances to the outside air and to the sky (the floor's "
+    "exchange with the sky counted in full), for the fit and the geometry alike, so their "
+    "ratio compares like with like; `grower house` gives the steady K, with the floor's "
+    "sky part reached through its coupling to the air, which is smaller"
 )
 #: a lag-1 autocorrelation of the residuals above this is called out (common practice, no
 #: source)
@@ -107,6 +116,7 @@ def fit_json(r: FitResult, written: dict[str, str] | None = None) -> dict[str, A
         "heater": r.heater,
         "with_days": r.with_days,
         "k_w_per_k": values["k_w_per_k"].value,
+        "k_definition": K_DEFINITION,
         "k_outside_w_per_k": values["k_outside_w_per_k"].value,
         "k_sky_w_per_k": values["k_sky_w_per_k"].value,
         "sky_by_night": None if f.sky_by_segment is None else list(f.sky_by_segment),
@@ -331,9 +341,10 @@ def render_fit(
     tu = show_temperature(0, system).unit
     if f.model == "two-node":
         seg.add_column(
-            f"floor {tu}" if narrow else f"floor at start, {tu}", justify="right", no_wrap=True
+            "floor" if narrow else f"floor at start, {tu}", justify="right", no_wrap=True
         )
-    seg.add_column("RMS K" if narrow else "RMS, K", justify="right", no_wrap=True)
+    du = show_temperature_difference(1.0, system).unit
+    seg.add_column("RMS" if narrow else f"RMS, {du}", justify="right", no_wrap=True)
     for i, s in enumerate(f.segments, start=1):
         same_day = s.start.date() == s.end.date()
         cells = [
@@ -351,9 +362,13 @@ def render_fit(
             m = show_temperature(s.initial_mass_c, system)
             hw = s.initial_mass_half_width * (1.8 if system == "us" else 1.0)
             cells.append(f"{m.value:.1f} ± {hw:.1f}")
-        cells.append(f"{s.rms_k:.2f}")
+        cells.append(f"{show_temperature_difference(s.rms_k, system).value:.2f}")
         seg.add_row(*cells)
     console.print(seg)
+    if narrow:  # the headers are short: their units under the table
+        floor = f"floor at start in {tu}; " if f.model == "two-node" else ""
+        plain(console, f"{floor}RMS in {du}", "dim")
+    plain(console, f"· {K_DEFINITION}", "dim")
     plain(console, f"· {r.anchor_note}", "dim")
     plain(console, f"· {INTERVAL_NOTE}", "dim")
     for n in r.notes:

@@ -139,7 +139,7 @@ def render_house(
     table.add_section()
     table.add_row(
         "[bold]total K[/bold]",
-        "" if system == "us" else conductance_text(total, "us"),
+        "",
         "",
         "",
         f"[bold]{_num(show_conductance(total, system).value)}[/bold]",
@@ -183,9 +183,11 @@ def render_house(
         f"{show_speed(15 * M_S_PER_MPH, system).text(0 if system == 'us' else 1)}); "
         "in calm air K = "
         f"{_num(show_conductance(s.calm.total_w_per_k, system).value)} {ua_unit}. "
-        f"A clear night adds {_num(show_conductance(k.sky_w_per_k, system).value)} {ua_unit} per "
-        f"{'°F' if system == 'us' else 'kelvin'} of sky below the outside air (roof passes "
-        f"{tau:.0%} of thermal IR; cover faces {_num(show_conductance(k.cover_sky_w_per_k, system).value)}). "
+        f"A clear night loses {_num(show_conductance(k.sky_w_per_k, system).value)} "
+        f"{'Btu/h' if system == 'us' else 'W'} more for every {per} the sky is below the "
+        f"outside air (roof passes {tau:.0%} of thermal IR; "
+        f"{conductance_text(k.cover_sky_w_per_k, system)} of it "
+        "from the cover's own outer faces, the rest from the floor and crop through the film). "
         f"The air settles in {fast * 60:.0f} min, the floor and water in {slow:.1f} h."
     )
     if calibration is not None:

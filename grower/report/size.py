@@ -70,6 +70,13 @@ def size_json(r: SizeResult) -> dict[str, Any]:
     }
 
 
+def _article(name: str) -> str:
+    """ "an" before a vowel sound ("an electric …", "an unvented …"), else "a" ("a
+    vented …", "a unit heater": the "u" of "unit" sounds as "you")."""
+    vowel = name[:1].lower() in "aeiou" and not name.lower().startswith(("unit", "uni", "use"))
+    return "an" if vowel else "a"
+
+
 def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     from rich.table import Table
 
@@ -77,7 +84,7 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
     console.print(
         f"[bold]{r.house_name}[/bold]: a heater of [bold]{power_text(r.recommended_output_w, system)}"
         f"[/bold] output — nameplate input [bold]{power_text(r.recommended_input_w, system)}[/bold] "
-        f"for a {r.appliance} at {r.efficiency:.0%} efficiency"
+        f"for {_article(r.appliance)} {r.appliance} at {r.efficiency:.0%} efficiency"
     )
     console.print(
         f"holds {t(r.hold_c)} inside at {t(r.design_outside_c)} outside, "
@@ -125,10 +132,15 @@ def render_size(console, r: SizeResult, system: UnitSystem) -> None:
             power_text(r.curtain_saving_w, system),
         )
     rate = r.fuel_per_hour
-    table.add_row(
-        f"{r.fuel.label} at full fire",
-        fuel_text(float(rate.amount_per_hour), rate.unit, rate.fuel, system, digits=2) + "/h",
-    )
+    per_hour = fuel_text(float(rate.amount_per_hour), rate.unit, rate.fuel, system, digits=2)
+    if per_hour.endswith(" kWh"):
+        # electricity: kWh an hour is a power, said in kW on a metric screen; a US one
+        # keeps the unit it is billed in, as it keeps gallons for propane
+        kw = per_hour.removesuffix(" kWh")
+        per_hour = f"{per_hour} an hour" if system == "us" else f"{kw} kW"
+    else:
+        per_hour += "/h"
+    table.add_row(f"{r.fuel.label} at full fire", per_hour)
     console.print(table)
     console.print()
 

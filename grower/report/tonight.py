@@ -68,6 +68,12 @@ def tonight_json(r: TonightResult) -> dict[str, Any]:
             "min_plant_c": r.heater.min_plant_c,
             "min_time": iso(r.heater.min_time),
             "energy_kwh": r.heater.energy_kwh,
+            # the plants start below the alarm: when the heater has them back at it, when
+            # they reach the damage temperature before that, and the coldest from then on
+            "recovered_at": iso(r.heater.recovered_at),
+            "damage_at": iso(r.heater.damage_at),
+            "min_plant_after_recovery_c": r.heater.min_after_c,
+            "min_time_after_recovery": iso(r.heater.min_after_time),
         },
         "colder": {
             "by_c": r.colder_by_k,
@@ -166,7 +172,12 @@ def _trip_json(r: TonightResult) -> dict[str, Any] | None:
     w = trip_wire(r)
     if w is None:
         return None
-    return {"time": iso(w.time), "air_below_c": w.air_c, "forecast_shift_k": w.shift_k}
+    return {
+        "time": iso(w.time),
+        "air_below_c": w.air_c,
+        "forecast_shift_k": w.shift_k,
+        "air_expected_c": w.expected_c,  # the forecast's own inside air then, no heat
+    }
 
 
 def by_urgency(docs: list[dict[str, Any]]) -> list[dict[str, Any]]:
@@ -192,6 +203,12 @@ def _span(t: dt.datetime, ref: dt.datetime) -> str:
 def _clock(t: dt.datetime, start: dt.datetime) -> str:
     day = "" if t.date() == start.date() else t.strftime(" %a")
     return t.strftime("%H:%M") + day
+
+
+def _by(t: dt.datetime, start: dt.datetime) -> str:
+    """ "16:01": the clock minute by which `t` has come (16:00:44 is by 16:01)."""
+    cut = t.replace(second=0, microsecond=0)
+    return _clock(cut if cut == t else cut + dt.timedelta(minutes=1), start)
 
 
 def _what(r: TonightResult) -> str:
@@ -226,20 +243,16 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     if r.action == "none":
         return head + f"{_does(r, 'stays', 'stay')} above {T(r.threshold_c)} tonight with no heat"
     if r.action == "heat":
-        margin = power_text(h.output_w - r.hold_peak_w, system)
         fuel = f"; about {_fuel(h.fuel, system)} of {r.hold_fuel_label} tonight" if h.fuel else ""
         return (
             head + f"heat from [bold]{_clock(v.crossing_time, r.start)}[/bold]; the installed "
-            f"heater holds {T(r.threshold_c)} with {margin} to spare{fuel}"
+            f"heater holds {T(r.threshold_c)} {_spare(r, system)}{fuel}"
         )
     if r.action == "below":
-        tail = (
-            "the installed heater brings it back"
-            if h is not None and h.holds
-            else "heat it now"
-            + (f"; at full output the plants reach {T(h.min_plant_c)}" if h else "")
+        return (
+            head + f"{_does(r, 'is', 'are')} at or below {T(r.threshold_c)} already — "
+            f"[bold]heat now[/bold]{_below_tail(r, system)}"
         )
-        return head + f"{_does(r, 'is', 'are')} at or below {T(r.threshold_c)} already — {tail}"
     if h is None:
         return (
             head + f"no heater installed; {_does(r, 'reaches', 'reach')} {T(r.threshold_c)} at "
@@ -251,6 +264,100 @@ def _action_line(r: TonightResult, system: UnitSystem) -> str:
     return (
         head + f"at full output the plants reach [bold]{T(h.min_plant_c)}[/bold] at "
         f"{_clock(h.min_time, r.start)}{need}"
+    )
+
+
+#: a margin under this shows as "0.0 kW" (or below): said as none [W]
+NO_SPARE_W = 50.0
+
+
+def _spare(r: TonightResult, system: UnitSystem) -> str:
+    """ "with 8.2 kW to spare", or, a heater that holds within the tolerance only at its
+    full output (the coldest hour needs a little more than it gives), no margin."""
+    spare = r.heater.output_w - r.hold_peak_w
+    if spare < NO_SPARE_W:
+        return "at its full output, with nothing to spare"
+    return f"with {power_text(spare, system)} to spare"
+
+
+def _below_tail(r: TonightResult, system: UnitSystem) -> str:
+    """What the installed heater does for plants that start below the alarm."""
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    h = r.heater
+    if h is None:
+        return ""
+    if h.holds and h.recovered_at is None:  # at the alarm within its tolerance: held
+        return f"; the installed heater holds {T(r.threshold_c)}"
+    if h.holds:
+        them = "it" if r.crop else "them"
+        return (
+            f"; the installed heater brings {them} back above {T(r.threshold_c)} by "
+            f"[bold]{_by(h.recovered_at, r.start)}[/bold] and holds {them} {_spare(r, system)}"
+        )
+    if h.damage_at is not None and _at_start(h.damage_at, r):
+        return f"; the plants are below the damage temperature {T(r.damage_c)} too"
+    if h.damage_at is not None:
+        return (
+            f"; even at full output the plants reach the damage temperature "
+            f"{T(r.damage_c)} at {_clock(h.damage_at, r.start)}, before they are back above "
+            f"{T(r.threshold_c)}"
+        )
+    if h.recovered_at is None:
+        return (
+            f"; at full output the heater does not bring it back above {T(r.threshold_c)} tonight"
+        )
+    more = max(r.hold_peak_w - h.output_w, 0.0)
+    need = f"; needs {power_text(more, system)} more" if more > 0 else ""
+    return (
+        f"; at full output the plants are back above {T(r.threshold_c)} by "
+        f"{_by(h.recovered_at, r.start)}, then fall to {T(h.min_after_c)} at "
+        f"{_clock(h.min_after_time, r.start)}{need}"
+    )
+
+
+def _at_start(t: dt.datetime, r: TonightResult) -> bool:
+    return abs((t - r.start).total_seconds()) < 1.0
+
+
+def heater_text(r: TonightResult, system: UnitSystem) -> str:
+    """The "installed heater" row: does it hold the alarm (or bring the plants back)?"""
+    T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
+    h = r.heater
+    q = power_text(h.output_w, system)
+    if h.holds and h.recovered_at is not None:
+        return (
+            f"[green]brings it back[/green] above {T(r.threshold_c)} by "
+            f"{_by(h.recovered_at, r.start)}, then holds it, with {q} output"
+        )
+    if h.holds:
+        return f"[green]holds it[/green] with {q} output"
+    if h.damage_at is not None and _at_start(h.damage_at, r):
+        back = f"; back above {T(r.threshold_c)} by {_by(h.recovered_at, r.start)}"
+        return (
+            f"[bold red]too late[/bold red]: the plants start below the damage temperature "
+            f"{T(r.damage_c)}{back if h.recovered_at is not None else ''}"
+        )
+    if h.damage_at is not None:
+        back = f" (back at {_by(h.recovered_at, r.start)})" if h.recovered_at is not None else ""
+        return (
+            f"[bold red]too slow[/bold red]: at its full {q} the plants reach the damage "
+            f"temperature {T(r.damage_c)} at {_clock(h.damage_at, r.start)}, before they are "
+            f"back above {T(r.threshold_c)}{back}"
+        )
+    if r.below_now and h.recovered_at is None:
+        return (
+            f"[bold red]does not bring it back[/bold red]: at its full {q} the plants stay "
+            f"below {T(r.threshold_c)}; coldest {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
+        )
+    if h.recovered_at is not None:
+        return (
+            f"[bold red]does not hold it[/bold red]: back above {T(r.threshold_c)} by "
+            f"{_by(h.recovered_at, r.start)}, then at its full {q} the plants fall to "
+            f"{T(h.min_after_c)} at {_clock(h.min_after_time, r.start)}"
+        )
+    return (
+        f"[bold red]does not hold it[/bold red]: at its full {q} "
+        f"the plants fall to {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
     )
 
 
@@ -285,7 +392,8 @@ def _verdict_line(r: TonightResult, system: UnitSystem, now: dt.datetime | None 
 
 
 def trip_wire_line(r: TonightResult, system: UnitSystem) -> str | None:
-    """ "Check again at 22:00: if the inside air is below 3.0 °C then, …"."""
+    """ "Check again at 22:00 (the forecast has the inside air at 1.8 °C then): if it is
+    below 3.0 °C, …"."""
     w = trip_wire(r)
     if w is None:
         return None
@@ -297,8 +405,13 @@ def trip_wire_line(r: TonightResult, system: UnitSystem) -> str | None:
         if r.heater is not None
         else "heat or cover the crop"
     )
+    at = _clock(w.time, r.start)
+    if w.expected_c is None:
+        return keep_units(f"Check again at {at}: if the inside air is below {T} then, {act}.")
+    expected = show_temperature(w.expected_c, system).text(1)
     return keep_units(
-        f"Check again at {_clock(w.time, r.start)}: if the inside air is below {T} then, {act}."
+        f"Check again at {at} (the forecast has the inside air at {expected} then): "
+        f"if it is below {T}, {act}."
     )
 
 
@@ -393,15 +506,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
         f"{r.hold_fuel_label} in a {r.hold_appliance} ({fuel.efficiency:.0%})",
     )
     if r.heater is not None:
-        h = r.heater
-        if h.holds:
-            text = f"[green]holds it[/green] with {power_text(h.output_w, system)} output"
-        else:
-            text = (
-                f"[bold red]does not hold it[/bold red]: at its full {power_text(h.output_w, system)} "
-                f"the plants fall to {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
-            )
-        table.add_row("installed heater", text)
+        table.add_row("installed heater", heater_text(r, system))
     d = show_temperature_difference(r.colder_by_k, system).text(1).replace(".0 ", " ")
     table.add_row(f"{d} colder than forecast", _verdict_text(r.colder, r, system))
     if r.soil_colder is not None and r.soil_assumed:
@@ -445,7 +550,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     chart.render(console, rows)
     console.print()
     vapour_report.render(console, r.vapour, system)
-    src = f"Forecast: {r.forecast_source}"
+    src = f"Forecast: {note_text(r.forecast_source, system)}"
     if r.forecast_issued_at:
         src += f", issued {r.forecast_issued_at:%d %b %H:%M}"
     if r.forecast_age_s is not None:
@@ -454,7 +559,7 @@ def render_tonight(console, r: TonightResult, system: UnitSystem) -> None:
     if r.forecast_attribution:
         plain(console, f"{r.forecast_attribution}", "dim")
     for w in r.forecast_warnings:
-        plain(console, f"! {w}", "yellow")
+        plain(console, f"! {note_text(w, system)}", "yellow")
     for a in r.assumptions:
         if a == r.calibration_warning:
             plain(console, f"! {note_text(a, system)}", "yellow")
@@ -522,7 +627,7 @@ def print_verdict(console, r: TonightResult, system: UnitSystem) -> None:
 
 def render_brief(console, results: list[TonightResult], system: UnitSystem) -> None:
     """`--brief`: the verdict lines of each house, most urgent first."""
-    order = sorted(results, key=lambda r: (-r.exit_status, r.safe))
+    order = sorted(results, key=lambda r: (-r.exit_status, r.safe, not r.below_now))
     for r in order:
         print_verdict(console, r, system)
 
@@ -550,13 +655,29 @@ def _chance_cell(c: Any) -> str:
     return f"{text} ({chance_text(c.damaged_heated, c.count)})" if c.heater else text
 
 
+def _heater_cell(r: TonightResult, slim: bool, system: UnitSystem) -> str:
+    """The summary's heater cell: holds, back (by when), or the coldest plants with it."""
+    h = r.heater
+    if h is None:
+        return "—"
+    if h.holds:
+        return "holds" if h.recovered_at is None else f"back {_by(h.recovered_at, r.start)}"
+    if r.below_now and (h.recovered_at is None or h.damage_at is not None):
+        return "[red]not back[/red]"
+    coldest = h.min_after_c if h.min_after_c is not None else h.min_plant_c
+    return f"[red]{'' if slim else 'falls to '}{show_temperature(coldest, system).text(1)}[/red]"
+
+
 def render_summary(console, results: list[TonightResult], system: UnitSystem) -> None:
     """Several houses: one table, most urgent first."""
     from rich.table import Table
 
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     order = sorted(results, key=lambda r: (margin_k(r), -r.exit_status))
-    frost = sorted((r for r in order if not r.safe), key=lambda r: -r.exit_status)
+    # the worst status leads; of equal ones, a house below the alarm already
+    frost = sorted(
+        (r for r in order if not r.safe), key=lambda r: (-r.exit_status, not r.below_now)
+    )
     if frost:
         print_line(console, action_line(frost[0], system))
         print_line(console, verdict_line(frost[0], system))
@@ -600,13 +721,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
             if r.safe
             else f"[bold red]{_clock(r.verdict.crossing_time, r.start)}[/bold red]"
         )
-        heater = (
-            "—"
-            if r.heater is None
-            else "holds"
-            if r.heater.holds
-            else f"[red]{'' if slim else 'falls to '}{T(r.heater.min_plant_c)}[/red]"
-        )
+        heater = _heater_cell(r, slim, system)
         cells = [
             r.house_name,
             when,
@@ -639,7 +754,7 @@ def render_summary(console, results: list[TonightResult], system: UnitSystem) ->
     )
     for r in order:
         for w in r.forecast_warnings:
-            plain(console, f"! {r.house_name}: {w}", "yellow")
+            plain(console, f"! {r.house_name}: {note_text(w, system)}", "yellow")
     attributions = {r.forecast_attribution for r in order if r.forecast_attribution}
     for a in sorted(attributions):
         plain(console, f"{a}", "dim")

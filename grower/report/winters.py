@@ -105,7 +105,9 @@ def render_winters(console, r: WintersResult, system: UnitSystem) -> None:
     setp = T(r.setpoint_c) + (
         "" if r.night_setpoint_c == r.setpoint_c else f" by day, {T(r.night_setpoint_c)} at night"
     )
-    plain(console, f"setpoint {setp}; {r.appliance} {r.efficiency:.0%}", "dim")
+    # the price per the unit the fuel is shown in (the plan's is per `r.unit`)
+    price = "" if r.price is None else f"; price {r.price / per:,.2f} per {unit}"
+    plain(console, f"setpoint {setp}; {r.appliance} {r.efficiency:.0%}{price}", "dim")
     console.print()
     table = data_table(
         console, title=f"each winter (median {r.median.label}, coldest {r.coldest.label})"

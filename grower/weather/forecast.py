@@ -21,7 +21,7 @@ from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 import numpy as np
 from numpy.typing import NDArray
 
-from grower import arrays
+from grower import arrays, limits
 from grower.errors import InputError
 from grower.units import Note
 
@@ -36,8 +36,10 @@ COLUMNS = (
 )
 #: accepted range of each variable (inclusive) after conversion to the column's unit
 RANGES: dict[str, tuple[float, float]] = {
-    "temperature_c": (-60.0, 60.0),
-    "dew_point_c": (-60.0, 60.0),
+    # the command line's limits (`grower.limits`: Earth's records), so a forecast file
+    # and --low/--dew-point accept the same temperatures
+    "temperature_c": (limits.OUTSIDE_AIR_C.lo, limits.OUTSIDE_AIR_C.hi),
+    "dew_point_c": (limits.DEW_POINT_C.lo, limits.DEW_POINT_C.hi),
     "cloud_cover_pct": (0.0, 100.0),
     "cloud_cover_low_pct": (0.0, 100.0),
     "wind_speed_m_s": (0.0, np.inf),

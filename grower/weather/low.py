@@ -20,6 +20,7 @@ import numpy as np
 from grower import diurnal
 from grower.errors import InputError
 from grower.site import Site
+from grower.units import Note
 from grower.weather.forecast import (
     MAX_GAP_S,
     RANGES,
@@ -88,20 +89,32 @@ def forecast_from_low(
     else:
         start_s = start.timestamp()
     warnings = []
-    source = f"forecast low {signed_number(low_c)} °C"
     _check_range(low_c, "temperature_c", "forecast low")
+    given_high = high_c is not None
     if high_c is None:
         high_c = low_c + DEFAULT_DIURNAL_RANGE_K
+        # the SI text as it always read (the JSON's); a US screen shows °F throughout
         warnings.append(
-            f"no forecast high given: high taken as the low + {DEFAULT_DIURNAL_RANGE_K:g} K = "
-            f"{signed_number(high_c)} °C (a typical day's range, from memory)"
+            Note(
+                f"no forecast high given: high taken as the low + {DEFAULT_DIURNAL_RANGE_K:g} K = "
+                f"{signed_number(round(high_c, 1))} °C (a typical day's range, from memory)",
+                us_template="no forecast high given: high taken as the low + {range} = {high} "
+                "(a typical day's range, from memory)",
+                range=("delta", DEFAULT_DIURNAL_RANGE_K, 0),
+                high=("temp", high_c, 1),
+            )
         )
-    else:
-        source += f", high {signed_number(high_c)} °C"
+    source = Note(
+        f"forecast low {signed_number(round(low_c, 1))} °C"
+        + (f", high {signed_number(round(high_c, 1))} °C" if given_high else ""),
+        us_template="forecast low {low}" + (", high {high}" if given_high else ""),
+        low=("temp", low_c, 1),
+        high=("temp", high_c, 1),
+    )
     _check_range(high_c, "temperature_c", "forecast high")
     if high_c < low_c:
         raise InputError(
-            f"forecast high {signed_number(high_c)} °C is below the low {signed_number(low_c)} °C"
+            f"forecast high {signed_number(round(high_c, 1))} °C is below the low {signed_number(round(low_c, 1))} °C"
         )
     _check_range(dew_point_c, "dew_point_c", "dew point")
     _check_range(cloud_pct, "cloud_cover_pct", "cloud cover")
@@ -123,8 +136,13 @@ def forecast_from_low(
         values["dew_point_c"] = np.minimum(dew_point_c, temp)
         if dew_point_c > temp.min():
             warnings.append(
-                f"dew point {signed_number(dew_point_c)} °C is above the air temperature at times: "
-                "capped at the air temperature there (saturated air)"
+                Note(
+                    f"dew point {signed_number(round(dew_point_c, 1))} °C is above the air temperature "
+                    "at times: capped at the air temperature there (saturated air)",
+                    us_template="dew point {dew} is above the air temperature at times: "
+                    "capped at the air temperature there (saturated air)",
+                    dew=("temp", dew_point_c, 1),
+                )
             )
     for value, col in ((cloud_pct, "cloud_cover_pct"), (wind_m_s, "wind_speed_m_s")):
         if value is not None:
