@@ -325,7 +325,7 @@ class Hold:
     peak_w: float
     energy_j: float
     source: fuels.HeatSource
-    unit: str | None  # the unit the grower buys the fuel in, if the house file says
+    unit: str  # the unit the grower buys the fuel in (`fuels.bought_unit`)
     fuel: fuels.FuelAmount
 
 
@@ -435,12 +435,7 @@ def hold(house: House, night: NightModel, state: StartState, threshold_c: float)
     held = runs.hold(mdl, b.times_s, night.bc, state.x0, setpoint, night.gains)
     source = fuels.heat_source(house)
     fuel = source.fuel
-    # in the unit the grower buys it in, when the house file says so ([stock] on_hand)
-    unit = None
-    if house.stock.get("on_hand") and fuels.get_fuel(house.stock.get("fuel") or fuel.name) == fuel:
-        unit = fuels.parse_amount(
-            house.stock["on_hand"], fuel, where=f"{house.path}: stock.on_hand"
-        ).unit
+    unit = fuels.bought_unit(house, fuel)  # the one rule (size and stock use it too)
     energy = float(held.energy_j[0])
     amount = fuels.fuel_amount(energy, fuel, source.efficiency, unit)
     return Hold(float(held.peak_w[0]), energy, source, unit, amount)
