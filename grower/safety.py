@@ -113,12 +113,12 @@ def cautions(
             # (22 cm² per kW: 6.4516 cm² / 0.29307 kW)
             inlet = btu_h / 1000.0 * M2_PER_IN2
             metric = (
-                "Combustion air: a {input} heater needs a fresh-air inlet of at least {inlet}, "
+                "Combustion air: a heater of {input} input needs a fresh-air inlet of at least {inlet}, "
                 "22 cm² per kW of input (1 in² per 1,000 Btu/h: Purdue Extension, Greenhouse "
                 "heating checklist)."
             )
             us = (
-                "Combustion air: a {input} heater needs a fresh-air inlet of at least {inlet}, "
+                "Combustion air: a heater of {input} input needs a fresh-air inlet of at least {inlet}, "
                 "1 in² per 1,000 Btu/h of input (Purdue Extension, Greenhouse heating "
                 "checklist)."
             )

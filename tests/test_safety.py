@@ -23,7 +23,7 @@ def test_combustion_cautions_with_opening_sizes():
     notes = cautions("propane", None, 100_000 * W_PER_BTU_H)
     text = " ".join(note_text(n, "us") for n in notes)
     # Purdue Extension: 1 in² per 1,000 Btu/h -> 100 in² for 100,000 Btu/h
-    assert "a 100,000 Btu/h heater needs a fresh-air inlet of at least 100 in²" in text
+    assert "a heater of 100,000 Btu/h input needs a fresh-air inlet of at least 100 in²" in text
     # IFGC 304 / NFPA 54: 1 in² per 4,000 / 2,000 / 1,000 Btu/h -> 25 / 50 / 100 in²
     assert "25 in² from outdoors by vertical ducts" in text
     assert "50 in² by horizontal ducts" in text
@@ -32,7 +32,7 @@ def test_combustion_cautions_with_opening_sizes():
     cm2 = [UREG.Quantity(a, "inch**2").to("cm**2").m for a in (100, 25, 50)]
     metric = " ".join(note_text(n, "metric") for n in notes)
     assert (
-        f"a 29.3 kW (100,000 Btu/h) heater needs a fresh-air inlet of at least {cm2[0]:.0f} cm²"
+        f"a heater of 29.3 kW (100,000 Btu/h) input needs a fresh-air inlet of at least {cm2[0]:.0f} cm²"
         in metric
     )
     assert f"asks {cm2[1]:.0f} cm² from outdoors" in metric
@@ -129,7 +129,7 @@ def test_tonight_cautions_quote_the_installed_nameplate(capsys):
     assert main(argv) == 0
     text = " ".join(json.loads(capsys.readouterr().out)["cautions"])
     # examples/gable-house.toml: a 100,000 Btu/h (input) unit heater
-    assert "a 29.3 kW (100,000 Btu/h) heater" in text and "grower size" in text
+    assert "a heater of 29.3 kW (100,000 Btu/h) input" in text and "grower size" in text
 
 
 def test_several_houses_get_their_own_cautions(capsys, monkeypatch):
@@ -142,4 +142,4 @@ def test_several_houses_get_their_own_cautions(capsys, monkeypatch):
     out = capsys.readouterr().out
     # the propane house and the natural-gas range: a set each, named, each from its nameplate
     assert "Safety for Propagation house" in out and "Safety for Glass range" in out
-    assert "a 29.3 kW (100,000 Btu/h) heater" in out
+    assert "a heater of 29.3 kW (100,000 Btu/h) input" in out
