@@ -50,9 +50,11 @@ class _ModeData:
     wv: np.ndarray  # (r,) modal state -> watched value (air temperature or held power)
     cv: np.ndarray  # (r,) |wv lam^2|: a deviation's share of the curvature bound (one
     # step length: lam^2 `_chord_gap`, the gap from the chord per unit of the share)
-    val: np.ndarray  # (N,) watched value of zb at the grid times (held power: less the
-    # clamp temperature's share tc_j gsum, which hi and lo take off instead)
-    hi: np.ndarray  # (N-1,) upper limit of the value over each step, less zb's curvature bound
+    # val, hi, lo and same: several step lengths only (with one, `lim` and `cut` hold them)
+    val: np.ndarray | None  # (N,) watched value of zb at the grid times (held power: less
+    # the clamp temperature's share tc_j gsum, which hi and lo take off instead)
+    hi: np.ndarray | None  # (N-1,) upper limit of the value over each step, less zb's
+    # curvature bound
     lo: np.ndarray | None  # (N-1,) lower limit, plus the bound; None: no lower limit
     same: np.ndarray | None  # (N-1,) clamp temperature unchanged since the step before
     tc: np.ndarray | None  # (N,) clamp temperature (held or vent) [degC]
@@ -63,8 +65,8 @@ class _ModeData:
     cvl: list[float]
     zrows: np.ndarray  # (N, r) view of zb, a grid time a row
     lim: np.ndarray | None  # one step length: (N-1, L) the limits as slacks, see `_limits`
-    cut: np.ndarray | None  # one step length: (N-1,) the first later step whose clamp
-    # temperature changed (N-1 if none), where a window stops
+    cut: np.ndarray | None  # one step length, a clamp mode: (N-1,) the first later step
+    # whose clamp temperature changed (N-1 if none), where a window stops
     el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
 
 
@@ -141,7 +143,8 @@ class SerialRun:
         """(r, N) free float from a zero modal state, shared by FLOAT and FULL."""
         if self._zf is None:
             tab = self.rn.p.full
-            forcing = tab.f1.T * self.bf[:, :-1] + tab.f2.T * self.dbf
+            forcing = tab.f1.T * self.bf[:, :-1]  # in place: one big array less
+            forcing += tab.f2.T * self.dbf
             self._zf = self._base(self.rn.f.lam, tab, forcing)
         return self._zf
 
@@ -157,14 +160,20 @@ class SerialRun:
             zb, beta, db = self._free(), self.bf[:, :-1], self.dbf
             if md == FULL:
                 bq = rn.bq[:, None]
-                zb, beta = zb + self.qm * self._heater(lam, tab, bq), beta + self.qm * bq
+                heat = self._heater(lam, tab, bq)
+                heat *= self.qm
+                heat += zb  # the heater's share on the free float, in place
+                zb, beta = heat, beta + self.qm * bq
         else:
             lam, tab, wv = rn.r.lam, p.red, rn.wq
             tc = np.asarray(self.sp if md == HOLD else self.vt, dtype=float)
             tf = np.where(np.isfinite(tc), tc, 0.0)
             db = self.dbr
-            beta = self.br[:, :-1] + tf[None, :-1] * rn.bc[:, None]
-            zb = self._base(lam, tab, tab.f1.T * beta + tab.f2.T * db)
+            beta = tf[None, :-1] * rn.bc[:, None]
+            beta += self.br[:, :-1]
+            forcing = tab.f1.T * beta
+            forcing += tab.f2.T * db
+            zb = self._base(lam, tab, forcing)
         lc = lam[:, None]
         k2 = lc * zb[:, :-1]  # the curvature at each step's start, in place: big arrays
         k2 += beta
@@ -177,22 +186,24 @@ class SerialRun:
             bound = np.abs(wv) @ np.abs(k2, out=k2)
             bound *= self.hh8
         val = wv @ zb
+        # the limits in place (one array each): hi = limit + tol - bound, lo = limit - tol +
+        # bound, for the held power less its clamp share
         if tc is None:
-            if md == FULL:
-                hi = self.sp[:-1] + tol - bound
-            else:
-                hi = self.vt[:-1] + tol - bound
-                if self.qm > 0:
-                    lo = self.sp[:-1] - tol + bound
+            hi = (self.sp if md == FULL else self.vt)[:-1] + tol
+            hi -= bound
+            if md == FLOAT and self.qm > 0:
+                lo = self.sp[:-1] - tol
+                lo += bound
         else:
             val += self.qb
             share = tf[:-1] * rn.gsum  # the held power is val + share over step j
             same = np.ones(self.nt - 1, dtype=bool)
             same[1:] = (tc[1:-1] == tc[:-2]) & np.isfinite(tc[1:-1])
+            hi = (self.qm + tolq if md == HOLD else tolq) - bound
+            hi -= share
             if md == HOLD:
-                hi, lo = self.qm + tolq - bound - share, -tolq + bound - share
-            else:
-                hi = tolq - bound - share
+                lo = bound - tolq
+                lo -= share
         cv, pw = np.abs(wv * lam * lam), None
         if p.uniform:
             pw = np.empty((_LMAX + 1, lam.size))
@@ -201,8 +212,10 @@ class SerialRun:
             cv = lam * lam * gap  # a deviation's gap per unit of its share, signed in `_window`
         fr = rn.f if tc is None else rn.r
         lim = cut = None
-        if p.uniform:
-            lim, cut = _limits(val, hi, lo), _cuts(same, self.nt - 1)
+        if p.uniform:  # the slacks and cuts in place of val, hi, lo, same: less memory
+            lim = _limits(val, hi, lo)
+            cut = None if same is None else _cuts(same, self.nt - 1)
+            val = hi = lo = same = None
         self.data[md] = _ModeData(
             zb,
             beta,
@@ -236,7 +249,7 @@ class SerialRun:
         """
         if m.lim is not None:
             flat = []
-            two = m.lo is None
+            two = m.lim.shape[1] == 2  # no lower limit
             for a, c, x, e in zip(m.wvl, m.cvl, d, m.el, strict=True):
                 a = a * x
                 ae = a * e  # the deviation's share decays by e over the step
@@ -245,7 +258,8 @@ class SerialRun:
                     flat += (a, ae) if two else (a, ae, g - a, g - ae)
                 else:
                     flat += (a - g, ae - g) if two else (a - g, ae - g, -a, -ae)
-            nl = min(nl, int(m.cut[k]) - k)  # type: ignore[index]
+            if m.cut is not None:
+                nl = min(nl, int(m.cut[k]) - k)
             lim = m.lim[k : k + nl]
             coef = np.array(flat).reshape(len(d), lim.shape[1])
             pw = m.pw[: nl + 1]  # type: ignore[index]
@@ -378,7 +392,11 @@ class SerialRun:
             gk = ks[pid] + off
             dev = np.array([c[2] for c in pcs]).T
             z = np.take(m.zb, gk, axis=1)
-            z += np.concatenate([c[3] for c in pcs]).T * np.take(dev, pid, axis=1)
+            # the decays: with one step length rows of the powers pw, else each run's own
+            decay = (
+                np.concatenate([c[3] for c in pcs]) if m.pw is None else np.take(m.pw, off, axis=0)
+            )
+            z += decay.T * np.take(dev, pid, axis=1)
             st, en = off < nj[pid], off > 0
             steps, ge = gk[st], gk[en]
             zs, ze = np.compress(st, z, axis=1), np.compress(en, z, axis=1)
@@ -391,7 +409,9 @@ class SerialRun:
                 if p.uniform
                 else (np.take(a.T, steps, axis=1) for a in (tab.f1, tab.i2, tab.i3))
             )
-            iz = f1 * zs + i2 * np.take(m.beta, steps, axis=1) + i3 * np.take(m.db, steps, axis=1)
+            iz = f1 * zs  # in place, in the order f1 zs + i2 beta + i3 db
+            iz += i2 * np.take(m.beta, steps, axis=1)
+            iz += i3 * np.take(m.db, steps, axis=1)
             _put_columns(temps, ge, v @ ze, int(clamp))
             _put_columns(tint, steps, v @ iz, int(clamp))
             if not clamp:
@@ -474,13 +494,11 @@ def _limits(val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None) -> np.ndarra
     return lim
 
 
-def _cuts(same: np.ndarray | None, steps: int) -> np.ndarray:
+def _cuts(same: np.ndarray, steps: int) -> np.ndarray:
     """(steps,) for each step k the first step after it whose clamp temperature changed
     (``steps`` if none): a window from k stops there, since a run of a clamp mode cannot
     carry across the change (the step is classified anew; a window's first step may be
-    one that changed)."""
-    if same is None:
-        return np.full(steps, steps)
+    one that changed). A free mode has no cuts: its windows stop at the horizon."""
     change = np.append(np.flatnonzero(~same), steps)  # increasing, the first >= 1
     return np.repeat(change, np.diff(change, prepend=0))  # k in [c_(i-1), c_i) -> c_i
 
