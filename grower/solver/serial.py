@@ -23,7 +23,8 @@ IEEE Transactions on Automatic Control AC-23(3):395-404.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from bisect import bisect_right
+from dataclasses import dataclass, replace
 from operator import mul
 from typing import TYPE_CHECKING
 
@@ -65,8 +66,9 @@ class _ModeData:
     cvl: list[float]
     zrows: np.ndarray  # (N, r) view of zb, a grid time a row
     lim: np.ndarray | None  # one step length: (N-1, L) the limits as slacks, see `_limits`
-    cut: np.ndarray | None  # one step length, a clamp mode: (N-1,) the first later step
-    # whose clamp temperature changed (N-1 if none), where a window stops
+    cut: list[int] | None  # one step length, a clamp mode: the steps whose clamp
+    # temperature changed, increasing, and N-1 last (`_cuts`): a window stops at the first
+    # after its start
     el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
 
 
@@ -260,7 +262,7 @@ class SerialRun:
                 else:
                     flat += (a - g, ae - g) if two else (a - g, ae - g, -a, -ae)
             if m.cut is not None:
-                nl = min(nl, int(m.cut[k]) - k)
+                nl = min(nl, m.cut[bisect_right(m.cut, k)] - k)
             lim = m.lim[k : k + nl]
             coef = np.array(flat).reshape(len(d), lim.shape[1])
             pw = m.pw[: nl + 1]  # type: ignore[index]
@@ -304,15 +306,32 @@ class SerialRun:
         return x if m.tc is None else [float(m.tc[k - 1]), *x]
 
     def run(self) -> None:
-        """Step through the horizon and store the member's results in the run.
+        """Step through the horizon and store the member's results in the run."""
+        rn, i, last = self.rn, self.i, self.nt - 1
+        sc, pack = rn.scalar, self._pack()
+        x, md = self._march(pack)
+        # the windows are done: their slacks, a mode's biggest arrays, go before the
+        # store's temporaries come (a lower peak of memory)
+        self.data = {m: replace(d, lim=None) for m, d in self.data.items()}
+        self._store()
+        # heater and vent output at the last grid point: the final mode, just before it
+        sc.inputs(last - 1, i, pack)
+        if md in (HOLD, VENT):
+            q, _ = sc.qreq(sc.h, x, sc.sp if md == HOLD else sc.vt)
+            rn.heat_w[i, -1], rn.vent_w[i, -1] = (q, 0.0) if md == HOLD else (0.0, -q)
+        else:
+            rn.heat_w[i, -1], rn.vent_w[i, -1] = (self.qm if md == FULL else 0.0), 0.0
+
+    def _march(self, pack: list[np.ndarray]) -> tuple[list[float], int]:
+        """Step through the horizon, keeping the accepted runs (`pieces`) and the split
+        steps (`exact`); returns the final node temperatures and mode.
 
         A run of whole steps in one mode ends at the first step that fails its window. If
         the mode at that step's start is another one (a setpoint change, say) and nothing
         jumps, a run in that mode starts there; otherwise the step is split exactly.
         """
         rn, i, last = self.rn, self.i, self.nt - 1
-        sc = rn.scalar
-        pack, exact = self._pack(), self.exact
+        sc, exact = rn.scalar, self.exact
         x, md, k = rn.temps[i, 0].tolist(), -1, 0
         nl, typical, fresh = 16, 16.0, False
         data = self.data
@@ -354,14 +373,7 @@ class SerialRun:
             x, md = sc.step(k, i, x, pack, exact, pre)
             k += 1
             fresh = False
-        self._store()
-        # heater and vent output at the last grid point: the final mode, just before it
-        sc.inputs(last - 1, i, pack)
-        if md in (HOLD, VENT):
-            q, _ = sc.qreq(sc.h, x, sc.sp if md == HOLD else sc.vt)
-            rn.heat_w[i, -1], rn.vent_w[i, -1] = (q, 0.0) if md == HOLD else (0.0, -q)
-        else:
-            rn.heat_w[i, -1], rn.vent_w[i, -1] = (self.qm if md == FULL else 0.0), 0.0
+        return x, md
 
     def _store(self) -> None:
         """Temperatures, integrals, outputs and energies of the exact steps and of all
@@ -495,13 +507,13 @@ def _limits(val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None) -> np.ndarra
     return lim
 
 
-def _cuts(same: np.ndarray, steps: int) -> np.ndarray:
-    """(steps,) for each step k the first step after it whose clamp temperature changed
-    (``steps`` if none): a window from k stops there, since a run of a clamp mode cannot
-    carry across the change (the step is classified anew; a window's first step may be
-    one that changed). A free mode has no cuts: its windows stop at the horizon."""
-    change = np.append(np.flatnonzero(~same), steps)  # increasing, the first >= 1
-    return np.repeat(change, np.diff(change, prepend=0))  # k in [c_(i-1), c_i) -> c_i
+def _cuts(same: np.ndarray, steps: int) -> list[int]:
+    """The steps whose clamp temperature changed (increasing, each >= 1) and ``steps``
+    last: a window from step k stops at the first of them after k, since a run of a clamp
+    mode cannot carry across the change (the step is classified anew; a window's first
+    step may be one that changed). A few hundred a season, found by bisection, instead
+    of an array over the steps. A free mode has no cuts: its windows stop at the horizon."""
+    return [*np.flatnonzero(~same).tolist(), steps]
 
 
 def _put_columns(dst: np.ndarray, rows: np.ndarray, cols: np.ndarray, first: int) -> None:
