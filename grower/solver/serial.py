@@ -151,6 +151,33 @@ class SerialRun:
             self._zf = self._base(self.rn.f.lam, tab, forcing)
         return self._zf
 
+    def _held(self, tf: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(r', N-1) modal forcing with the air held at tf [degC] (N,), and (r', N) a
+        particular solution under it from zero (its own function: the forcing over the
+        steps goes at its return)."""
+        rn, tab = self.rn, self.rn.p.red
+        beta = tf[None, :-1] * rn.bc[:, None]
+        beta += self.br[:, :-1]
+        forcing = tab.f1.T * beta
+        forcing += tab.f2.T * self.dbr
+        return beta, self._base(rn.r.lam, tab, forcing)
+
+    def _bound(self, lam, zb, beta, db, wv, gap) -> np.ndarray:  # type: ignore[no-untyped-def]
+        """(N-1,) bound on how far the watched value ``wv @ z`` of the solution zb under
+        forcing ``beta + db t / h`` strays from its chord over each step [K or W]: with one
+        step length each mode's exact gap per unit of curvature (`_chord_gap`, ``gap``
+        [s^2]), else ``h^2/8``, times ``|wv|`` and the curvature at the step's start."""
+        lc = lam[:, None]
+        k2 = lc * zb[:, :-1]  # the curvature at each step's start, in place: big arrays
+        k2 += beta
+        k2 *= lc
+        k2 += db / self.rn.p.h
+        if gap is not None:  # each mode's gap below or above its chord, from its curvature
+            return (np.abs(wv) * gap) @ np.abs(k2, out=k2)
+        bound = np.abs(wv) @ np.abs(k2, out=k2)
+        bound *= self.hh8
+        return bound
+
     def _mode(self, md: int) -> _ModeData:
         """The data of mode md over the whole horizon, made on first use."""
         if md in self.data:
@@ -172,22 +199,9 @@ class SerialRun:
             tc = np.asarray(self.sp if md == HOLD else self.vt, dtype=float)
             tf = np.where(np.isfinite(tc), tc, 0.0)
             db = self.dbr
-            beta = tf[None, :-1] * rn.bc[:, None]
-            beta += self.br[:, :-1]
-            forcing = tab.f1.T * beta
-            forcing += tab.f2.T * db
-            zb = self._base(lam, tab, forcing)
-        lc = lam[:, None]
-        k2 = lc * zb[:, :-1]  # the curvature at each step's start, in place: big arrays
-        k2 += beta
-        k2 *= lc
-        k2 += db / h
-        if p.uniform:  # each mode's gap below or above its chord, from its curvature
-            gap = _chord_gap(lam, float(h[0]))
-            bound = (np.abs(wv) * gap) @ np.abs(k2, out=k2)
-        else:
-            bound = np.abs(wv) @ np.abs(k2, out=k2)
-            bound *= self.hh8
+            beta, zb = self._held(tf)
+        gap = _chord_gap(lam, float(h[0])) if p.uniform else None
+        bound = self._bound(lam, zb, beta, db, wv, gap)
         val = wv @ zb
         # the limits in place (one array each): hi = limit + tol - bound, lo = limit - tol +
         # bound, for the held power less its clamp share
