@@ -307,13 +307,13 @@ class ScalarStep:
             self._free2 = (w00, w01, w10, w11, *self.lam, *self.il, *self.v0, *self.bq)
             self._free2 += (v00, v01, v10, v11)
 
-    def inputs(self, k: int, i: int, pack: list[np.ndarray]) -> None:
-        """Step k's inputs for member i from ``pack``, series over the steps whose entries
-        k are (h, b (r), db (r), b_held (r'), db_held (r'), qb, dqb, setpoint, vent): kept
-        whole as `row`, the segments take their parts from it."""
+    def inputs(self, k: int, i: int, pack: np.ndarray) -> None:
+        """Step k's inputs for member i from ``pack``, whose row k is (h, b (r), db (r),
+        b_held (r'), db_held (r'), qb, dqb, setpoint, vent): kept whole as `row`, the
+        segments take their parts from it."""
         if i != self._member:
             self._member, self.qm = i, float(self.run.q[i])
-        self.row = v = [float(a[k]) for a in pack]
+        self.row = v = pack[k].tolist()
         self.h = v[0]
         self.qbk, self.dqbk, self.sp, self.vt = v[-4:]
 
@@ -648,7 +648,7 @@ class ScalarStep:
         k: int,
         i: int,
         x: list[float],
-        pack: list[np.ndarray],
+        pack: np.ndarray,
         out: list,
         pre=None,
     ) -> tuple[list[float], int]:

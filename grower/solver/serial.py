@@ -100,21 +100,20 @@ class SerialRun:
         }
         self.exact: list[tuple] = []  # the exactly split steps, see `_ScalarStep.step`
 
-    def _pack(self) -> list[np.ndarray]:
-        """The inputs of the steps as `ScalarStep.inputs` reads them: one series over the
-        steps per entry of a step's row (no table of them all: only the split steps,
-        a few hundred a season, read a row)."""
-        return [
-            self.rn.p.h,
-            *self.bf,
-            *self.dbf,
-            *self.br,
-            *self.dbr,
-            self.qb,
-            np.diff(self.qb),
-            self.sp,
-            self.vt,
-        ]
+    def _pack(self) -> np.ndarray:
+        """The inputs of every step, one row a step, as `_ScalarStep.inputs` reads them."""
+        rows = (
+            self.rn.p.h[None],
+            self.bf[:, :-1],
+            self.dbf,
+            self.br[:, :-1],
+            self.dbr,
+            self.qb[None, :-1],
+            np.diff(self.qb)[None],
+            self.sp[None, :-1],
+            self.vt[None, :-1],
+        )
+        return np.concatenate(rows, axis=0).T
 
     def _base(self, lam: np.ndarray, tab, forcing: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
         """(r, N) solution of ``z[k+1] = e z[k] + forcing[:, k]`` from z = 0, per mode."""
