@@ -31,6 +31,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from .modes import FLOAT, FULL, HOLD, TOL_K, VENT
+from .scalar import StepLog
 from .stepping import recur_one
 
 if TYPE_CHECKING:
@@ -72,6 +73,25 @@ class _ModeData:
     el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
 
 
+class _Runs:
+    """The accepted runs of one mode, column by column (plain lists: no tuple or list a
+    run for the garbage collector to walk): first step, number of steps, the modal
+    deviation at the start (r values a run, in order) and the decays (steps + 1, r)."""
+
+    def __init__(self) -> None:
+        self.k: list[int] = []
+        self.steps: list[int] = []
+        self.dev: list[float] = []
+        self.decay: list[np.ndarray] = []
+
+    def add(self, k: int, steps: int, dev: list[float], decay: np.ndarray) -> None:
+        """One run (see the class)."""
+        self.k.append(k)
+        self.steps.append(steps)
+        self.dev += dev
+        self.decay.append(decay)
+
+
 class SerialRun:
     """The thermostat run of member ``i`` of `Run` ``run``, writing into its arrays."""
 
@@ -95,10 +115,8 @@ class SerialRun:
         self.data: dict[int, _ModeData] = {}
         self._zf: np.ndarray | None = None
         # accepted runs per mode: (first step, steps, modal deviation, decays (steps+1, r))
-        self.pieces: dict[int, list[tuple[int, int, list[float], np.ndarray]]] = {
-            md: [] for md in (FLOAT, FULL, HOLD, VENT)
-        }
-        self.exact: list[tuple] = []  # the exactly split steps, see `_ScalarStep.step`
+        self.pieces = {md: _Runs() for md in (FLOAT, FULL, HOLD, VENT)}
+        self.exact = StepLog()  # the exactly split steps, see `ScalarStep.step`
 
     def _pack(self) -> np.ndarray:
         """The inputs of every step, one row a step, as `_ScalarStep.inputs` reads them."""
@@ -360,7 +378,7 @@ class SerialRun:
                         nl = min(nl, last - k)
                         nj, pw = self._window(m, k, nl, d)
                         if nj:
-                            self.pieces[md].append((k, nj, d, pw[: nj + 1]))
+                            self.pieces[md].add(k, nj, d, pw[: nj + 1])
                         run += nj
                         if nj < nl or k + nj == last:
                             break
@@ -397,31 +415,30 @@ class SerialRun:
         """
         rn, p, i = self.rn, self.rn.p, self.i
         temps, tint = rn.temps[i], rn.tint[i]  # (N, n), (N-1, n) views
-        if self.exact:
-            cols = list(zip(*self.exact, strict=True))
-            k = np.array(cols[0])
-            rn.mode[i][k] = cols[1]
+        ex, n = self.exact, temps.shape[1]
+        if ex.k:
+            k = np.array(ex.k)
+            rn.mode[i][k] = ex.mode
             outs = (rn.heat_w, rn.vent_w, rn.step_heat, rn.step_vent)
-            for dst, col in zip(outs, cols[2:6], strict=True):
+            cols = (ex.heat_w, ex.vent_w, ex.heat_j, ex.vent_j)
+            for dst, col in zip(outs, cols, strict=True):
                 dst[i][k] = col
-            _put_columns(tint, k, np.array(cols[6]).T, 0)
-            _put_columns(temps, k + 1, np.array(cols[7]).T, 0)
+            _put_columns(tint, k, np.array(ex.tint).reshape(-1, n).T, 0)
+            _put_columns(temps, k + 1, np.array(ex.end).reshape(-1, n).T, 0)
         for md, pcs in self.pieces.items():
-            if not pcs:
+            if not pcs.k:
                 continue
             m = self.data[md]
-            ks = np.array([c[0] for c in pcs])
-            nj = np.array([c[1] for c in pcs])
+            ks = np.array(pcs.k)
+            nj = np.array(pcs.steps)
             cnt = nj + 1
             pid = np.repeat(np.arange(ks.size), cnt)
             off = np.arange(pid.size) - (np.cumsum(cnt) - cnt)[pid]
             gk = ks[pid] + off
-            dev = np.array([c[2] for c in pcs]).T
+            dev = np.array(pcs.dev).reshape(ks.size, m.zb.shape[0]).T
             z = np.take(m.zb, gk, axis=1)
             # the decays: with one step length rows of the powers pw, else each run's own
-            decay = (
-                np.concatenate([c[3] for c in pcs]) if m.pw is None else np.take(m.pw, off, axis=0)
-            )
+            decay = np.concatenate(pcs.decay) if m.pw is None else np.take(m.pw, off, axis=0)
             z += decay.T * np.take(dev, pid, axis=1)
             st, en = off < nj[pid], off > 0
             steps, ge = gk[st], gk[en]
