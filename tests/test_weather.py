@@ -190,6 +190,15 @@ def test_error_not_a_number(tmp_path):
     assert 'line 3, column temperature_c: "warm" is not a number' in msg
 
 
+@pytest.mark.parametrize("word", ["NaN", "nan", "NA", "null"])
+def test_error_nan_in_a_forecast_names_the_cell(tmp_path, word):
+    # a forecast with NaN is bad input (the project's rules); only an empty cell is a
+    # missing value, filled when single (test_single_missing_value_is_interpolated_and_stated)
+    rows = ["1,-2,0,1,0", f"{word},-2,0,1,0", "-1,-3,0,1,0"]
+    msg = _read_error(tmp_path, _hourly("2026-12-03T16:00-05:00", rows))
+    assert f'line 3, column temperature_c: "{word}" is not a value' in msg
+
+
 def test_error_times_not_increasing(tmp_path):
     text = f"{HEADER}\n2026-12-03T17:00-05:00,1,-2,0,1,0\n2026-12-03T16:00-05:00,1,-2,0,1,0"
     msg = _read_error(tmp_path, text)
@@ -231,7 +240,7 @@ def test_error_dew_point_well_above_air(tmp_path):
 
 
 def test_error_two_missing_values_in_a_row(tmp_path):
-    rows = ["1,-2,0,1,0", "1,,0,1,0", "1,nan,0,1,0", "1,-2,0,1,0"]
+    rows = ["1,-2,0,1,0", "1,,0,1,0", "1,,0,1,0", "1,-2,0,1,0"]
     msg = _read_error(tmp_path, _hourly("2026-12-03T16:00-05:00", rows))
     assert "line 3 to line 4, column dew_point_c: 2 missing values in a row" in msg
 

@@ -42,7 +42,9 @@ _CSV_COLUMNS: dict[str, tuple[str, Callable[[NDArray[np.float64]], NDArray[np.fl
     "wind_speed_km_h": ("wind_speed_m_s", lambda v: v / 3.6, "km/h"),
     "shortwave_w_m2": ("shortwave_w_m2", lambda v: v, "W/m²"),
 }
-_MISSING = {"", "nan", "na", "n/a", "null", "none"}
+#: words some programs write for "no value": refused like NaN (a forecast with NaN is bad
+#: input); only an empty cell counts as missing, and a single one is filled and stated
+_NOT_A_VALUE = {"nan", "-nan", "+nan", "na", "n/a", "null", "none"}
 
 
 def read_forecast_csv(
@@ -357,8 +359,13 @@ def _csv_header(header: list[str], where: str) -> dict[str, tuple]:
 
 
 def _parse_number(text: str, label: str, where: str) -> float:
-    if text.lower() in _MISSING:
+    if not text:
         return np.nan
+    if text.lower() in _NOT_A_VALUE:
+        raise InputError(
+            f'{label}: "{text}" is not a value (leave the cell empty where one value is missing)',
+            where=where,
+        )
     try:
         return float(text)
     except ValueError:
