@@ -14,7 +14,7 @@ import numpy as np
 from .modes import HOLD, TOL_K, VENT
 from .problem import Problem
 from .results import ControlInputs, Switches, Trajectory, no_switches
-from .scalar import ScalarStep
+from .scalar import EventLog, ScalarStep
 from .serial import SerialRun
 
 
@@ -41,7 +41,7 @@ class Run:
         self.step_vent = np.zeros((mm, nt - 1))
         self.tint = np.zeros((mm, nt - 1, n))
         self.mode = np.zeros((mm, nt - 1), dtype=np.int8)
-        self.scalar_events: list[tuple[int, int, float, int, list[float]]] = []  # one each
+        self.scalar_events = EventLog()
         self.scalar = ScalarStep(self)
 
     def run(self) -> Trajectory:
@@ -55,20 +55,11 @@ class Run:
     def _trajectory(self) -> Trajectory:
         p = self.p
         n = self.net.n_nodes
-        events = []
-        if self.scalar_events:
-            cols = list(zip(*self.scalar_events, strict=True))
-            events.append(
-                (
-                    np.array(cols[0], dtype=int),
-                    np.array(cols[1], dtype=int),
-                    np.array(cols[2], dtype=float),
-                    np.array(cols[3], dtype=np.int8),
-                    np.array(cols[4], dtype=float).reshape(-1, n),
-                )
-            )
-        if events:
-            mem, stp, off, mode, st = (np.concatenate(a) for a in zip(*events, strict=True))
+        ev = self.scalar_events
+        if ev.member:
+            mem, stp = np.array(ev.member, dtype=int), np.array(ev.step, dtype=int)
+            off, mode = np.array(ev.offset_s, dtype=float), np.array(ev.mode, dtype=np.int8)
+            st = np.array(ev.state_c, dtype=float).reshape(-1, n)
             o = np.lexsort((off, stp, mem))
             sw = Switches(mem[o], stp[o], off[o], p.times_s[stp[o]] + off[o], mode[o], st[o])
         else:

@@ -277,6 +277,58 @@ def _first_root2(g0, b1, a0, a1, l0, l1, w, gw, scale, noise) -> float:  # type:
     return _in_pieces(g0, b1, [a0, a1], [l0, l1], [k0, k1], br, gv, noise)
 
 
+class StepLog:
+    """The split steps of one member, column by column: plain lists of numbers, so that a
+    season's few hundred steps leave no tuple or list each for the garbage collector to
+    walk. Per step: its index, the mode at its start, heater and vent output there [W],
+    heat and vent energy over it [J]; per step and node (n values a step, in order): the
+    temperature integral [degC s] and the temperature at its end [degC]."""
+
+    def __init__(self) -> None:
+        self.k: list[int] = []
+        self.mode: list[int] = []
+        self.heat_w: list[float] = []
+        self.vent_w: list[float] = []
+        self.heat_j: list[float] = []
+        self.vent_j: list[float] = []
+        self.tint: list[float] = []
+        self.end: list[float] = []
+
+    def add(  # type: ignore[no-untyped-def]
+        self, k: int, md: int, heat_w, vent_w, heat_j, vent_j, tint: list, end: list
+    ) -> None:
+        """One split step's results (see the class)."""
+        self.k.append(k)
+        self.mode.append(md)
+        self.heat_w.append(heat_w)
+        self.vent_w.append(vent_w)
+        self.heat_j.append(heat_j)
+        self.vent_j.append(vent_j)
+        self.tint += tint
+        self.end += end
+
+
+class EventLog:
+    """The switches (and jumps at a step's start) found inside steps, column by column,
+    plain lists as in `StepLog`: member, step, offset from the step's start [s], the mode
+    entered, and the node temperatures there [degC] (n values an event, in order)."""
+
+    def __init__(self) -> None:
+        self.member: list[int] = []
+        self.step: list[int] = []
+        self.offset_s: list[float] = []
+        self.mode: list[int] = []
+        self.state_c: list[float] = []
+
+    def add(self, i: int, k: int, s: float, md: int, x: list[float]) -> None:
+        """One event (see the class)."""
+        self.member.append(i)
+        self.step.append(k)
+        self.offset_s.append(s)
+        self.mode.append(md)
+        self.state_c += x
+
+
 class ScalarStep:
     """The mode machine inside one step of one member, in Python floats: the modes, the
     switching instants (first roots on the exact solution), the jumps at a step's start."""
@@ -649,13 +701,13 @@ class ScalarStep:
         i: int,
         x: list[float],
         pack: np.ndarray,
-        out: list,
+        out: StepLog,
         pre=None,
     ) -> tuple[list[float], int]:
         """Step k of member i from node temperatures x; returns the state at its end.
 
-        ``pack``: the member's inputs (see `inputs`). The step's results are appended to
-        ``out`` as ``(k, mode, heat_w, vent_w, heat_j, vent_j, temp_integral, end state)``.
+        ``pack``: the member's inputs (see `inputs`). The step's results go to ``out``
+        (`StepLog`).
         ``pre``: `classify` of x at the step's start, with step k's inputs already loaded.
         """
         rn, segment, classify = self.run, self.segment, self.classify
@@ -665,7 +717,7 @@ class ScalarStep:
         x, md, heat, vent, eh, ev = pre
         md0 = md
         if eh > 0 or ev > 0:
-            rn.scalar_events.append((i, k, 0.0, md, x))
+            rn.scalar_events.add(i, k, 0.0, md, x)
         dt, x, ti, e1, e2 = segment(0.0, x, md)
         eh, ev = eh + e1, ev + e2
         s, n = 0.0, 1  # n: the segments so far
@@ -674,9 +726,9 @@ class ScalarStep:
                 raise RuntimeError(f"thermostat: more than {MAX_SWITCHES} switches in step {k}")
             s, n = s + dt, n + 1
             x, md, _, _, _, _ = classify(s, x, start=False)
-            rn.scalar_events.append((i, k, s, md, x))
+            rn.scalar_events.add(i, k, s, md, x)
             dt, x, ix, e1, e2 = segment(s, x, md)
             eh, ev = eh + e1, ev + e2
             ti = list(map(_add, ti, ix))
-        out.append((k, md0, heat, vent, eh, ev, ti, x))
+        out.add(k, md0, heat, vent, eh, ev, ti, x)
         return x, md

@@ -23,13 +23,15 @@ IEEE Transactions on Automatic Control AC-23(3):395-404.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from bisect import bisect_right
+from dataclasses import dataclass, replace
 from operator import mul
 from typing import TYPE_CHECKING
 
 import numpy as np
 
 from .modes import FLOAT, FULL, HOLD, TOL_K, VENT
+from .scalar import StepLog
 from .stepping import recur_one
 
 if TYPE_CHECKING:
@@ -50,9 +52,11 @@ class _ModeData:
     wv: np.ndarray  # (r,) modal state -> watched value (air temperature or held power)
     cv: np.ndarray  # (r,) |wv lam^2|: a deviation's share of the curvature bound (one
     # step length: lam^2 `_chord_gap`, the gap from the chord per unit of the share)
-    val: np.ndarray  # (N,) watched value of zb at the grid times (held power: less the
-    # clamp temperature's share tc_j gsum, which hi and lo take off instead)
-    hi: np.ndarray  # (N-1,) upper limit of the value over each step, less zb's curvature bound
+    # val, hi, lo and same: several step lengths only (with one, `lim` and `cut` hold them)
+    val: np.ndarray | None  # (N,) watched value of zb at the grid times (held power: less
+    # the clamp temperature's share tc_j gsum, which hi and lo take off instead)
+    hi: np.ndarray | None  # (N-1,) upper limit of the value over each step, less zb's
+    # curvature bound
     lo: np.ndarray | None  # (N-1,) lower limit, plus the bound; None: no lower limit
     same: np.ndarray | None  # (N-1,) clamp temperature unchanged since the step before
     tc: np.ndarray | None  # (N,) clamp temperature (held or vent) [degC]
@@ -63,9 +67,29 @@ class _ModeData:
     cvl: list[float]
     zrows: np.ndarray  # (N, r) view of zb, a grid time a row
     lim: np.ndarray | None  # one step length: (N-1, L) the limits as slacks, see `_limits`
-    cut: np.ndarray | None  # one step length: (N-1,) the first later step whose clamp
-    # temperature changed (N-1 if none), where a window stops
+    cut: list[int] | None  # one step length, a clamp mode: the steps whose clamp
+    # temperature changed, increasing, and N-1 last (`_cuts`): a window stops at the first
+    # after its start
     el: list[float]  # the step decays of one step length (`lim`'s), as Python floats
+
+
+class _Runs:
+    """The accepted runs of one mode, column by column (plain lists: no tuple or list a
+    run for the garbage collector to walk): first step, number of steps, the modal
+    deviation at the start (r values a run, in order) and the decays (steps + 1, r)."""
+
+    def __init__(self) -> None:
+        self.k: list[int] = []
+        self.steps: list[int] = []
+        self.dev: list[float] = []
+        self.decay: list[np.ndarray] = []
+
+    def add(self, k: int, steps: int, dev: list[float], decay: np.ndarray) -> None:
+        """One run (see the class)."""
+        self.k.append(k)
+        self.steps.append(steps)
+        self.dev += dev
+        self.decay.append(decay)
 
 
 class SerialRun:
@@ -91,10 +115,8 @@ class SerialRun:
         self.data: dict[int, _ModeData] = {}
         self._zf: np.ndarray | None = None
         # accepted runs per mode: (first step, steps, modal deviation, decays (steps+1, r))
-        self.pieces: dict[int, list[tuple[int, int, list[float], np.ndarray]]] = {
-            md: [] for md in (FLOAT, FULL, HOLD, VENT)
-        }
-        self.exact: list[tuple] = []  # the exactly split steps, see `_ScalarStep.step`
+        self.pieces = {md: _Runs() for md in (FLOAT, FULL, HOLD, VENT)}
+        self.exact = StepLog()  # the exactly split steps, see `ScalarStep.step`
 
     def _pack(self) -> np.ndarray:
         """The inputs of every step, one row a step, as `_ScalarStep.inputs` reads them."""
@@ -141,9 +163,37 @@ class SerialRun:
         """(r, N) free float from a zero modal state, shared by FLOAT and FULL."""
         if self._zf is None:
             tab = self.rn.p.full
-            forcing = tab.f1.T * self.bf[:, :-1] + tab.f2.T * self.dbf
+            forcing = tab.f1.T * self.bf[:, :-1]  # in place: one big array less
+            forcing += tab.f2.T * self.dbf
             self._zf = self._base(self.rn.f.lam, tab, forcing)
         return self._zf
+
+    def _held(self, tf: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(r', N-1) modal forcing with the air held at tf [degC] (N,), and (r', N) a
+        particular solution under it from zero (its own function: the forcing over the
+        steps goes at its return)."""
+        rn, tab = self.rn, self.rn.p.red
+        beta = tf[None, :-1] * rn.bc[:, None]
+        beta += self.br[:, :-1]
+        forcing = tab.f1.T * beta
+        forcing += tab.f2.T * self.dbr
+        return beta, self._base(rn.r.lam, tab, forcing)
+
+    def _bound(self, lam, zb, beta, db, wv, gap) -> np.ndarray:  # type: ignore[no-untyped-def]
+        """(N-1,) bound on how far the watched value ``wv @ z`` of the solution zb under
+        forcing ``beta + db t / h`` strays from its chord over each step [K or W]: with one
+        step length each mode's exact gap per unit of curvature (`_chord_gap`, ``gap``
+        [s^2]), else ``h^2/8``, times ``|wv|`` and the curvature at the step's start."""
+        lc = lam[:, None]
+        k2 = lc * zb[:, :-1]  # the curvature at each step's start, in place: big arrays
+        k2 += beta
+        k2 *= lc
+        k2 += db / self.rn.p.h
+        if gap is not None:  # each mode's gap below or above its chord, from its curvature
+            return (np.abs(wv) * gap) @ np.abs(k2, out=k2)
+        bound = np.abs(wv) @ np.abs(k2, out=k2)
+        bound *= self.hh8
+        return bound
 
     def _mode(self, md: int) -> _ModeData:
         """The data of mode md over the whole horizon, made on first use."""
@@ -157,42 +207,37 @@ class SerialRun:
             zb, beta, db = self._free(), self.bf[:, :-1], self.dbf
             if md == FULL:
                 bq = rn.bq[:, None]
-                zb, beta = zb + self.qm * self._heater(lam, tab, bq), beta + self.qm * bq
+                heat = self._heater(lam, tab, bq)
+                heat *= self.qm
+                heat += zb  # the heater's share on the free float, in place
+                zb, beta = heat, beta + self.qm * bq
         else:
             lam, tab, wv = rn.r.lam, p.red, rn.wq
             tc = np.asarray(self.sp if md == HOLD else self.vt, dtype=float)
             tf = np.where(np.isfinite(tc), tc, 0.0)
             db = self.dbr
-            beta = self.br[:, :-1] + tf[None, :-1] * rn.bc[:, None]
-            zb = self._base(lam, tab, tab.f1.T * beta + tab.f2.T * db)
-        lc = lam[:, None]
-        k2 = lc * zb[:, :-1]  # the curvature at each step's start, in place: big arrays
-        k2 += beta
-        k2 *= lc
-        k2 += db / h
-        if p.uniform:  # each mode's gap below or above its chord, from its curvature
-            gap = _chord_gap(lam, float(h[0]))
-            bound = (np.abs(wv) * gap) @ np.abs(k2, out=k2)
-        else:
-            bound = np.abs(wv) @ np.abs(k2, out=k2)
-            bound *= self.hh8
+            beta, zb = self._held(tf)
+        gap = _chord_gap(lam, float(h[0])) if p.uniform else None
+        bound = self._bound(lam, zb, beta, db, wv, gap)
         val = wv @ zb
+        # the limits in place (one array each): hi = limit + tol - bound, lo = limit - tol +
+        # bound, for the held power less its clamp share
         if tc is None:
-            if md == FULL:
-                hi = self.sp[:-1] + tol - bound
-            else:
-                hi = self.vt[:-1] + tol - bound
-                if self.qm > 0:
-                    lo = self.sp[:-1] - tol + bound
+            hi = (self.sp if md == FULL else self.vt)[:-1] + tol
+            hi -= bound
+            if md == FLOAT and self.qm > 0:
+                lo = self.sp[:-1] - tol
+                lo += bound
         else:
             val += self.qb
             share = tf[:-1] * rn.gsum  # the held power is val + share over step j
             same = np.ones(self.nt - 1, dtype=bool)
             same[1:] = (tc[1:-1] == tc[:-2]) & np.isfinite(tc[1:-1])
+            hi = (self.qm + tolq if md == HOLD else tolq) - bound
+            hi -= share
             if md == HOLD:
-                hi, lo = self.qm + tolq - bound - share, -tolq + bound - share
-            else:
-                hi = tolq - bound - share
+                lo = bound - tolq
+                lo -= share
         cv, pw = np.abs(wv * lam * lam), None
         if p.uniform:
             pw = np.empty((_LMAX + 1, lam.size))
@@ -201,8 +246,10 @@ class SerialRun:
             cv = lam * lam * gap  # a deviation's gap per unit of its share, signed in `_window`
         fr = rn.f if tc is None else rn.r
         lim = cut = None
-        if p.uniform:
-            lim, cut = _limits(val, hi, lo), _cuts(same, self.nt - 1)
+        if p.uniform:  # the slacks and cuts in place of val, hi, lo, same: less memory
+            lim = _limits(val, hi, lo)
+            cut = None if same is None else _cuts(same, self.nt - 1)
+            val = hi = lo = same = None
         self.data[md] = _ModeData(
             zb,
             beta,
@@ -236,7 +283,7 @@ class SerialRun:
         """
         if m.lim is not None:
             flat = []
-            two = m.lo is None
+            two = m.lim.shape[1] == 2  # no lower limit
             for a, c, x, e in zip(m.wvl, m.cvl, d, m.el, strict=True):
                 a = a * x
                 ae = a * e  # the deviation's share decays by e over the step
@@ -245,13 +292,15 @@ class SerialRun:
                     flat += (a, ae) if two else (a, ae, g - a, g - ae)
                 else:
                     flat += (a - g, ae - g) if two else (a - g, ae - g, -a, -ae)
-            nl = min(nl, int(m.cut[k]) - k)  # type: ignore[index]
+            if m.cut is not None:
+                nl = min(nl, m.cut[bisect_right(m.cut, k)] - k)
             lim = m.lim[k : k + nl]
             coef = np.array(flat).reshape(len(d), lim.shape[1])
             pw = m.pw[: nl + 1]  # type: ignore[index]
-            bad = pw[:-1].dot(coef) > lim
-            j = int(bad.argmax())  # the first failing slack, row-major; 0 if none fails
-            return (j // bad.shape[1] if bad.item(j) else nl), pw
+            # the first failing slack, row-major (-1: none fails); bytes.find is quicker
+            # than argmax on a small boolean array
+            j = (pw[:-1].dot(coef) > lim).tobytes().find(1)
+            return (nl if j < 0 else j // lim.shape[1]), pw
         coef = np.array([[a * x, c * abs(x)] for a, c, x in zip(m.wvl, m.cvl, d, strict=True)])
         if not d:  # no modes (the lumped network with the air held)
             coef = coef.reshape(0, 2)
@@ -284,19 +333,36 @@ class SerialRun:
     def _state(m: _ModeData, k: int, p: list[float], d: list[float]) -> list[float]:
         """Node temperatures at grid time k of a run in mode m with decays p of deviation d."""
         z = [a + b * c for a, b, c in zip(m.zrows[k].tolist(), p, d, strict=True)]
-        x = [sum(map(mul, row, z)) for row in m.to_nodes]
+        x = _matvec(m.to_nodes, z, None)
         return x if m.tc is None else [float(m.tc[k - 1]), *x]
 
     def run(self) -> None:
-        """Step through the horizon and store the member's results in the run.
+        """Step through the horizon and store the member's results in the run."""
+        rn, i, last = self.rn, self.i, self.nt - 1
+        sc, pack = rn.scalar, self._pack()
+        x, md = self._march(pack)
+        # the windows are done: their slacks, a mode's biggest arrays, go before the
+        # store's temporaries come (a lower peak of memory)
+        self.data = {m: replace(d, lim=None) for m, d in self.data.items()}
+        self._store()
+        # heater and vent output at the last grid point: the final mode, just before it
+        sc.inputs(last - 1, i, pack)
+        if md in (HOLD, VENT):
+            q, _ = sc.qreq(sc.h, x, sc.sp if md == HOLD else sc.vt)
+            rn.heat_w[i, -1], rn.vent_w[i, -1] = (q, 0.0) if md == HOLD else (0.0, -q)
+        else:
+            rn.heat_w[i, -1], rn.vent_w[i, -1] = (self.qm if md == FULL else 0.0), 0.0
+
+    def _march(self, pack: list[np.ndarray]) -> tuple[list[float], int]:
+        """Step through the horizon, keeping the accepted runs (`pieces`) and the split
+        steps (`exact`); returns the final node temperatures and mode.
 
         A run of whole steps in one mode ends at the first step that fails its window. If
         the mode at that step's start is another one (a setpoint change, say) and nothing
         jumps, a run in that mode starts there; otherwise the step is split exactly.
         """
         rn, i, last = self.rn, self.i, self.nt - 1
-        sc = rn.scalar
-        pack, exact = self._pack(), self.exact
+        sc, exact = rn.scalar, self.exact
         x, md, k = rn.temps[i, 0].tolist(), -1, 0
         nl, typical, fresh = 16, 16.0, False
         data = self.data
@@ -307,12 +373,12 @@ class SerialRun:
                 if m.tc is None or abs(x[0] - m.tc[k]) <= TOL_K:
                     xr = x if m.tc is None else x[1:]
                     zk = m.zrows[k].tolist()
-                    d = [sum(map(mul, row, xr)) - b for row, b in zip(m.to_modes, zk, strict=True)]
+                    d = _matvec(m.to_modes, xr, zk)
                     while True:
                         nl = min(nl, last - k)
                         nj, pw = self._window(m, k, nl, d)
                         if nj:
-                            self.pieces[md].append((k, nj, d, pw[: nj + 1]))
+                            self.pieces[md].add(k, nj, d, pw[: nj + 1])
                         run += nj
                         if nj < nl or k + nj == last:
                             break
@@ -338,14 +404,7 @@ class SerialRun:
             x, md = sc.step(k, i, x, pack, exact, pre)
             k += 1
             fresh = False
-        self._store()
-        # heater and vent output at the last grid point: the final mode, just before it
-        sc.inputs(last - 1, i, pack)
-        if md in (HOLD, VENT):
-            q, _ = sc.qreq(sc.h, x, sc.sp if md == HOLD else sc.vt)
-            rn.heat_w[i, -1], rn.vent_w[i, -1] = (q, 0.0) if md == HOLD else (0.0, -q)
-        else:
-            rn.heat_w[i, -1], rn.vent_w[i, -1] = (self.qm if md == FULL else 0.0), 0.0
+        return x, md
 
     def _store(self) -> None:
         """Temperatures, integrals, outputs and energies of the exact steps and of all
@@ -356,28 +415,31 @@ class SerialRun:
         """
         rn, p, i = self.rn, self.rn.p, self.i
         temps, tint = rn.temps[i], rn.tint[i]  # (N, n), (N-1, n) views
-        if self.exact:
-            cols = list(zip(*self.exact, strict=True))
-            k = np.array(cols[0])
-            rn.mode[i][k] = cols[1]
+        ex, n = self.exact, temps.shape[1]
+        if ex.k:
+            k = np.array(ex.k)
+            rn.mode[i][k] = ex.mode
             outs = (rn.heat_w, rn.vent_w, rn.step_heat, rn.step_vent)
-            for dst, col in zip(outs, cols[2:6], strict=True):
+            cols = (ex.heat_w, ex.vent_w, ex.heat_j, ex.vent_j)
+            for dst, col in zip(outs, cols, strict=True):
                 dst[i][k] = col
-            _put_columns(tint, k, np.array(cols[6]).T, 0)
-            _put_columns(temps, k + 1, np.array(cols[7]).T, 0)
+            _put_columns(tint, k, np.array(ex.tint).reshape(-1, n).T, 0)
+            _put_columns(temps, k + 1, np.array(ex.end).reshape(-1, n).T, 0)
         for md, pcs in self.pieces.items():
-            if not pcs:
+            if not pcs.k:
                 continue
             m = self.data[md]
-            ks = np.array([c[0] for c in pcs])
-            nj = np.array([c[1] for c in pcs])
+            ks = np.array(pcs.k)
+            nj = np.array(pcs.steps)
             cnt = nj + 1
             pid = np.repeat(np.arange(ks.size), cnt)
             off = np.arange(pid.size) - (np.cumsum(cnt) - cnt)[pid]
             gk = ks[pid] + off
-            dev = np.array([c[2] for c in pcs]).T
+            dev = np.array(pcs.dev).reshape(ks.size, m.zb.shape[0]).T
             z = np.take(m.zb, gk, axis=1)
-            z += np.concatenate([c[3] for c in pcs]).T * np.take(dev, pid, axis=1)
+            # the decays: with one step length rows of the powers pw, else each run's own
+            decay = np.concatenate(pcs.decay) if m.pw is None else np.take(m.pw, off, axis=0)
+            z += decay.T * np.take(dev, pid, axis=1)
             st, en = off < nj[pid], off > 0
             steps, ge = gk[st], gk[en]
             zs, ze = np.compress(st, z, axis=1), np.compress(en, z, axis=1)
@@ -390,7 +452,9 @@ class SerialRun:
                 if p.uniform
                 else (np.take(a.T, steps, axis=1) for a in (tab.f1, tab.i2, tab.i3))
             )
-            iz = f1 * zs + i2 * np.take(m.beta, steps, axis=1) + i3 * np.take(m.db, steps, axis=1)
+            iz = f1 * zs  # in place, in the order f1 zs + i2 beta + i3 db
+            iz += i2 * np.take(m.beta, steps, axis=1)
+            iz += i3 * np.take(m.db, steps, axis=1)
             _put_columns(temps, ge, v @ ze, int(clamp))
             _put_columns(tint, steps, v @ iz, int(clamp))
             if not clamp:
@@ -408,6 +472,23 @@ class SerialRun:
                 rn.heat_w[i][steps], rn.step_heat[i][steps] = qs, iq
             else:
                 rn.vent_w[i][steps], rn.step_vent[i][steps] = -qs, -iq
+
+
+def _matvec(rows: list[list[float]], v: list[float], off: list[float] | None) -> list[float]:
+    """``rows @ v - off`` in Python floats (``off`` None: nothing taken off), each row's
+    sum added as ``sum(map(mul, row, v))`` adds it, from 0 (the same to the bit); the
+    2 x 2 and 1 x 1 of a two-node network written out (a run's modal deviation and its
+    end state: once per run)."""
+    if len(rows) == 2 and len(v) == 2:
+        (a, b), (c, d) = rows
+        v0, v1 = v
+        x0, x1 = 0.0 + a * v0 + b * v1, 0.0 + c * v0 + d * v1
+        return [x0, x1] if off is None else [x0 - off[0], x1 - off[1]]
+    if len(rows) == 1 and len(v) == 1:
+        x0 = 0.0 + rows[0][0] * v[0]
+        return [x0] if off is None else [x0 - off[0]]
+    x = [sum(map(mul, row, v)) for row in rows]
+    return x if off is None else [a - b for a, b in zip(x, off, strict=True)]
 
 
 #: below this ``-lam h`` a mode's chord gap is taken as ``(lam h)^2 / 8`` (the general bound,
@@ -456,15 +537,13 @@ def _limits(val: np.ndarray, hi: np.ndarray, lo: np.ndarray | None) -> np.ndarra
     return lim
 
 
-def _cuts(same: np.ndarray | None, steps: int) -> np.ndarray:
-    """(steps,) for each step k the first step after it whose clamp temperature changed
-    (``steps`` if none): a window from k stops there, since a run of a clamp mode cannot
-    carry across the change (the step is classified anew; a window's first step may be
-    one that changed)."""
-    if same is None:
-        return np.full(steps, steps)
-    change = np.append(np.flatnonzero(~same), steps)  # increasing, the first >= 1
-    return np.repeat(change, np.diff(change, prepend=0))  # k in [c_(i-1), c_i) -> c_i
+def _cuts(same: np.ndarray, steps: int) -> list[int]:
+    """The steps whose clamp temperature changed (increasing, each >= 1) and ``steps``
+    last: a window from step k stops at the first of them after k, since a run of a clamp
+    mode cannot carry across the change (the step is classified anew; a window's first
+    step may be one that changed). A few hundred a season, found by bisection, instead
+    of an array over the steps. A free mode has no cuts: its windows stop at the horizon."""
+    return [*np.flatnonzero(~same).tolist(), steps]
 
 
 def _put_columns(dst: np.ndarray, rows: np.ndarray, cols: np.ndarray, first: int) -> None:

@@ -122,11 +122,13 @@ def _scan(e: np.ndarray, uniform: bool, f: np.ndarray, z0: np.ndarray) -> np.nda
         base = cum[s - 1] if s else 0.0
         t = max(s + 1, int(np.searchsorted(cum, base + _BLOCK_DECAY, side="right")))
         c = cum[s:t] - base
-        p, q = np.exp(-c), np.exp(c)
-        blk = np.cumsum(f[:, s:t] * q, axis=1)
+        q = np.exp(c)
+        p = np.exp(np.negative(c, out=c), out=c)  # e^-c, in c's place
+        blk = out[:, s:t]  # the block's arithmetic in place, in the output
+        np.multiply(f[:, s:t], q, out=blk)
+        np.cumsum(blk, axis=1, out=blk)
         blk += z[:, None]
         blk *= p
-        out[:, s:t] = blk
         z = blk[:, -1]
         s = t
     return out
