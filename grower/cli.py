@@ -64,7 +64,10 @@ def common_parser() -> argparse.ArgumentParser:
     return common
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(only: str | None = None) -> argparse.ArgumentParser:
+    """The whole command line; with `only` (a name of `COMMANDS`), that subcommand's
+    parser alone: a run imports and builds one command's options, not seven (a third of
+    `tonight`'s start-up otherwise). Help and a mistyped command get all of them."""
     parser = Parser(
         prog="grower",
         description=(
@@ -75,7 +78,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action=_Version)
     subparsers = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
     common = common_parser()
-    for name in COMMANDS:
+    for name in COMMANDS if only is None else (only,):
         try:
             module = importlib.import_module(f"grower.commands.{name}")
         except ModuleNotFoundError as exc:
@@ -124,9 +127,11 @@ _python_showwarning = warnings.showwarning
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the `grower` console script; returns the exit status."""
-    parser = build_parser()
+    argv = list(sys.argv[1:] if argv is None else argv)
+    # the command is the first word (the top level has only --help and --version)
+    parser = build_parser(argv[0] if argv and argv[0] in COMMANDS else None)
     # a usage mistake: one line and SystemExit(2) (see `Parser.error`)
-    args = parser.parse_args(join_negative_values(sys.argv[1:] if argv is None else argv))
+    args = parser.parse_args(join_negative_values(argv))
     with warnings.catch_warnings():
         warnings.simplefilter("always", InputWarning)
         warnings.simplefilter("always", InputNote)

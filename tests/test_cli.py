@@ -11,7 +11,7 @@ import pytest
 
 import grower.commands
 from grower import errors
-from grower.cli import build_parser, main
+from grower.cli import COMMANDS, build_parser, main
 
 from .conftest import ROOT
 
@@ -126,3 +126,11 @@ def test_the_quick_commands_do_not_import_numpy_ma(argv):
     # numpy.ma costs ~10 ms on its first import (np.unique and np.median ask it whether
     # an array is masked): grower.arrays gives those values without it
     _loads_none_of(argv, ("numpy.ma",))
+
+
+@pytest.mark.parametrize("argv", LIGHT, ids=[a[0] for a in LIGHT])
+def test_a_command_builds_only_its_own_parser(argv):
+    # a run imports and builds the options of the command it runs, not of all seven
+    # (`grower.cli.build_parser(only=...)`); `grower --help` still lists every one
+    others = tuple(f"grower.commands.{c}" for c in COMMANDS if c != argv[0])
+    _loads_none_of(argv, others)
