@@ -141,6 +141,9 @@ SI_UNIT_NAMED = r"\((W|kW|W/K|L|kg|K|°C)\)|\bper (L|kg|m³|kelvin|K)\b|\bRMS,? 
 PRINTED_IN = r"\(printed in °[CF]\)"
 #: the several-day hourly history `winters` runs on (tests/test_winters.history_csv)
 WINTERS = ["--season-start", "11-01", "--season-days", "8", "--winters", "1"]
+#: an electric heater on a design night: the electrical caution's currents and ratings
+ELECTRIC_SIZE = ["size", "examples/gable-house.toml", "--outside=-25C", "--hold", "5C"]
+ELECTRIC_SIZE += ["--fuel", "electricity"]
 US_SCREENS = {
     "tonight": ["tonight", "examples/gable-house.toml", "--crop", "tomato"],
     "tonight, several houses": [
@@ -168,15 +171,7 @@ US_SCREENS = {
     "crops": ["crops"],
     "crops, tomato": ["crops", "tomato"],  # notes and sources printed in °C
     "crops, strawberry": ["crops", "strawberry"],
-    "size, electricity": [
-        "size",
-        "examples/gable-house.toml",
-        "--outside=-25C",
-        "--hold",
-        "5C",
-        "--fuel",
-        "electricity",
-    ],
+    "size, electricity": ELECTRIC_SIZE,
     "winters": ["winters", "examples/gable-house.toml", "--setpoint", "10C", *WINTERS],
 }
 
@@ -279,15 +274,7 @@ SI_SCREENS = {
     "crops, tomato": ["crops", "tomato"],  # notes and sources printed in °F
     "crops, apple": ["crops", "apple"],
     "fit": ["fit", "examples/gable-house.toml", "--log", "examples/logger-gable-house.csv"],
-    "size, electricity": [
-        "size",
-        "examples/gable-house.toml",
-        "--outside=-25C",
-        "--hold",
-        "5C",
-        "--fuel",
-        "electricity",
-    ],
+    "size, electricity": ELECTRIC_SIZE,
     "winters": [
         "winters",
         "examples/hoop-tunnel.toml",
