@@ -35,6 +35,8 @@ HOUSES = ["examples/gable-house.toml", "examples/hoop-tunnel.toml", "examples/gl
 CASES = {
     "house-gable-metric-100": (100, ["house", "examples/gable-house.toml"]),
     "house-hoop-us-60": (60, ["house", "examples/hoop-tunnel.toml", "--units", "us"]),
+    # a cover name longer than its column is folded, never cut (twin-wall-polycarbonate-8mm)
+    "house-gable-metric-60": (60, ["house", "examples/gable-house.toml"]),
     "crops-tomato-metric-100": (100, ["crops", "tomato"]),
     "crops-basil-us-60": (60, ["crops", "basil", "--units", "us"]),
     "crops-kale-json": (100, ["crops", "kale", "--json"]),
@@ -297,3 +299,10 @@ def test_si_screens_show_no_us_quantity(name, columns, capsys, monkeypatch, tmp_
     assert "°C" in out or name.startswith("house")
     found = _unit_hits(out, rf"{US_UNIT}|{US_UNIT_NAMED}", US_KEPT)
     assert not found, f"{name} at {columns} columns shows US units: {found}"
+
+
+def test_no_screen_cuts_a_word_short():
+    # the exact screens above at their widths: rich's ellipsis would hide a cover's or a
+    # crop's name; a long word is folded onto the next line instead
+    cut = [name for name in CASES if "…" in (EXPECTED / f"{name}.txt").read_text("utf-8")]
+    assert cut == []

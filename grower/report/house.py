@@ -102,7 +102,7 @@ def render_house(
     narrow = console.width < NARROW
     table = data_table(console, title=None, show_footer=False, expand=False)
     table.add_column("part", no_wrap=True)
-    table.add_column("cover", min_width=11)
+    table.add_column("cover", min_width=11, overflow="fold")  # a long name whole
     for name, unit in units.items():
         table.add_column(name if narrow else f"{name} {unit}", justify="right", no_wrap=True)
     table.add_column("share", justify="right")
