@@ -15,6 +15,8 @@ from __future__ import annotations
 import json
 import math
 import os
+import re
+from itertools import pairwise
 from pathlib import Path
 
 import pytest
@@ -306,3 +308,20 @@ def test_no_screen_cuts_a_word_short():
     # crop's name; a long word is folded onto the next line instead
     cut = [name for name in CASES if "…" in (EXPECTED / f"{name}.txt").read_text("utf-8")]
     assert cut == []
+
+
+#: a unit that must not begin a line when the line before ends in its number
+UNIT_START = re.compile(r"^(°[CF]|h\b|min\b|kW\b|W\b|W/K|Btu|L\b|gal\b|ft\b|mph|m/s|%)")
+
+
+def test_no_screen_splits_a_number_from_its_unit():
+    # wrapping happens at ordinary spaces only (`grower.report.common.keep_units`):
+    # "time constant C/K = 12.8" at a line's end and "h" on the next is what it prevents
+    split = [
+        (name, a.rstrip()[-12:], b.strip()[:12])
+        for name in CASES
+        if not name.endswith("-json")
+        for a, b in pairwise((EXPECTED / f"{name}.txt").read_text("utf-8").splitlines())
+        if a.rstrip()[-1:].isdigit() and UNIT_START.match(b.lstrip())
+    ]
+    assert split == []

@@ -205,6 +205,14 @@ def print_line(console, markup: str, hang: int | None = None) -> None:
     print_text(console, Text.from_markup(markup), hang)
 
 
+def say(console, markup: str) -> None:
+    """Print a paragraph of rich markup wrapped at ordinary spaces, no number split from
+    its unit (`keep_units`; rich alone would print "12.8" and "h" on two lines)."""
+    from rich.text import Text
+
+    print_text(console, Text.from_markup(keep_units(markup)))
+
+
 def plain(console, text: str, style: str | None = None, hang: int | None = None) -> None:
     """Print `text` as it is (brackets in it, "[calibration]", are not markup), wrapped
     at ordinary spaces with no number split from its unit (see `print_text`)."""

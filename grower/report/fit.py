@@ -10,7 +10,7 @@ import numpy as np
 from grower.fit import FitResult, ModelFit, Parameter, calibration_values
 from grower.fit.estimate import CONFIDENCE
 from grower.report import chart
-from grower.report.common import NARROW, data_table, plain
+from grower.report.common import NARROW, data_table, plain, say
 from grower.report.quantities import capacity_text
 from grower.units import (
     UnitSystem,
@@ -270,7 +270,7 @@ def render_fit(
     )
     if r.attribution:
         plain(console, r.attribution, "dim")
-    console.print(headline(r, system))
+    say(console, headline(r, system))
     if r.rough:
         console.print(
             f"[bold red]ROUGH fit[/bold red]: the model misses the record by "

@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from grower.network import HouseSummary
-from grower.report.common import NARROW, data_table, plain
+from grower.report.common import NARROW, data_table, plain, say
 from grower.report.quantities import capacity_unit, capacity_value, conductance_text
 from grower.units import (
     M_PER_IN,
@@ -84,10 +84,11 @@ def render_house(
     )
     per = "°F" if system == "us" else "kelvin"
     si_k = "" if system == "us" else f" (K = {conductance_text(total, system)})"
-    console.print(
+    say(
+        console,
         f"Loses [bold]{_num(kk.value)} {'Btu/h' if system == 'us' else 'W'}[/bold] for every "
         f"{per} between inside and outside{si_k}; time constant C/K = "
-        f"[bold]{s.time_constant_h:.1f} h[/bold]"
+        f"[bold]{s.time_constant_h:.1f} h[/bold]",
     )
     if k.curtain_closed and h.curtain:
         console.print(f"Energy curtain drawn: {h.curtain.curtain.label}")
@@ -171,14 +172,16 @@ def render_house(
     cap.add_row("[bold]total C[/bold]", f"[bold]{cval(c.total_j_per_k)}[/bold]")
     console.print(cap)
     deep = show_temperature(c.deep_ground_c, system)
-    console.print(
+    say(
+        console,
         f"Air–mass coupling {conductance_text(c.air_mass_w_per_k, system)}; to the deep ground "
         f"{conductance_text(c.ground_w_per_k, system)} at {deep.text(0)}"
-        + (" (assumed; set \\[floor] deep_ground_temperature)" if c.deep_ground_assumed else "")
+        + (" (assumed; set \\[floor] deep_ground_temperature)" if c.deep_ground_assumed else ""),
     )
     tau = h.roof_material.longwave_transmittance
     fast, slow = s.time_scales_h
-    console.print(
+    say(
+        console,
         f"At {show_speed(k.wind_m_s, system).text(1)} wind (the tables' U-values hold at "
         f"{show_speed(15 * M_S_PER_MPH, system).text(0 if system == 'us' else 1)}); "
         "in calm air K = "
@@ -188,7 +191,7 @@ def render_house(
         f"outside air (roof passes {tau:.0%} of thermal IR; "
         f"{conductance_text(k.cover_sky_w_per_k, system)} of it "
         "from the cover's own outer faces, the rest from the floor and crop through the film). "
-        f"The air settles in {fast * 60:.0f} min, the floor and water in {slow:.1f} h."
+        f"The air settles in {fast * 60:.0f} min, the floor and water in {slow:.1f} h.",
     )
     if calibration is not None:
         text, warning = calibration
