@@ -280,29 +280,45 @@ def _spare(r: TonightResult, system: UnitSystem) -> str:
     return f"with {power_text(spare, system)} to spare"
 
 
+def heater_outcome(r: TonightResult) -> str:
+    """The installed heater's case, one rule for the verdict, its table row and the
+    several-house cell: "holds"; "back" (the plants start below the alarm; brought back
+    and held); "too late" (below the damage temperature at the start); "too slow" (damage
+    before they are back); "not back"; "falls after" (back, then not held); "falls"."""
+    h = r.heater
+    if h.holds:
+        return "back" if h.recovered_at is not None else "holds"
+    if h.damage_at is not None:
+        return "too late" if _at_start(h.damage_at, r) else "too slow"
+    if h.recovered_at is None:
+        return "not back" if r.below_now else "falls"
+    return "falls after"
+
+
 def _below_tail(r: TonightResult, system: UnitSystem) -> str:
     """What the installed heater does for plants that start below the alarm."""
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     h = r.heater
     if h is None:
         return ""
-    if h.holds and h.recovered_at is None:  # at the alarm within its tolerance: held
+    case = heater_outcome(r)
+    if case == "holds":  # at the alarm within its tolerance: held
         return f"; the installed heater holds {T(r.threshold_c)}"
-    if h.holds:
+    if case == "back":
         them = "it" if r.crop else "them"
         return (
             f"; the installed heater brings {them} back above {T(r.threshold_c)} by "
             f"[bold]{_by(h.recovered_at, r.start)}[/bold] and holds {them} {_spare(r, system)}"
         )
-    if h.damage_at is not None and _at_start(h.damage_at, r):
+    if case == "too late":
         return f"; the plants are below the damage temperature {T(r.damage_c)} too"
-    if h.damage_at is not None:
+    if case == "too slow":
         return (
             f"; even at full output the plants reach the damage temperature "
             f"{T(r.damage_c)} at {_clock(h.damage_at, r.start)}, before they are back above "
             f"{T(r.threshold_c)}"
         )
-    if h.recovered_at is None:
+    if case == "not back":
         return (
             f"; at full output the heater does not bring it back above {T(r.threshold_c)} tonight"
         )
@@ -324,32 +340,33 @@ def heater_text(r: TonightResult, system: UnitSystem) -> str:
     T = lambda c: show_temperature(c, system).text(1)  # noqa: E731
     h = r.heater
     q = power_text(h.output_w, system)
-    if h.holds and h.recovered_at is not None:
+    case = heater_outcome(r)
+    if case == "back":
         return (
             f"[green]brings it back[/green] above {T(r.threshold_c)} by "
             f"{_by(h.recovered_at, r.start)}, then holds it, with {q} output"
         )
-    if h.holds:
+    if case == "holds":
         return f"[green]holds it[/green] with {q} output"
-    if h.damage_at is not None and _at_start(h.damage_at, r):
+    if case == "too late":
         back = f"; back above {T(r.threshold_c)} by {_by(h.recovered_at, r.start)}"
         return (
             f"[bold red]too late[/bold red]: the plants start below the damage temperature "
             f"{T(r.damage_c)}{back if h.recovered_at is not None else ''}"
         )
-    if h.damage_at is not None:
+    if case == "too slow":
         back = f" (back at {_by(h.recovered_at, r.start)})" if h.recovered_at is not None else ""
         return (
             f"[bold red]too slow[/bold red]: at its full {q} the plants reach the damage "
             f"temperature {T(r.damage_c)} at {_clock(h.damage_at, r.start)}, before they are "
             f"back above {T(r.threshold_c)}{back}"
         )
-    if r.below_now and h.recovered_at is None:
+    if case == "not back":
         return (
             f"[bold red]does not bring it back[/bold red]: at its full {q} the plants stay "
             f"below {T(r.threshold_c)}; coldest {T(h.min_plant_c)} at {_clock(h.min_time, r.start)}"
         )
-    if h.recovered_at is not None:
+    if case == "falls after":
         return (
             f"[bold red]does not hold it[/bold red]: back above {T(r.threshold_c)} by "
             f"{_by(h.recovered_at, r.start)}, then at its full {q} the plants fall to "
@@ -660,9 +677,10 @@ def _heater_cell(r: TonightResult, slim: bool, system: UnitSystem) -> str:
     h = r.heater
     if h is None:
         return "—"
-    if h.holds:
-        return "holds" if h.recovered_at is None else f"back {_by(h.recovered_at, r.start)}"
-    if r.below_now and (h.recovered_at is None or h.damage_at is not None):
+    case = heater_outcome(r)
+    if case in ("holds", "back"):
+        return "holds" if case == "holds" else f"back {_by(h.recovered_at, r.start)}"
+    if case in ("too late", "too slow", "not back"):
         return "[red]not back[/red]"
     coldest = h.min_after_c if h.min_after_c is not None else h.min_plant_c
     return f"[red]{'' if slim else 'falls to '}{show_temperature(coldest, system).text(1)}[/red]"
