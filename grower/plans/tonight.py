@@ -524,21 +524,17 @@ def _coldest_after(
     plant_r = float(x_r[0] - np.interp(r, t, off))
     if t[-1] - r < 1e-6:
         return plant_r, r
-    if t[k + 1] - r < 1e-6:  # the recovery is at a grid time: start there
-        rows = np.arange(k + 1, t.size)
-        new_t, new_sp = t[rows], sp[rows]
-        new_bc, new_g, new_off = bc[rows], g[rows], off[rows]
-    else:
-        f = (r - t[k]) / (t[k + 1] - t[k])
-        rows = np.arange(k + 1, t.size)
-        new_t = np.concatenate([[r], t[rows]])
-        new_sp = np.concatenate([[sp[k]], sp[rows]])
-        new_bc = np.concatenate([(bc[k] + f * (bc[k + 1] - bc[k]))[None], bc[rows]])
-        new_g = np.concatenate([(g[k] + f * (g[k + 1] - g[k]))[None], g[rows]])
-        new_off = np.concatenate([[off[k] + f * (off[k + 1] - off[k])], off[rows]])
-    if new_t.size < 2:
-        return plant_r, r
-    run = runs.thermostat(mdl, new_t - r, new_bc, x_r, new_sp, q_max_w, new_g)
+    if t[k + 1] - r < 1e-6:
+        k += 1  # the recovery is at a grid time: the restart takes that step's inputs
+    f = max(r - t[k], 0.0) / (t[k + 1] - t[k])
+
+    def restart(a: np.ndarray) -> np.ndarray:
+        """`a` from `r` on: its value at `r` (linear in the step), then the grid's."""
+        return np.concatenate([(a[k] + f * (a[k + 1] - a[k]))[None], a[k + 1 :]])
+
+    new_t, new_off = restart(t), restart(off)
+    new_sp = np.concatenate([[sp[k]], sp[k + 1 :]])  # the value at its step's start
+    run = runs.thermostat(mdl, new_t - r, restart(bc), x_r, new_sp, q_max_w, restart(g))
     c = solver.analyse(run, threshold_c, new_off)
     at = float(c.min_c[0]), r + float(c.min_time_s[0])
     return at if at[0] < plant_r else (plant_r, r)
@@ -570,6 +566,7 @@ def heated_night(
     members), and its `min_after_c` is left NaN instead of being run again."""
     off = np.atleast_2d(np.asarray(offset_k, float))
     setpoint = threshold_c + off
+    given = off if off.shape[0] > 1 else off[0]  # the offset as the solver takes it
     tr = run
     if tr is None:
         tr = runs.thermostat(
@@ -577,11 +574,11 @@ def heated_night(
             times_s,
             boundary_c,
             initial_c,
-            setpoint if off.shape[0] > 1 else setpoint[0],
+            threshold_c + given,
             q_max_w,
             gains_w,
         )
-    c = solver.analyse(tr, threshold_c, off if off.shape[0] > 1 else off[0])
+    c = solver.analyse(tr, threshold_c, given)
     mm = tr.n_members
     plant0 = tr.temps_c[:, 0, 0] - np.broadcast_to(off[:, 0], (mm,))
     below = plant0 < threshold_c - HOLD_TOLERANCE_K
@@ -591,7 +588,7 @@ def heated_night(
     if below.any():
         reach = None
         if damage_c is not None:
-            reach = solver.analyse(tr, damage_c, off if off.shape[0] > 1 else off[0]).time_s
+            reach = solver.analyse(tr, damage_c, given).time_s
         for m in np.flatnonzero(below):
             r, x_r = _back_at_alarm(tr, int(m))
             back[m] = r
